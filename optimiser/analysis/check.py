@@ -1,0 +1,312 @@
+"""Check a design against a study: energy line, HGL, pressures, classes, velocities, outlet.
+
+This is the independent check that every design goes through, whoever made it. It
+follows contract section 5 literally on the analysis grid (survey points plus piece
+boundaries), evaluating both sides of every node where the velocity or a point loss
+makes them differ.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+from scipy.optimize import brentq
+
+from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, inflow_m3_s
+from optimiser.analysis.grid import Grid, design_grid
+from optimiser.hydraulics.gradeline import energy_along_chain
+from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
+from optimiser.model import Design, Scenario, Study
+
+_SAME = 1e-12
+
+
+@dataclass(frozen=True)
+class Violation:
+    """A broken limit. ``scenario`` is None for the static (pressure class) check."""
+
+    kind: str
+    scenario: str | None
+    chainage_m: float
+    value: float
+    limit: float
+    message: str = ""
+
+    def as_dict(self) -> dict:
+        return {"kind": self.kind, "scenario": self.scenario, "chainage_m": self.chainage_m,
+                "value": self.value, "limit": self.limit, "message": self.message}
+
+
+@dataclass
+class ScenarioResult:
+    """Hydraulics of one scenario: points (both sides of nodes) and segments."""
+
+    name: str
+    inflow_m3_s: float
+    outlet_flow_m3_s: float
+    outlet_energy_m: float
+    required_head_m: float
+    points: pd.DataFrame
+    segments: pd.DataFrame
+    capacity_m3_s: float | None = None
+    capacity_outlet_only_m3_s: float | None = None
+
+    @property
+    def outlet_margin_m(self) -> float:
+        return self.outlet_energy_m - self.required_head_m
+
+    @property
+    def least_pressure_margin(self) -> pd.Series:
+        margin = self.points["pressure_m"] - self.points["min_pressure_m"]
+        return self.points.loc[margin.idxmin()]
+
+
+@dataclass
+class CheckResult:
+    study: Study
+    design: Design
+    scenarios: list[ScenarioResult]
+    violations: list[Violation]
+    pieces: pd.DataFrame
+    total_cost: float
+    change_cost_total: float = 0.0
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def ok(self) -> bool:
+        return not self.violations
+
+
+@dataclass(frozen=True)
+class _ScenarioArrays:
+    flow_m3_s: np.ndarray
+    velocity_m_s: np.ndarray
+    gradient: np.ndarray
+    energy_start_m: np.ndarray
+    energy_end_m: np.ndarray
+    final_point_loss_m: float
+    outlet_energy_m: float
+
+
+class _DesignHydraulics:
+    """Design data gathered per segment once; scenarios evaluated on demand."""
+
+    def __init__(self, study: Study, design: Design) -> None:
+        self.study = study
+        self.design = design
+        self.grid: Grid = design_grid(study, design)
+        options = [design.pieces[p].option for p in self.grid.segment_piece]
+        self.diameter_m = np.array([o.internal_diameter_m for o in options])
+        self.roughness_mm = np.array([o.roughness_mm for o in options])
+        self.hazen_williams_c = np.array(
+            [np.nan if o.hazen_williams_c is None else o.hazen_williams_c for o in options])
+        self.node_point_k = np.zeros(len(self.grid.node_chainage_m))
+        for fitting in study.fittings:
+            index = int(np.argmin(np.abs(self.grid.node_chainage_m - fitting.chainage_m)))
+            self.node_point_k[index] += fitting.k
+
+    def evaluate(self, scenario: Scenario, outlet_flow_m3_s: float | None = None
+                 ) -> _ScenarioArrays:
+        study = self.study
+        flow = flow_below_m3_s(study, scenario, self.grid.start_m, outlet_flow_m3_s)
+        velocity = velocity_m_s(flow, self.diameter_m)
+        gradient = friction_gradient(study, scenario, flow, self.diameter_m,
+                                     self.roughness_mm, self.hazen_williams_c)
+        start, end = energy_along_chain(
+            scenario.source_level_m, study.source.entrance_k, self.grid.segment_length_m,
+            gradient, study.local_k_per_km, velocity, self.node_point_k)
+        last_head = float(velocity_head_m(velocity[-1]))
+        final_loss = float(self.node_point_k[-1]) * last_head
+        outlet = float(end[-1]) - final_loss - study.outlet.exit_k * last_head
+        return _ScenarioArrays(flow, velocity, gradient, start, end, final_loss, outlet)
+
+    def node_min_pressure_m(self) -> np.ndarray:
+        """Minimum pressure head [m] per node: the route's, overridden at an offtake's
+        node by that offtake's own minimum (the strictest, if several share a node)."""
+        limits = np.full(len(self.grid.node_chainage_m), self.study.min_pressure_m)
+        overrides: dict[int, float] = {}
+        for offtake in self.study.offtakes:
+            if offtake.min_pressure_m is not None:
+                index = int(np.argmin(np.abs(self.grid.node_chainage_m - offtake.chainage_m)))
+                overrides[index] = max(overrides.get(index, -np.inf), offtake.min_pressure_m)
+        for index, limit in overrides.items():
+            limits[index] = limit
+        return limits
+
+    def points(self, arrays: _ScenarioArrays) -> pd.DataFrame:
+        """Check points: both sides of every node where they differ."""
+        grid = self.grid
+        n = len(grid.segment_length_m)
+        limits = self.node_min_pressure_m()
+        rows: list[tuple] = []
+        for node in range(n + 1):
+            sides: list[tuple[str, float, float, int]] = []
+            if node > 0:
+                sides.append(("upstream", arrays.energy_end_m[node - 1],
+                              arrays.velocity_m_s[node - 1], node - 1))
+            if node < n:
+                sides.append(("downstream", arrays.energy_start_m[node],
+                              arrays.velocity_m_s[node], node))
+            else:
+                sides.append(("downstream", arrays.energy_end_m[-1] - arrays.final_point_loss_m,
+                              arrays.velocity_m_s[-1], n - 1))
+            if len(sides) == 2 and abs(sides[0][1] - sides[1][1]) <= _SAME and \
+                    abs(sides[0][2] - sides[1][2]) <= _SAME:
+                sides = [sides[1]] if node < n else [sides[0]]
+            if len(sides) == 1:
+                sides = [("", *sides[0][1:])]
+            for side, energy, velocity, segment in sides:
+                rows.append((node, side, energy, velocity, segment))
+        node_index = np.array([r[0] for r in rows])
+        energy = np.array([r[2] for r in rows])
+        velocity = np.array([r[3] for r in rows])
+        segment = np.array([r[4] for r in rows])
+        hgl = energy - velocity_head_m(velocity)
+        pipe = grid.node_pipe_level_m[node_index]
+        top_water = self.study.source.top_water_level_m
+        return pd.DataFrame({
+            "chainage_m": grid.node_chainage_m[node_index],
+            "side": [r[1] for r in rows],
+            "label": [grid.node_label[i] for i in node_index],
+            "ground_m": grid.node_ground_m[node_index],
+            "pipe_level_m": pipe,
+            "energy_m": energy,
+            "hgl_m": hgl,
+            "pressure_m": hgl - pipe,
+            "static_pressure_m": top_water - pipe,
+            "min_pressure_m": limits[node_index],
+            "velocity_m_s": velocity,
+            "flow_m3_s": arrays.flow_m3_s[segment],
+            "piece": grid.segment_piece[segment],
+        })
+
+    def segments(self, arrays: _ScenarioArrays) -> pd.DataFrame:
+        grid = self.grid
+        return pd.DataFrame({
+            "from_m": grid.start_m, "to_m": grid.end_m, "length_m": grid.segment_length_m,
+            "piece": grid.segment_piece, "flow_m3_s": arrays.flow_m3_s,
+            "velocity_m_s": arrays.velocity_m_s, "gradient_m_per_km": arrays.gradient * 1000,
+            "friction_loss_m": arrays.gradient * grid.segment_length_m,
+        })
+
+    def least_margin_m(self, scenario: Scenario, outlet_flow_m3_s: float,
+                       outlet_only: bool) -> float:
+        """Smallest of outlet margin and (unless outlet_only) pressure margins [m]."""
+        arrays = self.evaluate(scenario, outlet_flow_m3_s)
+        margin = arrays.outlet_energy_m - self.study.outlet.required_head_m
+        if outlet_only:
+            return margin
+        points = self.points(arrays)
+        return min(margin, float((points["pressure_m"] - points["min_pressure_m"]).min()))
+
+    def capacity_m3_s(self, scenario: Scenario, outlet_only: bool) -> float | None:
+        """Largest outlet flow meeting the outlet head (and pressure minima), by Brent's
+        method on a margin that falls monotonically with flow. None if even zero outlet
+        flow fails; offtakes stay at their scenario flows."""
+        def margin(q: float) -> float:
+            return self.least_margin_m(scenario, q, outlet_only)
+        if margin(0.0) < 0.0:
+            return None
+        high = max(scenario.outlet_flow_m3_s, 1e-3)
+        for _ in range(60):
+            if margin(high) < 0.0:
+                break
+            high *= 2.0
+        else:
+            return float("inf")
+        return float(brentq(margin, 0.0, high, xtol=1e-9, rtol=1e-10))
+
+
+def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics) -> pd.DataFrame:
+    grid = hydraulics.grid
+    zone_factor = np.array([study.costs.factor(z) for z in grid.segment_zone])
+    rows = []
+    top_water = study.source.top_water_level_m
+    for index, piece in enumerate(design.pieces):
+        mask = grid.segment_piece == index
+        nodes = np.flatnonzero(mask)
+        levels = np.concatenate([grid.node_pipe_level_m[nodes], grid.node_pipe_level_m[nodes + 1]])
+        lowest = int(np.argmin(levels))
+        lowest_chainage = np.concatenate([grid.start_m[nodes], grid.end_m[nodes]])[lowest]
+        option = piece.option
+        length = float(grid.segment_length_m[mask].sum())
+        cost = float((option.cost_per_m * zone_factor[mask] * grid.segment_length_m[mask]).sum())
+        rows.append({
+            "from_m": piece.from_m, "to_m": piece.to_m, "material": option.material,
+            "dn_mm": option.dn_mm, "pressure_class": option.pressure_class,
+            "length_m": length, "internal_diameter_mm": option.internal_diameter_mm,
+            "cost": cost, "lowest_pipe_level_m": float(levels[lowest]),
+            "lowest_chainage_m": float(lowest_chainage),
+            "static_head_m": top_water - float(levels[lowest]),
+            "allowable_head_m": option.allowable_head_m,
+        })
+    return pd.DataFrame(rows)
+
+
+def check_design(study: Study, design: Design, *, capacity: bool = True) -> CheckResult:
+    """Analyse ``design`` in every scenario of ``study`` (contract section 5).
+
+    Returns points, segments, violations, costs and (unless ``capacity=False``) the
+    gravity capacity of the design in each scenario.
+    """
+    hydraulics = _DesignHydraulics(study, design)
+    violations: list[Violation] = []
+    pieces = _piece_table(study, design, hydraulics)
+    surge = study.surge_allowance_m
+    for row in pieces.itertuples():
+        demand = row.static_head_m + surge
+        if demand > row.allowable_head_m + 1e-9:
+            violations.append(Violation(
+                "max_pressure", None, row.lowest_chainage_m, demand, row.allowable_head_m,
+                f"{row.material} DN{row.dn_mm:g} {row.pressure_class} from {row.from_m:g} to "
+                f"{row.to_m:g} m: static head {row.static_head_m:.1f} m + surge allowance "
+                f"{surge:g} m exceeds the class's {row.allowable_head_m:g} m"))
+
+    results: list[ScenarioResult] = []
+    rules = study.rules
+    for scenario in study.scenarios:
+        arrays = hydraulics.evaluate(scenario)
+        points = hydraulics.points(arrays)
+        segments = hydraulics.segments(arrays)
+        short = points[points["pressure_m"] < points["min_pressure_m"] - 1e-9]
+        for row in short.itertuples():
+            violations.append(Violation(
+                "min_pressure", scenario.name, float(row.chainage_m), float(row.pressure_m),
+                float(row.min_pressure_m),
+                f"pressure head {row.pressure_m:.2f} m below the minimum "
+                f"{row.min_pressure_m:g} m"))
+        if scenario.velocity_limits:
+            for index in range(len(design.pieces)):
+                part = segments[segments["piece"] == index]
+                fastest = part["velocity_m_s"].idxmax()
+                slowest = part["velocity_m_s"].idxmin()
+                if part.at[fastest, "velocity_m_s"] > rules.velocity_max_m_s + 1e-9:
+                    violations.append(Violation(
+                        "velocity_max", scenario.name, float(part.at[fastest, "from_m"]),
+                        float(part.at[fastest, "velocity_m_s"]), rules.velocity_max_m_s,
+                        f"piece {index + 1}: velocity above the maximum"))
+                if part.at[slowest, "velocity_m_s"] < rules.velocity_min_m_s - 1e-9:
+                    violations.append(Violation(
+                        "velocity_min", scenario.name, float(part.at[slowest, "from_m"]),
+                        float(part.at[slowest, "velocity_m_s"]), rules.velocity_min_m_s,
+                        f"piece {index + 1}: velocity below the minimum (settling, "
+                        "water age)"))
+        if arrays.outlet_energy_m < study.outlet.required_head_m - 1e-9:
+            violations.append(Violation(
+                "outlet_head", scenario.name, study.route.total_chainage_m,
+                arrays.outlet_energy_m, study.outlet.required_head_m,
+                f"energy at the outlet after the exit loss is "
+                f"{study.outlet.required_head_m - arrays.outlet_energy_m:.2f} m short"))
+        result = ScenarioResult(scenario.name, inflow_m3_s(study, scenario),
+                                scenario.outlet_flow_m3_s, arrays.outlet_energy_m,
+                                study.outlet.required_head_m, points, segments)
+        if capacity:
+            result.capacity_m3_s = hydraulics.capacity_m3_s(scenario, outlet_only=False)
+            result.capacity_outlet_only_m3_s = hydraulics.capacity_m3_s(scenario,
+                                                                        outlet_only=True)
+        results.append(result)
+    change_total = study.costs.change_cost * design.n_changes
+    total = float(pieces["cost"].sum()) + change_total
+    return CheckResult(study, design, results, violations, pieces, total, change_total)

@@ -1,0 +1,131 @@
+"""Schema of the study TOML (contract section 1), validated with pydantic.
+
+Every table forbids unknown keys so that a misspelt key is an error, never ignored.
+Numbers are strict (a quoted "5" is not a number); integers are accepted for floats.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Field
+
+
+class _Table(BaseModel):
+    model_config = ConfigDict(extra="forbid", strict=True)
+
+
+class WaterTable(_Table):
+    temperature_c: float = Field(15.0, ge=0.0, le=100.0)
+    kinematic_viscosity_m2_s: float | None = Field(None, gt=0.0, lt=1e-4)
+
+
+class SourceTable(_Table):
+    level_m: float
+    top_water_level_m: float | None = None
+    entrance_k: float = Field(0.5, ge=0.0)
+
+
+class OutletTable(_Table):
+    required_head_m: float
+    exit_k: float = Field(1.0, ge=0.0)
+
+
+class FittingTable(_Table):
+    chainage_m: float
+    k: float = Field(ge=0.0)
+    label: str = ""
+
+
+class RouteTable(_Table):
+    profile: str
+    cover_m: float = Field(1.0, ge=0.0)
+    min_pressure_m: float = 0.0
+    local_k_per_km: float = Field(0.0, ge=0.0)
+    length: Literal["slope", "chainage"] = "slope"
+    fitting: list[FittingTable] = Field(default_factory=list)
+
+
+class OfftakeTable(_Table):
+    chainage_m: float
+    flow: Any
+    min_pressure_m: float | None = None
+    label: str = ""
+
+
+class ScenarioTable(_Table):
+    name: str = Field(min_length=1)
+    flow: Any
+    offtake_factor: float = Field(1.0, ge=0.0)
+    source_level_m: float | None = None
+    roughness_mm: float | None = Field(None, ge=0.0)
+    roughness_factor: float | None = Field(None, gt=0.0)
+    velocity_limits: bool = True
+
+
+class CatalogueTable(_Table):
+    file: str
+    materials: list[str] | None = None
+    surge_allowance_m: float = Field(0.0, ge=0.0)
+    friction: Literal["colebrook-white", "hazen-williams"] = "colebrook-white"
+
+
+class RulesTable(_Table):
+    min_piece_length_m: float = Field(0.0, ge=0.0)
+    max_changes: int | None = Field(None, ge=0)
+    sizes_downstream: Literal["any", "non-increasing"] = "any"
+    velocity_min_m_s: float = Field(0.0, ge=0.0)
+    velocity_max_m_s: float = Field(3.0, gt=0.0)
+
+
+class CostsTable(_Table):
+    change_cost: float = Field(0.0, ge=0.0)
+    zone_factor: dict[str, float] = Field(default_factory=dict)
+
+
+class SolverTable(_Table):
+    name: Literal["highs", "cbc"] = "highs"
+    time_limit_s: float = Field(120.0, gt=0.0)
+    mip_gap: float = Field(1e-4, ge=0.0, lt=1.0)
+
+
+class StudyFile(_Table):
+    title: str = Field(min_length=1)
+    currency: str = ""
+    water: WaterTable = Field(default_factory=WaterTable)
+    source: SourceTable
+    outlet: OutletTable
+    route: RouteTable
+    offtake: list[OfftakeTable] = Field(default_factory=list)
+    scenario: list[ScenarioTable] = Field(min_length=1)
+    catalogue: CatalogueTable
+    rules: RulesTable = Field(default_factory=RulesTable)
+    costs: CostsTable = Field(default_factory=CostsTable)
+    solver: SolverTable = Field(default_factory=SolverTable)
+
+
+_ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting"}
+
+
+def describe_location(location: tuple[Any, ...]) -> str:
+    """A pydantic error location as the user wrote it: ``[[scenario]] #2 flow``."""
+    parts: list[str] = []
+    table: list[str] = []
+    for item in location:
+        if isinstance(item, int):
+            parts.append(f"[[{'.'.join(table)}]] #{item + 1}")
+            table = []
+        elif item in _ARRAYS_OF_TABLES:
+            table.append(str(item))
+        elif isinstance(item, str) and item[:1].isalpha() and parts == [] and not table:
+            table.append(item)
+        else:
+            table.append(str(item))
+    if table:
+        if parts:
+            parts.append(".".join(table))
+        elif len(table) == 1:
+            parts.append(f"key {table[0]}")
+        else:
+            parts.append(f"[{'.'.join(table[:-1])}] {table[-1]}")
+    return " ".join(parts)

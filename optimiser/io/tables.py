@@ -1,0 +1,85 @@
+"""Strict CSV reading: named columns, typed cells, one located message per problem."""
+
+from __future__ import annotations
+
+import csv
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+from optimiser.io.errors import InputError, ProblemList
+
+
+@dataclass
+class Row:
+    """One data row: its line number in the file and its cells by column name."""
+
+    line: int
+    cells: dict[str, str]
+
+
+def read_rows(path: Path, required: list[str], optional: list[str] | None = None,
+              what: str = "file") -> tuple[list[Row], list[str]]:
+    """Read a CSV with a header. Returns rows and the header.
+
+    Raises InputError for a missing or empty file, or missing columns. Extra columns
+    are allowed (ignored by the callers) except duplicated names.
+    """
+    if not path.is_file():
+        raise InputError(f"{path}: {what} not found")
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except (OSError, UnicodeDecodeError) as error:
+        raise InputError(f"{path}: cannot read the {what} ({error})") from None
+    if not text.strip():
+        raise InputError(f"{path}: the {what} is empty")
+    reader = csv.reader(text.splitlines())
+    header = [name.strip() for name in next(reader)]
+    problems = ProblemList()
+    if len(set(header)) != len(header):
+        problems.add(f"{path}: line 1: a column name appears twice in {header}")
+    missing = [name for name in required if name not in header]
+    if missing:
+        problems.add(f"{path}: line 1: missing column(s) {', '.join(missing)}; "
+                     f"expected {', '.join(required + (optional or []))}")
+    problems.raise_if_any()
+    rows: list[Row] = []
+    for line_number, values in enumerate(reader, start=2):
+        if not values or all(not v.strip() for v in values):
+            continue  # blank lines are harmless
+        if len(values) > len(header):
+            problems.add(f"{path}: line {line_number}: {len(values)} cells but "
+                         f"{len(header)} columns")
+            continue
+        values = values + [""] * (len(header) - len(values))
+        rows.append(Row(line_number, {h: v.strip() for h, v in zip(header, values, strict=True)}))
+    problems.raise_if_any()
+    if not rows:
+        raise InputError(f"{path}: the {what} has a header but no data rows")
+    return rows, header
+
+
+def number(path: Path, row: Row, column: str, problems: ProblemList, *,
+           allow_empty: bool = False, positive: bool = False,
+           non_negative: bool = False) -> float | None:
+    """A numeric cell, or None (after recording a problem) when it is not valid."""
+    text = row.cells.get(column, "")
+    if text == "":
+        if not allow_empty:
+            problems.add(f"{path}: line {row.line}: column {column} is empty")
+        return None
+    try:
+        value = float(text)
+    except ValueError:
+        problems.add(f"{path}: line {row.line}: column {column}: '{text}' is not a number")
+        return None
+    if not math.isfinite(value):
+        problems.add(f"{path}: line {row.line}: column {column}: '{text}' is not finite")
+        return None
+    if positive and value <= 0:
+        problems.add(f"{path}: line {row.line}: column {column} must be > 0, got {text}")
+        return None
+    if non_negative and value < 0:
+        problems.add(f"{path}: line {row.line}: column {column} must be >= 0, got {text}")
+        return None
+    return value

@@ -1,0 +1,46 @@
+"""Quantities with units, parsed with pint: flows such as "42 L/s", "150 m^3/h", "3.6 ML/d"."""
+
+from __future__ import annotations
+
+import re
+from functools import lru_cache
+
+import pint
+
+_BARE_NUMBER = re.compile(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$")
+
+
+@lru_cache(maxsize=1)
+def _registry() -> pint.UnitRegistry:
+    registry = pint.UnitRegistry()
+    return registry
+
+
+def parse_flow_m3_s(text: object) -> float:
+    """Volumetric flow [m^3/s] from a string with a unit.
+
+    Raises ValueError with a plain message: a bare number ("give a unit"), a unit that
+    is not a flow, an unparsable string or a negative flow.
+    """
+    if isinstance(text, bool) or not isinstance(text, str):
+        if isinstance(text, int | float):
+            raise ValueError(f"{text!r} has no unit: give a unit, e.g. \"{text} L/s\"")
+        raise ValueError(f"expected a flow such as \"42 L/s\", got {text!r}")
+    if _BARE_NUMBER.match(text):
+        raise ValueError(f"\"{text}\" has no unit: give a unit, e.g. \"{text.strip()} L/s\"")
+    registry = _registry()
+    try:
+        quantity = registry.Quantity(text)
+    except Exception as error:  # pint raises several types for bad strings
+        raise ValueError(f"cannot read the flow \"{text}\" ({error})") from None
+    if not isinstance(quantity, pint.Quantity) or quantity.dimensionless:
+        raise ValueError(f"\"{text}\" has no unit: give a unit, e.g. \"42 L/s\"")
+    if quantity.dimensionality != registry.Quantity("1 m^3/s").dimensionality:
+        raise ValueError(
+            f"\"{text}\" is not a flow (its unit is {quantity.units:~}); give a volume per "
+            "time such as L/s, m^3/h or ML/d"
+        )
+    value = float(quantity.to("m^3/s").magnitude)
+    if value < 0:
+        raise ValueError(f"\"{text}\" is negative; flows are given as positive numbers")
+    return value

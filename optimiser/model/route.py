@@ -1,0 +1,105 @@
+"""The route: surveyed nodes and the sections between them, held as a tree.
+
+Sections form a tree rooted at the source: every section has one upstream (parent)
+section, or none for a section leaving the source. A plain gravity main is a chain,
+which is all the hydraulic code handles today; the parent array is kept so that
+branched systems can be added without reworking the model.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class Offtake:
+    """A withdrawal at a node of the route."""
+
+    chainage_m: float
+    flow_m3_s: float
+    min_pressure_m: float | None = None
+    label: str = ""
+
+
+@dataclass(frozen=True)
+class Fitting:
+    """A point loss K V^2/2g at a node (valve chamber, meter, bend group)."""
+
+    chainage_m: float
+    k: float
+    label: str = ""
+
+
+@dataclass
+class Route:
+    """Nodes (profile points) and sections of a route.
+
+    Arrays are indexed by node (``chainage_m``, ``ground_m``, ``pipe_level_m``,
+    ``labels``) or by section (``parent``, ``zones``, ``length_m``); section i runs
+    from node ``start_node[i]`` to node ``end_node[i]``.
+    """
+
+    chainage_m: np.ndarray
+    ground_m: np.ndarray
+    cover_m: float
+    labels: list[str]
+    zones: list[str]
+    slope_length: bool = True
+    start_node: np.ndarray = field(init=False)
+    end_node: np.ndarray = field(init=False)
+    parent: np.ndarray = field(init=False)
+
+    def __post_init__(self) -> None:
+        n = len(self.chainage_m)
+        self.chainage_m = np.asarray(self.chainage_m, dtype=float)
+        self.ground_m = np.asarray(self.ground_m, dtype=float)
+        self.start_node = np.arange(n - 1)
+        self.end_node = np.arange(1, n)
+        self.parent = np.arange(-1, n - 2)  # a chain: section i hangs below section i-1
+
+    @property
+    def pipe_level_m(self) -> np.ndarray:
+        """Pipe centreline level [m] = ground - cover."""
+        return self.ground_m - self.cover_m
+
+    @property
+    def n_sections(self) -> int:
+        return len(self.chainage_m) - 1
+
+    @property
+    def total_chainage_m(self) -> float:
+        return float(self.chainage_m[-1])
+
+    @property
+    def chainage_length_m(self) -> np.ndarray:
+        """Horizontal length of each section [m]."""
+        return np.diff(self.chainage_m)
+
+    @property
+    def length_m(self) -> np.ndarray:
+        """Pipe length of each section [m]: slope length sqrt(dx^2 + dz^2), or chainage."""
+        dx = self.chainage_length_m
+        if not self.slope_length:
+            return dx
+        return np.hypot(dx, np.diff(self.pipe_level_m))
+
+    def is_chain(self) -> bool:
+        return bool(np.all(self.parent == np.arange(-1, self.n_sections - 1)))
+
+    def node_at(self, chainage_m: float) -> int:
+        """Index of the node at a chainage (the loader puts one at every offtake/fitting)."""
+        index = int(np.searchsorted(self.chainage_m, chainage_m))
+        if index >= len(self.chainage_m) or not np.isclose(
+            self.chainage_m[index], chainage_m, rtol=0.0, atol=1e-6
+        ):
+            raise KeyError(f"no node at chainage {chainage_m} m")
+        return index
+
+    def pipe_level_at(self, chainage_m: np.ndarray) -> np.ndarray:
+        """Pipe level [m] at any chainages, linear between nodes."""
+        return np.interp(chainage_m, self.chainage_m, self.pipe_level_m)
+
+    def ground_at(self, chainage_m: np.ndarray) -> np.ndarray:
+        return np.interp(chainage_m, self.chainage_m, self.ground_m)

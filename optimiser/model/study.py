@@ -1,0 +1,89 @@
+"""A whole study: water, source, outlet, route, offtakes, scenarios, catalogue, rules."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from enum import StrEnum
+from pathlib import Path
+
+from optimiser.model.catalogue import Catalogue
+from optimiser.model.route import Fitting, Offtake, Route
+from optimiser.model.scenario import Scenario
+
+
+class Friction(StrEnum):
+    COLEBROOK_WHITE = "colebrook-white"
+    HAZEN_WILLIAMS = "hazen-williams"
+
+
+@dataclass(frozen=True)
+class Source:
+    level_m: float
+    top_water_level_m: float
+    entrance_k: float = 0.5
+
+
+@dataclass(frozen=True)
+class Outlet:
+    required_head_m: float
+    exit_k: float = 1.0
+
+
+@dataclass(frozen=True)
+class DesignRules:
+    min_piece_length_m: float = 0.0
+    max_changes: int | None = None
+    sizes_non_increasing: bool = False
+    velocity_min_m_s: float = 0.0
+    velocity_max_m_s: float = 3.0
+
+
+@dataclass(frozen=True)
+class CostRules:
+    change_cost: float = 0.0
+    zone_factor: dict[str, float] = field(default_factory=dict)
+
+    def factor(self, zone: str) -> float:
+        return self.zone_factor.get(zone, 1.0) if zone else 1.0
+
+
+@dataclass(frozen=True)
+class SolverSettings:
+    name: str = "highs"
+    time_limit_s: float = 120.0
+    mip_gap: float = 1e-4
+
+
+@dataclass
+class Study:
+    """Everything a check or a design needs, resolved and validated by the loader."""
+
+    title: str
+    currency: str
+    kinematic_viscosity_m2_s: float
+    temperature_c: float | None
+    source: Source
+    outlet: Outlet
+    route: Route
+    min_pressure_m: float
+    local_k_per_km: float
+    fittings: tuple[Fitting, ...]
+    offtakes: tuple[Offtake, ...]
+    scenarios: tuple[Scenario, ...]
+    catalogue: Catalogue
+    surge_allowance_m: float
+    friction: Friction
+    rules: DesignRules
+    costs: CostRules
+    solver: SolverSettings
+    full_catalogue: Catalogue | None = None
+    """The whole catalogue file (``catalogue`` is after the materials filter)."""
+    path: Path | None = None
+    catalogue_path: Path | None = None
+    profile_path: Path | None = None
+
+    def scenario(self, name: str) -> Scenario:
+        for scenario in self.scenarios:
+            if scenario.name == name:
+                return scenario
+        raise KeyError(name)

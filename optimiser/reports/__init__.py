@@ -1,0 +1,1 @@
+"""Reports: result dictionaries for JSON, terminal tables, cautions."""

@@ -1,0 +1,87 @@
+"""Terminal output with rich: critical points, violations, cautions."""
+
+from __future__ import annotations
+
+from rich.console import Console
+from rich.panel import Panel
+from rich.table import Table
+
+from optimiser.analysis.check import CheckResult
+from optimiser.reports.cautions import CAUTIONS
+
+
+def chainage_label(chainage_m: float) -> str:
+    """Chainage in the trade's km+m notation: 12345.6 -> '12+345.6'."""
+    kilometres = int(chainage_m // 1000)
+    metres = chainage_m - 1000 * kilometres
+    return f"{kilometres}+{metres:05.1f}"
+
+
+def flow_text(flow_m3_s: float | None) -> str:
+    if flow_m3_s is None:
+        return "none"
+    if flow_m3_s == float("inf"):
+        return "unbounded"
+    return f"{flow_m3_s * 1000:.2f} L/s"
+
+
+def print_cautions(console: Console) -> None:
+    console.print(Panel("\n".join(f"- {c}" for c in CAUTIONS), title="Cautions",
+                        border_style="yellow"))
+
+
+def print_check(console: Console, result: CheckResult) -> None:
+    """Scenario summary, critical points and violations of a checked design."""
+    study = result.study
+    console.print(f"[bold]{study.title}[/bold]  (check of {len(result.design.pieces)} pieces, "
+                  f"{study.route.total_chainage_m / 1000:.3f} km)")
+    summary = Table(title="Scenarios", title_justify="left")
+    for column in ("scenario", "inflow", "outlet energy m", "required m", "margin m",
+                   "capacity (all limits)", "capacity (outlet only)"):
+        summary.add_column(column, justify="right" if column != "scenario" else "left")
+    for s in result.scenarios:
+        summary.add_row(s.name, flow_text(s.inflow_m3_s), f"{s.outlet_energy_m:.2f}",
+                        f"{s.required_head_m:.2f}", f"{s.outlet_margin_m:+.2f}",
+                        flow_text(s.capacity_m3_s), flow_text(s.capacity_outlet_only_m3_s))
+    console.print(summary)
+
+    critical = Table(title="Critical points", title_justify="left")
+    for column in ("scenario", "what", "chainage", "value", "limit", "margin"):
+        critical.add_column(column, justify="left" if column in ("scenario", "what") else "right")
+    surge = study.surge_allowance_m
+    pieces = result.pieces
+    worst_static = pieces.loc[(pieces["allowable_head_m"] - pieces["static_head_m"]).idxmin()]
+    for s in result.scenarios:
+        least = s.least_pressure_margin
+        critical.add_row(s.name, "least pressure margin", chainage_label(least["chainage_m"]),
+                         f"{least['pressure_m']:.2f} m", f"{least['min_pressure_m']:.2f} m",
+                         f"{least['pressure_m'] - least['min_pressure_m']:+.2f} m")
+        fastest = s.segments.loc[s.segments["velocity_m_s"].idxmax()]
+        critical.add_row(s.name, "highest velocity", chainage_label(fastest["from_m"]),
+                         f"{fastest['velocity_m_s']:.2f} m/s",
+                         f"{study.rules.velocity_max_m_s:.2f} m/s",
+                         f"{study.rules.velocity_max_m_s - fastest['velocity_m_s']:+.2f} m/s")
+    spare_m = worst_static["allowable_head_m"] - worst_static["static_head_m"] - surge
+    critical.add_row("(static)", "highest static head + surge vs class",
+                     chainage_label(worst_static["lowest_chainage_m"]),
+                     f"{worst_static['static_head_m'] + surge:.1f} m",
+                     f"{worst_static['allowable_head_m']:.1f} m",
+                     f"{spare_m:+.1f} m")
+    console.print(critical)
+    print_violations(console, result)
+
+
+def print_violations(console: Console, result: CheckResult, limit: int = 20) -> None:
+    if result.ok:
+        console.print("[bold green]OK[/bold green]: every limit is met in every scenario.")
+        return
+    table = Table(title=f"Violations ({len(result.violations)})", title_justify="left")
+    for column in ("kind", "scenario", "chainage", "value", "limit", "detail"):
+        table.add_column(column)
+    for v in result.violations[:limit]:
+        table.add_row(v.kind, v.scenario or "(static)", chainage_label(v.chainage_m),
+                      f"{v.value:.3f}", f"{v.limit:.3f}", v.message)
+    console.print(table)
+    if len(result.violations) > limit:
+        console.print(f"... and {len(result.violations) - limit} more (see --json)")
+    console.print("[bold red]NOT OK[/bold red]: the design violates the limits above.")
