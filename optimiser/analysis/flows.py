@@ -44,6 +44,18 @@ def friction_gradient(study: Study, scenario: Scenario, flow_m3_s: np.ndarray,
     """
     if study.friction is Friction.HAZEN_WILLIAMS:
         return hazen_williams_gradient(flow_m3_s, diameter_m, hazen_williams_c)
-    roughness_m = scenario.effective_roughness_mm(roughness_mm) / 1000.0
-    return darcy_weisbach_gradient(flow_m3_s, diameter_m, roughness_m,
+    return gradient_with_roughness(study, flow_m3_s, diameter_m,
+                                   scenario.effective_roughness_mm(roughness_mm),
+                                   hazen_williams_c)
+
+
+def gradient_with_roughness(study: Study, flow_m3_s: np.ndarray, diameter_m: np.ndarray,
+                            roughness_mm: np.ndarray, hazen_williams_c: np.ndarray
+                            ) -> np.ndarray:
+    """Friction gradient J [m/m] by the study's method with roughness given directly
+    (sensitivity studies replace the catalogue's roughness). Arguments broadcast."""
+    if study.friction is Friction.HAZEN_WILLIAMS:
+        return hazen_williams_gradient(flow_m3_s, diameter_m, hazen_williams_c)
+    return darcy_weisbach_gradient(flow_m3_s, diameter_m,
+                                   np.asarray(roughness_mm, dtype=float) / 1000.0,
                                    study.kinematic_viscosity_m2_s)
