@@ -1,0 +1,99 @@
+"""Fixed-design sensitivity: the reduced form equals the full check; Monte Carlo with a
+degenerate distribution equals the deterministic check; capacity falls as roughness grows.
+
+Check values come from the project's own independent check (``check_design``, itself
+tested against hand calculations with the ``fluids`` and ``iapws`` references) and from
+a fact of the trade: a rougher pipe carries less (Colebrook, C.F. & White, C.M. (1937),
+The reduction of carrying capacity of pipes with age).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+import pytest
+
+import optimiser
+from optimiser.analysis.reduced import reduce_design
+from optimiser.analysis.sensitivity import (
+    RoughnessDistribution,
+    monte_carlo,
+    roughness_sweep,
+)
+
+
+@pytest.fixture
+def study_and_design(study_files):
+    study = optimiser.load_study(study_files.study)
+    return study, optimiser.load_design(study_files.design, study)
+
+
+def _with_roughness(study, roughness_mm):
+    scenarios = tuple(dataclasses.replace(s, roughness_mm=roughness_mm,
+                                          roughness_factor=None) for s in study.scenarios)
+    return dataclasses.replace(study, scenarios=scenarios)
+
+
+@pytest.mark.parametrize("roughness_mm", [0.005, 0.1, 0.8])
+def test_sweep_matches_full_check(study_and_design, roughness_mm):
+    study, design = study_and_design
+    table = roughness_sweep(study, design, np.array([roughness_mm]))
+    full = optimiser.check_design(_with_roughness(study, roughness_mm), design)
+    for scenario in full.scenarios:
+        row = table[table["scenario"] == scenario.name].iloc[0]
+        least = scenario.least_pressure_margin
+        assert row["outlet_margin_m"] == pytest.approx(scenario.outlet_margin_m, abs=1e-9)
+        assert row["least_pressure_margin_m"] == pytest.approx(
+            least["pressure_m"] - least["min_pressure_m"], abs=1e-9)
+        if scenario.capacity_m3_s is None:
+            assert np.isnan(row["capacity_m3_s"])
+        else:
+            assert row["capacity_m3_s"] == pytest.approx(scenario.capacity_m3_s, abs=1e-8)
+        assert row["capacity_outlet_only_m3_s"] == pytest.approx(
+            scenario.capacity_outlet_only_m3_s, abs=1e-8)
+        assert bool(row["meets"]) == (not [v for v in full.violations
+                                           if v.scenario == scenario.name
+                                           and v.kind in ("min_pressure", "outlet_head")])
+
+
+def test_capacity_falls_as_roughness_grows(study_and_design):
+    study, design = study_and_design
+    table = roughness_sweep(study, design, np.linspace(0.0, 3.0, 13))
+    for _, part in table.groupby("scenario"):
+        capacity = part["capacity_outlet_only_m3_s"].to_numpy()
+        assert np.all(np.diff(capacity) < 0)
+
+
+def test_degenerate_monte_carlo_equals_deterministic_check(study_and_design):
+    study, design = study_and_design
+    # Fixed 0.05 mm plus 0.01 mm/year for 15 years = 0.2 mm for every material.
+    rates = {o.material: 0.01 for o in study.full_catalogue}
+    result = monte_carlo(study, design, RoughnessDistribution("fixed", 0.05, 0.05),
+                         samples=7, seed=3, years=15.0, ageing_mm_per_year=rates)
+    full = optimiser.check_design(_with_roughness(study, 0.2), design)
+    for scenario in full.scenarios:
+        rows = result.samples[result.samples["scenario"] == scenario.name]
+        assert np.allclose(rows["capacity_m3_s"], scenario.capacity_m3_s, atol=1e-8)
+        assert np.allclose(rows["outlet_margin_m"], scenario.outlet_margin_m, atol=1e-9)
+        fails = any(v.scenario == scenario.name and v.kind in ("min_pressure", "outlet_head")
+                    for v in full.violations)
+        summary = result.summary.set_index("scenario").loc[scenario.name]
+        assert summary["probability_meets"] == (0.0 if fails else 1.0)
+
+
+def test_same_seed_same_numbers(study_and_design):
+    study, design = study_and_design
+    distribution = RoughnessDistribution("log-uniform", 0.01, 1.0)
+    first = monte_carlo(study, design, distribution, samples=50, seed=11)
+    second = monte_carlo(study, design, distribution, samples=50, seed=11)
+    other = monte_carlo(study, design, distribution, samples=50, seed=12)
+    assert first.samples.equals(second.samples)
+    assert not first.samples.equals(other.samples)
+
+
+def test_reduced_form_outlet_row_is_total_pipe_length(study_and_design):
+    study, design = study_and_design
+    reduced = reduce_design(study, design)
+    result = optimiser.check_design(study, design, capacity=False)
+    assert reduced.outlet_length.sum() == pytest.approx(result.pieces["length_m"].sum())
