@@ -1,0 +1,76 @@
+"""Variants of a study: one quantity changed, everything else as the engineer wrote it."""
+
+from __future__ import annotations
+
+import dataclasses
+
+from optimiser.model import Study
+
+VARIABLES = ("source-level", "required-head", "flow")
+
+
+def with_source_level(study: Study, level_m: float) -> Study:
+    """The source's design level set to ``level_m``. Scenario levels and the top water
+    level move by the same amount (a higher intake raises all of them)."""
+    shift = level_m - study.source.level_m
+    source = dataclasses.replace(study.source, level_m=level_m,
+                                 top_water_level_m=study.source.top_water_level_m + shift)
+    scenarios = tuple(dataclasses.replace(s, source_level_m=s.source_level_m + shift)
+                      for s in study.scenarios)
+    return dataclasses.replace(study, source=source, scenarios=scenarios)
+
+
+def with_required_head(study: Study, head_m: float) -> Study:
+    """The outlet's required energy level set to ``head_m``."""
+    return dataclasses.replace(study, outlet=dataclasses.replace(study.outlet,
+                                                                 required_head_m=head_m))
+
+
+def with_outlet_flow(study: Study, flow_m3_s: float) -> Study:
+    """The first scenario's outlet flow set to ``flow_m3_s``; the others scale with it."""
+    reference = study.scenarios[0].outlet_flow_m3_s
+    scale = flow_m3_s / reference if reference > 0 else 1.0
+    scenarios = tuple(
+        dataclasses.replace(s, outlet_flow_m3_s=flow_m3_s if i == 0 else
+                            s.outlet_flow_m3_s * scale)
+        for i, s in enumerate(study.scenarios))
+    return dataclasses.replace(study, scenarios=scenarios)
+
+
+def with_roughness(study: Study, roughness_mm: float) -> Study:
+    """Every scenario with every option's roughness replaced by ``roughness_mm``."""
+    scenarios = tuple(dataclasses.replace(s, roughness_mm=roughness_mm, roughness_factor=None)
+                      for s in study.scenarios)
+    return dataclasses.replace(study, scenarios=scenarios)
+
+
+def with_roughness_range(study: Study, roughness_mm: list[float]) -> Study:
+    """One scenario per (scenario, roughness) pair: a design feasible for all of them is
+    feasible at every listed roughness (the robust design's study)."""
+    scenarios = tuple(
+        dataclasses.replace(s, name=f"{s.name} @ {r:g} mm", roughness_mm=r,
+                            roughness_factor=None)
+        for s in study.scenarios for r in roughness_mm)
+    return dataclasses.replace(study, scenarios=scenarios)
+
+
+def vary(study: Study, variable: str, value: float) -> Study:
+    """The study with ``variable`` (one of VARIABLES) set to ``value`` (SI units)."""
+    if variable == "source-level":
+        return with_source_level(study, value)
+    if variable == "required-head":
+        return with_required_head(study, value)
+    if variable == "flow":
+        return with_outlet_flow(study, value)
+    raise ValueError(f"cannot vary {variable!r}; choose one of {', '.join(VARIABLES)}")
+
+
+def study_value(study: Study, variable: str) -> float:
+    """The study's own value of ``variable`` (its point on a trade-off curve)."""
+    if variable == "source-level":
+        return study.source.level_m
+    if variable == "required-head":
+        return study.outlet.required_head_m
+    if variable == "flow":
+        return study.scenarios[0].outlet_flow_m3_s
+    raise ValueError(variable)
