@@ -216,7 +216,7 @@ class _DesignHydraulics:
             high *= 2.0
         else:
             return float("inf")
-        return float(brentq(margin, 0.0, high, xtol=1e-9, rtol=1e-10))
+        return float(brentq(margin, 0.0, high, xtol=1e-13, rtol=4 * np.finfo(float).eps))
 
 
 def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics) -> pd.DataFrame:
@@ -306,6 +306,11 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
             result.capacity_m3_s = hydraulics.capacity_m3_s(scenario, outlet_only=False)
             result.capacity_outlet_only_m3_s = hydraulics.capacity_m3_s(scenario,
                                                                         outlet_only=True)
+            if result.capacity_m3_s is not None and result.capacity_outlet_only_m3_s is not None:
+                # More limits can only lower the capacity; keep root-solve noise from
+                # saying otherwise.
+                result.capacity_m3_s = min(result.capacity_m3_s,
+                                           result.capacity_outlet_only_m3_s)
         results.append(result)
     change_total = study.costs.change_cost * design.n_changes
     total = float(pieces["cost"].sum()) + change_total

@@ -1,7 +1,8 @@
 """Schema of the study TOML (contract section 1), validated with pydantic.
 
 Every table forbids unknown keys so that a misspelt key is an error, never ignored.
-Numbers are strict (a quoted "5" is not a number); integers are accepted for floats.
+Numbers are strict (a quoted "5" is not a number); integers are accepted for floats;
+TOML's nan and inf are refused.
 """
 
 from __future__ import annotations
@@ -12,7 +13,7 @@ from pydantic import BaseModel, ConfigDict, Field
 
 
 class _Table(BaseModel):
-    model_config = ConfigDict(extra="forbid", strict=True)
+    model_config = ConfigDict(extra="forbid", strict=True, allow_inf_nan=False)
 
 
 class WaterTable(_Table):

@@ -58,13 +58,20 @@ def _read_toml(path: Path) -> dict:
 
 
 def _validate(path: Path, raw: dict) -> StudyFile:
+    if not raw:
+        raise InputError(f"{path}: the study file is empty (it needs at least title, "
+                         "[source], [outlet], [route], [[scenario]] and [catalogue])")
     try:
         return StudyFile.model_validate(raw)
     except ValidationError as error:
         problems = []
         for item in error.errors():
             where = describe_location(tuple(item["loc"]))
-            if item["type"] == "extra_forbidden":
+            if tuple(item["loc"]) == ("scenario",) and item["type"] in ("missing",
+                                                                        "too_short"):
+                problems.append(f"{path}: [[scenario]]: at least one scenario is required "
+                                "(none is given)")
+            elif item["type"] == "extra_forbidden":
                 problems.append(f"{path}: {where}: unknown key (check its spelling)")
             elif item["type"] == "missing":
                 problems.append(f"{path}: {where}: required key is missing")
@@ -79,12 +86,12 @@ def load_profile(path: Path, cover_m: float, slope_length: bool) -> Route:
     problems = ProblemList()
     chainages: list[float] = []
     grounds: list[float] = []
-    for row in rows:
+    for index, row in enumerate(rows):
         chainage = number(path, row, "chainage_m", problems)
         ground = number(path, row, "ground_m", problems)
         if chainage is None or ground is None:
             continue
-        if not chainages and chainage != 0.0:
+        if index == 0 and chainage != 0.0:
             problems.add(f"{path}: line {row.line}: the first chainage_m must be 0 "
                          f"(the source), got {chainage:g}")
         if chainages and chainage <= chainages[-1]:
@@ -219,21 +226,22 @@ def load_study(path: str | Path) -> Study:
     if rules.velocity_min_m_s >= rules.velocity_max_m_s:
         problems.add(f"{path}: [rules] velocity_min_m_s ({rules.velocity_min_m_s:g}) must "
                      f"be below velocity_max_m_s ({rules.velocity_max_m_s:g})")
-    problems.raise_if_any()
 
+    # The profile and catalogue are read even when the study has problems of its own, so
+    # that independent problems in all three files are reported together.
     profile_path = (base / spec.route.profile).resolve()
     catalogue_path = (base / spec.catalogue.file).resolve()
-    file_problems = ProblemList()
     route = catalogue = None
     try:
         route = load_profile(profile_path, spec.route.cover_m, spec.route.length == "slope")
     except InputError as error:
-        file_problems.items.extend(error.problems)
+        problems.items.extend(error.problems)
     try:
         catalogue = load_catalogue(catalogue_path, friction)
     except InputError as error:
-        file_problems.items.extend(error.problems)
-    file_problems.raise_if_any()
+        problems.items.extend(error.problems)
+    if route is None or catalogue is None:
+        problems.raise_if_any()
     assert route is not None and catalogue is not None
 
     end = route.total_chainage_m
@@ -312,37 +320,40 @@ def load_design(path: str | Path, study: Study) -> Design:
     pieces: list[Piece] = []
     previous_end: float | None = None
     end = study.route.total_chainage_m
-    for row in rows:
+    for index, row in enumerate(rows):
         start = number(path, row, "from_m", problems)
         stop = number(path, row, "to_m", problems)
         dn = number(path, row, "dn_mm", problems, positive=True)
         material = row.cells["material"]
         pressure_class = row.cells["pressure_class"]
-        if start is None or stop is None or dn is None:
-            previous_end = stop
-            continue
-        if stop <= start:
-            problems.add(f"{path}: line {row.line}: the piece from {start:g} to {stop:g} m "
-                         "has zero or negative length")
-        if previous_end is None and not pieces and abs(start) > CHAINAGE_TOLERANCE_M:
+        for column in ("material", "pressure_class"):
+            if not row.cells[column]:
+                problems.add(f"{path}: line {row.line}: column {column} is empty")
+        if index == 0 and start is not None and abs(start) > CHAINAGE_TOLERANCE_M:
             problems.add(f"{path}: line {row.line}: the first piece must start at chainage "
                          f"0, not {start:g}")
-        if previous_end is not None:
+        if start is not None and previous_end is not None:
             if start > previous_end + CHAINAGE_TOLERANCE_M:
                 problems.add(f"{path}: line {row.line}: gap from {previous_end:g} to "
                              f"{start:g} m before this piece")
             elif start < previous_end - CHAINAGE_TOLERANCE_M:
                 problems.add(f"{path}: line {row.line}: overlaps the previous piece "
                              f"(starts at {start:g}, previous ends at {previous_end:g} m)")
-        previous_end = stop
+        if start is not None and stop is not None and stop <= start:
+            problems.add(f"{path}: line {row.line}: the piece from {start:g} to {stop:g} m "
+                         "has zero or negative length")
+        # A piece of no length leaves no end to continue from: do not also report a gap.
+        previous_end = stop if start is None or stop is None or stop > start else None
+        if start is None or stop is None or dn is None or not material \
+                or not pressure_class:
+            continue
         option = catalogue.find(material, dn, pressure_class)
         if option is None:
             problems.add(f"{path}: line {row.line}: {material} DN{dn:g} {pressure_class} is "
                          f"not in the catalogue {study.catalogue_path}")
             continue
         pieces.append(Piece(start, stop, option))
-    if previous_end is not None and not problems and abs(previous_end - end) > \
-            CHAINAGE_TOLERANCE_M:
+    if previous_end is not None and abs(previous_end - end) > CHAINAGE_TOLERANCE_M:
         problems.add(f"{path}: line {rows[-1].line}: the last piece ends at {previous_end:g} "
                      f"m but the route ends at {end:g} m")
     problems.raise_if_any()

@@ -22,37 +22,58 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
               what: str = "file") -> tuple[list[Row], list[str]]:
     """Read a CSV with a header. Returns rows and the header.
 
-    Raises InputError for a missing or empty file, or missing columns. Extra columns
-    are allowed (ignored by the callers) except duplicated names.
+    Raises InputError for a missing, unreadable (not UTF-8) or empty file, a row the CSV
+    reader cannot read, or missing columns. Blank lines are skipped, before the header
+    too. Extra columns are allowed (ignored by the callers) except duplicated names.
     """
+    if path.is_dir():
+        raise InputError(f"{path}: the {what} is a folder, not a file")
     if not path.is_file():
         raise InputError(f"{path}: {what} not found")
     try:
-        text = path.read_text(encoding="utf-8-sig")
-    except (OSError, UnicodeDecodeError) as error:
+        data = path.read_bytes()
+    except OSError as error:
         raise InputError(f"{path}: cannot read the {what} ({error})") from None
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError as error:
+        line = data[:error.start].count(b"\n") + 1
+        raise InputError(f"{path}: line {line}: the {what} is not UTF-8 text (save it as "
+                         f"UTF-8 CSV; byte {data[error.start]:#04x} cannot be read)") from None
     if not text.strip():
         raise InputError(f"{path}: the {what} is empty")
-    reader = csv.reader(text.splitlines())
-    header = [name.strip() for name in next(reader)]
+    lines = text.splitlines()
+    first = next(i for i, line in enumerate(lines) if line.strip())  # skip blank lines
+    reader = csv.reader(lines[first:])
+    try:
+        header = [name.strip() for name in next(reader)]
+    except csv.Error as error:
+        raise InputError(f"{path}: line {first + 1}: cannot read the header ({error})") \
+            from None
     problems = ProblemList()
     if len(set(header)) != len(header):
-        problems.add(f"{path}: line 1: a column name appears twice in {header}")
+        problems.add(f"{path}: line {first + 1}: a column name appears twice in {header}")
     missing = [name for name in required if name not in header]
     if missing:
-        problems.add(f"{path}: line 1: missing column(s) {', '.join(missing)}; "
+        problems.add(f"{path}: line {first + 1}: missing column(s) {', '.join(missing)}; "
                      f"expected {', '.join(required + (optional or []))}")
     problems.raise_if_any()
     rows: list[Row] = []
-    for line_number, values in enumerate(reader, start=2):
-        if not values or all(not v.strip() for v in values):
-            continue  # blank lines are harmless
-        if len(values) > len(header):
-            problems.add(f"{path}: line {line_number}: {len(values)} cells but "
-                         f"{len(header)} columns")
-            continue
-        values = values + [""] * (len(header) - len(values))
-        rows.append(Row(line_number, {h: v.strip() for h, v in zip(header, values, strict=True)}))
+    try:
+        for values in reader:
+            line_number = first + reader.line_num
+            if not values or all(not v.strip() for v in values):
+                continue  # blank lines are harmless
+            if len(values) > len(header):
+                problems.add(f"{path}: line {line_number}: {len(values)} cells but "
+                             f"{len(header)} columns")
+                continue
+            values = values + [""] * (len(header) - len(values))
+            rows.append(Row(line_number, {h: v.strip()
+                                          for h, v in zip(header, values, strict=True)}))
+    except csv.Error as error:
+        problems.add(f"{path}: line {first + reader.line_num}: cannot read this row "
+                     f"({error})")
     problems.raise_if_any()
     if not rows:
         raise InputError(f"{path}: the {what} has a header but no data rows")

@@ -66,3 +66,36 @@ def prepare_out_dir(path: Path) -> Path:
         raise InputError(f"{path}: --out must be a folder, but a file has this name")
     path.mkdir(parents=True, exist_ok=True)
     return path
+
+
+_BAD_SHEET_CHARACTERS = set('[]:*?/\\')
+
+
+def sheet_name(name: str, taken: set[str]) -> str:
+    """An Excel-safe, unique sheet name (31 characters at most)."""
+    clean = "".join("_" if c in _BAD_SHEET_CHARACTERS else c for c in name).strip() or "sheet"
+    candidate = clean[:31]
+    counter = 2
+    while candidate.lower() in {t.lower() for t in taken}:
+        suffix = f" ({counter})"
+        candidate = clean[:31 - len(suffix)] + suffix
+        counter += 1
+    taken.add(candidate)
+    return candidate
+
+
+def write_workbook(path: Path, sheets: dict[str, pd.DataFrame]) -> None:
+    """An XLSX workbook with one sheet per table, written whole or not at all."""
+    path = Path(path)
+    folder = path.parent if str(path.parent) else Path(".")
+    descriptor, temporary = tempfile.mkstemp(dir=folder, prefix=f".{path.name}.", suffix=".xlsx")
+    os.close(descriptor)
+    try:
+        taken: set[str] = set()
+        with pd.ExcelWriter(temporary, engine="openpyxl") as writer:
+            for name, table in sheets.items():
+                table.to_excel(writer, sheet_name=sheet_name(name, taken), index=False)
+        os.replace(temporary, path)
+    except BaseException:
+        Path(temporary).unlink(missing_ok=True)
+        raise

@@ -1,0 +1,350 @@
+"""Bad input through the CLI: exit code 2, one clear message per problem naming the file
+and the row (line N) or key, no traceback, no JSON written (contract section 6).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import pytest
+from builders import (
+    DEFAULT_CATALOGUE,
+    DEFAULT_DESIGN,
+    DEFAULT_PROFILE,
+    DELETE,
+    MISSING,
+    study_dict,
+    toml_text,
+)
+
+import optimiser
+from optimiser.cli import app
+
+P, C, D = DEFAULT_PROFILE, DEFAULT_CATALOGUE, DEFAULT_DESIGN
+
+
+def _cat_row(index: int, **cells: Any) -> tuple:
+    """Catalogue row ``index`` of the default with some cells replaced."""
+    columns = ["material", "dn_mm", "internal_diameter_mm", "pressure_class",
+               "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m", "note"]
+    row = list(C[index])
+    for name, value in cells.items():
+        row[columns.index(name)] = value
+    return tuple(row)
+
+
+def squash(text: str) -> str:
+    """Text without any whitespace: terminal output may wrap anywhere."""
+    return "".join(text.split())
+
+
+@dataclass
+class Bad:
+    """A bad-input case: study overrides, the file the message must name ("study",
+    "profile", "catalogue" or "design"), location texts (line N or key) and words."""
+
+    overrides: dict[str, Any]
+    file: str
+    where: list[str]
+    words: list[str]
+    count: int | None = 1  # number of problems reported (None: at least one)
+    extra: dict[str, Any] = field(default_factory=dict)
+
+
+CASES: dict[str, Bad] = {
+    # --- study file keys
+    "unknown-top-level-key": Bad({"study": {"colour": "red"}}, "study",
+                                 ["colour"], ["unknown key"]),
+    "unknown-nested-key": Bad({"study": {"route": {"cover": 1}}}, "study",
+                              ["[route] cover"], ["unknown key"]),
+    "unknown-key-in-array-of-tables": Bad(
+        {"study": {"scenario": [{"name": "a", "flow": "1 L/s", "flw": "2 L/s"}]}}, "study",
+        ["[[scenario]] #1 flw"], ["unknown key"]),
+    "unknown-key-in-fitting": Bad(
+        {"study": {"route": {"fitting": [{"chainage_m": 10.0, "k": 1.0, "kk": 2}]}}},
+        "study", ["[[route.fitting]] #1 kk"], ["unknown key"]),
+    "missing-required-key": Bad({"study": {"source": {"level_m": DELETE}}}, "study",
+                                ["[source] level_m"], ["missing"]),
+    "missing-title": Bad({"study": {"title": DELETE}}, "study", ["title"], ["missing"]),
+    "missing-scenario-flow": Bad({"study": {"scenario": [{"name": "a"}]}}, "study",
+                                 ["[[scenario]] #1 flow"], ["missing"]),
+    "quoted-number": Bad({"study": {"route": {"cover_m": "1.0"}}}, "study",
+                         ["[route] cover_m"], ["number"]),
+    "nan-in-toml": Bad({"study": {"source": {"level_m": float("nan")}}}, "study",
+                       ["[source] level_m"], ["finite"]),
+    "inf-in-toml": Bad({"study": {"outlet": {"required_head_m": float("inf")}}}, "study",
+                       ["[outlet] required_head_m"], ["finite"]),
+    "bad-literal": Bad({"study": {"route": {"length": "horizontal"}}}, "study",
+                       ["[route] length"], ["slope", "chainage"]),
+    # --- flows
+    "flow-bare-number-string": Bad({"study": {"scenario": [{"name": "a", "flow": "42"}]}},
+                                   "study", ["[[scenario]] #1", "flow"], ["no unit"]),
+    "flow-bare-number": Bad({"study": {"scenario": [{"name": "a", "flow": 42}]}},
+                            "study", ["[[scenario]] #1", "flow"], ["no unit"]),
+    "flow-wrong-dimension": Bad({"study": {"scenario": [{"name": "a", "flow": "42 m"}]}},
+                                "study", ["[[scenario]] #1", "flow"], ["not a flow"]),
+    "offtake-flow-no-unit": Bad({"study": {"offtake": [{"chainage_m": 100.0, "flow": "3"}]}},
+                                "study", ["[[offtake]] #1 flow"], ["no unit"]),
+    # --- scenarios
+    "duplicate-scenario-names": Bad(
+        {"study": {"scenario": [{"name": "a", "flow": "1 L/s"},
+                                {"name": "a", "flow": "2 L/s"}]}},
+        "study", ["[[scenario]] #2", "name"], ["already has this name"]),
+    "both-roughness-keys": Bad(
+        {"study": {"scenario": [{"name": "a", "flow": "1 L/s", "roughness_mm": 1.0,
+                                 "roughness_factor": 2.0}]}},
+        "study", ["[[scenario]] #1"], ["roughness_mm", "roughness_factor", "not both"]),
+    "zero-scenarios": Bad({"study": {"scenario": DELETE}}, "study", ["[[scenario]]"],
+                          ["at least one scenario"]),
+    "empty-scenario-list": Bad({"study": {"scenario": []}}, "study", ["[[scenario]]"],
+                               ["at least one scenario"]),
+    # --- offtakes and fittings
+    "offtake-beyond-route-end": Bad(
+        {"study": {"offtake": [{"chainage_m": 3500.0, "flow": "3 L/s"}]}}, "study",
+        ["[[offtake]] #1 chainage_m"], ["outside the route"]),
+    "offtake-before-route-start": Bad(
+        {"study": {"offtake": [{"chainage_m": -5.0, "flow": "3 L/s"}]}}, "study",
+        ["[[offtake]] #1 chainage_m"], ["outside the route"]),
+    "fitting-outside-route": Bad(
+        {"study": {"route": {"fitting": [{"chainage_m": 9000.0, "k": 1.0}]}}}, "study",
+        ["[[route.fitting]] #1 chainage_m"], ["outside the route"]),
+    # --- whole files
+    "invalid-toml": Bad({"study_text": 'title = "x"\n[source\nlevel_m = 1\n'}, "study",
+                        ["line 2"], ["not valid toml"]),
+    "empty-study": Bad({"study_text": ""}, "study", [], ["empty"]),
+    "empty-profile": Bad({"profile": ""}, "profile", [], ["empty"]),
+    "empty-catalogue": Bad({"catalogue": ""}, "catalogue", [], ["empty"]),
+    "empty-design": Bad({"design": ""}, "design", [], ["empty"]),
+    "header-only-profile": Bad({"profile": "chainage_m,ground_m\n"}, "profile", [],
+                               ["no data rows"]),
+    "missing-study": Bad({"extra": "remove-study"}, "study", [], ["not found"]),
+    "missing-profile": Bad({"profile": MISSING}, "profile", [], ["not found"]),
+    "missing-catalogue": Bad({"catalogue": MISSING}, "catalogue", [], ["not found"]),
+    "missing-design": Bad({"design": MISSING}, "design", [], ["not found"]),
+    "profile-not-utf8": Bad({"extra": "latin1-profile"}, "profile", ["line 3"], ["utf-8"]),
+    "huge-csv-field": Bad({"profile": "chainage_m,ground_m\n0," + "1" * 200_000 + "\n"},
+                          "profile", ["line 2"], ["cannot read"]),
+    # --- missing columns
+    "profile-missing-column": Bad({"profile": "chainage_m,label\n0,a\n3000,b\n"}, "profile",
+                                  ["line 1"], ["missing column", "ground_m"]),
+    "catalogue-missing-column": Bad(
+        {"catalogue": "material,dn_mm,internal_diameter_mm,pressure_class,roughness_mm,"
+                      "hazen_williams_c,cost_per_m,note\nPE,200,176.2,PN10,0.02,150,45,x\n"},
+        "catalogue", ["line 1"], ["missing column", "allowable_head_m"]),
+    "design-missing-column": Bad({"design": "from_m,to_m,material,dn_mm\n0,3000,PE,200\n"},
+                                 "design", ["line 1"], ["missing column", "pressure_class"]),
+    # --- profile rows
+    "chainage-not-increasing": Bad(
+        {"profile": [P[0], P[1], (800.0, 180.0), P[3], P[4]]}, "profile", ["line 4"],
+        ["does not increase"]),
+    "chainage-decreasing": Bad(
+        {"profile": [P[0], P[1], (700.0, 180.0), P[3], P[4]]}, "profile", ["line 4"],
+        ["does not increase"]),
+    "first-chainage-not-zero": Bad({"profile": [(10.0, 199.0), *P[1:]]}, "profile",
+                                   ["line 2"], ["first chainage_m must be 0"]),
+    "profile-non-numeric": Bad({"profile": [P[0], (800.0, "abc"), *P[2:]]}, "profile",
+                               ["line 3", "ground_m"], ["not a number"]),
+    "profile-one-point": Bad({"profile": [P[0]]}, "profile", [], ["at least two points"]),
+    # --- catalogue rows
+    "diameter-zero": Bad({"catalogue": [_cat_row(0, internal_diameter_mm=0), *C[1:]]},
+                         "catalogue", ["line 2", "internal_diameter_mm"], ["> 0"]),
+    "diameter-negative": Bad({"catalogue": [_cat_row(0, internal_diameter_mm=-141), *C[1:]]},
+                             "catalogue", ["line 2", "internal_diameter_mm"], ["> 0"]),
+    "duplicate-catalogue-row": Bad({"catalogue": [*C, C[1]]}, "catalogue",
+                                   [f"line {len(C) + 2}", "line 3"], ["duplicate"]),
+    "catalogue-non-numeric": Bad({"catalogue": [_cat_row(0, cost_per_m="cheap"), *C[1:]]},
+                                 "catalogue", ["line 2", "cost_per_m"], ["not a number"]),
+    "hazen-williams-without-c": Bad(
+        {"study": {"catalogue": {"friction": "hazen-williams"}},
+         "catalogue": [_cat_row(2, hazen_williams_c=""), *C[:2], *C[3:]]},
+        "catalogue", ["line 2", "hazen_williams_c"], ["empty"]),
+    # --- design rows
+    "piece-zero-length": Bad(
+        {"design": [D[0], (1200.0, 1200.0, "PE", 200, "PN10"), D[1]]}, "design", ["line 3"],
+        ["zero or negative length"]),
+    "piece-negative-length": Bad(
+        {"design": [D[0], (1200.0, 1100.0, "PE", 200, "PN10"), (1100.0, 3000.0, "PE", 200,
+                                                                  "PN10")]},
+        "design", ["line 3"], ["zero or negative length"], count=None),
+    "option-not-in-catalogue": Bad(
+        {"design": [(0.0, 1200.0, "PE", 250, "PN25"), D[1]]}, "design", ["line 2"],
+        ["not in the catalogue", "PN25"]),
+    "pieces-leave-a-gap": Bad({"design": [D[0], (1300.0, 3000.0, "PE", 200, "PN10")]},
+                              "design", ["line 3"], ["gap", "1200", "1300"]),
+    "pieces-overlap": Bad({"design": [D[0], (1100.0, 3000.0, "PE", 200, "PN10")]},
+                          "design", ["line 3"], ["overlaps"]),
+    "design-short-of-route-end": Bad({"design": [D[0], (1200.0, 2900.0, "PE", 200, "PN10")]},
+                                     "design", ["line 3"], ["ends at 2900", "3000"]),
+    "design-beyond-route-end": Bad({"design": [D[0], (1200.0, 3100.0, "PE", 200, "PN10")]},
+                                   "design", ["line 3"], ["ends at 3100", "3000"]),
+    "design-not-starting-at-zero": Bad({"design": [(50.0, 1200.0, "PE", 250, "PN10"), D[1]]},
+                                       "design", ["line 2"], ["start at chainage 0"]),
+    "design-non-numeric": Bad({"design": [(0.0, "x", "PE", 250, "PN10"), D[1]]}, "design",
+                              ["line 2", "to_m"], ["not a number"]),
+    "design-empty-material": Bad({"design": [(0.0, 1200.0, "", 250, "PN10"), D[1]]},
+                                 "design", ["line 2", "material"], ["empty"]),
+}
+
+
+def _make(make_study, case: Bad):
+    overrides = {k: v for k, v in case.overrides.items() if k != "extra"}
+    files = make_study(**overrides)
+    action = case.overrides.get("extra")
+    if action == "remove-study":
+        files.study.unlink()
+    elif action == "latin1-profile":
+        files.profile.write_bytes(b"chainage_m,ground_m,label\n0,199,intake\n"
+                                  b"3000,145,r\xe9servoir\n")
+    return files
+
+
+def _invoke(runner, files, json_path):
+    return runner.invoke(app, ["check", str(files.study), "--design", str(files.design),
+                               "--json", str(json_path)])
+
+
+@pytest.mark.parametrize("name", list(CASES))
+def test_bad_input_exits_2_with_a_located_message(name, make_study, runner, tmp_path):
+    case = CASES[name]
+    files = _make(make_study, case)
+    json_path = tmp_path / "result.json"
+    result = _invoke(runner, files, json_path)
+    output = result.output
+    assert result.exit_code == 2, output
+    assert "Traceback" not in output
+    assert result.exception is None or isinstance(result.exception, SystemExit), output
+    assert not json_path.exists()
+    flat = squash(output)
+    file_path = getattr(files, case.file)
+    assert squash(file_path.name) in flat, output
+    assert squash(str(file_path.resolve())) in flat or squash(str(file_path)) in flat, output
+    for where in case.where:
+        assert squash(where) in flat, output
+    for word in case.words:
+        assert squash(word).lower() in flat.lower(), output
+    problems = flat.count("error:")
+    if case.count is None:
+        assert problems >= 1, output
+    else:
+        assert problems == case.count, output
+
+
+def test_bad_input_is_an_input_error_from_the_api(make_study):
+    """The same problems reach API users as one InputError with a list of messages."""
+    files = make_study(profile=[P[0], (800.0, "abc"), *P[2:]])
+    with pytest.raises(optimiser.InputError) as caught:
+        optimiser.load_study(files.study)
+    assert len(caught.value.problems) == 1
+    assert "line 3" in caught.value.problems[0]
+
+
+# --------------------------------------------------------------------------- several
+
+
+def _problems(runner, files, tmp_path) -> tuple[int, list[str], str]:
+    result = _invoke(runner, files, tmp_path / "r.json")
+    assert "Traceback" not in result.output
+    assert not (tmp_path / "r.json").exists()
+    chunks = squash(result.output).split("error:")[1:]
+    return result.exit_code, chunks, result.output
+
+
+def test_two_bad_profile_rows_give_two_messages(make_study, runner, tmp_path):
+    files = make_study(profile=[P[0], (800.0, "abc"), (1600.0, "x"), *P[3:]])
+    code, problems, output = _problems(runner, files, tmp_path)
+    assert code == 2
+    assert len(problems) == 2, output
+    assert "line3" in problems[0] and "line4" in problems[1]
+
+
+def test_every_bad_catalogue_cell_is_reported(make_study, runner, tmp_path):
+    files = make_study(catalogue=[_cat_row(0, internal_diameter_mm=0, cost_per_m="x"),
+                                  _cat_row(1, roughness_mm=-1), *C[2:], C[3]])
+    code, problems, output = _problems(runner, files, tmp_path)
+    assert code == 2
+    text = " ".join(problems)
+    assert len(problems) == 4, output
+    for expected in ("internal_diameter_mm", "cost_per_m", "roughness_mm", "duplicate"):
+        assert expected in text
+
+
+def test_independent_design_problems_are_all_reported(make_study, runner, tmp_path):
+    """A gap, an unknown option and a short end are independent: three messages."""
+    files = make_study(design=[(0.0, 1000.0, "PE", 250, "PN10"),
+                               (1100.0, 2000.0, "PE", 999, "PN10"),
+                               (2000.0, 2900.0, "PE", 200, "PN10")])
+    code, problems, output = _problems(runner, files, tmp_path)
+    assert code == 2
+    assert len(problems) == 3, output
+    assert "gap" in problems[0] and "line3" in problems[0]
+    assert "DN999" in problems[1]
+    assert "endsat2900" in problems[2]
+
+
+def test_a_bad_cell_does_not_cause_follow_on_messages(make_study, runner, tmp_path):
+    """A non-numeric first row must not also claim the next row 'does not start at 0'."""
+    files = make_study(design=[(0.0, "x", "PE", 250, "PN10"), D[1]])
+    code, problems, output = _problems(runner, files, tmp_path)
+    assert code == 2
+    assert len(problems) == 1, output
+    files = make_study(profile=[(0.0, "?"), *P[1:]])
+    code, problems, output = _problems(runner, files, tmp_path)
+    assert len(problems) == 1, output
+
+
+def test_problems_in_study_and_profile_are_reported_together(make_study, runner, tmp_path):
+    """A duplicate scenario name and a bad profile row are independent problems."""
+    files = make_study(study={"scenario": [{"name": "a", "flow": "1 L/s"},
+                                           {"name": "a", "flow": "2 L/s"}]},
+                       profile=[P[0], (800.0, "abc"), *P[2:]])
+    code, problems, output = _problems(runner, files, tmp_path)
+    assert code == 2
+    assert len(problems) == 2, output
+    assert any("study.toml" in p for p in problems)
+    assert any("profile.csv" in p and "line3" in p for p in problems)
+
+
+def test_several_unknown_keys_each_named(make_study, runner, tmp_path):
+    files = make_study(study={"colour": 1, "route": {"cover": 1.0},
+                              "rules": {"max_change": 2}})
+    code, problems, output = _problems(runner, files, tmp_path)
+    assert code == 2
+    assert len(problems) == 3, output
+    text = " ".join(problems)
+    for key in ("colour", "[route]cover", "[rules]max_change"):
+        assert key in text
+
+
+def test_study_text_written_by_the_builder_is_valid_toml(tmp_path):
+    """Guard on the test data: the builder's TOML round-trips through tomllib."""
+    import tomllib
+
+    data = study_dict()
+    assert tomllib.loads(toml_text(data)) == data
+
+
+# --------------------------------------------------------------------------- usage
+
+
+def test_missing_design_option_is_a_usage_error(study_files, runner):
+    result = runner.invoke(app, ["check", str(study_files.study)])
+    assert result.exit_code == 2
+    assert "Traceback" not in result.output
+    assert "--design" in result.output
+
+
+def test_unknown_option_is_a_usage_error(study_files, runner):
+    result = runner.invoke(app, ["check", str(study_files.study), "--design",
+                                 str(study_files.design), "--colour"])
+    assert result.exit_code == 2
+    assert "Traceback" not in result.output
+
+
+def test_json_into_a_missing_folder_is_bad_input(study_files, runner, tmp_path):
+    target = tmp_path / "no" / "such" / "folder" / "r.json"
+    result = runner.invoke(app, ["check", str(study_files.study), "--design",
+                                 str(study_files.design), "--json", str(target)])
+    assert result.exit_code == 2, result.output
+    assert "Traceback" not in result.output
+    assert not target.exists()
