@@ -1,0 +1,129 @@
+"""Side-by-side comparison of design options (one study each): table, workbook, HTML."""
+
+from __future__ import annotations
+
+import html
+from dataclasses import dataclass
+from pathlib import Path
+
+import pandas as pd
+from plotly.offline import get_plotlyjs
+
+from optimiser.milp import DesignOutcome
+from optimiser.model import Study
+from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.charts import profile_figure
+
+COMPARISON_COLUMNS = [
+    "rank", "option", "study", "status", "verified", "total_cost", "currency",
+    "cost_per_l_s", "design_flow_l_s", "length_by_dn", "length_by_material", "n_changes",
+    "highest_static_head_m", "least_pressure_margin_m", "least_margin_at_m",
+    "highest_velocity_m_s", "uniform_option", "uniform_cost", "saving_vs_uniform",
+    "gap", "lower_bound", "diagnosis",
+]
+
+
+@dataclass
+class OptionResult:
+    """One option of a comparison: its study file, loaded study and outcome (or error)."""
+
+    path: Path
+    study: Study
+    outcome: DesignOutcome | None
+    error: str | None = None
+
+
+def _lengths(pieces: pd.DataFrame, column: str, fmt: str) -> str:
+    groups = pieces.groupby(column, sort=False)["length_m"].sum()
+    return "; ".join(f"{fmt.format(key)}: {value / 1000:.2f} km" for key, value in
+                     groups.sort_values(ascending=False).items())
+
+
+def comparison_row(option: OptionResult) -> dict:
+    study = option.study
+    outcome = option.outcome
+    design_flow = max(s.outlet_flow_m3_s for s in study.scenarios) * 1000.0
+    row = {"option": study.title, "study": str(option.path), "currency": study.currency,
+           "design_flow_l_s": design_flow}
+    if outcome is None:
+        row.update(status="error", verified=False, diagnosis=option.error or "")
+        return row
+    row.update(status=outcome.status, verified=outcome.verified,
+               diagnosis=" | ".join(outcome.diagnosis), gap=outcome.gap,
+               lower_bound=outcome.lower_bound)
+    if outcome.check is None or outcome.design is None:
+        return row
+    check = outcome.check
+    pieces = check.pieces
+    margins = [(s.least_pressure_margin, s) for s in check.scenarios]
+    least, _ = min(margins, key=lambda item: item[0]["pressure_m"] - item[0]["min_pressure_m"])
+    row.update(
+        total_cost=outcome.total_cost,
+        cost_per_l_s=outcome.total_cost / design_flow if design_flow > 0 else None,
+        length_by_dn=_lengths(pieces, "dn_mm", "DN{:g}"),
+        length_by_material=_lengths(pieces, "material", "{}"),
+        n_changes=outcome.design.n_changes,
+        highest_static_head_m=float(pieces["static_head_m"].max()),
+        least_pressure_margin_m=float(least["pressure_m"] - least["min_pressure_m"]),
+        least_margin_at_m=float(least["chainage_m"]),
+        highest_velocity_m_s=max(float(s.segments["velocity_m_s"].max())
+                                 for s in check.scenarios),
+    )
+    if outcome.uniform is not None:
+        row.update(uniform_option=outcome.uniform.option.label,
+                   uniform_cost=outcome.uniform.cost,
+                   saving_vs_uniform=outcome.uniform.cost - outcome.total_cost)
+    return row
+
+
+def comparison_table(options: list[OptionResult]) -> pd.DataFrame:
+    """One row per option, ranked by cost; options without a design rank last."""
+    table = pd.DataFrame([comparison_row(o) for o in options])
+    for column in COMPARISON_COLUMNS:
+        if column not in table:
+            table[column] = None
+    table = table.sort_values("total_cost", na_position="last", kind="stable")
+    table["rank"] = range(1, len(table) + 1)
+    table.loc[table["total_cost"].isna(), "rank"] = None
+    return table[COMPARISON_COLUMNS].reset_index(drop=True)
+
+
+def _cell(value: object) -> str:
+    if value is None or (isinstance(value, float) and pd.isna(value)):
+        return ""
+    if isinstance(value, float):
+        return f"{value:,.2f}"
+    return str(value)
+
+
+def comparison_html(table: pd.DataFrame, options: list[OptionResult]) -> str:
+    """An offline page: the table and each option's longitudinal profile, two per row."""
+    header = "".join(f"<th>{html.escape(c)}</th>" for c in table.columns)
+    body = "".join("<tr>" + "".join(f"<td>{html.escape(_cell(v))}</td>" for v in row)
+                   + "</tr>" for row in table.itertuples(index=False))
+    plots = []
+    for index, option in enumerate(options):
+        outcome = option.outcome
+        if outcome is None or outcome.check is None:
+            reason = option.error or " | ".join(outcome.diagnosis if outcome else [])
+            plots.append(f"<div class='cell'><h3>{html.escape(option.study.title)}</h3>"
+                         f"<p>No design: {html.escape(reason)}</p></div>")
+            continue
+        figure = profile_figure(outcome.check, title=option.study.title)
+        figure.update_layout(height=520, legend={"font": {"size": 9}})
+        plots.append("<div class='cell'>" + figure.to_html(
+            full_html=False, include_plotlyjs=False, div_id=f"plot-{index}") + "</div>")
+    cautions = "".join(f"<li>{html.escape(c)}</li>" for c in CAUTIONS)
+    return f"""<!DOCTYPE html><html lang="en"><head><meta charset="utf-8">
+<title>Comparison of options</title><script>{get_plotlyjs()}</script>
+<style>body{{font-family:Helvetica,Arial,sans-serif;margin:1.5em}}
+table{{border-collapse:collapse;font-size:.85em}}td,th{{border:1px solid #ccc;padding:.2em .5em}}
+th{{background:#f0f0f0}}.grid{{display:grid;grid-template-columns:1fr 1fr;gap:1em}}
+.cautions{{border:2px solid #b8860b;background:#fff8e1;padding:.5em 1em}}
+@media print{{.grid{{grid-template-columns:1fr}}}}</style></head><body>
+<h1>Comparison of options</h1>
+<div class="cautions"><strong>Cautions.</strong><ul>{cautions}</ul></div>
+<h2>Options ranked by capital cost</h2><table><thead><tr>{header}</tr></thead>
+<tbody>{body}</tbody></table>
+<h2>Longitudinal profiles</h2><div class="grid">{''.join(plots)}</div>
+</body></html>"""
