@@ -17,4 +17,14 @@ from optimiser.analysis import CheckResult, check_design
 from optimiser.io import InputError, load_design, load_study
 
 __all__ = ["CheckResult", "InputError", "__version__", "check_design", "load_design",
-           "load_study"]
+           "load_study", "optimise_design"]
+
+
+def __getattr__(name: str):
+    # optimise_design is imported on first use: it brings in pulp and HiGHS, which the
+    # check and the loaders do not need.
+    if name == "optimise_design":
+        from optimiser.milp import optimise_design
+
+        return optimise_design
+    raise AttributeError(f"module 'optimiser' has no attribute {name!r}")

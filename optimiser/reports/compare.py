@@ -15,7 +15,7 @@ from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.charts import profile_figure
 
 COMPARISON_COLUMNS = [
-    "rank", "option", "study", "status", "verified", "total_cost", "currency",
+    "rank", "option", "title", "study", "status", "verified", "total_cost", "currency",
     "cost_per_l_s", "design_flow_l_s", "length_by_dn", "length_by_material", "n_changes",
     "highest_static_head_m", "least_pressure_margin_m", "least_margin_at_m",
     "highest_velocity_m_s", "uniform_option", "uniform_cost", "saving_vs_uniform",
@@ -33,6 +33,12 @@ class OptionResult:
     error: str | None = None
 
 
+def option_name(path: Path) -> str:
+    """A short name for an option: its folder for ``study.toml``, else the file's stem."""
+    path = Path(path)
+    return path.parent.name or path.stem if path.stem == "study" else path.stem
+
+
 def _lengths(pieces: pd.DataFrame, column: str, fmt: str) -> str:
     groups = pieces.groupby(column, sort=False)["length_m"].sum()
     return "; ".join(f"{fmt.format(key)}: {value / 1000:.2f} km" for key, value in
@@ -43,7 +49,8 @@ def comparison_row(option: OptionResult) -> dict:
     study = option.study
     outcome = option.outcome
     design_flow = max(s.outlet_flow_m3_s for s in study.scenarios) * 1000.0
-    row = {"option": study.title, "study": str(option.path), "currency": study.currency,
+    row = {"option": option_name(option.path), "title": study.title,
+           "study": str(option.path), "currency": study.currency,
            "design_flow_l_s": design_flow}
     if outcome is None:
         row.update(status="error", verified=False, diagnosis=option.error or "")
@@ -83,8 +90,9 @@ def comparison_table(options: list[OptionResult]) -> pd.DataFrame:
         if column not in table:
             table[column] = None
     table = table.sort_values("total_cost", na_position="last", kind="stable")
-    table["rank"] = range(1, len(table) + 1)
-    table.loc[table["total_cost"].isna(), "rank"] = None
+    ranks = [str(i) if pd.notna(cost) else "" for i, cost in
+             enumerate(table["total_cost"], start=1)]
+    table["rank"] = ranks
     return table[COMPARISON_COLUMNS].reset_index(drop=True)
 
 
@@ -106,10 +114,10 @@ def comparison_html(table: pd.DataFrame, options: list[OptionResult]) -> str:
         outcome = option.outcome
         if outcome is None or outcome.check is None:
             reason = option.error or " | ".join(outcome.diagnosis if outcome else [])
-            plots.append(f"<div class='cell'><h3>{html.escape(option.study.title)}</h3>"
+            plots.append(f"<div class='cell'><h3>{html.escape(option_name(option.path))}</h3>"
                          f"<p>No design: {html.escape(reason)}</p></div>")
             continue
-        figure = profile_figure(outcome.check, title=option.study.title)
+        figure = profile_figure(outcome.check, title=option_name(option.path))
         figure.update_layout(height=520, legend={"font": {"size": 9}})
         plots.append("<div class='cell'>" + figure.to_html(
             full_html=False, include_plotlyjs=False, div_id=f"plot-{index}") + "</div>")

@@ -6,6 +6,7 @@ function of its input, so serial, ``workers=N`` and a Dask cluster give identica
 
 from __future__ import annotations
 
+import multiprocessing
 from collections.abc import Callable, Sequence
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from typing import Any, TypeVar
@@ -39,11 +40,16 @@ def run_all(function: Callable[[T], R], items: Sequence[T], *, workers: int = 1,
             with Client(dask_address, set_as_default=False) as client:
                 futures = client.map(function, list(items), pure=False)
                 index = {future.key: i for i, future in enumerate(futures)}
-                for future in dask_completed(futures):
+                # The client is not the default one, so as_completed needs its loop.
+                for future in dask_completed(futures, loop=client.loop):
                     results[index[future.key]] = future.result()
                     progress.advance(task)
         elif workers > 1:
-            with ProcessPoolExecutor(max_workers=workers) as pool:
+            # Fresh interpreters, not forks: a fork of a process that has already run
+            # HiGHS inherits its thread pool in a broken state and the child's solve
+            # never returns.
+            with ProcessPoolExecutor(max_workers=workers,
+                                     mp_context=multiprocessing.get_context("spawn")) as pool:
                 futures = {pool.submit(function, item): i for i, item in enumerate(items)}
                 for future in as_completed(futures):
                     results[futures[future]] = future.result()

@@ -1,0 +1,332 @@
+"""``optimise_design``: the cheapest verified design, and why it is cheapest.
+
+Sequence (each step keeps what the last one proved):
+
+1. Diagnosis without a solver (:mod:`optimiser.milp.diagnose`); a finding ends the run
+   as ``infeasible``.
+2. The LP relaxation with the rules relaxed and the velocity-head binaries continuous.
+   Its value (less the largest value of a tie-break term, see below) is the reported
+   ``lp_bound``: no design of the model costs less. The LP is highly degenerate (many
+   arrangements of the same lengths cost the same), so its objective carries a tie-break
+   of relative size about 1e-7 that prefers larger diameters upstream; the solution then
+   has pieces sorted inside every reach instead of spurious alternations.
+3. The LP solution as a design: if it passes the check and the rules and costs within
+   the gap of the bound, it is optimal and no integer programme is needed.
+4. Otherwise mixed-integer programmes of growing size, each warm-started from the best
+   design so far: options restricted to those the LP used near each section; with rules,
+   those a greedy rules repair of the LP design (:mod:`optimiser.milp.repair`) uses
+   near each section, then those the LP used anywhere (and their neighbours in size);
+   then the full model. A stage too large to build and solve in the time left is
+   skipped (recorded in ``stages``). Designs
+   of the reduced models are designs of the full model, so they are valid incumbents;
+   only the full model's bound (or the LP bound) is reported as a bound.
+
+Every design returned has passed :func:`optimiser.analysis.check_design` (the code of
+``optimiser check``) and the rules; a design from an integer programme that fails them
+is a bug and raises :class:`VerificationError`.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from optimiser.analysis import CheckResult, check_design
+from optimiser.milp.data import ProblemData, prepare
+from optimiser.milp.diagnose import diagnose, diagnose_after
+from optimiser.milp.extract import design_from_fractions, rule_problems, section_use
+from optimiser.milp.formulation import Formulation, build, rules_active
+from optimiser.milp.repair import design_mask, repair
+from optimiser.milp.solvers import SOLVERS, SolveReport, relative_gap, solve
+from optimiser.milp.uniform import UniformDesign, cheapest_uniform, uniform_feasible
+from optimiser.model import Design, Study
+
+TIEBREAK_RELATIVE = 1e-7
+
+
+class SolverError(RuntimeError):
+    """The solver failed, or stopped without a design (exit code 3)."""
+
+
+class VerificationError(RuntimeError):
+    """A design from the integer programme failed the check or the rules: a bug."""
+
+
+@dataclass(frozen=True)
+class BindingPoint:
+    """Least pressure margin of a scenario, and its outlet margin."""
+
+    scenario: str
+    chainage_m: float
+    label: str
+    pressure_m: float
+    min_pressure_m: float
+    margin_m: float
+    outlet_margin_m: float
+
+
+@dataclass
+class Stage:
+    """One solve of the sequence, for the record."""
+
+    name: str
+    status: str
+    objective: float | None
+    bound: float | None
+    seconds: float
+    variables: int
+    constraints: int
+    binaries: int
+    message: str = ""
+    build_seconds: float = 0.0
+
+    def as_dict(self) -> dict:
+        return dict(self.__dict__)
+
+
+@dataclass
+class DesignOutcome:
+    status: str
+    """``optimal`` (proven within the gap), ``feasible`` (stopped by the time limit with a
+    design) or ``infeasible``."""
+    design: Design | None
+    check: CheckResult | None
+    total_cost: float | None
+    lower_bound: float | None
+    gap: float | None
+    lp_bound: float | None
+    solve_time_s: float
+    solver_name: str
+    mip_gap: float
+    time_limit_s: float
+    diagnosis: list[str] = field(default_factory=list)
+    uniform: UniformDesign | None = None
+    binding: list[BindingPoint] = field(default_factory=list)
+    stages: list[Stage] = field(default_factory=list)
+    rules_on: bool = False
+
+    @property
+    def verified(self) -> bool:
+        return self.check is not None and self.check.ok and self.design is not None \
+            and not rule_problems(self.check.study, self.design)
+
+    @property
+    def uniform_saving(self) -> float | None:
+        if self.uniform is None or self.total_cost is None:
+            return None
+        return self.uniform.cost - self.total_cost
+
+
+@dataclass
+class _Candidate:
+    design: Design
+    check: CheckResult
+    cost: float
+    source: str
+
+
+def _tiebreak_scale(data: ProblemData) -> float:
+    n = data.n_sections
+    span = max(n - 1, 1)
+    weight = float((data.chainage_length_m * (1.0 - np.arange(n) / span)).sum()
+                   * max(data.n_options - 1, 1))
+    cheapest = float(np.where(data.admissible, data.section_cost, np.inf).min(axis=1).sum())
+    if not math.isfinite(cheapest) or cheapest <= 0 or weight <= 0:
+        return 0.0
+    return TIEBREAK_RELATIVE * cheapest / weight
+
+
+def _size(form: Formulation) -> tuple[int, int]:
+    return form.problem.numVariables(), form.problem.numConstraints()
+
+
+def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndarray:
+    """Options used by the LP in any section overlapping [start - w, end + w]."""
+    chainage = data.node_chainage_m
+    lo = np.searchsorted(chainage, chainage[:-1] - width_m, side="right") - 1
+    hi = np.searchsorted(chainage, chainage[1:] + width_m, side="left")
+    lo = np.clip(lo, 0, data.n_sections)
+    hi = np.clip(hi, 0, data.n_sections)
+    cumulative = np.vstack([np.zeros((1, data.n_options), dtype=int),
+                            np.cumsum(used, axis=0)])
+    return (cumulative[hi] - cumulative[lo]) > 0
+
+
+def _global_mask(data: ProblemData, used: np.ndarray) -> np.ndarray:
+    """Options used anywhere by the LP, with their neighbours in the size order."""
+    chosen = used.any(axis=0)
+    ranks = data.rank[chosen]
+    wanted = set(ranks.tolist()) | set((ranks - 1).tolist()) | set((ranks + 1).tolist())
+    mask = np.isin(data.rank, list(wanted))
+    return np.broadcast_to(mask, used.shape).copy()
+
+
+def optimise_design(study: Study, *, solver_name: str | None = None,
+                    time_limit_s: float | None = None, mip_gap: float | None = None,
+                    msg: bool = False) -> DesignOutcome:
+    """The cheapest design of ``study`` that passes the check and the rules.
+
+    ``solver_name`` ("highs" or "cbc"), ``time_limit_s`` (whole run) and ``mip_gap``
+    (relative) default to the study's [solver] table. Raises :class:`SolverError` when
+    the solver fails or stops without a design, :class:`VerificationError` on a bug.
+    """
+    started = time.perf_counter()
+    solver_name = (solver_name or study.solver.name).lower()
+    if solver_name not in SOLVERS:
+        raise ValueError(f"unknown solver {solver_name!r}; use one of {', '.join(SOLVERS)}")
+    time_limit_s = float(study.solver.time_limit_s if time_limit_s is None else time_limit_s)
+    mip_gap = float(study.solver.mip_gap if mip_gap is None else mip_gap)
+    deadline = started + time_limit_s
+    data = prepare(study)
+    with_rules = rules_active(data)
+
+    def outcome(status: str, **values) -> DesignOutcome:
+        return DesignOutcome(status=status, solve_time_s=time.perf_counter() - started,
+                             solver_name=solver_name, mip_gap=mip_gap,
+                             time_limit_s=time_limit_s, rules_on=with_rules, **values)
+
+    findings = diagnose(data)
+    if findings:
+        return outcome("infeasible", design=None, check=None, total_cost=None,
+                       lower_bound=None, gap=None, lp_bound=None, diagnosis=findings)
+
+    stages: list[Stage] = []
+
+    build_rate = [0.0]  # seconds of model building per (section, option) pair
+
+    def timed_build(mask: np.ndarray | None, **options) -> tuple[Formulation, float]:
+        begun = time.perf_counter()
+        form = build(data, allowed=mask, **options)
+        seconds = time.perf_counter() - begun
+        pairs = int((data.admissible if mask is None else data.admissible & mask).sum())
+        build_rate[0] = max(build_rate[0], seconds / max(pairs, 1))
+        return form, seconds
+
+    def run(name: str, form: Formulation, warm: dict[str, float] | None, share: float,
+            build_seconds: float) -> SolveReport:
+        remaining = deadline - time.perf_counter()
+        report = solve(form, solver_name, time_limit_s=max(remaining * share, 0.5),
+                       mip_gap=mip_gap, warm_start=warm, msg=msg)
+        variables, constraints = _size(form)
+        stages.append(Stage(name, report.status, report.objective, report.bound,
+                            report.seconds, variables, constraints, form.n_binaries,
+                            report.message, build_seconds))
+        return report
+
+    # 2. LP relaxation (rules relaxed) with the tie-break.
+    scale = _tiebreak_scale(data)
+    lp, lp_build = timed_build(None, with_rules=False, relaxed=True, tiebreak=scale)
+    lp_report = run("LP relaxation (rules relaxed)", lp, None, 1.0, lp_build)
+    if lp_report.status == "infeasible":
+        return outcome("infeasible", design=None, check=None, total_cost=None,
+                       lower_bound=None, gap=None, lp_bound=None, stages=stages,
+                       diagnosis=diagnose_after(data, rules_relaxed_feasible=False))
+    if not lp_report.has_solution or lp_report.objective is None:
+        raise SolverError(f"the LP relaxation did not solve ({lp_report.status}: "
+                          f"{lp_report.message})")
+    lp_bound = lp_report.objective - lp.tiebreak_max
+    bound = lp_bound
+    if with_rules and study.costs.change_cost > 0 and not uniform_feasible(data).any():
+        bound += study.costs.change_cost  # every feasible design has a change
+    fractions = lp.fractions()
+    used = fractions > 1e-6
+
+    best: _Candidate | None = None
+
+    def consider(design: Design, source: str, must_pass: bool) -> None:
+        nonlocal best
+        result = check_design(study, design, capacity=False)
+        problems = rule_problems(study, design)
+        if not result.ok or problems:
+            if must_pass:
+                details = [v.message or v.kind for v in result.violations[:5]] + problems[:5]
+                raise VerificationError(
+                    f"the design from '{source}' fails the check (a bug in the "
+                    f"formulation): {'; '.join(details)}")
+            return
+        if best is None or result.total_cost < best.cost - 1e-9 * abs(best.cost):
+            best = _Candidate(design, result, result.total_cost, source)
+
+    def proven() -> bool:
+        return best is not None and (relative_gap(best.cost, bound) or 0.0) <= mip_gap
+
+    # 3. The LP's own design.
+    consider(design_from_fractions(data, fractions), "LP relaxation", must_pass=False)
+
+    # 4. Integer programmes of growing size.
+    full_report: SolveReport | None = None
+    if not proven():
+        median = float(np.median(data.chainage_length_m))
+        width = max(2.0 * study.rules.min_piece_length_m, 3.0 * median)
+        levels: list[tuple[str, np.ndarray | None, float]] = [
+            ("MILP, options the LP used nearby", _window_mask(data, used, width), 0.3)]
+        if with_rules:
+            repaired = repair(data, design_from_fractions(data, fractions))
+            if repaired is not None:
+                consider(repaired, "rules repair", must_pass=False)
+                reach = max(width, 0.02 * study.route.total_chainage_m)
+                levels.append(("MILP, options of the rules-repaired design nearby",
+                               design_mask(data, repaired, reach), 0.3))
+            levels.append(("MILP, options the LP used anywhere and their neighbours",
+                           _global_mask(data, used), 0.4))
+        levels.append(("MILP, full model", None, 1.0))
+        for name, mask, share in levels:
+            if time.perf_counter() > deadline - 0.5 and best is not None:
+                break
+            if mask is not None and (data.admissible & ~mask).sum() == 0:
+                continue  # the reduced model would be the full model
+            pairs = int((data.admissible if mask is None else data.admissible & mask).sum())
+            factor = 4.0 if with_rules else 1.0  # rules add variables per pair
+            if best is not None and build_rate[0] * pairs * factor > \
+                    0.5 * (deadline - time.perf_counter()):
+                stages.append(Stage(name, "skipped", None, None, 0.0, 0, 0, 0,
+                                    "too large to build and solve in the time left"))
+                continue
+            form, seconds = timed_build(mask, with_rules=with_rules)
+            warm = section_use(data, best.design) if best is not None else None
+            report = run(name, form, warm, share, seconds)
+            if report.has_solution:
+                consider(design_from_fractions(data, form.fractions()), name, must_pass=True)
+            if mask is None:
+                full_report = report
+                if report.status == "infeasible":
+                    if best is not None:
+                        raise VerificationError(
+                            "the full model is reported infeasible although a verified "
+                            f"design from '{best.source}' exists (a bug)")
+                    return outcome(
+                        "infeasible", design=None, check=None, total_cost=None,
+                        lower_bound=None, gap=None, lp_bound=lp_bound, stages=stages,
+                        diagnosis=diagnose_after(data, rules_relaxed_feasible=True))
+                if report.bound is not None and math.isfinite(report.bound):
+                    bound = max(bound, report.bound)
+            if proven():
+                break
+
+    if best is None:
+        last = stages[-1] if stages else None
+        raise SolverError("no design found within the time limit "
+                          f"({time_limit_s:g} s; last solver status: "
+                          f"{last.status if last else 'none'})")
+    final = check_design(study, best.design)
+    if not final.ok:
+        raise VerificationError("the returned design fails the final check (a bug)")
+    gap = relative_gap(best.cost, bound)
+    status = "optimal" if gap is not None and gap <= mip_gap else "feasible"
+    if full_report is not None and full_report.status == "optimal" and \
+            best.cost <= (full_report.objective or math.inf) + 1e-9 * abs(best.cost):
+        status = "optimal"  # the solver's own proof (its gap is measured as it defines it)
+    binding = []
+    for scenario in final.scenarios:
+        least = scenario.least_pressure_margin
+        binding.append(BindingPoint(
+            scenario.name, float(least["chainage_m"]), str(least["label"]),
+            float(least["pressure_m"]), float(least["min_pressure_m"]),
+            float(least["pressure_m"] - least["min_pressure_m"]),
+            float(scenario.outlet_margin_m)))
+    return outcome(status, design=best.design, check=final, total_cost=best.cost,
+                   lower_bound=bound, gap=gap, lp_bound=lp_bound,
+                   uniform=cheapest_uniform(data), binding=binding, stages=stages)
