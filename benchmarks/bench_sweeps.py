@@ -28,6 +28,7 @@ from pathlib import Path
 
 import generate  # benchmarks/generate.py, beside this script
 import numpy as np
+from results_file import update_section
 
 import optimiser
 from optimiser.analysis.sensitivity import RoughnessDistribution, monte_carlo
@@ -132,17 +133,8 @@ def section_text(mc: dict, trade: dict) -> str:
 
 def update_results(text: str) -> None:
     """Replace only this script's section of RESULTS.md (append it if missing)."""
-    existing = RESULTS.read_text(encoding="utf-8") if RESULTS.exists() else \
-        "# Benchmark results\n\n"
-    if START in existing and END in existing:
-        head, rest = existing.split(START, 1)
-        _, tail = rest.split(END, 1)
-        updated = head + text.rstrip("\n") + tail
-    else:
-        updated = existing.rstrip("\n") + "\n\n" + text
-    temporary = RESULTS.with_suffix(".md.tmp")
-    temporary.write_text(updated, encoding="utf-8")
-    temporary.replace(RESULTS)
+    body = text.replace(START, "").replace(END, "")
+    update_section(RESULTS, "sweeps", body)
 
 
 def main() -> None:

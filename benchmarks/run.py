@@ -30,6 +30,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 
 from generate import write  # noqa: E402
+from results_file import update_section  # noqa: E402
 
 
 def run_case(study_path: str, solver: str, time_limit_s: float) -> dict:
@@ -252,7 +253,7 @@ def write_results(args, rows: list[dict], ga: dict | None) -> None:
                   f"{ga.get('generations', '-')} generations: best feasible cost "
                   f"{_fmt(ga.get('cost'), ',.0f', 'none found')} (verified by the check: "
                   f"{ga.get('verified')}) against ours {_fmt(ga.get('ours'), ',.0f')}."]
-    args.output.write_text("\n".join(lines) + "\n")
+    update_section(args.output, "design", "\n".join(lines))
     print(f"wrote {args.output}")
 
 

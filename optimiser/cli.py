@@ -28,7 +28,8 @@ error_console = Console(stderr=True)
 
 def fail_input(error: InputError) -> None:
     for problem in error.problems:
-        error_console.print(f"error: {problem}", markup=False, highlight=False)
+        error_console.print(f"error: {problem}", markup=False, highlight=False,
+                            soft_wrap=True)
     raise typer.Exit(EXIT_BAD_INPUT)
 
 
@@ -66,7 +67,8 @@ def design(
     study_path: StudyArgument,
     json_path: JsonOption = None,
     out_dir: Annotated[Path | None, typer.Option(
-        "--out", help="Folder for design.csv and result.json (created if missing).")] = None,
+        "--out", help="Folder for design.csv, result.json, report.html and "
+        "appurtenances.csv (created if missing).")] = None,
     solver: Annotated[str | None, typer.Option(
         "--solver", help="highs or cbc (default: the study's [solver] name).")] = None,
     time_limit_s: Annotated[float | None, typer.Option(
@@ -77,6 +79,7 @@ def design(
     """Cheapest verified telescoping design (MILP): schedule, cost, bound and gap."""
     from optimiser.milp import SolverError, VerificationError, optimise_design
     from optimiser.reports.design_report import design_dict, design_table, print_design
+    from optimiser.reports.files import design_info, write_report_files
 
     try:
         problems = []
@@ -99,7 +102,8 @@ def design(
         outcome = optimise_design(study, solver_name=solver, time_limit_s=time_limit_s,
                                   mip_gap=gap)
     except (SolverError, VerificationError) as error:
-        error_console.print(f"error: {error}", markup=False, highlight=False)
+        error_console.print(f"error: {error}", markup=False, highlight=False,
+                            soft_wrap=True)
         raise typer.Exit(EXIT_SOLVER) from None
     payload = design_dict(outcome, study)
     try:
@@ -110,11 +114,23 @@ def design(
             if outcome.design is not None:
                 write_csv(folder / "design.csv", design_table(outcome))
             write_json(folder / "result.json", payload)
+            if outcome.check is not None:
+                write_report_files(folder, outcome.check, design_info(outcome))
     except InputError as error:
         fail_input(error)
     print_design(console, outcome, study)
     print_cautions(console)
     raise typer.Exit(EXIT_OK if outcome.verified else EXIT_VIOLATION)
+
+
+# Commands kept in their own modules; imported last because they use the helpers above.
+from optimiser.cli_reports import compare, report  # noqa: E402
+from optimiser.cli_sweeps import sensitivity, tradeoff  # noqa: E402
+
+app.command()(report)
+app.command()(compare)
+app.command()(tradeoff)
+app.command()(sensitivity)
 
 
 def main() -> None:

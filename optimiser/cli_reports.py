@@ -24,7 +24,13 @@ from optimiser.cli import (
     fail_input,
 )
 from optimiser.io import InputError, load_design, load_study
-from optimiser.io.writers import atomic_write_text, prepare_out_dir, write_csv, write_workbook
+from optimiser.io.writers import (
+    atomic_write_text,
+    prepare_out_dir,
+    write_csv,
+    write_json,
+    write_workbook,
+)
 from optimiser.milp import SolverError, VerificationError, optimise_design
 from optimiser.reports.compare import (
     OptionResult,
@@ -32,6 +38,7 @@ from optimiser.reports.compare import (
     comparison_table,
     option_name,
 )
+from optimiser.reports.design_report import design_dict, design_table
 from optimiser.reports.files import design_info, write_report_files
 from optimiser.reports.terminal import print_cautions, print_check
 from optimiser.sweeps.runner import run_all
@@ -133,10 +140,10 @@ def compare(
             if outcome is None or outcome.check is None:
                 continue
             folder = prepare_out_dir(out / slug)
-            pieces = outcome.check.pieces
-            write_csv(folder / "design.csv", pieces)
+            write_csv(folder / "design.csv", design_table(outcome))
+            write_json(folder / "result.json", design_dict(outcome, option.study))
             write_report_files(folder, outcome.check, design_info(outcome))
-            schedules[slug] = pieces
+            schedules[slug] = outcome.check.pieces
         write_csv(out / "comparison.csv", table)
         write_workbook(out / "comparison.xlsx", schedules)
         atomic_write_text(out / "comparison.html", comparison_html(table, options))

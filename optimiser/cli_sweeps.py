@@ -11,8 +11,9 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Callable
 from pathlib import Path
-from typing import Annotated
+from typing import Annotated, TypeVar
 
 import numpy as np
 import typer
@@ -43,6 +44,7 @@ from optimiser.sweeps.robust import roughness_runs
 from optimiser.sweeps.tradeoff import STATUS_FAILED, tradeoff_with_study_point
 from optimiser.sweeps.variants import VARIABLES
 
+T = TypeVar("T")
 _LEVEL = re.compile(r"^\s*([-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?)\s*(m)?\s*$")
 
 StudyArgument = Annotated[Path, typer.Argument(help="Study file (TOML).", show_default=False)]
@@ -151,8 +153,22 @@ def _progress_console():
     return error_console if error_console.is_terminal else None
 
 
-def _dask_unreachable(address: str, error: BaseException) -> InputError:
-    return InputError(f"--dask {address}: cannot use the Dask scheduler there ({error})")
+def _spread(dask_address: str | None, run: Callable[[], T]) -> T:
+    """``run()``; on a Dask cluster, a scheduler that cannot be reached is bad usage
+    (exit 2) and a failure on the cluster (e.g. a worker without this package) exits 3
+    with its message instead of a traceback."""
+    if dask_address is None:
+        return run()
+    try:
+        return run()
+    except (OSError, TimeoutError) as error:
+        fail_input(InputError(f"--dask {dask_address}: cannot use the Dask scheduler there "
+                              f"({error})"))
+    except Exception as error:  # anything raised on the cluster's workers
+        error_console.print(f"error: the run on the Dask cluster at {dask_address} failed: "
+                            f"{type(error).__name__}: {error}", markup=False, highlight=False)
+        raise typer.Exit(EXIT_SOLVER) from None
+    raise AssertionError("unreachable")
 
 
 def _solver_options(solver: str | None, time_limit_s: float | None,
@@ -226,14 +242,9 @@ def tradeoff(
         fail_input(InputError(problems))
     assert study is not None and low is not None and high is not None
     values = np.linspace(low, high, steps)
-    try:
-        result = tradeoff_with_study_point(
-            study, variable, values.tolist(), workers=workers, dask_address=dask_address,
-            console=_progress_console(), **_solver_options(solver, time_limit_s, mip_gap))
-    except (OSError, TimeoutError) as error:
-        if dask_address is None:
-            raise
-        fail_input(_dask_unreachable(dask_address, error))
+    result = _spread(dask_address, lambda: tradeoff_with_study_point(
+        study, variable, values.tolist(), workers=workers, dask_address=dask_address,
+        console=_progress_console(), **_solver_options(solver, time_limit_s, mip_gap)))
     print_tradeoff(console, result, study)
     try:
         prepare_out_dir(out_dir)
@@ -376,15 +387,10 @@ def sensitivity(
         fail_input(InputError(problems))
     assert study is not None
     values = np.linspace(roughness_from_mm, roughness_to_mm, steps)
-    try:
-        runs = roughness_runs(
-            study, values.tolist(), nominal=given is None, robust=robust,
-            reoptimise=reoptimise, workers=workers, dask_address=dask_address,
-            console=_progress_console(), **_solver_options(solver, time_limit_s, mip_gap))
-    except (OSError, TimeoutError) as error:
-        if dask_address is None:
-            raise
-        fail_input(_dask_unreachable(dask_address, error))
+    runs = _spread(dask_address, lambda: roughness_runs(
+        study, values.tolist(), nominal=given is None, robust=robust,
+        reoptimise=reoptimise, workers=workers, dask_address=dask_address,
+        console=_progress_console(), **_solver_options(solver, time_limit_s, mip_gap)))
 
     notes: list[str] = []
     fixed = given

@@ -5,7 +5,10 @@ Each check below is a property of the problem, not a number:
 
 - more available head (a higher source, a lower required outlet head) can only enlarge
   the set of feasible designs, so the least cost cannot rise and a step that is
-  feasible stays feasible as head grows: common practice, no source;
+  feasible stays feasible as head grows: common practice, no source. A higher intake
+  also raises the top water level and so the static head on every pipe; the property
+  holds for the source level only while no pressure class binds, which the test checks
+  first;
 - with no minimum velocity, more flow means more friction loss in every pipe (Darcy-
   Weisbach with Colebrook, C.F. (1939), Turbulent flow in pipes, J. Inst. Civil Eng. 11),
   so the feasible set shrinks and the least cost cannot fall: common practice, no source.
@@ -40,6 +43,10 @@ def _non_increasing(costs: np.ndarray) -> bool:
 
 def test_cost_non_increasing_as_source_level_rises(study):
     values = [197.0, 200.0, 203.0, 208.0, 215.0]
+    # Premise: at the highest intake the static head stays below every class's limit.
+    top_water_m = study.source.top_water_level_m + (values[-1] - study.source.level_m)
+    static_m = top_water_m - study.route.pipe_level_m.min() + study.surge_allowance_m
+    assert static_m < study.catalogue.allowable_head_m.min()
     table = tradeoff(study, "source-level", values, mip_gap=GAP)
     assert list(table.columns) == COLUMNS
     assert table["value"].tolist() == values  # every step kept, in order

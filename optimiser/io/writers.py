@@ -33,6 +33,13 @@ def json_safe(value: Any) -> Any:
     return value
 
 
+def _umask_mode() -> int:
+    """Permissions a plain ``open`` would give a new file (mkstemp makes them 0600)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
 def atomic_write_text(path: Path, text: str) -> None:
     """Write a file whole or not at all (temporary file in the same folder, then rename)."""
     path = Path(path)
@@ -45,6 +52,7 @@ def atomic_write_text(path: Path, text: str) -> None:
     try:
         with os.fdopen(descriptor, "w", encoding="utf-8", newline="") as handle:
             handle.write(text)
+        os.chmod(temporary, _umask_mode())
         os.replace(temporary, path)
     except BaseException:
         Path(temporary).unlink(missing_ok=True)
@@ -95,6 +103,7 @@ def write_workbook(path: Path, sheets: dict[str, pd.DataFrame]) -> None:
         with pd.ExcelWriter(temporary, engine="openpyxl") as writer:
             for name, table in sheets.items():
                 table.to_excel(writer, sheet_name=sheet_name(name, taken), index=False)
+        os.chmod(temporary, _umask_mode())
         os.replace(temporary, path)
     except BaseException:
         Path(temporary).unlink(missing_ok=True)

@@ -272,7 +272,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                                design_mask(data, repaired, reach), 0.3))
             levels.append(("MILP, options the LP used anywhere and their neighbours",
                            _global_mask(data, used), 0.4))
-        levels.append(("MILP, full model", None, 1.0))
+        levels.append(("MILP, full model", None, 0.85))  # leave time to verify
         for name, mask, share in levels:
             if time.perf_counter() > deadline - 0.5 and best is not None:
                 break
@@ -314,6 +314,9 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     final = check_design(study, best.design)
     if not final.ok:
         raise VerificationError("the returned design fails the final check (a bug)")
+    # A valid bound cannot exceed the cost of a design the model admits; a solver's
+    # reported dual bound can, within its feasibility tolerances. Cap it there.
+    bound = min(bound, best.cost)
     gap = relative_gap(best.cost, bound)
     status = "optimal" if gap is not None and gap <= mip_gap else "feasible"
     if full_report is not None and full_report.status == "optimal" and \

@@ -410,6 +410,10 @@ def print_sensitivity(console: Console, result: SensitivityResult) -> None:
         _print_sweep(console, *_sweep_terminal_table(
             "Re-optimised least cost at each roughness", runs.reoptimised, "roughness",
             lambda v: f"{v:g} mm", currency))
+        infeasible = int((runs.reoptimised["status"] == "infeasible").sum())
+        if infeasible:
+            console.print(f"[red]{infeasible} roughness step(s) infeasible[/red]: "
+                          f"{INFEASIBLE_NOTE}")
     if runs.nominal is not None:
         row = runs.nominal.row
         console.print(f"Nominal design (study as written): {row['status']}, "
