@@ -70,7 +70,7 @@ def design(
         "--out", help="Folder for design.csv, result.json, report.html and "
         "appurtenances.csv (created if missing).")] = None,
     solver: Annotated[str | None, typer.Option(
-        "--solver", help="highs or cbc (default: the study's [solver] name).")] = None,
+        "--solver", help="highs or cbc (default: the study's solver name).")] = None,
     time_limit_s: Annotated[float | None, typer.Option(
         "--time-limit", help="Time limit of the whole run [s] (default: the study's).")] = None,
     gap: Annotated[float | None, typer.Option(

@@ -81,11 +81,16 @@ def _read_design_info(path: Path) -> dict:
     if not isinstance(data, dict) or "status" not in data:
         raise InputError(f"{path}: not a result written by `optimiser design` (no status)")
     uniform = data.get("uniform")
+    if isinstance(uniform, dict) and "cost" in uniform:
+        label = uniform.get("label") or (f"{uniform.get('material', '')} "
+                                         f"DN{uniform.get('dn_mm', 0):g} "
+                                         f"{uniform.get('pressure_class', '')}")
+        uniform = {"label": label, "cost": uniform["cost"]}
+    else:
+        uniform = None
     return {key: data.get(key) for key in ("status", "gap", "lower_bound", "lp_bound",
                                            "solve_time_s")} | {
-        "solver": data.get("solver"),
-        "uniform": uniform if isinstance(uniform, dict) and "cost" in uniform
-        and "label" in uniform else None}
+        "solver": data.get("solver"), "uniform": uniform}
 
 
 def _design_option(path: Path) -> OptionResult:

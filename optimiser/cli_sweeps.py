@@ -56,7 +56,7 @@ DaskOption = Annotated[str | None, typer.Option(
     "--dask", help="Address of an existing Dask scheduler to run the solves on, e.g. "
     "tcp://127.0.0.1:8786.", show_default=False)]
 SolverOption = Annotated[str | None, typer.Option(
-    "--solver", help="highs or cbc (default: the study's [solver] name).", show_default=False)]
+    "--solver", help="highs or cbc (default: the study's solver name).", show_default=False)]
 TimeLimitOption = Annotated[float | None, typer.Option(
     "--time-limit", help="Seconds per solve (default: the study's).", show_default=False)]
 GapOption = Annotated[float | None, typer.Option(
