@@ -195,14 +195,17 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
 
     stages: list[Stage] = []
 
-    build_rate = [0.0]  # seconds of model building per (section, option) pair
+    # Seconds of model building per (section, option) pair, measured separately for
+    # models with and without the rules (the rules add variables per pair).
+    build_rate: dict[bool, float] = {}
 
     def timed_build(mask: np.ndarray | None, **options) -> tuple[Formulation, float]:
         begun = time.perf_counter()
         form = build(data, allowed=mask, **options)
         seconds = time.perf_counter() - begun
         pairs = int((data.admissible if mask is None else data.admissible & mask).sum())
-        build_rate[0] = max(build_rate[0], seconds / max(pairs, 1))
+        rules = bool(options.get("with_rules"))
+        build_rate[rules] = max(build_rate.get(rules, 0.0), seconds / max(pairs, 1))
         return form, seconds
 
     def run(name: str, form: Formulation, warm: dict[str, float] | None, share: float,
@@ -279,9 +282,11 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
             if mask is not None and (data.admissible & ~mask).sum() == 0:
                 continue  # the reduced model would be the full model
             pairs = int((data.admissible if mask is None else data.admissible & mask).sum())
-            factor = 4.0 if with_rules else 1.0  # rules add variables per pair
-            if best is not None and build_rate[0] * pairs * factor > \
-                    0.5 * (deadline - time.perf_counter()):
+            if with_rules in build_rate:
+                rate = build_rate[with_rules]
+            else:  # only the LP built so far: rules add about 4x the work per pair
+                rate = build_rate.get(False, 0.0) * (4.0 if with_rules else 1.0)
+            if best is not None and rate * pairs > 0.5 * (deadline - time.perf_counter()):
                 stages.append(Stage(name, "skipped", None, None, 0.0, 0, 0, 0,
                                     "too large to build and solve in the time left"))
                 continue
