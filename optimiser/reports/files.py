@@ -34,5 +34,6 @@ def write_report_files(out_dir: Path, result: CheckResult,
     report = Path(out_dir) / "report.html"
     table = Path(out_dir) / "appurtenances.csv"
     atomic_write_text(report, render_report(result, items, info))
-    write_csv(table, pd.DataFrame([a.as_dict() for a in items], columns=APPURTENANCE_COLUMNS))
+    frame = pd.DataFrame([a.as_dict() for a in items], columns=APPURTENANCE_COLUMNS)
+    write_csv(table, frame.round({"chainage_m": 2, "pipe_level_m": 3, "ground_m": 3}))
     return [report, table]
