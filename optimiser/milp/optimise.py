@@ -155,6 +155,24 @@ def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndar
     return (cumulative[hi] - cumulative[lo]) > 0
 
 
+NEIGHBOURHOOD = "MILP, neighbourhood of the best design"
+
+
+def _neighbour_mask(data: ProblemData, design: Design, width_m: float, radius: int
+                    ) -> np.ndarray:
+    """Options the design uses near each section, and those within ``radius`` places of
+    them in the size order."""
+    base = design_mask(data, design, width_m)
+    by_rank = base[:, data.order]
+    widened = by_rank.copy()
+    for shift in range(1, radius + 1):
+        widened[:, shift:] |= by_rank[:, :-shift]
+        widened[:, :-shift] |= by_rank[:, shift:]
+    mask = np.empty_like(base)
+    mask[:, data.order] = widened
+    return mask & data.admissible
+
+
 def _global_mask(data: ProblemData, used: np.ndarray) -> np.ndarray:
     """Options used anywhere by the LP, with their neighbours in the size order."""
     chosen = used.any(axis=0)
@@ -276,7 +294,14 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
             levels.append(("MILP, options the LP used anywhere and their neighbours",
                            _global_mask(data, used), 0.4))
         levels.append(("MILP, full model", None, 0.85))  # leave time to verify
-        for name, mask, share in levels:
+        # Large-neighbourhood search with the rules on: small models around the best
+        # design so far, widened in size while they stop improving. Each is a
+        # restriction of the full model, so its designs are valid incumbents.
+        neighbourhood = {"radius": 1, "left": 25 if with_rules else 0, "cost": math.inf}
+        reach_m = max(width, 0.02 * study.route.total_chainage_m)
+        starts_search = {"MILP, options of the rules-repaired design nearby"}
+        while levels:
+            name, mask, share = levels.pop(0)
             if time.perf_counter() > deadline - 0.5 and best is not None:
                 break
             if mask is not None and (data.admissible & ~mask).sum() == 0:
@@ -310,6 +335,17 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                     bound = max(bound, report.bound)
             if proven():
                 break
+            searching = name in starts_search or name.startswith(NEIGHBOURHOOD)
+            if searching and best is not None and neighbourhood["left"] > 0:
+                if best.cost >= neighbourhood["cost"] - 1e-9 * abs(best.cost):
+                    neighbourhood["radius"] += 1  # no gain: look further in size
+                neighbourhood["cost"] = best.cost
+                if neighbourhood["radius"] <= 3:
+                    neighbourhood["left"] -= 1
+                    radius = neighbourhood["radius"]
+                    levels.insert(0, (f"{NEIGHBOURHOOD} (size radius {radius})",
+                                      _neighbour_mask(data, best.design, reach_m, radius),
+                                      0.15))
 
     if best is None:
         last = stages[-1] if stages else None
