@@ -156,6 +156,7 @@ def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndar
 
 
 NEIGHBOURHOOD = "MILP, neighbourhood of the best design"
+RESTRICTED_GAP = 1e-4
 
 
 def _neighbour_mask(data: ProblemData, design: Design, width_m: float, radius: int
@@ -227,10 +228,11 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
         return form, seconds
 
     def run(name: str, form: Formulation, warm: dict[str, float] | None, share: float,
-            build_seconds: float) -> SolveReport:
+            build_seconds: float, stage_gap: float | None = None) -> SolveReport:
         remaining = deadline - time.perf_counter()
         report = solve(form, solver_name, time_limit_s=max(remaining * share, 0.5),
-                       mip_gap=mip_gap, warm_start=warm, msg=msg)
+                       mip_gap=mip_gap if stage_gap is None else stage_gap,
+                       warm_start=warm, msg=msg)
         variables, constraints = _size(form)
         stages.append(Stage(name, report.status, report.objective, report.bound,
                             report.seconds, variables, constraints, form.n_binaries,
@@ -317,7 +319,10 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 continue
             form, seconds = timed_build(mask, with_rules=with_rules)
             warm = section_use(data, best.design) if best is not None else None
-            report = run(name, form, warm, share, seconds)
+            # A restricted model only supplies designs: solve it tightly (it is small),
+            # or a loose target gap would stop it at designs worse than its start.
+            report = run(name, form, warm, share, seconds,
+                         None if mask is None else min(mip_gap, RESTRICTED_GAP))
             if report.has_solution:
                 consider(design_from_fractions(data, form.fractions()), name, must_pass=True)
             if mask is None:
