@@ -16,7 +16,7 @@ from scipy.optimize import brentq
 
 from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, inflow_m3_s
 from optimiser.analysis.grid import Grid, design_grid
-from optimiser.hydraulics.gradeline import energy_along_chain
+from optimiser.hydraulics.gradeline import energy_along_chain, final_point_loss_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.model import Design, Scenario, Study
 
@@ -118,7 +118,7 @@ class _DesignHydraulics:
             scenario.source_level_m, study.source.entrance_k, self.grid.segment_length_m,
             gradient, study.local_k_per_km, velocity, self.node_point_k)
         last_head = float(velocity_head_m(velocity[-1]))
-        final_loss = float(self.node_point_k[-1]) * last_head
+        final_loss = final_point_loss_m(self.node_point_k, velocity)
         outlet = float(end[-1]) - final_loss - study.outlet.exit_k * last_head
         return _ScenarioArrays(flow, velocity, gradient, start, end, final_loss, outlet)
 

@@ -88,15 +88,6 @@ class Route:
     def is_chain(self) -> bool:
         return bool(np.all(self.parent == np.arange(-1, self.n_sections - 1)))
 
-    def node_at(self, chainage_m: float) -> int:
-        """Index of the node at a chainage (the loader puts one at every offtake/fitting)."""
-        index = int(np.searchsorted(self.chainage_m, chainage_m))
-        if index >= len(self.chainage_m) or not np.isclose(
-            self.chainage_m[index], chainage_m, rtol=0.0, atol=1e-6
-        ):
-            raise KeyError(f"no node at chainage {chainage_m} m")
-        return index
-
     def pipe_level_at(self, chainage_m: np.ndarray) -> np.ndarray:
         """Pipe level [m] at any chainages, linear between nodes."""
         return np.interp(chainage_m, self.chainage_m, self.pipe_level_m)
