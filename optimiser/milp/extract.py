@@ -43,10 +43,10 @@ def design_from_fractions(data: ProblemData, fractions: np.ndarray) -> Design:
     return Design(tuple(pieces)).merged()
 
 
-def section_use(data: ProblemData, design: Design) -> dict[str, float]:
+def section_use(data: ProblemData, design: Design) -> dict[tuple[str, int, int], float]:
     """Values of the model's ``x`` and ``y`` for a design laid in section order (for a
     warm start): fraction of each section's chainage per option, and use indicators."""
-    values: dict[str, float] = {}
+    values: dict[tuple[str, int, int], float] = {}
     catalogue = data.study.catalogue
     chainage = data.node_chainage_m
     for piece in design.pieces:
@@ -58,9 +58,9 @@ def section_use(data: ProblemData, design: Design) -> dict[str, float]:
             overlap = min(piece.to_m, chainage[s + 1]) - max(piece.from_m, chainage[s])
             if overlap <= 0:
                 continue
-            name = f"x_{s}_{j}"
-            values[name] = values.get(name, 0.0) + overlap / (chainage[s + 1] - chainage[s])
-            values[f"y_{s}_{j}"] = 1.0
+            key = ("x", s, j)
+            values[key] = values.get(key, 0.0) + overlap / (chainage[s + 1] - chainage[s])
+            values["y", s, j] = 1.0
     return values
 
 

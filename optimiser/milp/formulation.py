@@ -1,4 +1,7 @@
-"""The split-pipe programme in pulp, with the rules as mixed-integer constraints.
+"""The split-pipe programme, with the rules as mixed-integer constraints.
+
+The model is written as arrays (:mod:`optimiser.milp.matrix`) and solved by HiGHS or CBC
+(:mod:`optimiser.milp.solvers`).
 
 Model (what "cheapest" is proven over)
 --------------------------------------
@@ -70,14 +73,17 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-import pulp
 
 from optimiser.milp.data import ProblemData
+from optimiser.milp.matrix import Affine, LinearModel, Term, var
 
 MARGIN_M = 1e-5
 """Safety margin [m] (0.01 mm) on every pressure and on the outlet head."""
 LENGTH_MARGIN_M = 1e-3
 """Safety margin [m] on the minimum piece length."""
+
+WarmStart = dict[tuple[str, int, int], float]
+"""Values of ``x`` and ``y`` by (kind, section, option), from a design (a warm start)."""
 
 
 def rules_active(data: ProblemData) -> bool:
@@ -90,41 +96,42 @@ def rules_active(data: ProblemData) -> bool:
 
 @dataclass
 class Formulation:
-    """A built pulp problem and handles on its decision variables."""
+    """A built model and the columns of its decision variables."""
 
-    problem: pulp.LpProblem
+    model: LinearModel
     data: ProblemData
     allowed: np.ndarray
     with_rules: bool
     relaxed: bool
-    x: dict[tuple[int, int], pulp.LpVariable] = field(default_factory=dict)
-    y: dict[tuple[int, int], pulp.LpVariable] = field(default_factory=dict)
+    x: dict[tuple[int, int], int] = field(default_factory=dict)
+    y: dict[tuple[int, int], int] = field(default_factory=dict)
     objective_offset: float = 0.0
     """Constant to add to the solver's objective and bound (the -1 of changes)."""
     tiebreak_max: float = 0.0
     """Largest value the tie-break term can take (to turn the objective into a bound)."""
     n_binaries: int = 0
+    values: np.ndarray | None = None
+    """Column values of the last solution (set by the solver)."""
 
     def fractions(self) -> np.ndarray:
         """Solved fractions x[s, j] as an (n, m) array (clipped to [0, 1])."""
         out = np.zeros((self.data.n_sections, self.data.n_options))
-        for (s, j), var in self.x.items():
-            value = var.varValue
-            out[s, j] = 0.0 if value is None else min(max(value, 0.0), 1.0)
+        if self.values is None:
+            return out
+        for (s, j), column in self.x.items():
+            out[s, j] = min(max(float(self.values[column]), 0.0), 1.0)
         return out
 
-    def used(self) -> dict[str, float]:
-        """Values of the binaries y by name (for a warm start of a larger model)."""
-        return {var.name: (var.varValue or 0.0) for var in self.y.values()}
-
-
-def _expr(terms: list[tuple[pulp.LpVariable, float]], constant: float = 0.0
-          ) -> pulp.LpAffineExpression:
-    """An affine expression; repeated variables are summed (pulp would keep the last)."""
-    coefficients: dict[pulp.LpVariable, float] = {}
-    for var, coefficient in terms:
-        coefficients[var] = coefficients.get(var, 0.0) + coefficient
-    return pulp.LpAffineExpression(list(coefficients.items()), constant=constant)
+    def warm_columns(self, warm: WarmStart) -> tuple[np.ndarray, np.ndarray]:
+        """Column indices and values of a warm start (entries the model lacks dropped)."""
+        columns: list[int] = []
+        values: list[float] = []
+        for (kind, s, j), value in warm.items():
+            column = (self.x if kind == "x" else self.y).get((s, j))
+            if column is not None:
+                columns.append(column)
+                values.append(value)
+        return np.array(columns, dtype=np.int32), np.array(values, dtype=float)
 
 
 def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: bool = True,
@@ -141,10 +148,9 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
     study = data.study
     n, m = data.n_sections, data.n_options
     mask = data.admissible if allowed is None else data.admissible & allowed
-    form = Formulation(pulp.LpProblem("pipe_design", pulp.LpMinimize), data, mask,
-                       with_rules, relaxed)
-    problem = form.problem
-    category = pulp.LpContinuous if relaxed else pulp.LpBinary
+    model = LinearModel()
+    form = Formulation(model, data, mask, with_rules, relaxed)
+    integer = not relaxed
     orders = [data.section_order(s, mask) for s in range(n)]
     scenarios = range(data.n_scenarios)
     heads = data.velocity_head_m
@@ -170,14 +176,10 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
         need_last[:] = True
     need_last |= need_interior
 
-    def add(expr: pulp.LpAffineExpression, sense: int, rhs: float, name: str) -> None:
-        problem.addConstraint(pulp.LpConstraint(expr, sense, rhs=rhs, name=name))
-
     # Fractions, use binaries, first/last staircases.
-    first_frac: list[dict[int, pulp.LpAffineExpression]] = [{} for _ in range(n)]
-    last_frac: list[dict[int, pulp.LpAffineExpression]] = [{} for _ in range(n)]
-    cl_vars: list[list[pulp.LpVariable]] = [[] for _ in range(n)]
-    objective: list[tuple[pulp.LpVariable, float]] = []
+    first_frac: list[dict[int, Affine]] = [{} for _ in range(n)]
+    last_frac: list[dict[int, Affine]] = [{} for _ in range(n)]
+    cl_cols: list[list[int]] = [[] for _ in range(n)]
     span = max(n - 1, 1)
     for s in range(n):
         order = orders[s]
@@ -185,65 +187,53 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
             raise ValueError(f"section {s} has no admissible option")
         xs = []
         for j in order:
-            var = problem.add_variable(f"x_{s}_{j}", 0.0, 1.0)
-            form.x[s, j] = var
-            xs.append(var)
             cost = float(data.section_cost[s, j])
             if tiebreak > 0:
-                weight = tiebreak * data.chainage_length_m[s] * (1.0 - s / span) \
-                    * data.rank[j]
-                form.tiebreak_max += tiebreak * data.chainage_length_m[s] * (1.0 - s / span) \
-                    * (m - 1)
-                cost += weight
-            objective.append((var, cost))
-        add(_expr([(v, 1.0) for v in xs]), pulp.LpConstraintEQ, 1.0, f"sum_{s}")
+                weight = tiebreak * data.chainage_length_m[s] * (1.0 - s / span)
+                form.tiebreak_max += weight * (m - 1)
+                cost += weight * data.rank[j]
+            column = model.add_column(0.0, 1.0, cost)
+            form.x[s, j] = column
+            xs.append(column)
+        model.equal(Affine([(c, 1.0) for c in xs]), 1.0)
         if not (need_first[s] or need_last[s]):
             continue
         ys = []
-        for j, xv in zip(order, xs, strict=True):
-            yv = problem.add_variable(f"y_{s}_{j}", 0.0, 1.0, cat=category)
-            form.y[s, j] = yv
-            ys.append(yv)
-            add(_expr([(xv, 1.0), (yv, -1.0)]), pulp.LpConstraintLE, 0.0, f"xy_{s}_{j}")
+        for j, xc in zip(order, xs, strict=True):
+            yc = model.add_column(0.0, 1.0, integer=integer)
+            form.y[s, j] = yc
+            ys.append(yc)
+            model.add_row([(xc, 1.0), (yc, -1.0)], upper=0.0)
         count = len(order)
         if need_first[s]:
-            cf = [problem.add_variable(f"cf_{s}_{t}", 0.0, 1.0) for t in range(count)]
-            cf[-1].lowBound = 1.0
+            cf = [model.add_column(1.0 if t == count - 1 else 0.0, 1.0) for t in range(count)]
             for t in range(count):
-                previous = [(cf[t - 1], -1.0)] if t > 0 else []
+                previous: list[Term] = [(cf[t - 1], -1.0)] if t > 0 else []
                 # increment of CF only where the option is used; CF covers every use
-                add(_expr([(cf[t], 1.0), *previous, (ys[t], -1.0)]), pulp.LpConstraintLE,
-                    0.0, f"cfu_{s}_{t}")
-                add(_expr([(ys[t], 1.0), (cf[t], -1.0)]), pulp.LpConstraintLE, 0.0,
-                    f"cfy_{s}_{t}")
+                model.add_row([(cf[t], 1.0), *previous, (ys[t], -1.0)], upper=0.0)
+                model.add_row([(ys[t], 1.0), (cf[t], -1.0)], upper=0.0)
                 if t > 0:
-                    add(_expr([(cf[t], 1.0), (cf[t - 1], -1.0)]), pulp.LpConstraintGE, 0.0,
-                        f"cfm_{s}_{t}")
-                first_frac[s][order[t]] = _expr([(cf[t], 1.0), *previous])
+                    model.add_row([(cf[t], 1.0), (cf[t - 1], -1.0)], lower=0.0)
+                first_frac[s][order[t]] = Affine([(cf[t], 1.0), *previous])
         if need_last[s]:
-            cl = [problem.add_variable(f"cl_{s}_{t}", 0.0, 1.0) for t in range(count)]
-            cl[0].lowBound = 1.0
-            cl_vars[s] = cl
+            cl = [model.add_column(1.0 if t == 0 else 0.0, 1.0) for t in range(count)]
+            cl_cols[s] = cl
             for t in range(count):
-                following = [(cl[t + 1], -1.0)] if t + 1 < count else []
-                add(_expr([(cl[t], 1.0), *following, (ys[t], -1.0)]), pulp.LpConstraintLE,
-                    0.0, f"clu_{s}_{t}")
-                add(_expr([(ys[t], 1.0), (cl[t], -1.0)]), pulp.LpConstraintLE, 0.0,
-                    f"cly_{s}_{t}")
+                following: list[Term] = [(cl[t + 1], -1.0)] if t + 1 < count else []
+                model.add_row([(cl[t], 1.0), *following, (ys[t], -1.0)], upper=0.0)
+                model.add_row([(ys[t], 1.0), (cl[t], -1.0)], upper=0.0)
                 if t + 1 < count:
-                    add(_expr([(cl[t], 1.0), (cl[t + 1], -1.0)]), pulp.LpConstraintGE, 0.0,
-                        f"clm_{s}_{t}")
-                last_frac[s][order[t]] = _expr([(cl[t], 1.0), *following])
+                    model.add_row([(cl[t], 1.0), (cl[t + 1], -1.0)], lower=0.0)
+                last_frac[s][order[t]] = Affine([(cl[t], 1.0), *following])
 
-    def head_of(k: int, s: int, fractions: dict[int, pulp.LpAffineExpression]
-                ) -> pulp.LpAffineExpression:
-        expr = pulp.LpAffineExpression()
+    def head_of(k: int, s: int, fractions: dict[int, Affine]) -> Affine:
+        expr = Affine()
         for j, frac in fractions.items():
-            expr.addInPlace(frac * float(heads[k, s, j]))
+            expr.add_in_place(frac, float(heads[k, s, j]))
         return expr
 
-    # Energy. E_end[k][s] is an expression: a variable where a constraint needs it,
-    # else the running sum from the last such variable (keeps rows short).
+    # Energy. The running energy is a list of terms plus a constant; a column e[k, s]
+    # replaces it where a constraint needs it (see need_end), which keeps rows short.
     need_end = np.zeros(n, dtype=bool)
     need_end[n - 1] = True
     for s in range(n - 1):
@@ -252,75 +242,66 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
     margin = MARGIN_M
     route_min = study.min_pressure_m
     for k in scenarios:
-        # Running energy as a list of terms plus a constant; turned into an expression
-        # only where a constraint needs it (then it is short, see need_end).
-        terms: list[tuple[pulp.LpVariable, float]] = []
-        constant = float(data.source_level_m[k])
+        running = Affine([], float(data.source_level_m[k]))
         for s in range(n):
             order = orders[s]
             k_start = k_node[s] + (entrance_k if s == 0 else 0.0)
             head_first = head_of(k, s, last_frac[s]) if last_frac[s] else None
             if k_start > 0:
                 assert head_first is not None
-                terms.extend((v, -float(k_start) * c) for v, c in head_first.items())
+                running.add_in_place(head_first, -float(k_start))
             if not data.screened_down[s] or need_interior[s]:
-                start = _expr(terms, constant)
+                start = Affine(list(running.terms), running.constant)
                 if not data.screened_down[s]:
                     assert head_first is not None
-                    add(start - head_first, pulp.LpConstraintGE,
-                        float(pipe[s] + data.node_min_pressure_m[s] + margin), f"pd_{k}_{s}")
+                    model.at_least(start - head_first,
+                                   float(pipe[s] + data.node_min_pressure_m[s] + margin))
                 if need_interior[s]:
                     drop = pipe[s + 1] - pipe[s]
-                    cumulative: list[tuple[pulp.LpVariable, float]] = []
-                    cl = cl_vars[s]
+                    cumulative: list[Term] = []
+                    cl = cl_cols[s]
                     for t, j in enumerate(order):
-                        expr = start + _expr(cumulative)
-                        expr.addInPlace(_expr([(cl[t], -float(heads[k, s, j]))]))
-                        add(expr, pulp.LpConstraintGE, float(pipe[s] + route_min + margin),
-                            f"pi_{k}_{s}_{t}")
+                        model.at_least(
+                            start + Affine([*cumulative, (cl[t], -float(heads[k, s, j]))]),
+                            float(pipe[s] + route_min + margin))
                         cumulative.append((form.x[s, j],
                                            -float(data.section_loss_m[k, s, j] + drop)))
-            terms.extend((form.x[s, j], -float(data.section_loss_m[k, s, j])) for j in order)
+            running.terms.extend((form.x[s, j], -float(data.section_loss_m[k, s, j]))
+                                 for j in order)
             if need_end[s]:
-                var = problem.add_variable(f"e_{k}_{s}")
-                add(_expr([(var, 1.0)]) - _expr(terms, constant), pulp.LpConstraintEQ, 0.0,
-                    f"e_{k}_{s}")
-                terms = [(var, 1.0)]
-                constant = 0.0
+                column = model.add_column(-np.inf, np.inf)
+                model.equal(var(column) - running, 0.0)
+                running = var(column)
             if not data.screened_up[s + 1]:
-                add(_expr(terms, constant) - head_of(k, s, last_frac[s]), pulp.LpConstraintGE,
-                    float(pipe[s + 1] + data.node_min_pressure_m[s + 1] + margin),
-                    f"pu_{k}_{s + 1}")
+                model.at_least(running - head_of(k, s, last_frac[s]),
+                               float(pipe[s + 1] + data.node_min_pressure_m[s + 1] + margin))
         last = n - 1
-        running = _expr(terms, constant)
         head_last = head_of(k, last, last_frac[last]) if last_frac[last] else None
-        outlet = running.copy()
+        outlet = Affine(list(running.terms), running.constant)
         if exit_k + k_node[n] > 0:
             assert head_last is not None
-            outlet.addInPlace(head_last * (-float(exit_k + k_node[n])))
-        add(outlet, pulp.LpConstraintGE, float(study.outlet.required_head_m + margin),
-            f"outlet_{k}")
+            outlet.add_in_place(head_last, -float(exit_k + k_node[n]))
+        model.at_least(outlet, float(study.outlet.required_head_m + margin))
         if not data.screened_down[n] and k_node[n] > 0:
             assert head_last is not None
-            add(running - head_last * float(k_node[n] + 1.0), pulp.LpConstraintGE,
-                float(pipe[n] + data.node_min_pressure_m[n] + margin), f"pd_{k}_{n}")
+            model.at_least(running - head_last.scaled(float(k_node[n] + 1.0)),
+                           float(pipe[n] + data.node_min_pressure_m[n] + margin))
 
-    change_terms: list[tuple[pulp.LpVariable, float]] = []
+    change_terms: list[Term] = []
     if with_rules:
-        _add_rules(form, orders, first_frac, last_frac, change_terms, add)
+        _add_rules(form, orders, first_frac, last_frac, change_terms)
     # changes = uses - continuations - 1: the constant stays outside the solver's
-    # objective (solvers disagree on objective constants) and is added back on reading.
-    problem.setObjective(_expr(objective + [(v, c * study.costs.change_cost)
-                                            for v, c in change_terms]))
+    # objective and is added back on reading.
+    if study.costs.change_cost:
+        model.add_cost((c, v * study.costs.change_cost) for c, v in change_terms)
     form.objective_offset = -study.costs.change_cost if change_terms else 0.0
     form.n_binaries = 0 if relaxed else len(form.y)
     return form
 
 
 def _add_rules(form: Formulation, orders: list[list[int]],
-               first_frac: list[dict[int, pulp.LpAffineExpression]],
-               last_frac: list[dict[int, pulp.LpAffineExpression]],
-               change_terms: list[tuple[pulp.LpVariable, float]], add) -> None:
+               first_frac: list[dict[int, Affine]], last_frac: list[dict[int, Affine]],
+               change_terms: list[Term]) -> None:
     """Merged-design rules: changes, change cost, minimum piece length, sizes downstream.
 
     ``cont[s, j]`` (node s between sections s-1 and s) is at most "j is last in s-1" and
@@ -331,7 +312,7 @@ def _add_rules(form: Formulation, orders: list[list[int]],
     what it carried in.
     """
     data = form.data
-    problem = form.problem
+    model = form.model
     study = data.study
     rules = study.rules
     n = data.n_sections
@@ -339,51 +320,45 @@ def _add_rules(form: Formulation, orders: list[list[int]],
     min_length = min(rules.min_piece_length_m, total)
     if 0 < min_length < total:
         min_length = min(min_length + LENGTH_MARGIN_M, total)
-    cont: dict[tuple[int, int], pulp.LpVariable] = {}
+    cont: dict[tuple[int, int], int] = {}
     for s in range(1, n):
         for j in orders[s]:
             if j in last_frac[s - 1]:
-                var = problem.add_variable(f"cont_{s}_{j}", 0.0, 1.0)
-                cont[s, j] = var
-                add(_expr([(var, 1.0)]) - last_frac[s - 1][j], pulp.LpConstraintLE, 0.0,
-                    f"contl_{s}_{j}")
-                add(_expr([(var, 1.0)]) - first_frac[s][j], pulp.LpConstraintLE, 0.0,
-                    f"contf_{s}_{j}")
-    for var in form.y.values():
-        change_terms.append((var, 1.0))
-    for var in cont.values():
-        change_terms.append((var, -1.0))
+                column = model.add_column(0.0, 1.0)
+                cont[s, j] = column
+                model.at_most(var(column) - last_frac[s - 1][j], 0.0)
+                model.at_most(var(column) - first_frac[s][j], 0.0)
+    change_terms.extend((column, 1.0) for column in form.y.values())
+    change_terms.extend((column, -1.0) for column in cont.values())
     if rules.max_changes is not None:
-        add(_expr(change_terms), pulp.LpConstraintLE, float(rules.max_changes + 1),
-            "max_changes")
+        model.add_row(change_terms, upper=float(rules.max_changes + 1))
     if rules.sizes_non_increasing:
         diameter = np.array([o.internal_diameter_mm for o in study.catalogue])
         for s in range(1, n):
-            expr = pulp.LpAffineExpression()
+            expr = Affine()
             for j, frac in last_frac[s - 1].items():
-                expr.addInPlace(frac * float(diameter[j]))
+                expr.add_in_place(frac, float(diameter[j]))
             for j, frac in first_frac[s].items():
-                expr.addInPlace(frac * float(-diameter[j]))
-            add(expr, pulp.LpConstraintGE, 0.0, f"nonincr_{s}")
+                expr.add_in_place(frac, -float(diameter[j]))
+            model.at_least(expr, 0.0)
     if min_length > 0:
-        acc: dict[tuple[int, int], pulp.LpVariable] = {}
+        acc: dict[tuple[int, int], int] = {}
         for s in range(n):
             length = float(data.chainage_length_m[s])
             for j in orders[s]:
                 inflow = None
                 if (s, j) in cont:
-                    inflow = problem.add_variable(f"inc_{s}_{j}", 0.0, min_length)
-                    add(_expr([(inflow, 1.0), (acc[s - 1, j], -1.0)]), pulp.LpConstraintLE,
-                        0.0, f"inca_{s}_{j}")
-                    add(_expr([(inflow, 1.0), (cont[s, j], -min_length)]),
-                        pulp.LpConstraintLE, 0.0, f"incc_{s}_{j}")
-                own = [(form.x[s, j], length)] + ([(inflow, 1.0)] if inflow is not None else [])
+                    inflow = model.add_column(0.0, min_length)
+                    model.add_row([(inflow, 1.0), (acc[s - 1, j], -1.0)], upper=0.0)
+                    model.add_row([(inflow, 1.0), (cont[s, j], -min_length)], upper=0.0)
+                own: list[Term] = [(form.x[s, j], length)]
+                if inflow is not None:
+                    own.append((inflow, 1.0))
                 if s + 1 < n:
-                    var = problem.add_variable(f"acc_{s}_{j}", 0.0, min_length)
-                    acc[s, j] = var
-                    add(_expr([(var, 1.0)] + [(v, -c) for v, c in own]),
-                        pulp.LpConstraintLE, 0.0, f"acc_{s}_{j}")
-                closing = [(form.y[s, j], -min_length)]
+                    column = model.add_column(0.0, min_length)
+                    acc[s, j] = column
+                    model.add_row([(column, 1.0)] + [(c, -v) for c, v in own], upper=0.0)
+                closing: list[Term] = [(form.y[s, j], -min_length)]
                 if (s + 1, j) in cont:
                     closing.append((cont[s + 1, j], min_length))
-                add(_expr(own + closing), pulp.LpConstraintGE, 0.0, f"minlen_{s}_{j}")
+                model.add_row(own + closing, lower=0.0)

@@ -38,7 +38,7 @@ from optimiser.analysis import CheckResult, check_design
 from optimiser.milp.data import ProblemData, prepare
 from optimiser.milp.diagnose import diagnose, diagnose_after
 from optimiser.milp.extract import design_from_fractions, rule_problems, section_use
-from optimiser.milp.formulation import Formulation, build, rules_active
+from optimiser.milp.formulation import Formulation, WarmStart, build, rules_active
 from optimiser.milp.repair import design_mask, repair
 from optimiser.milp.solvers import SOLVERS, SolveReport, relative_gap, solve
 from optimiser.milp.uniform import UniformDesign, cheapest_uniform, uniform_feasible
@@ -140,7 +140,7 @@ def _tiebreak_scale(data: ProblemData) -> float:
 
 
 def _size(form: Formulation) -> tuple[int, int]:
-    return form.problem.numVariables(), form.problem.numConstraints()
+    return form.model.n_columns, form.model.n_rows
 
 
 def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndarray:
@@ -227,7 +227,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
         build_rate[rules] = max(build_rate.get(rules, 0.0), seconds / max(pairs, 1))
         return form, seconds
 
-    def run(name: str, form: Formulation, warm: dict[str, float] | None, share: float,
+    def run(name: str, form: Formulation, warm: WarmStart | None, share: float,
             build_seconds: float, stage_gap: float | None = None) -> SolveReport:
         remaining = deadline - time.perf_counter()
         report = solve(form, solver_name, time_limit_s=max(remaining * share, 0.5),

@@ -1,11 +1,12 @@
-"""Running a pulp model on HiGHS or CBC and reading back status, objective and bound.
+"""Solving a built model on HiGHS or CBC and reading back status, objective and bound.
 
-HiGHS is driven through pulp's own HiGHS interface (highspy); the subclass below only
-passes the model to HiGHS in bulk (pulp adds it one column and one row at a time, which
-dominates the time on large routes), hands HiGHS a starting solution and keeps HiGHS's
-information record so the best bound (``mip_dual_bound``) can be reported. CBC runs
-through ``PULP_CBC_CMD``; its best bound is read from its log ("Lower bound:"), and when
-the log does not give one the caller falls back to a bound it already holds.
+HiGHS is called through ``highspy`` (its Python interface, the one pulp's own HiGHS
+interface uses): the model's arrays go in with one call, a warm start with another, and
+HiGHS's information record gives the best bound (``mip_dual_bound``). CBC is the binary
+that ships with pulp: the model is written as an MPS file (by HiGHS, from the same
+arrays), a warm start as a CBC solution file, and CBC's best bound is read from its log
+("Lower bound:"); when the log does not give one the caller falls back to a bound it
+already holds.
 
 Status words: ``optimal`` (proven within the relative gap), ``feasible`` (stopped by the
 time limit with a solution in hand), ``infeasible`` (proven), ``no_solution`` (stopped
@@ -18,6 +19,7 @@ import contextlib
 import math
 import os
 import re
+import subprocess
 import sys
 import tempfile
 import time
@@ -25,9 +27,8 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
-import pulp
 
-from optimiser.milp.formulation import Formulation
+from optimiser.milp.formulation import Formulation, WarmStart
 
 SOLVERS = ("highs", "cbc")
 
@@ -75,91 +76,51 @@ def _quiet_stdout():
         os.close(devnull)
 
 
-class _Highs(pulp.HiGHS):
-    """pulp's HiGHS interface with bulk model loading, a warm start and the info record."""
+def _highs_model(form: Formulation, with_offset: bool = True):
+    """A ``highspy.Highs`` instance holding the model (quiet; the objective offset
+    included unless ``with_offset`` is false)."""
+    import highspy
 
-    def createAndConfigureSolver(self, lp: pulp.LpProblem) -> None:  # noqa: N802
-        with _quiet_stdout():
-            super().createAndConfigureSolver(lp)
-
-    def __init__(self, warm_start: dict[str, float] | None = None, offset: float = 0.0,
-                 **options) -> None:
-        super().__init__(**options)
-        self.warm_start = warm_start
-        self.offset = offset
-        self.model_status = None
-        self.info = None
-        self.is_mip = False
-
-    def buildSolverModel(self, lp: pulp.LpProblem) -> None:  # noqa: N802 (pulp's name)
-        import highspy
-
-        inf = highspy.kHighsInf
-        variables = lp.variables()
-        count = len(variables)
-        cost = np.zeros(count)
-        lower = np.empty(count)
-        upper = np.empty(count)
-        integer: list[int] = []
-        for index, var in enumerate(variables):
-            var.index = index
-            lower[index] = -inf if var.lowBound is None else var.lowBound
-            upper[index] = inf if var.upBound is None else var.upBound
-            if var.cat == pulp.LpInteger and self.mip:
-                integer.append(index)
-        for var, coefficient in lp.objective.items():
-            cost[var.index] = coefficient
-        if lp.sense == pulp.LpMaximize:
-            cost = -cost
-        # HiGHS measures its gap on the objective including the offset.
-        lp.solverModel.changeObjectiveOffset(float(self.offset))
-        lp.solverModel.addCols(count, cost, lower, upper, 0, np.zeros(count, dtype=np.int32),
-                               np.zeros(0, dtype=np.int32), np.zeros(0))
-        if integer:
-            lp.solverModel.changeColsIntegrality(
-                len(integer), np.array(integer, dtype=np.int32),
-                np.full(len(integer), highspy.HighsVarType.kInteger.value, dtype=np.uint8))
-        self.is_mip = bool(integer)
-        constraints = list(lp._constraints.values())
-        starts = np.empty(len(constraints), dtype=np.int32)
-        row_lower = np.empty(len(constraints))
-        row_upper = np.empty(len(constraints))
-        indices: list[int] = []
-        values: list[float] = []
-        for row, constraint in enumerate(constraints):
-            constraint.index = row
-            starts[row] = len(indices)
-            for var, coefficient in constraint.items():
-                if coefficient != 0:
-                    indices.append(var.index)
-                    values.append(coefficient)
-            lb = constraint.getLb()
-            ub = constraint.getUb()
-            row_lower[row] = -inf if lb is None else lb
-            row_upper[row] = inf if ub is None else ub
-        lp.solverModel.addRows(len(constraints), row_lower, row_upper, len(indices), starts,
-                               np.array(indices, dtype=np.int32), np.array(values))
-
-    def callSolver(self, lp: pulp.LpProblem) -> None:  # noqa: N802 (pulp's name)
-        if self.warm_start and self.is_mip:
-            known = [(v.index, self.warm_start[v.name]) for v in lp.variables()
-                     if v.name in self.warm_start]
-            if known:
-                lp.solverModel.setSolution(len(known),
-                                           np.array([k for k, _ in known], dtype=np.int32),
-                                           np.array([value for _, value in known]))
-        lp.solverModel.run()
-        self.model_status = lp.solverModel.getModelStatus()
-        self.info = lp.solverModel.getInfo()
+    model = form.model
+    matrix = model.csr()
+    inf = highspy.kHighsInf
+    lp = highspy.HighsLp()
+    lp.num_col_ = model.n_columns
+    lp.num_row_ = model.n_rows
+    lp.col_cost_ = np.asarray(model.cost, dtype=float)
+    lp.col_lower_ = np.clip(np.asarray(model.lower, dtype=float), -inf, inf)
+    lp.col_upper_ = np.clip(np.asarray(model.upper, dtype=float), -inf, inf)
+    lp.row_lower_ = np.clip(np.asarray(model.row_lower, dtype=float), -inf, inf)
+    lp.row_upper_ = np.clip(np.asarray(model.row_upper, dtype=float), -inf, inf)
+    # HiGHS measures its gap on the objective including the offset.
+    lp.offset_ = float(form.objective_offset) if with_offset else 0.0
+    lp.a_matrix_.format_ = highspy.MatrixFormat.kRowwise
+    lp.a_matrix_.num_col_ = model.n_columns
+    lp.a_matrix_.num_row_ = model.n_rows
+    lp.a_matrix_.start_ = matrix.indptr.astype(np.int32)
+    lp.a_matrix_.index_ = matrix.indices.astype(np.int32)
+    lp.a_matrix_.value_ = matrix.data.astype(float)
+    integer = np.asarray(model.integer, dtype=bool)
+    if integer.any():
+        kinds = highspy.HighsVarType
+        lp.integrality_ = [kinds.kInteger if flag else kinds.kContinuous for flag in integer]
+    with _quiet_stdout():
+        highs = highspy.Highs()
+    highs.setOptionValue("output_flag", False)
+    status = highs.passModel(lp)
+    if status == highspy.HighsStatus.kError:
+        raise RuntimeError("HiGHS rejected the model")
+    return highs, bool(integer.any())
 
 
 def solve(form: Formulation, solver_name: str, *, time_limit_s: float, mip_gap: float,
-          warm_start: dict[str, float] | None = None, msg: bool = False) -> SolveReport:
-    """Solve ``form.problem``; values land in the pulp variables."""
+          warm_start: WarmStart | None = None, msg: bool = False) -> SolveReport:
+    """Solve ``form``; the column values land in ``form.values``."""
     if solver_name not in SOLVERS:
         raise ValueError(f"unknown solver {solver_name!r}; use one of {', '.join(SOLVERS)}")
     time_limit_s = max(float(time_limit_s), 0.5)
     started = time.perf_counter()
+    form.values = None
     if solver_name == "highs":
         report = _solve_highs(form, time_limit_s, mip_gap, warm_start, msg, started)
     else:
@@ -172,32 +133,42 @@ def solve(form: Formulation, solver_name: str, *, time_limit_s: float, mip_gap: 
 
 
 def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
-                 warm_start: dict[str, float] | None, msg: bool, started: float
-                 ) -> SolveReport:
+                 warm_start: WarmStart | None, msg: bool, started: float) -> SolveReport:
     import highspy
 
-    solver = _Highs(warm_start=warm_start, offset=form.objective_offset, msg=msg,
-                    timeLimit=time_limit_s, gapRel=mip_gap, mip_feasibility_tolerance=1e-9)
     try:
-        form.problem.solve(solver)
-    except pulp.PulpSolverError as error:
+        highs, is_mip = _highs_model(form)
+    except RuntimeError as error:
         return SolveReport("failed", None, None, time.perf_counter() - started, "highs",
                            str(error))
+    highs.setOptionValue("output_flag", bool(msg))
+    highs.setOptionValue("time_limit", float(time_limit_s))
+    highs.setOptionValue("mip_rel_gap", float(mip_gap))
+    highs.setOptionValue("mip_feasibility_tolerance", 1e-9)
+    if warm_start and is_mip:
+        columns, values = form.warm_columns(warm_start)
+        if len(columns):
+            highs.setSolution(len(columns), columns, values)
+    highs.run()
     seconds = time.perf_counter() - started
-    status = solver.model_status
-    info = solver.info
+    status = highs.getModelStatus()
+    info = highs.getInfo()
     states = highspy.HighsModelStatus
-    objective = pulp.value(form.problem.objective)
-    has_point = info is not None and info.primal_solution_status == 2  # feasible point
+    has_point = info.primal_solution_status == 2  # a feasible point
+    objective = None
+    if has_point:
+        form.values = np.asarray(highs.getSolution().col_value, dtype=float)
+        objective = float(info.objective_function_value) - form.objective_offset
     if status == states.kOptimal:
-        bound = (info.mip_dual_bound - form.objective_offset) if solver.is_mip else objective
+        bound = (info.mip_dual_bound - form.objective_offset) if is_mip else objective
         return SolveReport("optimal", objective, bound, seconds, "highs")
     if status in (states.kInfeasible, states.kUnboundedOrInfeasible):
         return SolveReport("infeasible", None, None, seconds, "highs")
-    if has_point and solver.is_mip:
+    if has_point and is_mip:
         bound = info.mip_dual_bound - form.objective_offset
         return SolveReport("feasible", objective, bound if math.isfinite(bound) else None,
                            seconds, "highs", f"stopped: {status.name}")
+    form.values = None
     if status in (states.kTimeLimit, states.kIterationLimit, states.kInterrupt):
         return SolveReport("no_solution", None, None, seconds, "highs",
                            f"stopped without a solution: {status.name}")
@@ -208,31 +179,64 @@ _CBC_BOUND = re.compile(r"^Lower bound:\s+(\S+)", re.MULTILINE)
 _CBC_PARTIAL = re.compile(r"best possible\s+(-?[0-9.eE+]+)")
 
 
+def cbc_path() -> str:
+    """The CBC binary that ships with pulp."""
+    from pulp.apis import coin_api
+
+    return coin_api.pulp_cbc_path
+
+
 def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
-               warm_start: dict[str, float] | None, msg: bool, started: float
-               ) -> SolveReport:
-    problem = form.problem
-    if warm_start:
-        for var in problem.variables():
-            if var.name in warm_start:
-                var.setInitialValue(warm_start[var.name])
-    descriptor, log_path = tempfile.mkstemp(prefix="cbc_", suffix=".log")
-    os.close(descriptor)
-    solver = pulp.PULP_CBC_CMD(msg=False, timeLimit=time_limit_s, gapRel=mip_gap,
-                               warmStart=bool(warm_start), logPath=log_path)
+               warm_start: WarmStart | None, msg: bool, started: float) -> SolveReport:
     try:
-        problem.solve(solver)
-        log = Path(log_path).read_text(encoding="utf-8", errors="replace")
-    except pulp.PulpSolverError as error:
+        highs, is_mip = _highs_model(form, with_offset=False)
+    except RuntimeError as error:
         return SolveReport("failed", None, None, time.perf_counter() - started, "cbc",
                            str(error))
-    finally:
-        if os.path.exists(log_path):
-            os.unlink(log_path)
-    if msg:
-        print(log)
-    seconds = time.perf_counter() - started
-    objective = pulp.value(problem.objective)
+    n_columns = form.model.n_columns
+    with tempfile.TemporaryDirectory(prefix="cbc_") as folder:
+        mps = Path(folder) / "model.mps"
+        solution = Path(folder) / "solution.txt"
+        with _quiet_stdout():
+            highs.writeModel(str(mps))
+        # Written without the objective offset (MPS readers disagree on its sign);
+        # CBC's objective and bound are therefore those of the columns alone.
+        command = [cbc_path(), str(mps), "-sec", f"{time_limit_s:g}",
+                   "-ratio", f"{mip_gap:g}", "-timeMode", "elapsed"]
+        if warm_start and is_mip:
+            columns, values = form.warm_columns(warm_start)
+            if len(columns):
+                start = Path(folder) / "start.txt"
+                lines = ["Stopped on time - objective value 0\n"]
+                lines += [f"{c:>7} c{c} {v:>15.10g} {0:>23}\n"
+                          for c, v in zip(columns.tolist(), values.tolist(), strict=True)]
+                start.write_text("".join(lines), encoding="utf-8")
+                command += ["-mips", str(start)]
+        command += ["-solve" if is_mip else "-initialSolve", "-solution", str(solution)]
+        try:
+            run = subprocess.run(command, capture_output=True, text=True, check=False,
+                                 stdin=subprocess.DEVNULL)
+        except OSError as error:
+            return SolveReport("failed", None, None, time.perf_counter() - started, "cbc",
+                               f"CBC could not be started: {error}")
+        log = run.stdout + run.stderr
+        if msg:
+            print(log)
+        seconds = time.perf_counter() - started
+        if run.returncode != 0 or not solution.exists():
+            return SolveReport("failed", None, None, seconds, "cbc",
+                               f"CBC exited with code {run.returncode}")
+        text = solution.read_text(encoding="utf-8", errors="replace").splitlines()
+    first = text[0] if text else ""
+    values = np.zeros(n_columns)
+    for line in text[1:]:
+        parts = line.split()
+        if len(parts) >= 3 and parts[1].startswith("c") and parts[1][1:].isdigit():
+            values[int(parts[1][1:])] = float(parts[2])
+    objective_match = re.search(r"objective value\s+(\S+)", first)
+    objective = None
+    if objective_match:
+        objective = float(objective_match.group(1))
     bound = None
     match = _CBC_BOUND.search(log) or _CBC_PARTIAL.search(log)
     if match:
@@ -240,16 +244,18 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
             bound = float(match.group(1))
         except ValueError:
             bound = None
-    has_integers = any(v.cat == pulp.LpInteger for v in problem.variables())
-    if problem.sol_status == pulp.LpSolutionOptimal:
-        if bound is None and not has_integers:
+    word = first.split()[0] if first.split() else ""
+    if word == "Optimal":
+        form.values = values
+        if bound is None and not is_mip:
             bound = objective
         return SolveReport("optimal", objective, bound, seconds, "cbc")
-    if problem.sol_status == pulp.LpSolutionIntegerFeasible:
-        return SolveReport("feasible", objective, bound, seconds, "cbc", "stopped on time")
-    if problem.status == pulp.LpStatusInfeasible:
+    if word == "Infeasible" or first.startswith("Integer infeasible"):
         return SolveReport("infeasible", None, None, seconds, "cbc")
-    if "Stopped" in log or problem.status == pulp.LpStatusNotSolved:
+    if word == "Stopped" and objective_match and "no integer" not in first.lower():
+        form.values = values
+        return SolveReport("feasible", objective, bound, seconds, "cbc", first.strip())
+    if word == "Stopped":
         return SolveReport("no_solution", None, None, seconds, "cbc",
                            "stopped without a solution")
-    return SolveReport("failed", None, None, seconds, "cbc", f"CBC status {problem.status}")
+    return SolveReport("failed", None, None, seconds, "cbc", f"CBC: {first.strip()}")
