@@ -39,12 +39,17 @@ from optimiser.milp.data import ProblemData, prepare
 from optimiser.milp.diagnose import diagnose, diagnose_after
 from optimiser.milp.extract import design_from_fractions, rule_problems, section_use
 from optimiser.milp.formulation import Formulation, WarmStart, build, rules_active
+from optimiser.milp.reduce import ActivePoints, merge, refine, with_active
 from optimiser.milp.repair import design_mask, repair
 from optimiser.milp.solvers import SOLVERS, SolveReport, relative_gap, solve
 from optimiser.milp.uniform import UniformDesign, cheapest_uniform, uniform_feasible
 from optimiser.model import Design, Study
 
 TIEBREAK_RELATIVE = 1e-7
+MAX_ROW_ROUNDS = 12
+NEAR_M = 1.0
+"""Row generation adds every check point whose pressure came within this of its
+minimum [m] in the last round's design."""
 
 
 class SolverError(RuntimeError):
@@ -143,6 +148,31 @@ def _size(form: Formulation) -> tuple[int, int]:
     return form.model.n_columns, form.model.n_rows
 
 
+def _near_points(data: ProblemData, result: CheckResult) -> ActivePoints:
+    """Check points (not screened out) whose pressure in ``result`` is within NEAR_M of
+    the minimum in some scenario: a node adds both its sides, a point inside a section
+    adds the inside of that section and its end nodes."""
+    wanted = ActivePoints.none(data)
+    chainage = data.node_chainage_m
+    for scenario in result.scenarios:
+        points = scenario.points
+        margin = (points["pressure_m"] - points["min_pressure_m"]).to_numpy()
+        close = points["chainage_m"].to_numpy()[margin < NEAR_M]
+        if not len(close):
+            continue
+        index = np.clip(np.searchsorted(chainage, close), 0, data.n_sections)
+        on_node = np.abs(chainage[index] - close) <= 1e-6
+        nodes = index[on_node]
+        wanted.up[nodes] = True
+        wanted.down[nodes] = True
+        inside = np.clip(index[~on_node] - 1, 0, data.n_sections - 1)
+        wanted.interior[inside] = True
+        wanted.down[inside] = True
+        wanted.up[inside + 1] = True
+    return ActivePoints(wanted.up & ~data.screened_up, wanted.down & ~data.screened_down,
+                        wanted.interior & ~data.screened_interior)
+
+
 def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndarray:
     """Options used by the LP in any section overlapping [start - w, end + w]."""
     chainage = data.node_chainage_m
@@ -239,10 +269,32 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                             report.message, build_seconds))
         return report
 
-    # 2. LP relaxation (rules relaxed) with the tie-break.
-    scale = _tiebreak_scale(data)
-    lp, lp_build = timed_build(None, with_rules=False, relaxed=True, tiebreak=scale)
-    lp_report = run("LP relaxation (rules relaxed)", lp, None, 1.0, lp_build)
+    # 2. LP relaxation (rules relaxed) with the tie-break, by row generation on the
+    # reach model: pressure rows only where a previous round's design came close.
+    active = ActivePoints.none(data)
+    lp_report: SolveReport | None = None
+    fractions = np.zeros((data.n_sections, data.n_options))
+    for round_number in range(1, MAX_ROW_ROUNDS + 1):
+        begun = time.perf_counter()
+        reaches = merge(with_active(data, active))
+        lp = build(reaches.data, with_rules=False, relaxed=True,
+                   tiebreak=_tiebreak_scale(reaches.data))
+        lp_build = time.perf_counter() - begun
+        pairs = int(reaches.data.admissible.sum())
+        build_rate[False] = max(build_rate.get(False, 0.0), lp_build / max(pairs, 1))
+        lp_report = run(f"LP relaxation (rules relaxed), round {round_number}: "
+                        f"{reaches.n_reaches} reaches, {active.count()} pressure points",
+                        lp, None, 1.0, lp_build)
+        if not lp_report.has_solution:
+            break
+        fractions = refine(data, reaches, lp.fractions())
+        wanted = _near_points(data, check_design(
+            study, design_from_fractions(data, fractions), capacity=False))
+        grown = active.union(wanted)
+        if grown.count() == active.count() or time.perf_counter() > deadline - 0.5:
+            break
+        active = grown
+    assert lp_report is not None
     if lp_report.status == "infeasible":
         return outcome("infeasible", design=None, check=None, total_cost=None,
                        lower_bound=None, gap=None, lp_bound=None, stages=stages,
@@ -254,7 +306,6 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     bound = lp_bound
     if with_rules and study.costs.change_cost > 0 and not uniform_feasible(data).any():
         bound += study.costs.change_cost  # every feasible design has a change
-    fractions = lp.fractions()
     used = fractions > 1e-6
 
     best: _Candidate | None = None

@@ -1,0 +1,155 @@
+"""A smaller, equivalent model: quiet survey sections merged into reaches.
+
+A long route has thousands of survey sections, but pressure can bind at only a few of
+its points. Where a run of consecutive sections has no check point in the model (none
+at its inner nodes, none inside, and none at its ends that would need the velocity head
+of its pipes), the same flows, the same admissible options and the same zone factor,
+the split-pipe programme only sees the total slope length of each option laid in it:
+cost and head loss are both linear in slope length with the same coefficient in every
+section of the run (Karmeli, Gadish & Meyers 1968). Merging the run into one *reach*
+with the summed lengths, costs and losses is then exact: every design of the fine model
+maps to one of the reach model with the same cost and the same energy at every point
+the model checks, and back (lay the reach's options in the section order, by slope
+length).
+
+Which points are "in the model" is the caller's choice (``active``): all points that
+are not screened out (the full model), or only those a previous solution came close to
+violating (row generation; the model is then a relaxation, its value a valid bound,
+and the check judges every point of the design it yields).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass
+
+import numpy as np
+
+from optimiser.milp.data import ProblemData
+
+
+@dataclass(frozen=True)
+class ActivePoints:
+    """Check points kept in a model: upstream and downstream sides of every node (n+1)
+    and the inside of every section (n). A point screened out by
+    :func:`optimiser.milp.data._screen` is never in the model."""
+
+    up: np.ndarray
+    down: np.ndarray
+    interior: np.ndarray
+
+    @classmethod
+    def none(cls, data: ProblemData) -> ActivePoints:
+        n = data.n_sections
+        return cls(np.zeros(n + 1, dtype=bool), np.zeros(n + 1, dtype=bool),
+                   np.zeros(n, dtype=bool))
+
+    @classmethod
+    def every(cls, data: ProblemData) -> ActivePoints:
+        n = data.n_sections
+        return cls(np.ones(n + 1, dtype=bool), np.ones(n + 1, dtype=bool),
+                   np.ones(n, dtype=bool))
+
+    def union(self, other: ActivePoints) -> ActivePoints:
+        return ActivePoints(self.up | other.up, self.down | other.down,
+                            self.interior | other.interior)
+
+    def count(self) -> int:
+        return int(self.up.sum() + self.down.sum() + self.interior.sum())
+
+
+@dataclass
+class Reaches:
+    """The merged model's data and, for each reach, its first and last fine section."""
+
+    data: ProblemData
+    first: np.ndarray  # (R,)
+    last: np.ndarray  # (R,)
+
+    @property
+    def n_reaches(self) -> int:
+        return len(self.first)
+
+
+def with_active(data: ProblemData, active: ActivePoints) -> ProblemData:
+    """``data`` with every point outside ``active`` marked as screened out."""
+    return dataclasses.replace(
+        data, screened_up=data.screened_up | ~active.up,
+        screened_down=data.screened_down | ~active.down,
+        screened_interior=data.screened_interior | ~active.interior)
+
+
+def quiet(data: ProblemData) -> np.ndarray:
+    """(n,) sections with no check point of the model at their ends or inside, and no
+    point loss at their start (so no velocity head enters the model there)."""
+    study = data.study
+    n = data.n_sections
+    k = data.node_point_k
+    loud = ~data.screened_up[1:] | ~data.screened_down[:-1] | (k[:-1] > 0) \
+        | ~data.screened_interior
+    loud[0] |= study.source.entrance_k > 0
+    loud[n - 1] |= (study.outlet.exit_k + k[n] > 0) or not data.screened_down[n]
+    return ~loud
+
+
+def merge(data: ProblemData) -> Reaches:
+    """Merge runs of quiet sections with identical flows, options and zone factor."""
+    n = data.n_sections
+    calm = quiet(data)
+    joinable = calm[1:] & calm[:-1]
+    joinable &= np.all(data.flow_m3_s[:, 1:] == data.flow_m3_s[:, :-1], axis=0)
+    joinable &= np.all(data.admissible[1:] == data.admissible[:-1], axis=1)
+    joinable &= data.zone_factor[1:] == data.zone_factor[:-1]
+    starts = np.concatenate([[0], np.flatnonzero(~joinable) + 1])
+    ends = np.concatenate([starts[1:] - 1, [n - 1]])
+    if len(starts) == n:
+        return Reaches(data, starts, ends)
+    nodes = np.concatenate([starts, [n]])
+
+    def total(values: np.ndarray, axis: int = 0) -> np.ndarray:
+        return np.add.reduceat(values, starts, axis=axis)
+
+    merged = dataclasses.replace(
+        data, n_sections=len(starts),
+        node_chainage_m=data.node_chainage_m[nodes],
+        node_pipe_level_m=data.node_pipe_level_m[nodes],
+        node_min_pressure_m=data.node_min_pressure_m[nodes],
+        node_point_k=data.node_point_k[nodes],
+        chainage_length_m=total(data.chainage_length_m),
+        length_m=total(data.length_m),
+        zone_factor=data.zone_factor[starts],
+        section_cost=total(data.section_cost),
+        flow_m3_s=data.flow_m3_s[:, starts],
+        velocity_m_s=data.velocity_m_s[:, starts],
+        velocity_head_m=data.velocity_head_m[:, starts],
+        gradient=data.gradient[:, starts],
+        section_loss_m=total(data.section_loss_m, axis=1),
+        static_demand_m=np.maximum.reduceat(data.static_demand_m, starts),
+        class_ok=data.class_ok[starts], velocity_ok=data.velocity_ok[starts],
+        admissible=data.admissible[starts],
+        screened_up=data.screened_up[nodes], screened_down=data.screened_down[nodes],
+        screened_interior=np.logical_and.reduceat(data.screened_interior, starts))
+    return Reaches(merged, starts, ends)
+
+
+def refine(fine: ProblemData, reaches: Reaches, fractions: np.ndarray) -> np.ndarray:
+    """Fractions of the reach model (share of each reach's slope length) as fractions of
+    the fine sections: each reach's options laid in the section order by slope length."""
+    out = np.zeros((fine.n_sections, fine.n_options))
+    for r, (a, b) in enumerate(zip(reaches.first.tolist(), reaches.last.tolist(),
+                                   strict=True)):
+        share = np.clip(fractions[r], 0.0, None)
+        if a == b:
+            out[a] = share
+            continue
+        order = [j for j in fine.order if share[j] > 0]
+        lengths = fine.length_m[a:b + 1]
+        edges = np.concatenate([[0.0], np.cumsum(lengths)])
+        laid = share[order] / share[order].sum() * edges[-1]
+        stops = np.cumsum(laid)
+        stops[-1] = edges[-1]
+        begins = np.concatenate([[0.0], stops[:-1]])
+        overlap = np.clip(np.minimum(stops[None, :], edges[1:, None])
+                          - np.maximum(begins[None, :], edges[:-1, None]), 0.0, None)
+        out[a:b + 1, order] = overlap / lengths[:, None]
+    return out
