@@ -59,6 +59,12 @@ class ProblemData:
     screened_up: np.ndarray  # (n+1,) upstream side of node i cannot bind
     screened_down: np.ndarray  # (n+1,) downstream side of node i cannot bind
     screened_interior: np.ndarray  # (n,) no point inside section s can bind
+    free_order: np.ndarray | None = None
+    """(n,) sections whose pieces may be laid in any order (merged reaches of a reduced
+    model, :mod:`optimiser.milp.reduce`); None: none."""
+    chainage_per_share_m: np.ndarray | None = None
+    """(n,) largest chainage a whole section's worth of one option can cover (merged
+    reaches: slopes differ along a reach); None: the chainage length."""
 
     @property
     def n_scenarios(self) -> int:

@@ -105,6 +105,10 @@ class Formulation:
     relaxed: bool
     x: dict[tuple[int, int], int] = field(default_factory=dict)
     y: dict[tuple[int, int], int] = field(default_factory=dict)
+    picks: dict[tuple[str, int, int], int] = field(default_factory=dict)
+    """First ("first") and last ("last") piece indicators of free-order reaches."""
+    extra_changes: list[int] = field(default_factory=list)
+    """Indicators of a free-order reach laid A B A (one change more than its uses)."""
     objective_offset: float = 0.0
     """Constant to add to the solver's objective and bound (the -1 of changes)."""
     tiebreak_max: float = 0.0
@@ -121,6 +125,21 @@ class Formulation:
         for (s, j), column in self.x.items():
             out[s, j] = min(max(float(self.values[column]), 0.0), 1.0)
         return out
+
+    def arrangement(self, s: int, share: np.ndarray) -> list[int]:
+        """Options of section (or reach) s with a positive share, in the order the
+        solution lays them: the section order, or for a free-order reach its chosen
+        first piece, the others in the section order, then its chosen last piece."""
+        order = [j for j in self.data.order if share[j] > 0]
+        if self.values is None or ("first", s, order[0]) not in self.picks:
+            return order
+
+        def chosen(end: str) -> int:
+            return max(order, key=lambda j: self.values[self.picks[end, s, j]])
+
+        first, last = chosen("first"), chosen("last")
+        middle = [j for j in order if j not in (first, last)]
+        return [first, *middle] + ([last] if last != first else [])
 
     def warm_columns(self, warm: WarmStart) -> tuple[np.ndarray, np.ndarray]:
         """Column indices and values of a warm start (entries the model lacks dropped)."""
@@ -176,6 +195,7 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
         need_last[:] = True
     need_last |= need_interior
 
+    free = np.zeros(n, dtype=bool) if data.free_order is None else data.free_order
     # Fractions, use binaries, first/last staircases.
     first_frac: list[dict[int, Affine]] = [{} for _ in range(n)]
     last_frac: list[dict[int, Affine]] = [{} for _ in range(n)]
@@ -205,6 +225,31 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
             ys.append(yc)
             model.add_row([(xc, 1.0), (yc, -1.0)], upper=0.0)
         count = len(order)
+        if with_rules and free[s]:
+            # A merged reach with no check point inside: its options may be laid in any
+            # order, so the first and the last piece are chosen freely among those used.
+            ends: list[dict[int, Affine]] = []
+            for end in ("first", "last"):
+                picks = [model.add_column(0.0, 1.0, integer=integer) for _ in order]
+                form.picks.update({(end, s, j): c for j, c in zip(order, picks, strict=True)})
+                model.equal(Affine([(c, 1.0) for c in picks]), 1.0)
+                for pick, yc in zip(picks, ys, strict=True):
+                    model.add_row([(pick, 1.0), (yc, -1.0)], upper=0.0)
+                ends.append({j: var(c) for j, c in zip(order, picks, strict=True)})
+            first_frac[s], last_frac[s] = ends
+            if count > 1:
+                # The same option first and last with another in between (A B A) has
+                # one change more than the uses count: an indicator adds it.
+                again = model.add_column(0.0, 1.0, integer=integer)
+                form.extra_changes.append(again)
+                first_cols = [form.picks["first", s, j] for j in order]
+                last_cols = [form.picks["last", s, j] for j in order]
+                for a, (fc, lc) in enumerate(zip(first_cols, last_cols, strict=True)):
+                    for b, yc in enumerate(ys):
+                        if a != b:
+                            model.add_row([(fc, 1.0), (lc, 1.0), (yc, 1.0), (again, -1.0)],
+                                          upper=2.0)
+            continue
         if need_first[s]:
             cf = [model.add_column(1.0 if t == count - 1 else 0.0, 1.0) for t in range(count)]
             for t in range(count):
@@ -330,6 +375,7 @@ def _add_rules(form: Formulation, orders: list[list[int]],
                 model.at_most(var(column) - first_frac[s][j], 0.0)
     change_terms.extend((column, 1.0) for column in form.y.values())
     change_terms.extend((column, -1.0) for column in cont.values())
+    change_terms.extend((column, 1.0) for column in form.extra_changes)
     if rules.max_changes is not None:
         model.add_row(change_terms, upper=float(rules.max_changes + 1))
     if rules.sizes_non_increasing:
@@ -344,7 +390,8 @@ def _add_rules(form: Formulation, orders: list[list[int]],
     if min_length > 0:
         acc: dict[tuple[int, int], int] = {}
         for s in range(n):
-            length = float(data.chainage_length_m[s])
+            length = float(data.chainage_length_m[s] if data.chainage_per_share_m is None
+                           else data.chainage_per_share_m[s])
             for j in orders[s]:
                 inflow = None
                 if (s, j) in cont:

@@ -26,6 +26,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.milp.data import ProblemData
+from optimiser.milp.extract import SLIVER_M
+from optimiser.milp.formulation import Formulation
+from optimiser.model import Design, Piece
 
 
 @dataclass(frozen=True)
@@ -128,8 +131,44 @@ def merge(data: ProblemData) -> Reaches:
         class_ok=data.class_ok[starts], velocity_ok=data.velocity_ok[starts],
         admissible=data.admissible[starts],
         screened_up=data.screened_up[nodes], screened_down=data.screened_down[nodes],
-        screened_interior=np.logical_and.reduceat(data.screened_interior, starts))
+        screened_interior=np.logical_and.reduceat(data.screened_interior, starts),
+        free_order=(ends > starts) & (not data.study.rules.sizes_non_increasing),
+        chainage_per_share_m=total(data.length_m) * np.maximum.reduceat(
+            data.chainage_length_m / data.length_m, starts))
     return Reaches(merged, starts, ends)
+
+
+def design_from_reaches(fine: ProblemData, reaches: Reaches, form: Formulation) -> Design:
+    """The design of a solved reach model: each reach's options in the order the
+    solution lays them (:meth:`Formulation.arrangement`), by slope length, with piece
+    boundaries turned into chainage section by section; merged."""
+    catalogue = fine.study.catalogue
+    fractions = form.fractions()
+    chainage = fine.node_chainage_m
+    pieces: list[Piece] = []
+    for r, (a, b) in enumerate(zip(reaches.first.tolist(), reaches.last.tolist(),
+                                   strict=True)):
+        share = np.clip(fractions[r], 0.0, None)
+        if share.sum() <= 0:
+            raise ValueError(f"reach {r}: the solution lays no pipe")
+        share = share / share.sum()
+        slope = np.concatenate([[0.0], np.cumsum(fine.length_m[a:b + 1])])
+        along = chainage[a:b + 2]
+        tiny = share * (along[-1] - along[0]) < SLIVER_M
+        if tiny.all():
+            tiny[int(np.argmax(share))] = False
+        share[int(np.argmax(np.where(tiny, -1.0, share)))] += share[tiny].sum()
+        share[tiny] = 0.0
+        order = form.arrangement(r, share)
+        stops = np.cumsum(share[order]) * slope[-1]
+        start = float(along[0])
+        for index, j in enumerate(order):
+            stop = float(along[-1]) if index == len(order) - 1 else \
+                float(np.interp(stops[index], slope, along))
+            if stop > start:
+                pieces.append(Piece(start, stop, catalogue[j]))
+                start = stop
+    return Design(tuple(pieces)).merged()
 
 
 def refine(fine: ProblemData, reaches: Reaches, fractions: np.ndarray) -> np.ndarray:
