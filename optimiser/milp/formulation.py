@@ -146,7 +146,10 @@ class Formulation:
         columns: list[int] = []
         values: list[float] = []
         for (kind, s, j), value in warm.items():
-            column = (self.x if kind == "x" else self.y).get((s, j))
+            if kind in ("first", "last"):
+                column = self.picks.get((kind, s, j))
+            else:
+                column = (self.x if kind == "x" else self.y).get((s, j))
             if column is not None:
                 columns.append(column)
                 values.append(value)

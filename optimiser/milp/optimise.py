@@ -43,6 +43,7 @@ from optimiser.milp.reduce import (
     ActivePoints,
     design_from_reaches,
     merge,
+    reach_use,
     refine,
     with_active,
 )
@@ -53,7 +54,7 @@ from optimiser.model import Design, Study
 
 TIEBREAK_RELATIVE = 1e-7
 MAX_ROW_ROUNDS = 12
-NEAR_M = 1.0
+NEAR_M = 0.3
 """Row generation adds every check point whose pressure came within this of its
 minimum [m] in the last round's design."""
 
@@ -192,6 +193,7 @@ def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndar
 
 
 NEIGHBOURHOOD = "MILP, neighbourhood of the best design"
+REACH_MODEL = "MILP, reach model with the rules"
 RESTRICTED_GAP = 1e-4
 
 
@@ -336,20 +338,22 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     # 3. The LP's own design.
     consider(design_from_fractions(data, fractions), "LP relaxation", must_pass=False)
 
-    # 4. With the rules: the reach model with the rules. It is a relaxation of the full
-    # model (pressure rows only where designs came close, reaches laid in any order,
-    # chainage of a share rounded up), so its bound is a valid bound; its design, once
-    # the check has passed it at every point, is a design of the full model.
-    if with_rules and not proven():
+    # The reach model with the rules. It is a relaxation of the full model (pressure
+    # rows only where designs came close, reaches laid in any order, chainage of a
+    # share rounded up), so its bound is a valid bound; its design, once the check has
+    # passed it at every point and the rules hold, is a design of the full model.
+    def reach_rounds(share: float) -> DesignOutcome | None:
+        nonlocal active, bound
         for round_number in range(1, MAX_ROW_ROUNDS + 1):
             if time.perf_counter() > deadline - 0.5:
-                break
+                return None
             begun = time.perf_counter()
             reaches = merge(with_active(data, active))
             form = build(reaches.data, with_rules=True)
-            report = run(f"MILP, reach model with the rules, round {round_number}: "
-                         f"{reaches.n_reaches} reaches, {active.count()} pressure points",
-                         form, None, 0.5, time.perf_counter() - begun)
+            warm = reach_use(data, reaches, best.design) if best is not None else None
+            report = run(f"{REACH_MODEL}, round {round_number}: {reaches.n_reaches} "
+                         f"reaches, {active.count()} pressure points",
+                         form, warm, share, time.perf_counter() - begun)
             if report.status == "infeasible":
                 if best is not None:
                     raise VerificationError(
@@ -361,16 +365,17 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
             if report.bound is not None and math.isfinite(report.bound):
                 bound = max(bound, report.bound)
             if not report.has_solution:
-                break
+                return None
             design = design_from_reaches(data, reaches, form)
-            consider(design, "reach model with the rules", must_pass=False)
+            consider(design, REACH_MODEL, must_pass=False)
             grown = active.union(_near_points(data, check_design(study, design,
                                                                  capacity=False)))
             if proven() or grown.count() == active.count():
-                break
+                return None
             active = grown
+        return None
 
-    # 5. Integer programmes of growing size.
+    # 4. Integer programmes of growing size.
     full_report: SolveReport | None = None
     if not proven():
         median = float(np.median(data.chainage_length_m))
@@ -384,6 +389,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 reach = max(width, 0.02 * study.route.total_chainage_m)
                 levels.append(("MILP, options of the rules-repaired design nearby",
                                design_mask(data, repaired, reach), 0.3))
+            levels.append((REACH_MODEL, None, 0.6))
             levels.append(("MILP, options the LP used anywhere and their neighbours",
                            _global_mask(data, used), 0.4))
         levels.append(("MILP, full model", None, 0.85))  # leave time to verify
@@ -392,11 +398,32 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
         # restriction of the full model, so its designs are valid incumbents.
         neighbourhood = {"radius": 1, "left": 25 if with_rules else 0, "cost": math.inf}
         reach_m = max(width, 0.02 * study.route.total_chainage_m)
-        starts_search = {"MILP, options of the rules-repaired design nearby"}
+        starts_search = {REACH_MODEL}
+
+        def queue_search(name: str) -> None:
+            searching = name in starts_search or name.startswith(NEIGHBOURHOOD)
+            if searching and best is not None and neighbourhood["left"] > 0:
+                if best.cost >= neighbourhood["cost"] - 1e-9 * abs(best.cost):
+                    neighbourhood["radius"] += 1  # no gain: look further in size
+                neighbourhood["cost"] = best.cost
+                if neighbourhood["radius"] <= 3:
+                    neighbourhood["left"] -= 1
+                    radius = neighbourhood["radius"]
+                    levels.insert(0, (f"{NEIGHBOURHOOD} (size radius {radius})",
+                                      _neighbour_mask(data, best.design, reach_m, radius),
+                                      0.15))
         while levels:
             name, mask, share = levels.pop(0)
             if time.perf_counter() > deadline - 0.5 and best is not None:
                 break
+            if name == REACH_MODEL:
+                finished = reach_rounds(share)
+                if finished is not None:
+                    return finished
+                if proven():
+                    break
+                queue_search(name)
+                continue
             if mask is not None and (data.admissible & ~mask).sum() == 0:
                 continue  # the reduced model would be the full model
             pairs = int((data.admissible if mask is None else data.admissible & mask).sum())
@@ -431,17 +458,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                     bound = max(bound, report.bound)
             if proven():
                 break
-            searching = name in starts_search or name.startswith(NEIGHBOURHOOD)
-            if searching and best is not None and neighbourhood["left"] > 0:
-                if best.cost >= neighbourhood["cost"] - 1e-9 * abs(best.cost):
-                    neighbourhood["radius"] += 1  # no gain: look further in size
-                neighbourhood["cost"] = best.cost
-                if neighbourhood["radius"] <= 3:
-                    neighbourhood["left"] -= 1
-                    radius = neighbourhood["radius"]
-                    levels.insert(0, (f"{NEIGHBOURHOOD} (size radius {radius})",
-                                      _neighbour_mask(data, best.design, reach_m, radius),
-                                      0.15))
+            queue_search(name)
 
     if best is None:
         last = stages[-1] if stages else None

@@ -171,6 +171,33 @@ def design_from_reaches(fine: ProblemData, reaches: Reaches, form: Formulation) 
     return Design(tuple(pieces)).merged()
 
 
+def reach_use(fine: ProblemData, reaches: Reaches, design: Design
+              ) -> dict[tuple[str, int, int], float]:
+    """Values of the reach model's ``x`` (share of each reach's slope length), ``y`` and
+    first/last picks for a design (a warm start)."""
+    catalogue = fine.study.catalogue
+    chainage = fine.node_chainage_m
+    share = np.zeros((fine.n_sections, fine.n_options))  # slope length per fine section
+    for piece in design.pieces:
+        j = catalogue.index_of(piece.option)
+        overlap = np.clip(np.minimum(piece.to_m, chainage[1:])
+                          - np.maximum(piece.from_m, chainage[:-1]), 0.0, None)
+        share[:, j] += overlap / fine.chainage_length_m * fine.length_m
+    values: dict[tuple[str, int, int], float] = {}
+    starts = np.array([piece.from_m for piece in design.pieces])
+    for r, (a, b) in enumerate(zip(reaches.first.tolist(), reaches.last.tolist(),
+                                   strict=True)):
+        laid = share[a:b + 1].sum(axis=0) / fine.length_m[a:b + 1].sum()
+        for j in np.flatnonzero(laid > 0).tolist():
+            values["x", r, j] = float(laid[j])
+            values["y", r, j] = 1.0
+        for end, at in (("first", chainage[a] + 1e-9), ("last", chainage[b + 1] - 1e-9)):
+            piece = min(int(np.searchsorted(starts, at, side="right")) - 1,
+                        len(design.pieces) - 1)
+            values[end, r, catalogue.index_of(design.pieces[max(piece, 0)].option)] = 1.0
+    return values
+
+
 def refine(fine: ProblemData, reaches: Reaches, fractions: np.ndarray) -> np.ndarray:
     """Fractions of the reach model (share of each reach's slope length) as fractions of
     the fine sections: each reach's options laid in the section order by slope length."""

@@ -170,8 +170,10 @@ def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
                            seconds, "highs", f"stopped: {status.name}")
     form.values = None
     if status in (states.kTimeLimit, states.kIterationLimit, states.kInterrupt):
-        return SolveReport("no_solution", None, None, seconds, "highs",
-                           f"stopped without a solution: {status.name}")
+        bound = info.mip_dual_bound - form.objective_offset if is_mip else None
+        return SolveReport("no_solution", None,
+                           bound if bound is not None and math.isfinite(bound) else None,
+                           seconds, "highs", f"stopped without a solution: {status.name}")
     return SolveReport("failed", None, None, seconds, "highs", f"HiGHS status {status.name}")
 
 
