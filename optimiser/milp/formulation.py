@@ -61,6 +61,13 @@ conservative velocity heads above; it passes the check, which judges it exactly.
 the run stops on the time limit the status is ``feasible`` and the gap says how far from
 proven it is.
 
+Reach models (:mod:`optimiser.milp.reduce`) use the same code on merged sections:
+``free_order`` reaches replace the staircases by binaries that pick the first and the
+last piece among the options used (any order, no check point inside), with an
+indicator that counts an A-B-A arrangement as two changes, and ``chainage_per_share_m``
+rounds a share's chainage up for the minimum piece length; both make the reach model a
+relaxation of this one.
+
 Rules in the integer programme: ``y`` is binary in every section; staircases ``CF``
 (first piece) and ``CL`` (last piece) are exact given ``y`` (``y <= CF``, increments of
 ``CF`` only where ``y = 1``); a use indicator set to 1 over a zero length ("spurious")

@@ -4,22 +4,25 @@ Sequence (each step keeps what the last one proved):
 
 1. Diagnosis without a solver (:mod:`optimiser.milp.diagnose`); a finding ends the run
    as ``infeasible``.
-2. The LP relaxation with the rules relaxed and the velocity-head binaries continuous.
-   Its value (less the largest value of a tie-break term, see below) is the reported
-   ``lp_bound``: no design of the model costs less. The LP is highly degenerate (many
-   arrangements of the same lengths cost the same), so its objective carries a tie-break
-   of relative size about 1e-7 that prefers larger diameters upstream; the solution then
-   has pieces sorted inside every reach instead of spurious alternations.
+2. The LP relaxation with the rules relaxed and the velocity-head binaries continuous,
+   by row generation on the reach model (:mod:`optimiser.milp.reduce`): pressure rows
+   only at points a previous round's design came within ``NEAR_M`` of violating, quiet
+   sections merged. Every round is a relaxation, so its value (less the largest value
+   of a tie-break term, see below) is a valid ``lp_bound``. The LP is highly degenerate
+   (many arrangements of the same lengths cost the same), so its objective carries a
+   tie-break of relative size about 1e-7 that prefers larger diameters upstream.
 3. The LP solution as a design: if it passes the check and the rules and costs within
    the gap of the bound, it is optimal and no integer programme is needed.
-4. Otherwise mixed-integer programmes of growing size, each warm-started from the best
-   design so far: options restricted to those the LP used near each section; with rules,
-   those a greedy rules repair of the LP design (:mod:`optimiser.milp.repair`) uses
-   near each section, then those the LP used anywhere (and their neighbours in size);
-   then the full model. A stage too large to build and solve in the time left is
-   skipped (recorded in ``stages``). Designs
-   of the reduced models are designs of the full model, so they are valid incumbents;
-   only the full model's bound (or the LP bound) is reported as a bound.
+4. Otherwise mixed-integer programmes, each warm-started from the best design so far:
+   options restricted to those the LP used near each section; with rules, those a
+   greedy rules repair of the LP design (:mod:`optimiser.milp.repair`) uses nearby;
+   then the reach model with the rules, a relaxation of the full model whose bound
+   raises the lower bound and whose design is checked (rows added where it came
+   close); then a large-neighbourhood search around the best design, the options the
+   LP used anywhere, and the full model. A stage too large to build and solve in the
+   time left is skipped (recorded in ``stages``). Designs of restricted models are
+   designs of the full model, so they are valid incumbents; only bounds of relaxations
+   (the LP, the reach model, the full model) are reported as bounds.
 
 Every design returned has passed :func:`optimiser.analysis.check_design` (the code of
 ``optimiser check``) and the rules; a design from an integer programme that fails them
