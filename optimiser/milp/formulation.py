@@ -114,8 +114,9 @@ class Formulation:
     y: dict[tuple[int, int], int] = field(default_factory=dict)
     picks: dict[tuple[str, int, int], int] = field(default_factory=dict)
     """First ("first") and last ("last") piece indicators of free-order reaches."""
-    extra_changes: list[int] = field(default_factory=list)
-    """Indicators of a free-order reach laid A B A (one change more than its uses)."""
+    extra_changes: dict[int, int] = field(default_factory=dict)
+    """Indicators of a free-order reach laid A B A (one change more than its uses), by
+    reach."""
     objective_offset: float = 0.0
     """Constant to add to the solver's objective and bound (the -1 of changes)."""
     tiebreak_max: float = 0.0
@@ -133,20 +134,26 @@ class Formulation:
             out[s, j] = min(max(float(self.values[column]), 0.0), 1.0)
         return out
 
-    def arrangement(self, s: int, share: np.ndarray) -> list[int]:
-        """Options of section (or reach) s with a positive share, in the order the
-        solution lays them: the section order, or for a free-order reach its chosen
-        first piece, the others in the section order, then its chosen last piece."""
+    def arrangement(self, s: int, share: np.ndarray) -> list[tuple[int, float]]:
+        """(option, share) pairs of section (or reach) s in the order the solution lays
+        them: the section order, or for a free-order reach its chosen first piece, the
+        others in the section order, then its chosen last piece."""
         order = [j for j in self.data.order if share[j] > 0]
         if self.values is None or ("first", s, order[0]) not in self.picks:
-            return order
+            return [(j, float(share[j])) for j in order]
+        values = self.values
 
         def chosen(end: str) -> int:
-            return max(order, key=lambda j: self.values[self.picks[end, s, j]])
+            return max(order, key=lambda j: values[self.picks[end, s, j]])
 
         first, last = chosen("first"), chosen("last")
-        middle = [j for j in order if j not in (first, last)]
-        return [first, *middle] + ([last] if last != first else [])
+        middle = [(j, float(share[j])) for j in order if j not in (first, last)]
+        if last != first:
+            return [(first, float(share[first])), *middle, (last, float(share[last]))]
+        # Laid A B A: the model does not say how A's share splits between its parts;
+        # A goes first (the check and the rules judge the result, and a design that
+        # misses them is re-optimised on the full model).
+        return [(first, float(share[first])), *middle]
 
     def warm_columns(self, warm: WarmStart) -> tuple[np.ndarray, np.ndarray]:
         """Column indices and values of a warm start (entries the model lacks dropped)."""
@@ -251,7 +258,7 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
                 # The same option first and last with another in between (A B A) has
                 # one change more than the uses count: an indicator adds it.
                 again = model.add_column(0.0, 1.0, integer=integer)
-                form.extra_changes.append(again)
+                form.extra_changes[s] = again
                 first_cols = [form.picks["first", s, j] for j in order]
                 last_cols = [form.picks["last", s, j] for j in order]
                 for a, (fc, lc) in enumerate(zip(first_cols, last_cols, strict=True)):
@@ -385,7 +392,7 @@ def _add_rules(form: Formulation, orders: list[list[int]],
                 model.at_most(var(column) - first_frac[s][j], 0.0)
     change_terms.extend((column, 1.0) for column in form.y.values())
     change_terms.extend((column, -1.0) for column in cont.values())
-    change_terms.extend((column, 1.0) for column in form.extra_changes)
+    change_terms.extend((column, 1.0) for column in form.extra_changes.values())
     if rules.max_changes is not None:
         model.add_row(change_terms, upper=float(rules.max_changes + 1))
     if rules.sizes_non_increasing:

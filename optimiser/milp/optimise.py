@@ -53,7 +53,7 @@ from optimiser.milp.reduce import (
 from optimiser.milp.repair import design_mask, repair
 from optimiser.milp.solvers import SOLVERS, SolveReport, relative_gap, solve
 from optimiser.milp.uniform import UniformDesign, cheapest_uniform, uniform_feasible
-from optimiser.model import Design, Study
+from optimiser.model import Design, Piece, Study
 
 TIEBREAK_RELATIVE = 1e-7
 MAX_ROW_ROUNDS = 12
@@ -197,6 +197,7 @@ def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndar
 
 NEIGHBOURHOOD = "MILP, neighbourhood of the best design"
 REACH_MODEL = "MILP, reach model with the rules"
+POLISH = "MILP, options of the reach model's design nearby"
 RESTRICTED_GAP = 1e-4
 
 
@@ -340,11 +341,20 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
 
     # 3. The LP's own design.
     consider(design_from_fractions(data, fractions), "LP relaxation", must_pass=False)
+    # The cheapest uniform design (reported anyway) is a design of every model with the
+    # rules: a first incumbent when the LP's design breaks them.
+    uniform = cheapest_uniform(data)
+    if uniform is not None:
+        end = study.route.total_chainage_m
+        consider(Design((Piece(0.0, end, uniform.option),)), "cheapest uniform design",
+                 must_pass=False)
 
     # The reach model with the rules. It is a relaxation of the full model (pressure
     # rows only where designs came close, reaches laid in any order, chainage of a
     # share rounded up), so its bound is a valid bound; its design, once the check has
     # passed it at every point and the rules hold, is a design of the full model.
+    unfinished: list[Design] = []
+
     def reach_rounds(share: float) -> DesignOutcome | None:
         nonlocal active, bound
         for round_number in range(1, MAX_ROW_ROUNDS + 1):
@@ -371,6 +381,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 return None
             design = design_from_reaches(data, reaches, form)
             consider(design, REACH_MODEL, must_pass=False)
+            if best is None or best.design is not design:
+                unfinished.append(design)  # polished on the full model below
             grown = active.union(_near_points(data, check_design(study, design,
                                                                  capacity=False)))
             if proven() or grown.count() == active.count():
@@ -392,7 +404,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 reach = max(width, 0.02 * study.route.total_chainage_m)
                 levels.append(("MILP, options of the rules-repaired design nearby",
                                design_mask(data, repaired, reach), 0.3))
-            levels.append((REACH_MODEL, None, 0.6))
+            levels.append((REACH_MODEL, None, 0.8))
             levels.append(("MILP, options the LP used anywhere and their neighbours",
                            _global_mask(data, used), 0.4))
         levels.append(("MILP, full model", None, 0.85))  # leave time to verify
@@ -401,7 +413,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
         # restriction of the full model, so its designs are valid incumbents.
         neighbourhood = {"radius": 1, "left": 25 if with_rules else 0, "cost": math.inf}
         reach_m = max(width, 0.02 * study.route.total_chainage_m)
-        starts_search = {REACH_MODEL}
+        starts_search = {REACH_MODEL, POLISH}
 
         def queue_search(name: str) -> None:
             searching = name in starts_search or name.startswith(NEIGHBOURHOOD)
@@ -426,6 +438,11 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 if proven():
                     break
                 queue_search(name)
+                if unfinished:
+                    # A reach design can miss the rules or a pressure by a little (the
+                    # reach model relaxes them): re-optimise around it on the full model.
+                    levels.insert(0, (POLISH, design_mask(data, unfinished[-1], reach_m),
+                                      0.3))
                 continue
             if mask is not None and (data.admissible & ~mask).sum() == 0:
                 continue  # the reduced model would be the full model
@@ -489,4 +506,4 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
             float(scenario.outlet_margin_m)))
     return outcome(status, design=best.design, check=final, total_cost=best.cost,
                    lower_bound=bound, gap=gap, lp_bound=lp_bound,
-                   uniform=cheapest_uniform(data), binding=binding, stages=stages)
+                   uniform=uniform, binding=binding, stages=stages)

@@ -159,10 +159,10 @@ def design_from_reaches(fine: ProblemData, reaches: Reaches, form: Formulation) 
             tiny[int(np.argmax(share))] = False
         share[int(np.argmax(np.where(tiny, -1.0, share)))] += share[tiny].sum()
         share[tiny] = 0.0
-        order = form.arrangement(r, share)
-        stops = np.cumsum(share[order]) * slope[-1]
+        order = [(j, part) for j, part in form.arrangement(r, share) if part > 0]
+        stops = np.cumsum([part for _, part in order]) * slope[-1]
         start = float(along[0])
-        for index, j in enumerate(order):
+        for index, (j, _) in enumerate(order):
             stop = float(along[-1]) if index == len(order) - 1 else \
                 float(np.interp(stops[index], slope, along))
             if stop > start:
