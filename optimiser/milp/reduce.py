@@ -132,7 +132,9 @@ def merge(data: ProblemData) -> Reaches:
         admissible=data.admissible[starts],
         screened_up=data.screened_up[nodes], screened_down=data.screened_down[nodes],
         screened_interior=np.logical_and.reduceat(data.screened_interior, starts),
-        free_order=(ends > starts) & (not data.study.rules.sizes_non_increasing),
+        # Any order inside a merged reach, also with sizes non-increasing (options of
+        # equal internal diameter may come in either order): a relaxation either way.
+        free_order=ends > starts,
         chainage_per_share_m=total(data.length_m) * np.maximum.reduceat(
             data.chainage_length_m / data.length_m, starts))
     return Reaches(merged, starts, ends)
