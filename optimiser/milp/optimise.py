@@ -322,7 +322,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
 
     best: _Candidate | None = None
 
-    def consider(design: Design, source: str, must_pass: bool) -> None:
+    def consider(design: Design, source: str, must_pass: bool) -> CheckResult:
+        """Check ``design``; keep it if it passes and the rules hold and it is cheaper."""
         nonlocal best
         result = check_design(study, design, capacity=False)
         problems = rule_problems(study, design)
@@ -332,9 +333,10 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 raise VerificationError(
                     f"the design from '{source}' fails the check (a bug in the "
                     f"formulation): {'; '.join(details)}")
-            return
+            return result
         if best is None or result.total_cost < best.cost - 1e-9 * abs(best.cost):
             best = _Candidate(design, result, result.total_cost, source)
+        return result
 
     def proven() -> bool:
         return best is not None and (relative_gap(best.cost, bound) or 0.0) <= mip_gap
@@ -380,11 +382,10 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
             if not report.has_solution:
                 return None
             design = design_from_reaches(data, reaches, form)
-            consider(design, REACH_MODEL, must_pass=False)
+            result = consider(design, REACH_MODEL, must_pass=False)
             if best is None or best.design is not design:
                 unfinished.append(design)  # polished on the full model below
-            grown = active.union(_near_points(data, check_design(study, design,
-                                                                 capacity=False)))
+            grown = active.union(_near_points(data, result))
             if proven() or grown.count() == active.count():
                 return None
             active = grown
