@@ -43,6 +43,15 @@ def design_from_fractions(data: ProblemData, fractions: np.ndarray) -> Design:
     return Design(tuple(pieces)).merged()
 
 
+def design_from_choice(data: ProblemData, choice: np.ndarray) -> Design:
+    """One option per whole section (``choice[s]``), merged."""
+    catalogue = data.study.catalogue
+    chainage = data.node_chainage_m
+    pieces = [Piece(float(chainage[s]), float(chainage[s + 1]), catalogue[int(j)])
+              for s, j in enumerate(choice)]
+    return Design(tuple(pieces)).merged()
+
+
 def section_use(data: ProblemData, design: Design) -> dict[tuple[str, int, int], float]:
     """Values of the model's ``x`` and ``y`` for a design laid in section order (for a
     warm start): fraction of each section's chainage per option, and use indicators."""

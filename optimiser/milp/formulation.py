@@ -124,6 +124,12 @@ class Formulation:
     n_binaries: int = 0
     values: np.ndarray | None = None
     """Column values of the last solution (set by the solver)."""
+    pressure_rows: list[tuple[int, str, int, int]] = field(default_factory=list)
+    """(row, side, scenario, index) of every pressure and outlet row: side "down"
+    (downstream side of node index), "up" (upstream side of node index), "inside"
+    (a boundary inside section index) or "outlet" (index = n)."""
+    row_duals: np.ndarray | None = None
+    """Row duals of the last solution of a linear programme (HiGHS only), else None."""
 
     def fractions(self) -> np.ndarray:
         """Solved fractions x[s, j] as an (n, m) array (clipped to [0, 1])."""
@@ -316,16 +322,18 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
                 start = Affine(list(running.terms), running.constant)
                 if not data.screened_down[s]:
                     assert head_first is not None
-                    model.at_least(start - head_first,
-                                   float(pipe[s] + data.node_min_pressure_m[s] + margin))
+                    row = model.at_least(start - head_first, float(
+                        pipe[s] + data.node_min_pressure_m[s] + margin))
+                    form.pressure_rows.append((row, "down", k, s))
                 if need_interior[s]:
                     drop = pipe[s + 1] - pipe[s]
                     cumulative: list[Term] = []
                     cl = cl_cols[s]
                     for t, j in enumerate(order):
-                        model.at_least(
+                        row = model.at_least(
                             start + Affine([*cumulative, (cl[t], -float(heads[k, s, j]))]),
                             float(pipe[s] + route_min + margin))
+                        form.pressure_rows.append((row, "inside", k, s))
                         cumulative.append((form.x[s, j],
                                            -float(data.section_loss_m[k, s, j] + drop)))
             running.terms.extend((form.x[s, j], -float(data.section_loss_m[k, s, j]))
@@ -335,19 +343,22 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
                 model.equal(var(column) - running, 0.0)
                 running = var(column)
             if not data.screened_up[s + 1]:
-                model.at_least(running - head_of(k, s, last_frac[s]),
-                               float(pipe[s + 1] + data.node_min_pressure_m[s + 1] + margin))
+                row = model.at_least(running - head_of(k, s, last_frac[s]), float(
+                    pipe[s + 1] + data.node_min_pressure_m[s + 1] + margin))
+                form.pressure_rows.append((row, "up", k, s + 1))
         last = n - 1
         head_last = head_of(k, last, last_frac[last]) if last_frac[last] else None
         outlet = Affine(list(running.terms), running.constant)
         if exit_k + k_node[n] > 0:
             assert head_last is not None
             outlet.add_in_place(head_last, -float(exit_k + k_node[n]))
-        model.at_least(outlet, float(study.outlet.required_head_m + margin))
+        row = model.at_least(outlet, float(study.outlet.required_head_m + margin))
+        form.pressure_rows.append((row, "outlet", k, n))
         if not data.screened_down[n] and k_node[n] > 0:
             assert head_last is not None
-            model.at_least(running - head_last.scaled(float(k_node[n] + 1.0)),
-                           float(pipe[n] + data.node_min_pressure_m[n] + margin))
+            row = model.at_least(running - head_last.scaled(float(k_node[n] + 1.0)),
+                                 float(pipe[n] + data.node_min_pressure_m[n] + margin))
+            form.pressure_rows.append((row, "down", k, n))
 
     change_terms: list[Term] = []
     if with_rules:

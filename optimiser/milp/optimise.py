@@ -40,8 +40,14 @@ import numpy as np
 from optimiser.analysis import CheckResult, check_design
 from optimiser.milp.data import ProblemData, prepare
 from optimiser.milp.diagnose import diagnose, diagnose_after
-from optimiser.milp.extract import design_from_fractions, rule_problems, section_use
+from optimiser.milp.extract import (
+    design_from_choice,
+    design_from_fractions,
+    rule_problems,
+    section_use,
+)
 from optimiser.milp.formulation import Formulation, WarmStart, build, rules_active
+from optimiser.milp.priced import priced_search, prices_from_lp
 from optimiser.milp.reduce import (
     ActivePoints,
     design_from_reaches,
@@ -198,6 +204,12 @@ def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndar
 NEIGHBOURHOOD = "MILP, neighbourhood of the best design"
 REACH_MODEL = "MILP, reach model with the rules"
 POLISH = "MILP, options of the reach model's design nearby"
+PRICED = "dynamic programme with the rules at pressure prices"
+PRICED_NEARBY = "MILP, options of the priced designs nearby"
+PRICED_SHARE = 0.1
+"""Share of the time left that the priced dynamic programme may take."""
+PRICED_OFFERS = 3
+"""Cheapest designs of the priced search that go through the check."""
 RESTRICTED_GAP = 1e-4
 
 
@@ -285,6 +297,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     # reach model: pressure rows only where a previous round's design came close.
     active = ActivePoints.none(data)
     lp_report: SolveReport | None = None
+    lp_first = np.arange(data.n_sections)  # first fine section of each reach of the LP
     fractions = np.zeros((data.n_sections, data.n_options))
     for round_number in range(1, MAX_ROW_ROUNDS + 1):
         begun = time.perf_counter()
@@ -297,6 +310,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
         lp_report = run(f"LP relaxation (rules relaxed), round {round_number}: "
                         f"{reaches.n_reaches} reaches, {active.count()} pressure points",
                         lp, None, 1.0, lp_build)
+        lp_first = reaches.first
         if not lp_report.has_solution:
             break
         fractions = refine(data, reaches, lp.fractions())
@@ -350,6 +364,28 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
         end = study.route.total_chainage_m
         consider(Design((Piece(0.0, end, uniform.option),)), "cheapest uniform design",
                  must_pass=False)
+
+    def priced_stage() -> np.ndarray | None:
+        """Designs that obey the rules by construction: a dynamic programme over whole
+        sections at pressure prices, moved by subgradient steps from the LP's duals
+        (CBC gives none: HiGHS solves the same LP once more for them). Returns the
+        options its rounds laid (for a restricted model), None if it could not run."""
+        begun = time.perf_counter()
+        if lp.row_duals is None:
+            solve(lp, "highs", time_limit_s=max(deadline - begun, 0.5), mip_gap=mip_gap)
+        prices = prices_from_lp(data, lp_first, lp)
+        if prices is None:
+            return None
+        budget = min(deadline, begun + PRICED_SHARE * (deadline - begun))
+        found, record = priced_search(data, prices, deadline=budget,
+                                      upper_bound=best.cost if best else None)
+        for _, choice in found[:PRICED_OFFERS]:
+            consider(design_from_choice(data, choice), PRICED, must_pass=False)
+        stages.append(Stage(
+            PRICED, "feasible" if found else "no_solution",
+            found[0][0] if found else None, None, time.perf_counter() - begun, 0, 0, 0,
+            f"{record.rounds} price rounds, {record.offered} designs clear every node"))
+        return record.used
 
     # The reach model with the rules. It is a relaxation of the full model (pressure
     # rows only where designs came close, reaches laid in any order, chainage of a
@@ -414,7 +450,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
         # restriction of the full model, so its designs are valid incumbents.
         neighbourhood = {"radius": 1, "left": 25 if with_rules else 0, "cost": math.inf}
         reach_m = max(width, 0.02 * study.route.total_chainage_m)
-        starts_search = {REACH_MODEL, POLISH}
+        starts_search = {REACH_MODEL, PRICED_NEARBY}
 
         def queue_search(name: str) -> None:
             searching = name in starts_search or name.startswith(NEIGHBOURHOOD)
@@ -438,12 +474,23 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                     return finished
                 if proven():
                     break
-                queue_search(name)
+                # Not proven: a reach design that misses the rules or a pressure by a
+                # little (the reach model relaxes them) is re-optimised around it on
+                # the full model; then the priced dynamic programme, a different route
+                # to designs; then the neighbourhood search around the best.
+                front: list[tuple[str, np.ndarray | None, float]] = []
                 if unfinished:
-                    # A reach design can miss the rules or a pressure by a little (the
-                    # reach model relaxes them): re-optimise around it on the full model.
-                    levels.insert(0, (POLISH, design_mask(data, unfinished[-1], reach_m),
+                    front.append((POLISH, design_mask(data, unfinished[-1], reach_m), 0.3))
+                front.append((PRICED, None, 0.0))
+                levels[0:0] = front
+                continue
+            if name == PRICED:
+                priced_used = priced_stage()
+                if priced_used is not None:
+                    levels.insert(0, (PRICED_NEARBY, _window_mask(data, priced_used, width),
                                       0.3))
+                else:
+                    queue_search(REACH_MODEL)
                 continue
             if mask is not None and (data.admissible & ~mask).sum() == 0:
                 continue  # the reduced model would be the full model

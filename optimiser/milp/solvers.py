@@ -121,6 +121,7 @@ def solve(form: Formulation, solver_name: str, *, time_limit_s: float, mip_gap: 
     time_limit_s = max(float(time_limit_s), 0.5)
     started = time.perf_counter()
     form.values = None
+    form.row_duals = None
     if solver_name == "highs":
         report = _solve_highs(form, time_limit_s, mip_gap, warm_start, msg, started)
     else:
@@ -157,7 +158,10 @@ def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
     has_point = info.primal_solution_status == 2  # a feasible point
     objective = None
     if has_point:
-        form.values = np.asarray(highs.getSolution().col_value, dtype=float)
+        solution = highs.getSolution()
+        form.values = np.asarray(solution.col_value, dtype=float)
+        if not is_mip and solution.dual_valid:
+            form.row_duals = np.asarray(solution.row_dual, dtype=float)
         objective = float(info.objective_function_value) - form.objective_offset
     if status == states.kOptimal:
         bound = (info.mip_dual_bound - form.objective_offset) if is_mip else objective
