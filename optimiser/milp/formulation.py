@@ -263,15 +263,20 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
             if count > 1:
                 # The same option first and last with another in between (A B A) has
                 # one change more than the uses count: an indicator adds it.
+                # both[a] >= first[a] + last[a] - 1 ("a is first and last"), and for
+                # every b: again >= sum of both[a] over a != b, + y[b] - 1. Exact at
+                # integer picks (the cost pushes both[] to its lower bound), 2 rows per
+                # option, and at least as tight as the rows
+                # again >= first[a] + last[a] + y[b] - 2 for every pair a != b.
                 again = model.add_column(0.0, 1.0, integer=integer)
                 form.extra_changes[s] = again
-                first_cols = [form.picks["first", s, j] for j in order]
-                last_cols = [form.picks["last", s, j] for j in order]
-                for a, (fc, lc) in enumerate(zip(first_cols, last_cols, strict=True)):
-                    for b, yc in enumerate(ys):
-                        if a != b:
-                            model.add_row([(fc, 1.0), (lc, 1.0), (yc, 1.0), (again, -1.0)],
-                                          upper=2.0)
+                both = [model.add_column(0.0, 1.0) for _ in order]
+                for j, column in zip(order, both, strict=True):
+                    model.add_row([(column, 1.0), (form.picks["first", s, j], -1.0),
+                                   (form.picks["last", s, j], -1.0)], lower=-1.0)
+                for b, yc in enumerate(ys):
+                    others = [(column, 1.0) for a, column in enumerate(both) if a != b]
+                    model.add_row([*others, (yc, 1.0), (again, -1.0)], upper=1.0)
             continue
         if need_first[s]:
             cf = [model.add_column(1.0 if t == count - 1 else 0.0, 1.0) for t in range(count)]
