@@ -153,6 +153,12 @@ def prepare(study: Study) -> ProblemData:
     return data
 
 
+def rescreen(data: ProblemData) -> None:
+    """Screen the check points again after options left ``data.admissible`` (fewer
+    options, smaller largest velocity head: more points that cannot bind)."""
+    _screen(data)
+
+
 def _screen(data: ProblemData) -> None:
     """Mark check points that no feasible design can bring down to their minimum.
 
@@ -186,3 +192,58 @@ def _screen(data: ProblemData) -> None:
     data.screened_up[:] = up
     data.screened_down[:] = down
     data.screened_interior[:] = interior
+
+
+def dominated_options(data: ProblemData) -> np.ndarray:
+    """Options no cheapest design needs: (m,) mask of options ``a`` such that another
+    option ``b`` is admissible in every section where ``a`` is and there costs no more,
+    loses no more head and has no larger velocity head in any scenario (so no smaller
+    internal diameter), and no other remaining option has an internal diameter between
+    theirs (inclusive).
+
+    Replacing every piece of ``a`` by ``b`` in place then keeps each piece where it was
+    and its place in the section order (descending internal diameter): pieces of the
+    same option that become adjacent merge, so changes only fall and pieces only grow;
+    energy nowhere falls and velocity heads nowhere rise, so every pressure and the
+    outlet head stay met; sizes stay non-increasing where they were (nothing remains
+    between ``a`` and ``b`` in size). So the options left hold a design at least as
+    cheap as any design that uses ``a``. This is the exact, rules-safe form of "drop
+    options off the lower hull of cost against head loss" (with rules on, an option off
+    that hull in one stretch may still be worth carrying on to save a change, so only
+    options dominated wherever they are admissible go). Removal is greedy and
+    repeated until nothing more goes.
+    """
+    m = data.n_options
+    admissible = data.admissible
+    diameter = np.array([o.internal_diameter_mm for o in data.study.catalogue])
+    tolerance = 1e-12
+    pairs: list[tuple[int, int]] = []
+    for a in range(m):
+        where = admissible[:, a]
+        if not where.any():
+            continue
+        for b in range(m):
+            if b == a or diameter[b] < diameter[a] or not admissible[where, b].all():
+                continue
+            if (data.section_cost[where, b] <= data.section_cost[where, a] + tolerance).all() \
+                    and (data.section_loss_m[:, where, b]
+                         <= data.section_loss_m[:, where, a] + tolerance).all() \
+                    and (data.velocity_head_m[:, where, b]
+                         <= data.velocity_head_m[:, where, a] + tolerance).all():
+                pairs.append((a, b))
+    remaining = admissible.any(axis=0)
+    gone = np.zeros(m, dtype=bool)
+    changed = True
+    while changed:
+        changed = False
+        for a, b in pairs:
+            if gone[a] or not remaining[b]:
+                continue
+            low, high = diameter[a], diameter[b]
+            between = remaining & (diameter >= low) & (diameter <= high)
+            between[[a, b]] = False
+            if not between.any():
+                gone[a] = True
+                remaining[a] = False
+                changed = True
+    return gone

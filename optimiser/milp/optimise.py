@@ -38,7 +38,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from optimiser.analysis import CheckResult, check_design
-from optimiser.milp.data import ProblemData, prepare
+from optimiser.milp.data import ProblemData, dominated_options, prepare, rescreen
 from optimiser.milp.diagnose import diagnose, diagnose_after
 from optimiser.milp.extract import (
     design_from_choice,
@@ -56,7 +56,7 @@ from optimiser.milp.reduce import (
     refine,
     with_active,
 )
-from optimiser.milp.repair import design_mask, repair
+from optimiser.milp.repair import covering_choice, design_mask, repair
 from optimiser.milp.solvers import SOLVERS, SolveReport, relative_gap, solve
 from optimiser.milp.uniform import UniformDesign, cheapest_uniform, uniform_feasible
 from optimiser.model import Design, Piece, Study
@@ -206,6 +206,9 @@ REACH_MODEL = "MILP, reach model with the rules"
 POLISH = "MILP, options of the reach model's design nearby"
 PRICED = "dynamic programme with the rules at pressure prices"
 PRICED_NEARBY = "MILP, options of the priced designs nearby"
+DOMINATED = "options dominated wherever they are admissible"
+COVERING = "rules-abiding design covering the LP's head losses"
+COVERING_NEARBY = "MILP, sizes near the covering design"
 PRICED_SHARE = 0.1
 """Share of the time left that the priced dynamic programme may take."""
 PRICED_OFFERS = 3
@@ -267,6 +270,16 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                        lower_bound=None, gap=None, lp_bound=None, diagnosis=findings)
 
     stages: list[Stage] = []
+    # Options dominated wherever they are admissible leave every model (exact: the
+    # options left hold a design at least as cheap; see dominated_options).
+    begun = time.perf_counter()
+    dominated = dominated_options(data)
+    if dominated.any():
+        data.admissible[:, dominated] = False
+        rescreen(data)
+    names = ", ".join(study.catalogue[int(j)].label for j in np.flatnonzero(dominated))
+    stages.append(Stage(DOMINATED, "done", None, None, time.perf_counter() - begun, 0, 0, 0,
+                        f"{int(dominated.sum())} set aside" + (f": {names}" if names else "")))
 
     # Seconds of model building per (section, option) pair, measured separately for
     # models with and without the rules (the rules add variables per pair).
@@ -441,6 +454,14 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 reach = max(width, 0.02 * study.route.total_chainage_m)
                 levels.append(("MILP, options of the rules-repaired design nearby",
                                design_mask(data, repaired, reach), 0.3))
+            covering = covering_choice(data, fractions)
+            if covering is not None:
+                covering_design = design_from_choice(data, covering)
+                consider(covering_design, COVERING, must_pass=False)
+                if repaired is None:
+                    reach = max(width, 0.02 * study.route.total_chainage_m)
+                    levels.append((COVERING_NEARBY, _neighbour_mask(
+                        data, covering_design, reach, 1), 0.3))
             levels.append((REACH_MODEL, None, 0.8))
             levels.append(("MILP, options the LP used anywhere and their neighbours",
                            _global_mask(data, used), 0.4))

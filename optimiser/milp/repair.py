@@ -98,3 +98,39 @@ def design_mask(data: ProblemData, design: Design, width_m: float) -> np.ndarray
                    data.n_sections - 1)
         used[first:last + 1, j] = True
     return used
+
+
+def covering_choice(data: ProblemData, fractions: np.ndarray) -> np.ndarray | None:
+    """One option per whole section, obeying the rules, each at least as good
+    hydraulically as the LP's mix in that section; the cheapest such (None if the rules
+    leave none).
+
+    An option qualifies in section ``s`` if it is admissible there and, in every
+    scenario, its head loss over the whole section is at most that of the LP's mix and
+    its velocity head at most that of the LP's smallest pipe in the section. A design of
+    qualifying options then has, at every survey node, at least the LP design's energy
+    and at most its velocity head: it meets every pressure the LP design met. The
+    cheapest rule-abiding sequence of them is found exactly by
+    :func:`optimiser.milp.sequence_dp.cheapest_sequence`. It is a heuristic (the check
+    judges the result): it trades cost for a design that obeys the rules by
+    construction where the greedy :func:`repair` gets stuck.
+    """
+    from optimiser.milp.sequence_dp import cheapest_sequence
+
+    study = data.study
+    used = fractions > 1e-9
+    loss = data.section_loss_m  # (K, n, m)
+    lp_loss = np.einsum("ksj,sj->ks", loss, np.clip(fractions, 0.0, None))
+    lp_head = np.where(used[None, :, :], data.velocity_head_m, 0.0).max(axis=2)
+    tolerance = 1e-9
+    good = data.admissible.copy()
+    good &= (loss <= lp_loss[:, :, None] + tolerance).all(axis=0)
+    good &= (data.velocity_head_m <= lp_head[:, :, None] + tolerance).all(axis=0)
+    rate = np.where(good, data.section_cost, np.inf)
+    diameter = None
+    if study.rules.sizes_non_increasing:
+        diameter = np.array([o.internal_diameter_mm for o in study.catalogue])
+    return cheapest_sequence(rate, data.chainage_length_m,
+                             max_changes=study.rules.max_changes,
+                             min_length_m=study.rules.min_piece_length_m,
+                             change_cost=study.costs.change_cost, diameter_mm=diameter)
