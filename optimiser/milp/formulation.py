@@ -37,6 +37,12 @@ Left out because they provably cannot bind (see :func:`optimiser.milp.data._scre
 pressure constraints at points whose pipe is so far below the lowest energy any feasible
 design can have there that no velocity head can bring them to their minimum.
 
+Left out because another option does at least as well (see
+:func:`optimiser.milp.data.dominated_options`, applied by the optimiser before any
+model is built): options dominated wherever they are admissible. Replacing each such
+option by its dominator keeps every design of this model a design of it, at no more
+cost, so the optimum is the same.
+
 Conservative (may exclude a design the check would pass, never the reverse):
 
 - at the start of a section (entrance loss, a fitting's loss, the downstream side of a
