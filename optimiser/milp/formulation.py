@@ -136,6 +136,8 @@ class Formulation:
     (a boundary inside section index) or "outlet" (index = n)."""
     row_duals: np.ndarray | None = None
     """Row duals of the last solution of a linear programme (HiGHS only), else None."""
+    column_duals: np.ndarray | None = None
+    """Reduced costs of the last solution of a linear programme (HiGHS only)."""
 
     def fractions(self) -> np.ndarray:
         """Solved fractions x[s, j] as an (n, m) array (clipped to [0, 1])."""

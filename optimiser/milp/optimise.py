@@ -6,11 +6,13 @@ Sequence (each step keeps what the last one proved):
    as ``infeasible``.
 2. The LP relaxation with the rules relaxed and the velocity-head binaries continuous,
    by row generation on the reach model (:mod:`optimiser.milp.reduce`): pressure rows
-   only at points a previous round's design came within ``NEAR_M`` of violating, quiet
-   sections merged. Every round is a relaxation, so its value (less the largest value
-   of a tie-break term, see below) is a valid ``lp_bound``. The LP is highly degenerate
-   (many arrangements of the same lengths cost the same), so its objective carries a
-   tie-break of relative size about 1e-7 that prefers larger diameters upstream.
+   only at the deepest point of each run of points a previous round's design violated
+   and, once one violates nothing, at the points it came within ``NEAR_M`` of
+   violating; quiet sections merged. Every round is a relaxation, so its value (less
+   the largest value of a tie-break term, see below) is a valid ``lp_bound``. The LP is
+   highly degenerate (many arrangements of the same lengths cost the same), so its
+   objective carries a tie-break of relative size about 1e-7 that prefers larger
+   diameters upstream.
 3. The LP solution as a design: if it passes the check and the rules and costs within
    the gap of the bound, it is optimal and no integer programme is needed.
 4. Otherwise mixed-integer programmes, each warm-started from the best design so far:
@@ -18,7 +20,11 @@ Sequence (each step keeps what the last one proved):
    greedy rules repair of the LP design (:mod:`optimiser.milp.repair`) uses nearby;
    then the reach model with the rules, a relaxation of the full model whose bound
    raises the lower bound and whose design is checked (rows added where it came
-   close); then a large-neighbourhood search around the best design, the options the
+   close), with the options no design cheaper than the best so far can use left out
+   (reduced-cost fixing on the LP, :mod:`optimiser.milp.fixing`); when the best
+   design is still far above the bound, small reach models (options the reach
+   model's LP relaxation or the best design uses, and the sizes next to them) look
+   for designs first; then a large-neighbourhood search around the best design, the options the
    LP used anywhere, and the full model. A stage too large to build and solve in the
    time left is skipped (recorded in ``stages``). Designs of restricted models are
    designs of the full model, so they are valid incumbents; only bounds of relaxations
@@ -46,6 +52,7 @@ from optimiser.milp.extract import (
     rule_problems,
     section_use,
 )
+from optimiser.milp.fixing import allowed_below
 from optimiser.milp.formulation import Formulation, WarmStart, build, rules_active
 from optimiser.milp.priced import priced_search, prices_from_lp
 from optimiser.milp.reduce import (
@@ -64,8 +71,10 @@ from optimiser.model import Design, Piece, Study
 TIEBREAK_RELATIVE = 1e-7
 MAX_ROW_ROUNDS = 12
 NEAR_M = 0.3
-"""Row generation adds every check point whose pressure came within this of its
-minimum [m] in the last round's design."""
+"""Once a round's design violates nothing, row generation adds every check point whose
+pressure came within this of its minimum [m]."""
+VIOLATION_M = 1e-6
+"""A pressure below its minimum by more than this [m] counts as violated."""
 
 
 class SolverError(RuntimeError):
@@ -165,15 +174,30 @@ def _size(form: Formulation) -> tuple[int, int]:
 
 
 def _near_points(data: ProblemData, result: CheckResult) -> ActivePoints:
-    """Check points (not screened out) whose pressure in ``result`` is within NEAR_M of
-    the minimum in some scenario: a node adds both its sides, a point inside a section
-    adds the inside of that section and its end nodes."""
+    """Check points (not screened out) to add to the model after ``result``.
+
+    While the design violates some pressure, only the deepest point of each run of
+    violated points (per scenario) is added: on a long ridge the whole run is usually
+    cleared once its deepest point is, and every point added splits a reach, so adding
+    them all makes the integer programmes far larger than they need be. Once nothing is
+    violated, every point within NEAR_M of its minimum is added. A node adds both its
+    sides, a point inside a section adds the inside of that section and its end nodes.
+    """
     wanted = ActivePoints.none(data)
     chainage = data.node_chainage_m
-    for scenario in result.scenarios:
-        points = scenario.points
-        margin = (points["pressure_m"] - points["min_pressure_m"]).to_numpy()
-        close = points["chainage_m"].to_numpy()[margin < NEAR_M]
+    margins = [(scenario.points["chainage_m"].to_numpy(),
+                (scenario.points["pressure_m"] - scenario.points["min_pressure_m"]).to_numpy())
+               for scenario in result.scenarios]
+    violated = any((margin < -VIOLATION_M).any() for _, margin in margins)
+    for along, margin in margins:
+        if violated:
+            bad = margin < -VIOLATION_M
+            edges = np.flatnonzero(np.diff(np.concatenate([[0], bad.astype(int), [0]])))
+            deepest = [a + int(np.argmin(margin[a:b])) for a, b in zip(edges[::2],
+                                                                      edges[1::2], strict=True)]
+            close = along[deepest]
+        else:
+            close = along[margin < NEAR_M]
         if not len(close):
             continue
         index = np.clip(np.searchsorted(chainage, close), 0, data.n_sections)
@@ -204,6 +228,12 @@ def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndar
 NEIGHBOURHOOD = "MILP, neighbourhood of the best design"
 REACH_MODEL = "MILP, reach model with the rules"
 POLISH = "MILP, options of the reach model's design nearby"
+HEURISTIC_GAP = 0.005
+"""Small reach models look for designs first when the best design is further than this
+(relative) above the bound: the whole reach model then spends its root node on cuts
+before it finds designs."""
+REACH_RELAXED = "LP, reach model with the rules (binaries relaxed)"
+REACH_NEARBY = "MILP, reach model, options its LP or the best design uses"
 PRICED = "dynamic programme with the rules at pressure prices"
 PRICED_NEARBY = "MILP, options of the priced designs nearby"
 DOMINATED = "options dominated wherever they are admissible"
@@ -216,19 +246,29 @@ PRICED_OFFERS = 3
 RESTRICTED_GAP = 1e-4
 
 
+def _widened(data: ProblemData, base: np.ndarray, radius: int) -> np.ndarray:
+    """``base`` (n, m) with, in each section, the admissible options within ``radius``
+    places of a chosen one in the section's size order."""
+    mask = base & data.admissible
+    if radius <= 0:
+        return mask
+    out = mask.copy()
+    for s in range(data.n_sections):
+        order = data.order[data.admissible[s, data.order]]
+        chosen = mask[s, order]
+        grown = chosen.copy()
+        for shift in range(1, radius + 1):
+            grown[shift:] |= chosen[:-shift]
+            grown[:-shift] |= chosen[shift:]
+        out[s, order] = grown
+    return out
+
+
 def _neighbour_mask(data: ProblemData, design: Design, width_m: float, radius: int
                     ) -> np.ndarray:
     """Options the design uses near each section, and those within ``radius`` places of
-    them in the size order."""
-    base = design_mask(data, design, width_m)
-    by_rank = base[:, data.order]
-    widened = by_rank.copy()
-    for shift in range(1, radius + 1):
-        widened[:, shift:] |= by_rank[:, :-shift]
-        widened[:, :-shift] |= by_rank[:, shift:]
-    mask = np.empty_like(base)
-    mask[:, data.order] = widened
-    return mask & data.admissible
+    them in the section's size order."""
+    return _widened(data, design_mask(data, design, width_m), radius)
 
 
 def _global_mask(data: ProblemData, used: np.ndarray) -> np.ndarray:
@@ -365,6 +405,11 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
             best = _Candidate(design, result, result.total_cost, source)
         return result
 
+    def best_gap() -> float:
+        if best is None:
+            return math.inf
+        return relative_gap(best.cost, bound) or 0.0
+
     def proven() -> bool:
         return best is not None and (relative_gap(best.cost, bound) or 0.0) <= mip_gap
 
@@ -406,6 +451,74 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     # passed it at every point and the rules hold, is a design of the full model.
     unfinished: list[Design] = []
 
+    def fixed(reaches) -> np.ndarray | None:
+        """Options of each reach that a design cheaper than the best so far may use
+        (reduced-cost fixing on the LP; a reach keeps an option if any of its sections
+        does); None: no fixing."""
+        if best is None:
+            return None
+        fine_ok = allowed_below(data, lp_first, lp, lp_report.objective, best.cost)
+        if fine_ok is None:
+            return None
+        allowed = np.logical_or.reduceat(fine_ok, reaches.first, axis=0)
+        if not (allowed & reaches.data.admissible).any(axis=1).all():
+            return None  # only by solver noise: keep the model whole
+        return allowed
+
+    def polish(design: Design, source: str) -> None:
+        """Check a design; if it misses a pressure or a rule (a relaxation's design),
+        re-optimise the full model restricted to the options it uses nearby."""
+        result = consider(design, source, must_pass=False)
+        if result.ok and not rule_problems(study, design):
+            return
+        begun = time.perf_counter()
+        form = build(data, allowed=design_mask(data, design, reach_m), with_rules=True)
+        report = run(POLISH, form, section_use(data, best.design) if best else None, 0.3,
+                     time.perf_counter() - begun, min(mip_gap, RESTRICTED_GAP))
+        if report.has_solution:
+            consider(design_from_fractions(data, form.fractions()), POLISH, must_pass=True)
+
+    def reach_heuristics(reaches, allowed: np.ndarray | None) -> None:
+        """Designs from small reach models, before the whole reach model: its LP
+        relaxation (a valid bound), then the reach model restricted to the options that
+        relaxation uses and the sizes next to them (relaxation-induced neighbourhood
+        search, Danna, Rothberg & Le Pape 2005), then to the options of the best design
+        and the sizes within one and two places. Each design is checked and, if it
+        misses, polished on the full model."""
+        nonlocal bound
+        begun = time.perf_counter()
+        relaxed = build(reaches.data, with_rules=True, allowed=allowed, relaxed=True)
+        report = run(REACH_RELAXED, relaxed, None, 1.0, time.perf_counter() - begun)
+        if not report.has_solution or relaxed.values is None:
+            return
+        if report.objective is not None:
+            bound = max(bound, report.objective)
+        if proven():
+            return
+        chosen = np.zeros_like(reaches.data.admissible)
+        for (r, j), column in relaxed.y.items():
+            chosen[r, j] = relaxed.values[column] > 1e-6
+        tried: list[np.ndarray] = []
+        for radius in (1, 1, 2):
+            if proven() or time.perf_counter() > deadline - 0.5:
+                return
+            near = chosen.copy()
+            if best is not None:
+                for (kind, r, j), value in reach_use(data, reaches, best.design).items():
+                    if kind == "x" and value > 1e-9:
+                        near[r, j] = True
+            mask = _widened(reaches.data, near, radius)
+            if any(np.array_equal(mask, old) for old in tried):
+                continue  # the same model again: nothing new to find
+            tried.append(mask)
+            begun = time.perf_counter()
+            small = build(reaches.data, with_rules=True, allowed=mask)
+            report = run(f"{REACH_NEARBY} (size radius {radius})", small,
+                         reach_use(data, reaches, best.design) if best else None, 0.15,
+                         time.perf_counter() - begun)
+            if report.has_solution:
+                polish(design_from_reaches(data, reaches, small), REACH_NEARBY)
+
     def reach_rounds(share: float) -> DesignOutcome | None:
         nonlocal active, bound
         for round_number in range(1, MAX_ROW_ROUNDS + 1):
@@ -413,8 +526,16 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 return None
             begun = time.perf_counter()
             reaches = merge(with_active(data, active))
-            form = build(reaches.data, with_rules=True)
+            allowed = fixed(reaches)
             warm = reach_use(data, reaches, best.design) if best is not None else None
+            if round_number == 1 and best_gap() > max(2.0 * mip_gap, HEURISTIC_GAP):
+                reach_heuristics(reaches, allowed)
+                if proven():
+                    return None
+                warm = reach_use(data, reaches, best.design) if best is not None else None
+                allowed = fixed(reaches) if best is not None else allowed
+                begun = time.perf_counter()
+            form = build(reaches.data, with_rules=True, allowed=allowed)
             report = run(f"{REACH_MODEL}, round {round_number}: {reaches.n_reaches} "
                          f"reaches, {active.count()} pressure points",
                          form, warm, share, time.perf_counter() - begun)

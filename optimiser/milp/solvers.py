@@ -122,6 +122,7 @@ def solve(form: Formulation, solver_name: str, *, time_limit_s: float, mip_gap: 
     started = time.perf_counter()
     form.values = None
     form.row_duals = None
+    form.column_duals = None
     if solver_name == "highs":
         report = _solve_highs(form, time_limit_s, mip_gap, warm_start, msg, started)
     else:
@@ -162,6 +163,7 @@ def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
         form.values = np.asarray(solution.col_value, dtype=float)
         if not is_mip and solution.dual_valid:
             form.row_duals = np.asarray(solution.row_dual, dtype=float)
+            form.column_duals = np.asarray(solution.col_dual, dtype=float)
         objective = float(info.objective_function_value) - form.objective_offset
     if status == states.kOptimal:
         bound = (info.mip_dual_bound - form.objective_offset) if is_mip else objective
