@@ -228,6 +228,9 @@ def _window_mask(data: ProblemData, used: np.ndarray, width_m: float) -> np.ndar
 NEIGHBOURHOOD = "MILP, neighbourhood of the best design"
 REACH_MODEL = "MILP, reach model with the rules"
 POLISH = "MILP, options of the reach model's design nearby"
+FINE_FIRST = 2.0
+"""A restricted model of the fine sections runs before the reach model with the rules
+only if it has at most this many times the reach model's (reach, option) pairs."""
 HEURISTIC_GAP = 0.005
 """Small reach models look for designs first when the best design is further than this
 (relative) above the bound: the whole reach model then spends its root node on cuts
@@ -583,7 +586,14 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                     reach = max(width, 0.02 * study.route.total_chainage_m)
                     levels.append((COVERING_NEARBY, _neighbour_mask(
                         data, covering_design, reach, 1), 0.3))
-            levels.append((REACH_MODEL, None, 0.8))
+            # Restricted models of the fine sections go before the reach model only while
+            # they are small beside it (on long routes they cost more than the reach
+            # model, which finds their designs and proves them as well).
+            reach_pairs = int(lp.data.admissible.sum())
+            small = [level for level in levels
+                     if int((data.admissible & level[1]).sum()) <= FINE_FIRST * reach_pairs]
+            large = [level for level in levels if not any(level is kept for kept in small)]
+            levels = [*small, (REACH_MODEL, None, 0.8), *large]
             levels.append(("MILP, options the LP used anywhere and their neighbours",
                            _global_mask(data, used), 0.4))
         levels.append(("MILP, full model", None, 0.85))  # leave time to verify
