@@ -65,6 +65,26 @@ def run_case(study_path: str, solver: str, time_limit_s: float) -> dict:
     return result
 
 
+def run_full_lp(study_path: str) -> dict:
+    """The plain LP relaxation of the full model on one instance (rules relaxed, a
+    pressure row at every check point not screened out, no row generation): prepare +
+    build + solve, in this process. The reference for "x times the LP relaxation"."""
+    import warnings
+
+    warnings.filterwarnings("ignore")
+    from optimiser import load_study
+    from optimiser.milp import prepare
+    from optimiser.milp.formulation import build
+    from optimiser.milp.solvers import solve
+
+    study = load_study(study_path)
+    started = time.perf_counter()
+    form = build(prepare(study), with_rules=False, relaxed=True)
+    report = solve(form, "highs", time_limit_s=600.0, mip_gap=1e-4)
+    return {"full_lp_s": time.perf_counter() - started, "full_lp_status": report.status,
+            "full_lp_value": report.objective}
+
+
 def run_ga(study_path: str, seconds: float, seed: int = 1) -> dict:
     """pymoo GA: one catalogue option per section, constraints = pressure and outlet
     margins (contract section 5, vectorised), best feasible design confirmed by the check."""
@@ -174,7 +194,11 @@ def main() -> None:
     parser.add_argument("--output", type=Path, default=HERE / "RESULTS.md")
     parser.add_argument("--case", nargs=3, help=argparse.SUPPRESS)
     parser.add_argument("--ga", nargs=2, help=argparse.SUPPRESS)
+    parser.add_argument("--full-lp", nargs=1, help=argparse.SUPPRESS)
     args = parser.parse_args()
+    if args.full_lp:
+        print(json.dumps(run_full_lp(args.full_lp[0])))
+        return
     if args.case:
         print(json.dumps(run_case(args.case[0], args.case[1], float(args.case[2]))))
         return
@@ -185,14 +209,16 @@ def main() -> None:
     folder = Path(tempfile.mkdtemp(prefix="pipe_bench_"))
     rows = []
     header = ("| sections | rules | solver | status | wall s | peak MB | cost | bound | gap |"
-              " LP s | pieces |")
+              " LP s | full LP s | pieces |")
     print(header)
     for size in args.sizes:
         for rules in (False, True):
             study = write(folder / f"{size}_{'on' if rules else 'off'}", size, rules=rules)
+            full_lp = _child("full-lp", str(study))
             for solver in args.solvers:
                 figures = _child("case", str(study), solver, str(args.time_limit))
-                figures.update({"sections": size, "rules": rules, "solver": solver})
+                figures.update({"sections": size, "rules": rules, "solver": solver,
+                                "full_lp_s": full_lp.get("full_lp_s")})
                 rows.append(figures)
                 line = (f"| {size} | {'on' if rules else 'off'} | {solver} | "
                         f"{figures.get('status', 'error')} | "
@@ -202,6 +228,7 @@ def main() -> None:
                         f"{_fmt(figures.get('bound'), ',.0f')} | "
                         f"{_fmt(figures.get('gap'), '.1e')} | "
                         f"{_fmt(figures.get('lp_s'), '.1f')} | "
+                        f"{_fmt(figures.get('full_lp_s'), '.1f')} | "
                         f"{_fmt(figures.get('pieces'), 'd')} |")
                 print(line, flush=True)
     ga = None
@@ -229,24 +256,29 @@ def write_results(args, rows: list[dict], ga: dict | None) -> None:
         f"Python {platform.python_version()}.",
         "",
         "Wall = whole run (load, models, solves, verification by the check, uniform "
-        "comparison); LP = the LP relaxation's build + solve (all its row-generation "
-        "rounds) on the same instance.",
+        "comparison); LP = the optimiser's own LP relaxation, build + solve of all its "
+        "row-generation rounds; full LP = the plain LP relaxation of the full model "
+        "(rules relaxed, a row at every check point that can bind, no row generation), "
+        "prepare + build + solve, on the same instance; x LP = wall / full LP.",
         "",
         "| sections | rules | solver | status | wall s | peak MB | cost | bound | gap | LP s |"
-        " pieces | note |",
-        "|---:|:---|:---|:---|---:|---:|---:|---:|---:|---:|---:|:---|",
+        " full LP s | x LP | pieces | note |",
+        "|---:|:---|:---|:---|---:|---:|---:|---:|---:|---:|---:|---:|---:|:---|",
     ]
     for r in rows:
         note = r.get("error", "")[:80]
         if not note and r.get("stages"):
             last = [s for s in r["stages"] if s["status"] != "skipped"][-1]
             note = f"last stage: {last['name']} ({last['status']})"
+        ratio = (r["wall_s"] / r["full_lp_s"]) if r.get("wall_s") and r.get("full_lp_s") \
+            else None
         lines.append(
             f"| {r['sections']} | {'on' if r['rules'] else 'off'} | {r['solver']} | "
             f"{r.get('status', 'error')} | {_fmt(r.get('wall_s'), '.1f')} | "
             f"{_fmt(r.get('peak_mb'), '.0f')} | {_fmt(r.get('cost'), ',.0f')} | "
             f"{_fmt(r.get('bound'), ',.0f')} | {_fmt(r.get('gap'), '.1e')} | "
-            f"{_fmt(r.get('lp_s'), '.1f')} | {_fmt(r.get('pieces'), 'd')} | {note} |")
+            f"{_fmt(r.get('lp_s'), '.1f')} | {_fmt(r.get('full_lp_s'), '.1f')} | "
+            f"{_fmt(ratio, '.1f')} | {_fmt(r.get('pieces'), 'd')} | {note} |")
     if ga is not None:
         lines += ["", "## Genetic algorithm (pymoo GA) on the same instance",
                   "",
