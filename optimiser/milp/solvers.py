@@ -183,6 +183,10 @@ def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
     return SolveReport("failed", None, None, seconds, "highs", f"HiGHS status {status.name}")
 
 
+CBC_HARD_STOP = 1.25
+CBC_GRACE_S = 2.0
+"""CBC is stopped after CBC_HARD_STOP x its time limit + CBC_GRACE_S seconds."""
+
 _CBC_BOUND = re.compile(r"^Lower bound:\s+(\S+)", re.MULTILINE)
 _CBC_PARTIAL = re.compile(r"best possible\s+(-?[0-9.eE+]+)")
 
@@ -222,8 +226,14 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
                 command += ["-mips", str(start)]
         command += ["-solve" if is_mip else "-initialSolve", "-solution", str(solution)]
         try:
+            # CBC checks its -sec limit only between some of its steps (preprocessing and
+            # root cuts can run far past it): a hard stop keeps the run near its limit.
             run = subprocess.run(command, capture_output=True, text=True, check=False,
-                                 stdin=subprocess.DEVNULL)
+                                 stdin=subprocess.DEVNULL,
+                                 timeout=CBC_HARD_STOP * time_limit_s + CBC_GRACE_S)
+        except subprocess.TimeoutExpired:
+            return SolveReport("no_solution", None, None, time.perf_counter() - started,
+                               "cbc", "CBC ran past its time limit and was stopped")
         except OSError as error:
             return SolveReport("failed", None, None, time.perf_counter() - started, "cbc",
                                f"CBC could not be started: {error}")
