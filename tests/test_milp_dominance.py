@@ -23,7 +23,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from test_milp_reduce import undulating_profile
+from test_milp_priced import undulating_rules_study
 from test_milp_support import write_study
 
 import optimiser.milp.optimise as optimise_module
@@ -108,15 +108,7 @@ def test_setting_dominated_options_aside_keeps_the_optimum(tmp_path, monkeypatch
 
 
 def test_covering_design_obeys_the_rules_and_passes_the_check(tmp_path):
-    path = write_study(
-        tmp_path, profile=undulating_profile(), source_level_m=106.0, required_head_m=58.0,
-        friction="colebrook-white", route={"min_pressure_m": 2.0, "local_k_per_km": 0.3},
-        scenarios=[{"name": "today", "flow": "25 L/s"},
-                   {"name": "horizon", "flow": "32 L/s", "roughness_factor": 2.0}],
-        offtakes=[{"chainage_m": 2500.0, "flow": "3 L/s", "min_pressure_m": 8.0}],
-        rules={"min_piece_length_m": 300.0, "max_changes": 2},
-        costs={"change_cost": 500.0})
-    study = load_study(path)
+    study = undulating_rules_study(tmp_path)
     data = prepare(study)
     lp = build(data, with_rules=False, relaxed=True)
     assert solve(lp, "highs", time_limit_s=30.0, mip_gap=1e-6).status == "optimal"

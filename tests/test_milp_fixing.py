@@ -17,11 +17,9 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from test_milp_reduce import undulating_profile
-from test_milp_support import write_study
+from test_milp_priced import undulating_rules_study
 
 import optimiser.milp.optimise as optimise_module
-from optimiser import load_study
 from optimiser.milp import optimise_design, prepare
 from optimiser.milp.fixing import allowed_below, window_minimum
 from optimiser.milp.formulation import build
@@ -64,16 +62,7 @@ def test_window_minimum_matches_a_scan(seed):
 
 @pytest.fixture(scope="module")
 def study(tmp_path_factory):
-    path = write_study(
-        tmp_path_factory.mktemp("fixing"), profile=undulating_profile(),
-        source_level_m=106.0, required_head_m=58.0, friction="colebrook-white",
-        route={"min_pressure_m": 2.0, "local_k_per_km": 0.3},
-        scenarios=[{"name": "today", "flow": "25 L/s"},
-                   {"name": "horizon", "flow": "32 L/s", "roughness_factor": 2.0}],
-        offtakes=[{"chainage_m": 2500.0, "flow": "3 L/s", "min_pressure_m": 8.0}],
-        rules={"min_piece_length_m": 300.0, "max_changes": 2},
-        costs={"change_cost": 500.0})
-    return load_study(path)
+    return undulating_rules_study(tmp_path_factory.mktemp("fixing"))
 
 
 def test_fixing_keeps_the_options_of_the_optimum(study):

@@ -95,18 +95,23 @@ def test_dynamic_programme_matches_enumeration(seed):
                                                                              rel=1e-12)
 
 
-@pytest.fixture(scope="module")
-def study(tmp_path_factory):
-    path = write_study(
-        tmp_path_factory.mktemp("priced"), profile=undulating_profile(),
+def undulating_rules_study(folder):
+    """An invented 4 km route with a bump, two scenarios, an offtake and the rules on
+    (also used by the fixing and dominance tests)."""
+    return load_study(write_study(
+        folder, profile=undulating_profile(),
         source_level_m=106.0, required_head_m=58.0, friction="colebrook-white",
         route={"min_pressure_m": 2.0, "local_k_per_km": 0.3},
         scenarios=[{"name": "today", "flow": "25 L/s"},
                    {"name": "horizon", "flow": "32 L/s", "roughness_factor": 2.0}],
         offtakes=[{"chainage_m": 2500.0, "flow": "3 L/s", "min_pressure_m": 8.0}],
         rules={"min_piece_length_m": 300.0, "max_changes": 2},
-        costs={"change_cost": 500.0})
-    return load_study(path)
+        costs={"change_cost": 500.0}))
+
+
+@pytest.fixture(scope="module")
+def study(tmp_path_factory):
+    return undulating_rules_study(tmp_path_factory.mktemp("priced"))
 
 
 def test_node_margins_agree_with_the_check(study):
