@@ -484,10 +484,10 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     def reach_heuristics(reaches, allowed: np.ndarray | None) -> None:
         """Designs from small reach models, before the whole reach model: its LP
         relaxation (a valid bound), then the reach model restricted to the options that
-        relaxation uses and the sizes next to them (relaxation-induced neighbourhood
-        search, Danna, Rothberg & Le Pape 2005), then to the options of the best design
-        and the sizes within one and two places. Each design is checked and, if it
-        misses, polished on the full model."""
+        relaxation or the best design uses and the sizes next to them
+        (relaxation-induced neighbourhood search, Danna, Rothberg & Le Pape 2005), once
+        more around a better design, then with the sizes within two places. Each design
+        is checked and, if it misses, polished on the full model."""
         nonlocal bound
         begun = time.perf_counter()
         relaxed = build(reaches.data, with_rules=True, allowed=allowed, relaxed=True)
@@ -536,7 +536,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                 if proven():
                     return None
                 warm = reach_use(data, reaches, best.design) if best is not None else None
-                allowed = fixed(reaches) if best is not None else allowed
+                allowed = fixed(reaches)  # with the better design, more goes
                 begun = time.perf_counter()
             form = build(reaches.data, with_rules=True, allowed=allowed)
             report = run(f"{REACH_MODEL}, round {round_number}: {reaches.n_reaches} "
