@@ -39,3 +39,30 @@ def test_highs_and_cbc_agree(tmp_path, rules, costs):
     assert highs.status == cbc.status == "optimal"
     assert highs.verified and cbc.verified
     assert cbc.total_cost == pytest.approx(highs.total_cost, rel=2 * GAP)
+
+
+@pytest.mark.parametrize("gap", [1e-6, 1e-3])
+def test_cbc_objective_and_bound_on_a_model_with_an_offset(tmp_path, gap):
+    """The change cost puts a constant in the objective (changes = uses - continuations
+    - 1): CBC must report the same optimum as HiGHS, and when it stops at its gap its
+    bound must be within that gap of its objective, never above it."""
+    from test_milp_priced import undulating_rules_study
+
+    from optimiser.milp import prepare
+    from optimiser.milp.formulation import build
+    from optimiser.milp.solvers import solve
+
+    study = undulating_rules_study(tmp_path)
+    data = prepare(study)
+    reports = {}
+    for name in ("highs", "cbc"):
+        form = build(data, with_rules=True)
+        assert form.objective_offset != 0
+        reports[name] = solve(form, name, time_limit_s=60.0, mip_gap=gap)
+    highs, cbc = reports["highs"], reports["cbc"]
+    assert highs.status == cbc.status == "optimal"
+    assert cbc.objective == pytest.approx(highs.objective, rel=2 * gap)
+    assert cbc.bound is not None
+    assert cbc.bound <= cbc.objective + 1e-6 * abs(cbc.objective)
+    assert cbc.bound >= cbc.objective - (gap + 1e-9) * abs(cbc.objective)
+    assert cbc.bound <= highs.objective * (1 + 1e-9)  # a bound, below the optimum

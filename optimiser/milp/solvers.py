@@ -189,6 +189,32 @@ CBC_GRACE_S = 2.0
 
 _CBC_BOUND = re.compile(r"^Lower bound:\s+(\S+)", re.MULTILINE)
 _CBC_PARTIAL = re.compile(r"best possible\s+(-?[0-9.eE+]+)")
+_CBC_ROOT = re.compile(r"Cuts at root node changed objective from \S+ to (\S+)")
+_CBC_CONTINUOUS = re.compile(r"Continuous objective value is (\S+)")
+
+
+def _number(text: str) -> float | None:
+    try:
+        value = float(text)
+    except ValueError:
+        return None
+    return value if math.isfinite(value) else None
+
+
+def _cbc_bound(log: str) -> float | None:
+    """CBC's best bound from its log: the final "Lower bound:" line, else the last
+    progress line's "best possible" (the first one is only the root's)."""
+    match = _CBC_BOUND.search(log)
+    if match:
+        return _number(match.group(1))
+    partials = _CBC_PARTIAL.findall(log)
+    return _number(partials[-1]) if partials else None
+
+
+def _cbc_root(log: str) -> float | None:
+    """The root node's objective in CBC's log (after cuts, else the continuous one)."""
+    match = _CBC_ROOT.search(log) or _CBC_CONTINUOUS.search(log)
+    return _number(match.group(1)) if match else None
 
 
 def cbc_path() -> str:
@@ -206,13 +232,16 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
         return SolveReport("failed", None, None, time.perf_counter() - started, "cbc",
                            str(error))
     n_columns = form.model.n_columns
+    offset = float(form.objective_offset)
+    if offset:
+        # The objective offset as a column fixed at 1 (MPS readers disagree on the sign
+        # of an objective constant): CBC then measures its gap on the whole objective.
+        highs.addCol(offset, 1.0, 1.0, 0, np.array([], dtype=np.int32), np.array([]))
     with tempfile.TemporaryDirectory(prefix="cbc_") as folder:
         mps = Path(folder) / "model.mps"
         solution = Path(folder) / "solution.txt"
         with _quiet_stdout():
             highs.writeModel(str(mps))
-        # Written without the objective offset (MPS readers disagree on its sign);
-        # CBC's objective and bound are therefore those of the columns alone.
         command = [cbc_path(), str(mps), "-sec", f"{time_limit_s:g}",
                    "-ratio", f"{mip_gap:g}", "-timeMode", "elapsed"]
         if warm_start and is_mip:
@@ -249,24 +278,33 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
     values = np.zeros(n_columns)
     for line in text[1:]:
         parts = line.split()
-        if len(parts) >= 3 and parts[1].startswith("c") and parts[1][1:].isdigit():
+        if len(parts) >= 3 and parts[1].startswith("c") and parts[1][1:].isdigit() \
+                and int(parts[1][1:]) < n_columns:
             values[int(parts[1][1:])] = float(parts[2])
     objective_match = re.search(r"objective value\s+(\S+)", first)
     objective = None
     if objective_match:
         objective = float(objective_match.group(1))
-    bound = None
-    match = _CBC_BOUND.search(log) or _CBC_PARTIAL.search(log)
-    if match:
-        try:
-            bound = float(match.group(1))
-        except ValueError:
-            bound = None
+    bound = _cbc_bound(log)
     word = first.split()[0] if first.split() else ""
+    if word == "Optimal" and objective is not None:
+        if not is_mip:
+            bound = objective
+        else:
+            # Stopped by -ratio: the gap to the best possible is at most that fraction
+            # of the root node's objective (CBC's documented rule); the log prints no
+            # final bound then.
+            root = _cbc_root(log)
+            scale = max(abs(objective), abs(root) if root is not None else 0.0)
+            proven = objective - mip_gap * scale
+            bound = proven if bound is None else max(bound, proven)
+    # Report without the offset (solve() adds it to objective and bound).
+    if objective is not None:
+        objective -= offset
+    if bound is not None:
+        bound -= offset
     if word == "Optimal":
         form.values = values
-        if bound is None and not is_mip:
-            bound = objective
         return SolveReport("optimal", objective, bound, seconds, "cbc")
     if word == "Infeasible" or first.startswith("Integer infeasible"):
         return SolveReport("infeasible", None, None, seconds, "cbc")
