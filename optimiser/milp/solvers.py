@@ -4,9 +4,13 @@ HiGHS is called through ``highspy`` (its Python interface, the one pulp's own Hi
 interface uses): the model's arrays go in with one call, a warm start with another, and
 HiGHS's information record gives the best bound (``mip_dual_bound``). CBC is the binary
 that ships with pulp: the model is written as an MPS file (by HiGHS, from the same
-arrays), a warm start as a CBC solution file, and CBC's best bound is read from its log
-("Lower bound:"); when the log does not give one the caller falls back to a bound it
-already holds.
+arrays; the objective's constant as a column fixed at 1), a warm start as a CBC solution
+file, and CBC's best bound is read from its log (the final "Lower bound:", else the last
+"best possible"); at an optimal stop, where the log prints no final bound, the bound is
+the one CBC's ``-ratio`` rule proves (objective less the gap times the larger of the
+objective and the root node's value). When none is found the caller falls back to a
+bound it already holds. CBC does not always stop at its ``-sec`` limit, so it is ended
+at 1.25x the limit + 2 s.
 
 Status words: ``optimal`` (proven within the relative gap), ``feasible`` (stopped by the
 time limit with a solution in hand), ``infeasible`` (proven), ``no_solution`` (stopped
@@ -291,9 +295,11 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
         if not is_mip:
             bound = objective
         else:
-            # Stopped by -ratio: the gap to the best possible is at most that fraction
-            # of the root node's objective (CBC's documented rule); the log prints no
-            # final bound then.
+            # Stopped by -ratio: the gap to the best possible is below that fraction of
+            # "the larger of two" (best known, best possible), or "of the objective
+            # value at the root node" (CBC 2.10.3's own help for ratioGap gives both);
+            # the larger of the objective and the root value covers either reading.
+            # The log prints no final bound then.
             root = _cbc_root(log)
             scale = max(abs(objective), abs(root) if root is not None else 0.0)
             proven = objective - mip_gap * scale
