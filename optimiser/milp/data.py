@@ -215,7 +215,7 @@ def dominated_options(data: ProblemData) -> np.ndarray:
     """
     m = data.n_options
     admissible = data.admissible
-    diameter = np.array([o.internal_diameter_mm for o in data.study.catalogue])
+    diameter = data.study.catalogue.internal_diameter_mm
     tolerance = 1e-12
     pairs: list[tuple[int, int]] = []
     for a in range(m):

@@ -420,7 +420,7 @@ def _add_rules(form: Formulation, orders: list[list[int]],
     if rules.max_changes is not None:
         model.add_row(change_terms, upper=float(rules.max_changes + 1))
     if rules.sizes_non_increasing:
-        diameter = np.array([o.internal_diameter_mm for o in study.catalogue])
+        diameter = study.catalogue.internal_diameter_mm
         for s in range(1, n):
             expr = Affine()
             for j, frac in last_frac[s - 1].items():

@@ -98,6 +98,18 @@ def _start_k(data: ProblemData) -> np.ndarray:
     return k_start
 
 
+def rule_abiding_choice(data: ProblemData, rate: np.ndarray) -> np.ndarray | None:
+    """The cheapest whole-section option per section at ``rate`` (n, m) that obeys the
+    study's rules (:func:`optimiser.milp.sequence_dp.cheapest_sequence`), or None."""
+    study = data.study
+    rules = study.rules
+    return cheapest_sequence(
+        rate, data.chainage_length_m, max_changes=rules.max_changes,
+        min_length_m=rules.min_piece_length_m, change_cost=float(study.costs.change_cost),
+        diameter_mm=study.catalogue.internal_diameter_mm if rules.sizes_non_increasing
+        else None)
+
+
 def rates(data: ProblemData, prices: Prices) -> np.ndarray:
     """(n, m) priced cost of laying each whole section in each option; inf where the
     option is not admissible."""
@@ -165,9 +177,6 @@ def priced_search(data: ProblemData, prices: Prices, *, upper_bound: float | Non
     bring no design not seen before (the subgradient then cycles)."""
     begun = time.perf_counter()
     study = data.study
-    rules = study.rules
-    diameter = np.array([o.internal_diameter_mm for o in study.catalogue]) \
-        if rules.sizes_non_increasing else None
     change_cost = float(study.costs.change_cost)
     sections = np.arange(data.n_sections)
     shape = prices.down.shape
@@ -184,10 +193,7 @@ def priced_search(data: ProblemData, prices: Prices, *, upper_bound: float | Non
         if time.perf_counter() > deadline:
             break
         current = Prices.from_flat(values, shape)
-        choice = cheapest_sequence(rates(data, current), data.chainage_length_m,
-                                   max_changes=rules.max_changes,
-                                   min_length_m=rules.min_piece_length_m,
-                                   change_cost=change_cost, diameter_mm=diameter)
+        choice = rule_abiding_choice(data, rates(data, current))
         if choice is None:
             break
         used[sections, choice] = True

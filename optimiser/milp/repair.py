@@ -16,6 +16,7 @@ from __future__ import annotations
 import numpy as np
 
 from optimiser.milp.data import ProblemData
+from optimiser.milp.priced import rule_abiding_choice
 from optimiser.model import Design, Piece, PipeOption
 
 
@@ -115,9 +116,6 @@ def covering_choice(data: ProblemData, fractions: np.ndarray) -> np.ndarray | No
     judges the result): it trades cost for a design that obeys the rules by
     construction where the greedy :func:`repair` gets stuck.
     """
-    from optimiser.milp.sequence_dp import cheapest_sequence
-
-    study = data.study
     used = fractions > 1e-9
     loss = data.section_loss_m  # (K, n, m)
     lp_loss = np.einsum("ksj,sj->ks", loss, np.clip(fractions, 0.0, None))
@@ -126,11 +124,4 @@ def covering_choice(data: ProblemData, fractions: np.ndarray) -> np.ndarray | No
     good = data.admissible.copy()
     good &= (loss <= lp_loss[:, :, None] + tolerance).all(axis=0)
     good &= (data.velocity_head_m <= lp_head[:, :, None] + tolerance).all(axis=0)
-    rate = np.where(good, data.section_cost, np.inf)
-    diameter = None
-    if study.rules.sizes_non_increasing:
-        diameter = np.array([o.internal_diameter_mm for o in study.catalogue])
-    return cheapest_sequence(rate, data.chainage_length_m,
-                             max_changes=study.rules.max_changes,
-                             min_length_m=study.rules.min_piece_length_m,
-                             change_cost=study.costs.change_cost, diameter_mm=diameter)
+    return rule_abiding_choice(data, np.where(good, data.section_cost, np.inf))

@@ -70,6 +70,10 @@ class Catalogue:
         return np.array([o.internal_diameter_m for o in self.options])
 
     @property
+    def internal_diameter_mm(self) -> np.ndarray:
+        return np.array([o.internal_diameter_mm for o in self.options])
+
+    @property
     def roughness_mm(self) -> np.ndarray:
         return np.array([o.roughness_mm for o in self.options])
 
