@@ -4,6 +4,7 @@ from optimiser.model.catalogue import Catalogue, PipeOption
 from optimiser.model.design import Design, Piece
 from optimiser.model.route import Fitting, Offtake, Route
 from optimiser.model.scenario import Scenario
+from optimiser.model.status import Status
 from optimiser.model.study import (
     CostRules,
     DesignRules,
@@ -29,5 +30,6 @@ __all__ = [
     "Scenario",
     "SolverSettings",
     "Source",
+    "Status",
     "Study",
 ]
