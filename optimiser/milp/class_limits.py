@@ -1,0 +1,96 @@
+"""Survey sections split where a pressure class stops being admissible.
+
+The check (contract section 5) judges a piece's class at its lowest point: static head
+(top water level − pipe level) plus surge ≤ allowable head. The optimiser decides
+admissibility per section, at the section's lowest pipe level. A falling section whose
+upper part lies above an option's limit and lower part below it could then never take
+that option, though the check accepts it on the upper part, and the optimiser's "optimal"
+and its bound would be about a smaller set of designs than the check accepts.
+
+Splitting every section at each chainage where the pipe level crosses an option's
+limit level makes per-section admissibility exact: the pipe level is linear between
+survey points, so on each part an option is admissible at every metre or at none. The
+new nodes carry no label, the zone of the section they split and the interpolated
+ground; offtakes and fittings keep their chainages. They change no hydraulics: slope
+lengths add up (the pipe is straight between survey points) and pressure along one pipe
+inside a section is linear in chainage, so a point there can only bind at a boundary
+the model already checks.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+
+from optimiser.model import Route, Study
+
+MIN_SPACING_M = 1e-3
+"""A crossing closer than this to a survey point is not split off [m]."""
+
+
+def limit_levels_m(study: Study, surge_head_m: np.ndarray | float | None = None
+                   ) -> np.ndarray:
+    """Lowest pipe level [m] at which each option's class is admissible, per section.
+
+    Admissible when top water level − pipe level + surge ≤ allowable head, i.e. when the
+    pipe level ≥ top water level + surge − allowable head (for example 100 m of
+    allowable head under a top water level of 500 m with 10 m of surge: admissible down
+    to a pipe level of 410 m). ``surge_head_m`` broadcasts against (sections, options);
+    by default the study's surge allowance.
+    """
+    allowable = study.catalogue.allowable_head_m[None, :]
+    surge = study.surge_allowance_m if surge_head_m is None else surge_head_m
+    levels = study.source.top_water_level_m + np.asarray(surge, dtype=float) - allowable
+    return np.broadcast_to(levels, (study.route.n_sections, len(study.catalogue)))
+
+
+def crossing_chainages_m(route: Route, levels_m: np.ndarray) -> np.ndarray:
+    """Chainages strictly inside sections where the pipe level equals one of the
+    section's ``levels_m`` (sections × levels), sorted and unique."""
+    pipe = route.pipe_level_m
+    start, end = pipe[:-1, None], pipe[1:, None]
+    low, high = np.minimum(start, end), np.maximum(start, end)
+    inside = (levels_m > low) & (levels_m < high)
+    fraction = np.divide(levels_m - start, end - start, out=np.zeros_like(levels_m),
+                         where=inside)
+    c0 = route.chainage_m[:-1, None]
+    chainage = c0 + fraction * route.chainage_length_m[:, None]
+    found = np.unique(chainage[inside])
+    nodes = route.chainage_m
+    index = np.clip(np.searchsorted(nodes, found), 1, len(nodes) - 1)
+    apart = (found - nodes[index - 1] > MIN_SPACING_M) & (nodes[index] - found > MIN_SPACING_M)
+    found = found[apart]
+    if len(found) > 1:  # two options' limits within a millimetre: one node
+        found = found[np.concatenate([[True], np.diff(found) > MIN_SPACING_M])]
+    return found
+
+
+def route_with_points(route: Route, chainage_m: np.ndarray) -> Route:
+    """``route`` with nodes added at ``chainage_m`` (strictly inside sections; ground
+    linear between survey points; each part of a split section keeps its zone)."""
+    if len(chainage_m) == 0:
+        return route
+    chainage = list(route.chainage_m)
+    ground = list(route.ground_m)
+    labels = list(route.labels)
+    zones = list(route.zones)  # one per section
+    for c in sorted(float(c) for c in chainage_m):
+        index = int(np.searchsorted(chainage, c))
+        ground.insert(index, float(np.interp(c, chainage, ground)))
+        chainage.insert(index, c)
+        labels.insert(index, "")
+        zones.insert(index, zones[index - 1])
+    fields = {f.name: getattr(route, f.name) for f in dataclasses.fields(route) if f.init}
+    fields |= {"chainage_m": np.array(chainage), "ground_m": np.array(ground),
+               "labels": labels, "zones": zones}
+    return Route(**fields)
+
+
+def split_at_class_limits(study: Study, surge_head_m: np.ndarray | float | None = None
+                          ) -> Study:
+    """``study`` with its route split wherever an option's class limit is crossed."""
+    found = crossing_chainages_m(study.route, limit_levels_m(study, surge_head_m))
+    if len(found) == 0:
+        return study
+    return dataclasses.replace(study, route=route_with_points(study.route, found))
