@@ -84,6 +84,14 @@ CASES: dict[str, Bad] = {
                             "study", ["[[scenario]] #1", "flow"], ["no unit"]),
     "flow-wrong-dimension": Bad({"study": {"scenario": [{"name": "a", "flow": "42 m"}]}},
                                 "study", ["[[scenario]] #1", "flow"], ["not a flow"]),
+    "flow-second-number-after-unit": Bad(
+        {"study": {"scenario": [{"name": "a", "flow": "42 L/s 3"}]}}, "study",
+        ["[[scenario]] #1", "flow"], ["one number followed by a unit"]),
+    "flow-number-with-a-space": Bad(
+        {"study": {"offtake": [{"chainage_m": 100.0, "flow": "4 2 L/s"}]}}, "study",
+        ["[[offtake]] #1 flow"], ["one number followed by a unit"]),
+    "flow-absurd": Bad({"study": {"scenario": [{"name": "a", "flow": "1e6 m^3/s"}]}},
+                       "study", ["[[scenario]] #1", "flow"], ["largest flow"]),
     "offtake-flow-no-unit": Bad({"study": {"offtake": [{"chainage_m": 100.0, "flow": "3"}]}},
                                 "study", ["[[offtake]] #1 flow"], ["no unit"]),
     # --- scenarios
