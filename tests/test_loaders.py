@@ -148,3 +148,26 @@ def test_flows_in_other_units(make_study):
                                                     "flow": "0.3456 ML/d"}]}))
     assert study.scenarios[0].outlet_flow_m3_s == pytest.approx(0.025)
     assert study.offtakes[0].flow_m3_s == pytest.approx(0.004)
+
+
+@pytest.mark.parametrize("which", ["study", "profile", "catalogue", "design"])
+def test_byte_order_mark_at_the_start_of_any_input_file(make_study, which):
+    """A UTF-8 byte-order mark, as Windows editors and spreadsheets write it, is accepted
+    in every input file, and the file means exactly what it means without one."""
+    plain = _load(make_study())
+    files = make_study()
+    path = getattr(files, which)
+    path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
+    study, design = _load(files)
+    assert study.title == plain[0].title
+    assert study.scenarios == plain[0].scenarios
+    assert list(study.route.chainage_m) == list(plain[0].route.chainage_m)
+    assert study.catalogue == plain[0].catalogue
+    assert design == plain[1]
+
+
+def test_study_file_not_utf8_names_the_line(make_study):
+    files = make_study()
+    files.study.write_bytes(files.study.read_bytes() + b'\nlabel = "r\xe9servoir"\n')
+    with pytest.raises(optimiser.InputError, match=r"study\.toml: line \d+: .*not UTF-8"):
+        optimiser.load_study(files.study)

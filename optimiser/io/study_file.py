@@ -49,12 +49,20 @@ def _read_toml(path: Path) -> dict:
     if not path.is_file():
         raise InputError(f"{path}: study file not found")
     try:
-        with path.open("rb") as handle:
-            return tomllib.load(handle)
+        data = path.read_bytes()
+    except OSError as error:
+        raise InputError(f"{path}: cannot read ({error})") from None
+    try:
+        # utf-8-sig: a byte-order mark, as some Windows editors write, is accepted.
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError as error:
+        line = data[:error.start].count(b"\n") + 1
+        raise InputError(f"{path}: line {line}: the study file is not UTF-8 text (save it "
+                         f"as UTF-8; byte {data[error.start]:#04x} cannot be read)") from None
+    try:
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:
         raise InputError(f"{path}: not valid TOML: {error}") from None
-    except (OSError, UnicodeDecodeError) as error:
-        raise InputError(f"{path}: cannot read ({error})") from None
 
 
 def _validate(path: Path, raw: dict) -> StudyFile:
