@@ -107,6 +107,9 @@ CASES: dict[str, Bad] = {
                           ["at least one scenario"]),
     "empty-scenario-list": Bad({"study": {"scenario": []}}, "study", ["[[scenario]]"],
                                ["at least one scenario"]),
+    # --- catalogue filter
+    "materials-empty-list": Bad({"study": {"catalogue": {"materials": []}}}, "study",
+                                ["[catalogue] materials"], ["list is empty"]),
     # --- offtakes and fittings
     "offtake-beyond-route-end": Bad(
         {"study": {"offtake": [{"chainage_m": 3500.0, "flow": "3 L/s"}]}}, "study",
@@ -356,3 +359,15 @@ def test_json_into_a_missing_folder_is_bad_input(study_files, runner, tmp_path):
     assert result.exit_code == 2, result.output
     assert "Traceback" not in result.output
     assert not target.exists()
+
+
+def test_empty_materials_list_stops_design_with_exit_2(make_study, runner, tmp_path):
+    """``materials = []`` leaves nothing to design with: bad input naming the key (exit 2),
+    not a run that finds no design (exit 1)."""
+    files = make_study(study={"catalogue": {"materials": []}})
+    out = tmp_path / "out"
+    result = runner.invoke(app, ["design", str(files.study), "--out", str(out)])
+    assert result.exit_code == 2, result.output
+    assert "Traceback" not in result.output
+    assert "[catalogue]materials" in squash(result.output)
+    assert not out.exists() or not any(out.iterdir())

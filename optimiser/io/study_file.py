@@ -280,6 +280,9 @@ def load_study(path: str | Path) -> Study:
                                  set(spec.catalogue.materials)))
     else:
         chosen = catalogue
+    if spec.catalogue.materials == []:
+        problems.add(f"{path}: [catalogue] materials: the list is empty; name at least one "
+                     f"material of {catalogue_path.name}, or leave the key out to use them all")
     if len(chosen) == 0 and spec.catalogue.materials:
         problems.add(f"{path}: [catalogue] materials: no option of the catalogue is left")
     problems.raise_if_any()
