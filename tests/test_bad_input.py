@@ -145,6 +145,21 @@ CASES: dict[str, Bad] = {
         "catalogue", ["line 1"], ["missing column", "allowable_head_m"]),
     "design-missing-column": Bad({"design": "from_m,to_m,material,dn_mm\n0,3000,PE,200\n"},
                                  "design", ["line 1"], ["missing column", "pressure_class"]),
+    # --- separators other than the comma (regional spreadsheet settings)
+    "semicolon-profile": Bad(
+        {"profile": "chainage_m;ground_m;label;zone\n0;199;intake;\n3000;145,5;tank;\n"},
+        "profile", ["line 1"], ["seems to use ';' as separator", "use ','"]),
+    "semicolon-catalogue": Bad(
+        {"catalogue": "material;dn_mm;internal_diameter_mm;pressure_class;allowable_head_m;"
+                      "roughness_mm;hazen_williams_c;cost_per_m;note\n"
+                      "PE;200;176,2;PN10;102;0,02;150;45;x\n"},
+        "catalogue", ["line 1"], ["seems to use ';' as separator"]),
+    "semicolon-design": Bad(
+        {"design": "from_m;to_m;material;dn_mm;pressure_class\n0;3000;PE;200;PN10\n"},
+        "design", ["line 1"], ["seems to use ';' as separator"]),
+    "tab-separated-profile": Bad(
+        {"profile": "chainage_m\tground_m\n0\t199\n3000\t145\n"}, "profile", ["line 1"],
+        ["seems to use tab as separator"]),
     # --- profile rows
     "chainage-not-increasing": Bad(
         {"profile": [P[0], P[1], (800.0, 180.0), P[3], P[4]]}, "profile", ["line 4"],

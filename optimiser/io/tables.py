@@ -54,6 +54,10 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
     if len(set(header)) != len(header):
         problems.add(f"{path}: line {first + 1}: a column name appears twice in {header}")
     missing = [name for name in required if name not in header]
+    separator = _other_separator(lines[first], header) if missing else None
+    if separator:
+        raise InputError(f"{path}: line {first + 1}: this file seems to use {separator} as "
+                         "separator; use ',' (save it as comma-separated CSV)")
     if missing:
         problems.add(f"{path}: line {first + 1}: missing column(s) {', '.join(missing)}; "
                      f"expected {', '.join(required + (optional or []))}")
@@ -78,6 +82,15 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
     if not rows:
         raise InputError(f"{path}: the {what} has a header but no data rows")
     return rows, header
+
+
+def _other_separator(header_line: str, header: list[str]) -> str | None:
+    """"';'" or "tab" when the header line is split more finely by that character than by
+    commas: a spreadsheet saved with a regional list separator."""
+    for character, name in ((";", "';'"), ("\t", "tab")):
+        if len(header_line.split(character)) > len(header):
+            return name
+    return None
 
 
 def number(path: Path, row: Row, column: str, problems: ProblemList, *,
