@@ -14,6 +14,7 @@ from pydantic import ValidationError
 
 from optimiser.hydraulics.water import kinematic_viscosity_m2_s
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.limits import out_of_range
 from optimiser.io.schema import StudyFile, describe_location
 from optimiser.io.tables import number, read_rows
 from optimiser.io.units import parse_flow_m3_s
@@ -85,7 +86,16 @@ def _validate(path: Path, raw: dict) -> StudyFile:
                 problems.append(f"{path}: {where}: required key is missing")
             else:
                 problems.append(f"{path}: {where}: {item['msg']} (got {item['input']!r})")
+        flagged = {tuple(item["loc"]) for item in error.errors()}
+        problems.extend(_range_problems(path, raw, skip=flagged))
         raise InputError(problems) from None
+
+
+def _range_problems(path: Path, raw: dict, skip: set[tuple] | None = None) -> list[str]:
+    """Numbers of the study file outside their accepted range (io/limits.py), except at
+    locations the schema has already complained about."""
+    return [f"{path}: {describe_location(location)}: {complaint}"
+            for location, complaint in out_of_range(raw) if location not in (skip or set())]
 
 
 def load_profile(path: Path, cover_m: float, slope_length: bool) -> Route:
@@ -180,6 +190,7 @@ def load_study(path: str | Path) -> Study:
     spec = _validate(path, raw)
     base = path.parent
     problems = ProblemList()
+    problems.items.extend(_range_problems(path, raw))
 
     source_level = spec.source.level_m
     top_water = spec.source.top_water_level_m

@@ -8,6 +8,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.limits import CSV_COLUMNS
 
 
 @dataclass
@@ -96,7 +97,9 @@ def _other_separator(header_line: str, header: list[str]) -> str | None:
 def number(path: Path, row: Row, column: str, problems: ProblemList, *,
            allow_empty: bool = False, positive: bool = False,
            non_negative: bool = False) -> float | None:
-    """A numeric cell, or None (after recording a problem) when it is not valid."""
+    """A numeric cell, or None (after recording a problem) when it is not valid: empty
+    (unless allowed), not a number, not finite, of the wrong sign, or outside the range
+    of its column in :data:`optimiser.io.limits.CSV_COLUMNS`."""
     text = row.cells.get(column, "")
     if text == "":
         if not allow_empty:
@@ -115,5 +118,10 @@ def number(path: Path, row: Row, column: str, problems: ProblemList, *,
         return None
     if non_negative and value < 0:
         problems.add(f"{path}: line {row.line}: column {column} must be >= 0, got {text}")
+        return None
+    limit = CSV_COLUMNS.get(column)
+    complaint = limit.message(value) if limit is not None else None
+    if complaint:
+        problems.add(f"{path}: line {row.line}: column {column}: {complaint}")
         return None
     return value
