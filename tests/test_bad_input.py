@@ -169,6 +169,7 @@ CASES: dict[str, Bad] = {
     "missing-profile": Bad({"profile": MISSING}, "profile", [], ["not found"]),
     "missing-catalogue": Bad({"catalogue": MISSING}, "catalogue", [], ["not found"]),
     "missing-design": Bad({"design": MISSING}, "design", [], ["not found"]),
+    "catalogue-utf16": Bad({"extra": "utf16-catalogue"}, "catalogue", [], ["utf-16"]),
     "profile-not-utf8": Bad({"extra": "latin1-profile"}, "profile", ["line 3"], ["utf-8"]),
     "huge-csv-field": Bad({"profile": "chainage_m,ground_m\n0," + "1" * 200_000 + "\n"},
                           "profile", ["line 2"], ["cannot read"]),
@@ -255,6 +256,8 @@ def _make(make_study, case: Bad):
     action = case.overrides.get("extra")
     if action == "remove-study":
         files.study.unlink()
+    elif action == "utf16-catalogue":
+        files.catalogue.write_bytes(files.catalogue.read_text().encode("utf-16"))
     elif action == "latin1-profile":
         files.profile.write_bytes(b"chainage_m,ground_m,label\n0,199,intake\n"
                                   b"3000,145,r\xe9servoir\n")

@@ -16,7 +16,7 @@ from optimiser.hydraulics.water import kinematic_viscosity_m2_s
 from optimiser.io.errors import InputError, ProblemList
 from optimiser.io.limits import out_of_range
 from optimiser.io.schema import StudyFile, describe_location
-from optimiser.io.tables import number, read_rows
+from optimiser.io.tables import decode_text, number, read_rows
 from optimiser.io.units import parse_flow_m3_s
 from optimiser.model import (
     Catalogue,
@@ -53,13 +53,7 @@ def _read_toml(path: Path) -> dict:
         data = path.read_bytes()
     except OSError as error:
         raise InputError(f"{path}: cannot read ({error})") from None
-    try:
-        # utf-8-sig: a byte-order mark, as some Windows editors write, is accepted.
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as error:
-        line = data[:error.start].count(b"\n") + 1
-        raise InputError(f"{path}: line {line}: the study file is not UTF-8 text (save it "
-                         f"as UTF-8; byte {data[error.start]:#04x} cannot be read)") from None
+    text = decode_text(path, data, "study file", "UTF-8")
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:

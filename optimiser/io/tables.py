@@ -35,12 +35,7 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
         data = path.read_bytes()
     except OSError as error:
         raise InputError(f"{path}: cannot read the {what} ({error})") from None
-    try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as error:
-        line = data[:error.start].count(b"\n") + 1
-        raise InputError(f"{path}: line {line}: the {what} is not UTF-8 text (save it as "
-                         f"UTF-8 CSV; byte {data[error.start]:#04x} cannot be read)") from None
+    text = decode_text(path, data, what, "UTF-8 CSV")
     if not text.strip():
         raise InputError(f"{path}: the {what} is empty")
     lines = text.splitlines()
@@ -83,6 +78,20 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
     if not rows:
         raise InputError(f"{path}: the {what} has a header but no data rows")
     return rows, header
+
+
+def decode_text(path: Path, data: bytes, what: str, save_as: str) -> str:
+    """The text of an input file: UTF-8, with or without a byte-order mark (which some
+    Windows editors and spreadsheets write). Anything else is an InputError naming the
+    line of the first byte that cannot be read."""
+    if data[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise InputError(f"{path}: the {what} is UTF-16 text; save it as {save_as}")
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as error:
+        line = data[:error.start].count(b"\n") + 1
+        raise InputError(f"{path}: line {line}: the {what} is not UTF-8 text (save it as "
+                         f"{save_as}; byte {data[error.start]:#04x} cannot be read)") from None
 
 
 def _other_separator(header_line: str, header: list[str]) -> str | None:
