@@ -77,6 +77,42 @@ CASES: dict[str, Bad] = {
                        ["[outlet] required_head_m"], ["finite"]),
     "bad-literal": Bad({"study": {"route": {"length": "horizontal"}}}, "study",
                        ["[route] length"], ["slope", "chainage"]),
+    # --- absurd magnitudes (ranges in optimiser/io/limits.py)
+    "level-absurd": Bad({"study": {"outlet": {"required_head_m": 1e308}}}, "study",
+                        ["[outlet] required_head_m"], ["outside the accepted range", "9000"]),
+    "source-level-absurd": Bad({"study": {"source": {"level_m": 1e308}}}, "study",
+                               ["[source] level_m"], ["outside the accepted range"],
+                               count=None),
+    "cover-absurd": Bad({"study": {"route": {"cover_m": 1e4}}}, "study",
+                        ["[route] cover_m"], ["outside the accepted range"]),
+    "min-pressure-below-vacuum": Bad({"study": {"route": {"min_pressure_m": -50.0}}},
+                                     "study", ["[route] min_pressure_m"], ["vacuum"]),
+    "fitting-k-absurd": Bad({"study": {"route": {"fitting": [{"chainage_m": 10.0,
+                                                               "k": 1e9}]}}},
+                            "study", ["[[route.fitting]] #1 k"], ["outside the accepted"]),
+    "roughness-absurd": Bad({"study": {"scenario": [{"name": "a", "flow": "1 L/s",
+                                                     "roughness_mm": 1e5}]}},
+                            "study", ["[[scenario]] #1 roughness_mm"], ["outside"]),
+    "zone-factor-absurd": Bad({"study": {"costs": {"zone_factor": {"rock": 1e9}}}}, "study",
+                              ["[costs.zone_factor] rock"], ["outside the accepted range"]),
+    "time-limit-absurd": Bad({"study": {"solver": {"time_limit_s": 1e300}}}, "study",
+                             ["[solver] time_limit_s"], ["outside the accepted range"]),
+    "ground-absurd": Bad({"profile": [P[0], (800.0, 1e308), *P[2:]]}, "profile",
+                         ["line 3", "ground_m"], ["outside the accepted range"]),
+    "chainage-absurd": Bad({"profile": [*P[:4], (1e308, 145.0)]}, "profile",
+                           ["line 6", "chainage_m"], ["outside the accepted range"]),
+    "cost-absurd": Bad({"catalogue": [_cat_row(0, cost_per_m=1e300), *C[1:]]}, "catalogue",
+                       ["line 2", "cost_per_m"], ["outside the accepted range"]),
+    "diameter-absurd": Bad({"catalogue": [_cat_row(0, internal_diameter_mm=1e6), *C[1:]]},
+                           "catalogue", ["line 2", "internal_diameter_mm"], ["outside"]),
+    "allowable-head-absurd": Bad({"catalogue": [_cat_row(0, allowable_head_m=1e7), *C[1:]]},
+                                 "catalogue", ["line 2", "allowable_head_m"], ["outside"]),
+    "nan-in-profile": Bad({"profile": [P[0], (800.0, "nan"), *P[2:]]}, "profile",
+                          ["line 3", "ground_m"], ["not finite"]),
+    "inf-in-catalogue": Bad({"catalogue": [_cat_row(0, roughness_mm="inf"), *C[1:]]},
+                            "catalogue", ["line 2", "roughness_mm"], ["not finite"]),
+    "nan-in-design": Bad({"design": [(0.0, "nan", "PE", 250, "PN10"), D[1]]}, "design",
+                         ["line 2", "to_m"], ["not finite"]),
     # --- flows
     "flow-bare-number-string": Bad({"study": {"scenario": [{"name": "a", "flow": "42"}]}},
                                    "study", ["[[scenario]] #1", "flow"], ["no unit"]),
@@ -84,6 +120,14 @@ CASES: dict[str, Bad] = {
                             "study", ["[[scenario]] #1", "flow"], ["no unit"]),
     "flow-wrong-dimension": Bad({"study": {"scenario": [{"name": "a", "flow": "42 m"}]}},
                                 "study", ["[[scenario]] #1", "flow"], ["not a flow"]),
+    "flow-second-number-after-unit": Bad(
+        {"study": {"scenario": [{"name": "a", "flow": "42 L/s 3"}]}}, "study",
+        ["[[scenario]] #1", "flow"], ["one number followed by a unit"]),
+    "flow-number-with-a-space": Bad(
+        {"study": {"offtake": [{"chainage_m": 100.0, "flow": "4 2 L/s"}]}}, "study",
+        ["[[offtake]] #1 flow"], ["one number followed by a unit"]),
+    "flow-absurd": Bad({"study": {"scenario": [{"name": "a", "flow": "1e6 m^3/s"}]}},
+                       "study", ["[[scenario]] #1", "flow"], ["largest flow"]),
     "offtake-flow-no-unit": Bad({"study": {"offtake": [{"chainage_m": 100.0, "flow": "3"}]}},
                                 "study", ["[[offtake]] #1 flow"], ["no unit"]),
     # --- scenarios
@@ -99,6 +143,9 @@ CASES: dict[str, Bad] = {
                           ["at least one scenario"]),
     "empty-scenario-list": Bad({"study": {"scenario": []}}, "study", ["[[scenario]]"],
                                ["at least one scenario"]),
+    # --- catalogue filter
+    "materials-empty-list": Bad({"study": {"catalogue": {"materials": []}}}, "study",
+                                ["[catalogue] materials"], ["list is empty"]),
     # --- offtakes and fittings
     "offtake-beyond-route-end": Bad(
         {"study": {"offtake": [{"chainage_m": 3500.0, "flow": "3 L/s"}]}}, "study",
@@ -122,6 +169,7 @@ CASES: dict[str, Bad] = {
     "missing-profile": Bad({"profile": MISSING}, "profile", [], ["not found"]),
     "missing-catalogue": Bad({"catalogue": MISSING}, "catalogue", [], ["not found"]),
     "missing-design": Bad({"design": MISSING}, "design", [], ["not found"]),
+    "catalogue-utf16": Bad({"extra": "utf16-catalogue"}, "catalogue", [], ["utf-16"]),
     "profile-not-utf8": Bad({"extra": "latin1-profile"}, "profile", ["line 3"], ["utf-8"]),
     "huge-csv-field": Bad({"profile": "chainage_m,ground_m\n0," + "1" * 200_000 + "\n"},
                           "profile", ["line 2"], ["cannot read"]),
@@ -134,6 +182,21 @@ CASES: dict[str, Bad] = {
         "catalogue", ["line 1"], ["missing column", "allowable_head_m"]),
     "design-missing-column": Bad({"design": "from_m,to_m,material,dn_mm\n0,3000,PE,200\n"},
                                  "design", ["line 1"], ["missing column", "pressure_class"]),
+    # --- separators other than the comma (regional spreadsheet settings)
+    "semicolon-profile": Bad(
+        {"profile": "chainage_m;ground_m;label;zone\n0;199;intake;\n3000;145,5;tank;\n"},
+        "profile", ["line 1"], ["seems to use ';' as separator", "use ','"]),
+    "semicolon-catalogue": Bad(
+        {"catalogue": "material;dn_mm;internal_diameter_mm;pressure_class;allowable_head_m;"
+                      "roughness_mm;hazen_williams_c;cost_per_m;note\n"
+                      "PE;200;176,2;PN10;102;0,02;150;45;x\n"},
+        "catalogue", ["line 1"], ["seems to use ';' as separator"]),
+    "semicolon-design": Bad(
+        {"design": "from_m;to_m;material;dn_mm;pressure_class\n0;3000;PE;200;PN10\n"},
+        "design", ["line 1"], ["seems to use ';' as separator"]),
+    "tab-separated-profile": Bad(
+        {"profile": "chainage_m\tground_m\n0\t199\n3000\t145\n"}, "profile", ["line 1"],
+        ["seems to use tab as separator"]),
     # --- profile rows
     "chainage-not-increasing": Bad(
         {"profile": [P[0], P[1], (800.0, 180.0), P[3], P[4]]}, "profile", ["line 4"],
@@ -193,6 +256,8 @@ def _make(make_study, case: Bad):
     action = case.overrides.get("extra")
     if action == "remove-study":
         files.study.unlink()
+    elif action == "utf16-catalogue":
+        files.catalogue.write_bytes(files.catalogue.read_text().encode("utf-16"))
     elif action == "latin1-profile":
         files.profile.write_bytes(b"chainage_m,ground_m,label\n0,199,intake\n"
                                   b"3000,145,r\xe9servoir\n")
@@ -348,3 +413,71 @@ def test_json_into_a_missing_folder_is_bad_input(study_files, runner, tmp_path):
     assert result.exit_code == 2, result.output
     assert "Traceback" not in result.output
     assert not target.exists()
+
+
+def test_empty_materials_list_stops_design_with_exit_2(make_study, runner, tmp_path):
+    """``materials = []`` leaves nothing to design with: bad input naming the key (exit 2),
+    not a run that finds no design (exit 1)."""
+    files = make_study(study={"catalogue": {"materials": []}})
+    out = tmp_path / "out"
+    result = runner.invoke(app, ["design", str(files.study), "--out", str(out)])
+    assert result.exit_code == 2, result.output
+    assert "Traceback" not in result.output
+    assert "[catalogue]materials" in squash(result.output)
+    assert not out.exists() or not any(out.iterdir())
+
+
+# Every numeric key of the study file, with a value that is valid for it.
+NUMERIC_KEYS: list[tuple[tuple, float]] = [
+    (("water", "temperature_c"), 15.0), (("source", "level_m"), 201.0),
+    (("source", "top_water_level_m"), 203.0), (("source", "entrance_k"), 0.5),
+    (("outlet", "required_head_m"), 175.0), (("outlet", "exit_k"), 1.0),
+    (("route", "cover_m"), 1.0), (("route", "min_pressure_m"), 2.0),
+    (("route", "local_k_per_km"), 0.1), (("route", "fitting", 0, "k"), 2.0),
+    (("offtake", 0, "min_pressure_m"), 5.0), (("scenario", 0, "offtake_factor"), 1.0),
+    (("scenario", 0, "source_level_m"), 200.0), (("scenario", 0, "roughness_mm"), 0.1),
+    (("catalogue", "surge_allowance_m"), 0.0), (("rules", "min_piece_length_m"), 0.0),
+    (("rules", "velocity_min_m_s"), 0.0), (("rules", "velocity_max_m_s"), 3.0),
+    (("costs", "change_cost"), 0.0), (("costs", "zone_factor", "rock"), 1.5),
+    (("solver", "time_limit_s"), 60.0), (("solver", "mip_gap"), 1e-4),
+]
+
+
+def _set(data: dict, location: tuple, value: Any) -> dict:
+    target: Any = data
+    for key in location[:-1]:
+        target = target.setdefault(key, {}) if isinstance(key, str) else target[key]
+    target[location[-1]] = value
+    return data
+
+
+@pytest.mark.parametrize("bad", [float("nan"), float("inf"), float("-inf"), 1e308, -1e308])
+@pytest.mark.parametrize(("location", "good"), NUMERIC_KEYS,
+                         ids=["-".join(map(str, loc)) for loc, _ in NUMERIC_KEYS])
+def test_every_numeric_study_key_refuses_absurd_values(make_study, location, good, bad):
+    """nan, inf and +-1e308 are refused at every numeric key, naming it; the same key
+    with an ordinary value loads (so the refusal is about the value)."""
+    from builders import toml_text
+
+    data = _set(study_dict(), location, good)
+    files = make_study(study_text=toml_text(data))
+    optimiser.load_study(files.study)
+    files = make_study(study_text=toml_text(_set(data, location, bad)))
+    with pytest.raises(optimiser.InputError) as caught:
+        optimiser.load_study(files.study)
+    key = str(location[-1])
+    assert any(key in problem and "study.toml" in problem
+               for problem in caught.value.problems), caught.value.problems
+
+
+def test_the_ranges_take_real_extremes():
+    """Levels from the Dead Sea shore (about -430 m) to Everest (about 8,849 m), from
+    memory; pressure heads down to -10 m (standard atmosphere 101.325 kPa is 10.33 m of
+    water at 1000 kg/m^3, common practice, no source)."""
+    from optimiser.io import limits
+
+    for level in (-430.0, 0.0, 4150.0, 8849.0):
+        assert limits.LEVEL.message(level) is None
+    assert limits.LEVEL.message(-501.0) and limits.LEVEL.message(9001.0)
+    assert limits.PRESSURE.message(-10.0) is None
+    assert limits.PRESSURE.message(-10.4)

@@ -148,3 +148,66 @@ def test_flows_in_other_units(make_study):
                                                     "flow": "0.3456 ML/d"}]}))
     assert study.scenarios[0].outlet_flow_m3_s == pytest.approx(0.025)
     assert study.offtakes[0].flow_m3_s == pytest.approx(0.004)
+
+
+@pytest.mark.parametrize("which", ["study", "profile", "catalogue", "design"])
+def test_byte_order_mark_at_the_start_of_any_input_file(make_study, which):
+    """A UTF-8 byte-order mark, as Windows editors and spreadsheets write it, is accepted
+    in every input file, and the file means exactly what it means without one."""
+    plain = _load(make_study())
+    files = make_study()
+    path = getattr(files, which)
+    path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
+    study, design = _load(files)
+    assert study.title == plain[0].title
+    assert study.scenarios == plain[0].scenarios
+    assert list(study.route.chainage_m) == list(plain[0].route.chainage_m)
+    assert study.catalogue == plain[0].catalogue
+    assert design == plain[1]
+
+
+def test_study_file_not_utf8_names_the_line(make_study):
+    files = make_study()
+    files.study.write_bytes(files.study.read_bytes() + b'\nlabel = "r\xe9servoir"\n')
+    with pytest.raises(optimiser.InputError, match=r"study\.toml: line \d+: .*not UTF-8"):
+        optimiser.load_study(files.study)
+
+
+def test_a_very_long_title_is_kept_whole_and_shown_shortened(make_study, runner, tmp_path):
+    """A title of 100,000 characters loads; the result JSON keeps it whole, the terminal
+    and the HTML report show its first 119 characters and an ellipsis."""
+    import json
+    import re
+
+    from optimiser.cli import app
+
+    title = "A" * 100_000
+    files = make_study(study={"title": title})
+    assert optimiser.load_study(files.study).title == title
+    out = tmp_path / "out"
+    result = runner.invoke(app, ["design", str(files.study), "--out", str(out)])
+    assert result.exit_code == 0, result.output[:2000]
+    flat = "".join(result.output.split())
+    assert "A" * 119 + "\u2026" in flat
+    assert "A" * 120 not in flat
+    assert json.loads((out / "result.json").read_text(encoding="utf-8"))["title"] == title
+    page = (out / "report.html").read_text(encoding="utf-8")
+    assert re.search(r"<h1>A{119}\u2026</h1>", page)
+    assert "A" * 120 not in page
+
+
+def test_titles_are_shown_on_one_line_as_written(make_study, runner):
+    """Line breaks and tabs in a title become spaces; square brackets are shown, not read
+    as terminal markup ("[/bold]" in a title used to stop the run)."""
+    from optimiser.cli import app
+    from optimiser.reports.text import short_title
+
+    assert short_title("Main\n\tline,  option A") == "Main line, option A"
+    assert short_title("x" * 120) == "x" * 120
+    assert short_title("x" * 121) == "x" * 119 + "\u2026"
+    for title in ("Main [phase 2]", "Main [/bold] and [red]"):
+        files = make_study(study={"title": title})
+        result = runner.invoke(app, ["check", str(files.study), "--design",
+                                     str(files.design)])
+        assert result.exit_code == 0, result.output
+        assert title in result.output

@@ -14,8 +14,9 @@ from pydantic import ValidationError
 
 from optimiser.hydraulics.water import kinematic_viscosity_m2_s
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.limits import out_of_range
 from optimiser.io.schema import StudyFile, describe_location
-from optimiser.io.tables import number, read_rows
+from optimiser.io.tables import decode_text, number, read_rows
 from optimiser.io.units import parse_flow_m3_s
 from optimiser.model import (
     Catalogue,
@@ -49,12 +50,14 @@ def _read_toml(path: Path) -> dict:
     if not path.is_file():
         raise InputError(f"{path}: study file not found")
     try:
-        with path.open("rb") as handle:
-            return tomllib.load(handle)
+        data = path.read_bytes()
+    except OSError as error:
+        raise InputError(f"{path}: cannot read ({error})") from None
+    text = decode_text(path, data, "study file", "UTF-8")
+    try:
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:
         raise InputError(f"{path}: not valid TOML: {error}") from None
-    except (OSError, UnicodeDecodeError) as error:
-        raise InputError(f"{path}: cannot read ({error})") from None
 
 
 def _validate(path: Path, raw: dict) -> StudyFile:
@@ -77,7 +80,16 @@ def _validate(path: Path, raw: dict) -> StudyFile:
                 problems.append(f"{path}: {where}: required key is missing")
             else:
                 problems.append(f"{path}: {where}: {item['msg']} (got {item['input']!r})")
+        flagged = {tuple(item["loc"]) for item in error.errors()}
+        problems.extend(_range_problems(path, raw, skip=flagged))
         raise InputError(problems) from None
+
+
+def _range_problems(path: Path, raw: dict, skip: set[tuple] | None = None) -> list[str]:
+    """Numbers of the study file outside their accepted range (io/limits.py), except at
+    locations the schema has already complained about."""
+    return [f"{path}: {describe_location(location)}: {complaint}"
+            for location, complaint in out_of_range(raw) if location not in (skip or set())]
 
 
 def load_profile(path: Path, cover_m: float, slope_length: bool) -> Route:
@@ -172,6 +184,7 @@ def load_study(path: str | Path) -> Study:
     spec = _validate(path, raw)
     base = path.parent
     problems = ProblemList()
+    problems.items.extend(_range_problems(path, raw))
 
     source_level = spec.source.level_m
     top_water = spec.source.top_water_level_m
@@ -272,6 +285,9 @@ def load_study(path: str | Path) -> Study:
                                  set(spec.catalogue.materials)))
     else:
         chosen = catalogue
+    if spec.catalogue.materials == []:
+        problems.add(f"{path}: [catalogue] materials: the list is empty; name at least one "
+                     f"material of {catalogue_path.name}, or leave the key out to use them all")
     if len(chosen) == 0 and spec.catalogue.materials:
         problems.add(f"{path}: [catalogue] materials: no option of the catalogue is left")
     problems.raise_if_any()

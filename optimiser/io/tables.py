@@ -8,6 +8,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.limits import CSV_COLUMNS
 
 
 @dataclass
@@ -34,12 +35,7 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
         data = path.read_bytes()
     except OSError as error:
         raise InputError(f"{path}: cannot read the {what} ({error})") from None
-    try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as error:
-        line = data[:error.start].count(b"\n") + 1
-        raise InputError(f"{path}: line {line}: the {what} is not UTF-8 text (save it as "
-                         f"UTF-8 CSV; byte {data[error.start]:#04x} cannot be read)") from None
+    text = decode_text(path, data, what, "UTF-8 CSV")
     if not text.strip():
         raise InputError(f"{path}: the {what} is empty")
     lines = text.splitlines()
@@ -54,6 +50,10 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
     if len(set(header)) != len(header):
         problems.add(f"{path}: line {first + 1}: a column name appears twice in {header}")
     missing = [name for name in required if name not in header]
+    separator = _other_separator(lines[first], header) if missing else None
+    if separator:
+        raise InputError(f"{path}: line {first + 1}: this file seems to use {separator} as "
+                         "separator; use ',' (save it as comma-separated CSV)")
     if missing:
         problems.add(f"{path}: line {first + 1}: missing column(s) {', '.join(missing)}; "
                      f"expected {', '.join(required + (optional or []))}")
@@ -80,10 +80,35 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
     return rows, header
 
 
+def decode_text(path: Path, data: bytes, what: str, save_as: str) -> str:
+    """The text of an input file: UTF-8, with or without a byte-order mark (which some
+    Windows editors and spreadsheets write). Anything else is an InputError naming the
+    line of the first byte that cannot be read."""
+    if data[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise InputError(f"{path}: the {what} is UTF-16 text; save it as {save_as}")
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as error:
+        line = data[:error.start].count(b"\n") + 1
+        raise InputError(f"{path}: line {line}: the {what} is not UTF-8 text (save it as "
+                         f"{save_as}; byte {data[error.start]:#04x} cannot be read)") from None
+
+
+def _other_separator(header_line: str, header: list[str]) -> str | None:
+    """"';'" or "tab" when the header line is split more finely by that character than by
+    commas: a spreadsheet saved with a regional list separator."""
+    for character, name in ((";", "';'"), ("\t", "tab")):
+        if len(header_line.split(character)) > len(header):
+            return name
+    return None
+
+
 def number(path: Path, row: Row, column: str, problems: ProblemList, *,
            allow_empty: bool = False, positive: bool = False,
            non_negative: bool = False) -> float | None:
-    """A numeric cell, or None (after recording a problem) when it is not valid."""
+    """A numeric cell, or None (after recording a problem) when it is not valid: empty
+    (unless allowed), not a number, not finite, of the wrong sign, or outside the range
+    of its column in :data:`optimiser.io.limits.CSV_COLUMNS`."""
     text = row.cells.get(column, "")
     if text == "":
         if not allow_empty:
@@ -102,5 +127,10 @@ def number(path: Path, row: Row, column: str, problems: ProblemList, *,
         return None
     if non_negative and value < 0:
         problems.add(f"{path}: line {row.line}: column {column} must be >= 0, got {text}")
+        return None
+    limit = CSV_COLUMNS.get(column)
+    complaint = limit.message(value) if limit is not None else None
+    if complaint:
+        problems.add(f"{path}: line {row.line}: column {column}: {complaint}")
         return None
     return value

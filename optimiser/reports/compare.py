@@ -13,6 +13,7 @@ from optimiser.milp import DesignOutcome
 from optimiser.model import Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.charts import profile_figure
+from optimiser.reports.text import short_title
 
 COMPARISON_COLUMNS = [
     "rank", "option", "title", "study", "status", "verified", "total_cost", "currency",
@@ -49,7 +50,7 @@ def comparison_row(option: OptionResult) -> dict:
     study = option.study
     outcome = option.outcome
     design_flow = max(s.outlet_flow_m3_s for s in study.scenarios) * 1000.0
-    row = {"option": option_name(option.path), "title": study.title,
+    row = {"option": option_name(option.path), "title": short_title(study.title),
            "study": str(option.path), "currency": study.currency,
            "design_flow_l_s": design_flow}
     if outcome is None:

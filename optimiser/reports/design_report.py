@@ -15,6 +15,7 @@ from optimiser.model import Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.terminal import chainage_label, print_violations
+from optimiser.reports.text import console_title
 
 DESIGN_CSV_COLUMNS = ["from_m", "to_m", "material", "dn_mm", "pressure_class", "length_m",
                       "internal_diameter_mm", "cost", "velocity_m_s", "unit_head_loss_m_per_km"]
@@ -121,7 +122,7 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     """Schedule, totals, bound, binding points and the uniform comparison."""
     currency = study.currency
     if outcome.status == "infeasible":
-        console.print(f"[bold]{study.title}[/bold]")
+        console.print(f"[bold]{console_title(study.title)}[/bold]")
         console.print("[bold red]No design meets every limit[/bold red]:")
         for finding in outcome.diagnosis:
             console.print(f"- {finding}", markup=False, highlight=False)
@@ -130,7 +131,7 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     table = schedule(outcome)
     governing = outcome.check.scenarios[governing_scenario(outcome)].name
     length_km = study.route.total_chainage_m / 1000
-    console.print(f"[bold]{study.title}[/bold]  (design of {length_km:.3f} km, "
+    console.print(f"[bold]{console_title(study.title)}[/bold]  (design of {length_km:.3f} km, "
                   f"{len(table)} pieces)")
     pieces = Table(title=f"Schedule (velocity and unit head loss in scenario {governing!r})",
                    title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False,

@@ -16,6 +16,7 @@ from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.charts import cost_figure, pressure_velocity_figure, profile_figure
 from optimiser.reports.results import assumptions
 from optimiser.reports.terminal import chainage_label
+from optimiser.reports.text import short_title
 
 _STYLE = """
 body { font-family: "Segoe UI", Helvetica, Arial, sans-serif; color: #222; margin: 2em auto;
@@ -76,7 +77,7 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
               if result.ok else
               f"<span class='status-bad'>{len(result.violations)} violation(s)</span>")
     summary_rows = [
-        ("study", html.escape(study.title)),
+        ("study", html.escape(short_title(study.title))),
         ("route length", f"{study.route.total_chainage_m:,.0f} m (chainage)"),
         ("check", status),
         ("capital cost", html.escape(_money(result.total_cost, currency))),
@@ -129,11 +130,11 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
     stamp = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
     return f"""<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">
-<title>{html.escape(study.title)}</title>
+<title>{html.escape(short_title(study.title))}</title>
 <style>{_STYLE}</style>
 <script type="text/javascript">{get_plotlyjs()}</script>
 </head><body>
-<h1>{html.escape(study.title)}</h1>
+<h1>{html.escape(short_title(study.title))}</h1>
 <p class="meta">Pipeline sizing report, tool version {__version__}, made {stamp}.</p>
 <div class="cautions"><strong>Cautions.</strong><ul>{cautions}</ul></div>
 <h2>Summary</h2><table>{summary}</table>

@@ -33,6 +33,7 @@ from optimiser.reports.sweep_charts import (
     tradeoff_figure,
 )
 from optimiser.reports.terminal import chainage_label, flow_text
+from optimiser.reports.text import console_title, short_title
 from optimiser.sweeps.robust import RoughnessRuns, SolvedDesign
 from optimiser.sweeps.tradeoff import COLUMNS, STATUS_FAILED, TradeoffResult
 
@@ -175,7 +176,7 @@ def write_tradeoff_files(out_dir: Path, result: TradeoffResult, study: Study) ->
     out_dir = Path(out_dir)
     paths = [out_dir / "tradeoff.csv", out_dir / "tradeoff.json", out_dir / "tradeoff.html"]
     page = figures_page(
-        f"{study.title}: least cost against {AXIS_TITLE[result.variable]}",
+        f"{short_title(study.title)}: least cost against {AXIS_TITLE[result.variable]}",
         [("Least cost", tradeoff_chart(result, study))],
         [INFEASIBLE_NOTE, "Each step is re-optimised on its own; the diamond (or dashed "
          "line) is the study as written."])
@@ -191,7 +192,7 @@ def print_tradeoff(console: Console, result: TradeoffResult, study: Study) -> No
     def text(value: float) -> str:
         return _flow(value) if variable == "flow" else f"{value:.2f} m"
 
-    console.print(f"[bold]{study.title}[/bold]  (trade-off over {variable}, "
+    console.print(f"[bold]{console_title(study.title)}[/bold]  (trade-off over {variable}, "
                   f"{len(result.table)} steps)")
     _print_sweep(console, *_sweep_terminal_table(
         "Least cost at each step", result.table, AXIS_TITLE[variable].split(" (")[0], text,
@@ -371,7 +372,7 @@ def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Pa
     robust_note = _robust_figure_note(runs, result.study.currency)
     if robust_note:
         notes.append(robust_note)
-    page = figures_page(f"{result.study.title}: roughness sensitivity",
+    page = figures_page(f"{short_title(result.study.title)}: roughness sensitivity",
                         sensitivity_figures(result), notes)
     paths = []
     for path, content in writes:
@@ -391,7 +392,7 @@ def print_sensitivity(console: Console, result: SensitivityResult) -> None:
     runs = result.runs
     currency = study.currency
     low, high = min(result.roughness_mm), max(result.roughness_mm)
-    console.print(f"[bold]{study.title}[/bold]  (roughness {low:g} to {high:g} mm, "
+    console.print(f"[bold]{console_title(study.title)}[/bold]  (roughness {low:g} to {high:g} mm, "
                   f"{len(result.roughness_mm)} steps)")
     if result.fixed_sweep is not None:
         view = Table(title=f"Fixed design ({result.design_source}) across roughness",

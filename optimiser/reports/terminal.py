@@ -8,6 +8,7 @@ from rich.table import Table
 
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.text import console_title
 
 
 def chainage_label(chainage_m: float) -> str:
@@ -33,7 +34,8 @@ def print_cautions(console: Console) -> None:
 def print_check(console: Console, result: CheckResult) -> None:
     """Scenario summary, critical points and violations of a checked design."""
     study = result.study
-    console.print(f"[bold]{study.title}[/bold]  (check of {len(result.design.pieces)} pieces, "
+    console.print(f"[bold]{console_title(study.title)}[/bold]  (check of "
+                  f"{len(result.design.pieces)} pieces, "
                   f"{study.route.total_chainage_m / 1000:.3f} km)")
     summary = Table(title="Scenarios", title_justify="left")
     for column in ("scenario", "inflow", "outlet energy m", "required m", "margin m",
