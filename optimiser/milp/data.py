@@ -21,8 +21,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.analysis.flows import flow_below_m3_s, friction_gradient
+from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
-from optimiser.model import Study
+from optimiser.model import Study, SurgeMethod
 
 SCREEN_TOLERANCE_M = 1e-3
 """A check point is screened out only if it clears its minimum by this much more than
@@ -51,7 +52,7 @@ class ProblemData:
     section_loss_m: np.ndarray  # (K, n, m) friction + per-km allowance over the section
     source_level_m: np.ndarray  # (K,)
     static_demand_m: np.ndarray  # (n,) top water - lowest pipe level + surge allowance
-    class_ok: np.ndarray  # (n, m) pressure class can take the static head
+    class_ok: np.ndarray  # (n, m) pressure class can take the static head (and surge)
     velocity_ok: np.ndarray  # (n, m) velocity window met in every limited scenario
     admissible: np.ndarray  # (n, m)
     order: np.ndarray  # (m,) option indices by descending internal diameter
@@ -119,14 +120,17 @@ def prepare(study: Study) -> ProblemData:
         losses.append(length[:, None] * (j + study.local_k_per_km / 1000.0 * h))
         levels.append(scenario.source_level_m)
 
-    lowest = np.minimum(pipe[:-1], pipe[1:])
-    static_demand = study.source.top_water_level_m - lowest + study.surge_allowance_m
-    class_ok = static_demand[:, None] <= catalogue.allowable_head_m[None, :]
     velocity_ok = np.ones((n, m), dtype=bool)
     rules = study.rules
     for scenario, v in zip(study.scenarios, velocities, strict=True):
         if scenario.velocity_limits:
             velocity_ok &= (v >= rules.velocity_min_m_s) & (v <= rules.velocity_max_m_s)
+    lowest = np.minimum(pipe[:-1], pipe[1:])
+    static_head = study.source.top_water_level_m - lowest
+    static_demand = static_head + study.surge_allowance_m
+    surge = _surge_head_m(study, np.array(velocities), velocity_ok)
+    class_ok = (static_head[:, None] <= catalogue.allowable_head_m[None, :]) & (
+        static_head[:, None] + surge <= _surge_limit_m(study)[None, :])
     admissible = class_ok & velocity_ok
 
     # Descending internal diameter; ties by ascending cost then catalogue position, so
@@ -151,6 +155,36 @@ def prepare(study: Study) -> ProblemData:
         screened_interior=np.zeros(n, dtype=bool))
     _screen(data)
     return data
+
+
+def _surge_limit_m(study: Study) -> np.ndarray:
+    """(m,) limit of static + surge head: the working limit with the allowance method
+    (contract section 5), else each option's allowable_surge_head_m (section 10)."""
+    if study.surge.method is SurgeMethod.ALLOWANCE:
+        return study.catalogue.allowable_head_m
+    return study.catalogue.surge_limit_head_m
+
+
+def _surge_head_m(study: Study, velocity_m_s: np.ndarray, velocity_ok: np.ndarray
+                  ) -> np.ndarray:
+    """(n, m) surge head of option j wherever section s lies in a piece of j.
+
+    The check takes a piece's surge from the largest velocity anywhere in the piece in any
+    scenario. A piece of option j can only cover consecutive sections where j meets the
+    velocity window, so the largest velocity of j over that whole run bounds the velocity
+    of any piece of j through s: conservative, like the class decided at the section's
+    lowest pipe level.
+    """
+    fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
+    n, m = fastest.shape
+    bound = np.empty_like(fastest)
+    for j in range(m):
+        starts = np.flatnonzero(np.concatenate([[True], velocity_ok[1:, j]
+                                                != velocity_ok[:-1, j]]))
+        run = np.cumsum(np.isin(np.arange(n), starts)) - 1
+        bound[:, j] = np.maximum.reduceat(fastest[:, j], starts)[run]
+    wave_speed = wave_speeds_m_s(study, study.catalogue)
+    return surge_head_m(study, wave_speed[None, :], bound)
 
 
 def rescreen(data: ProblemData) -> None:
