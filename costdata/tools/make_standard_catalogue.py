@@ -9,7 +9,7 @@ figure against the standard's own table and the maker's data before real use):
 
 - PE100, ISO 4427-2: wall e = OD / (2 S + 1), S the pipe series taken as the exact R20
   (Renard) number 10^(k/20) (S 5 = 5.0119 for "SDR 11", S 8 = 7.9433 for "SDR 17"),
-  rounded up to 0.1 mm; PN = 20 MRS / (C (SDR - 1)) with MRS 10 MPa, C 1.25, named by
+  rounded to 0.01 mm and then up to 0.1 mm; PN = 20 MRS / (C (SDR - 1)) with MRS 10 MPa, C 1.25, named by
   the nearest PN of the R10 series.
 - PVC-U, ISO 1452-2: the same wall rule; PN = 20 MRS / (C (SDR - 1)) with MRS 25 MPa and
   C 2.0 (outside diameters above 90 mm), named by the nearest PN of the R10 series.
@@ -61,8 +61,10 @@ STEEL = {200: (219.1, [4.5, 6.3]), 250: (273.0, [5.0, 7.1]), 300: (323.9, [5.6, 
 
 
 def round_up(value_mm: float) -> float:
-    """Round up to 0.1 mm (the standards' rule for minimum walls)."""
-    return math.ceil(value_mm * 10.0 - 1e-9) / 10.0
+    """Round up to 0.1 mm after rounding to 0.01 mm: the rule that reproduces the ISO
+    4065 / ISO 4427-2 walls we recall (110 SDR 26: 4.2019 -> 4.2; 110 SDR 17: 6.514 -> 6.6;
+    250 SDR 17: 14.805 -> 14.8)."""
+    return math.ceil(round(value_mm, 2) * 10.0 - 1e-9) / 10.0
 
 
 def pn_below(pressure_bar: float) -> float:
