@@ -9,6 +9,7 @@ invented test data (``builders``), never check values in themselves.
 from __future__ import annotations
 
 import doctest
+import itertools
 import json
 import math
 
@@ -181,7 +182,7 @@ def test_slow_closure_uses_the_length_to_the_end_of_the_route(make_study):
     study = load_study(files.study)
     result = check_design(study, load_design(files.design, study), capacity=False)
     pipe = [(c, g - 1.0) for c, g, *_ in DEFAULT_PROFILE]
-    length = sum(math.hypot(b[0] - a[0], b[1] - a[1]) for a, b in zip(pipe, pipe[1:]))
+    length = sum(math.hypot(b[0] - a[0], b[1] - a[1]) for a, b in itertools.pairwise(pipe))
     expected = [2 * length * _velocity(0.029, d) / (G * 120.0) for d in (220.4, 176.2)]
     assert result.pieces["surge_head_m"].tolist() == pytest.approx(expected, rel=1e-9)
 

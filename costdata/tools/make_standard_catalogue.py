@@ -9,8 +9,8 @@ figure against the standard's own table and the maker's data before real use):
 
 - PE100, ISO 4427-2: wall e = OD / (2 S + 1), S the pipe series taken as the exact R20
   (Renard) number 10^(k/20) (S 5 = 5.0119 for "SDR 11", S 8 = 7.9433 for "SDR 17"),
-  rounded to 0.01 mm and then up to 0.1 mm; PN = 20 MRS / (C (SDR - 1)) with MRS 10 MPa, C 1.25, named by
-  the nearest PN of the R10 series.
+  rounded to 0.01 mm and then up to 0.1 mm; PN = 20 MRS / (C (SDR - 1)) with MRS
+  10 MPa, C 1.25, named by the nearest PN of the R10 series.
 - PVC-U, ISO 1452-2: the same wall rule; PN = 20 MRS / (C (SDR - 1)) with MRS 25 MPa and
   C 2.0 (outside diameters above 90 mm), named by the nearest PN of the R10 series.
 - Ductile iron, EN 545 (2010): outside diameter DE by DN; pressure class Cxx with the
