@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
+import numpy as np
 import pytest
 from builders import DEFAULT_CATALOGUE, DEFAULT_STUDY
 from test_surge import CATALOGUE_KEYS, _catalogue
@@ -207,3 +208,55 @@ def test_design_refuses_the_down_surge_limit_plainly(make_study, runner):
     outcome = runner.invoke(app, ["design", str(files.study)])
     assert outcome.exit_code == 2, outcome.output
     assert "min_transient_pressure_m" in " ".join(outcome.output.split())
+
+
+def _random_study(make_study, seed: int):
+    """An invented falling route with a valley, two large offtakes (so one option's
+    velocity differs along the route) and two scenarios; a catalogue of stiff and
+    flexible pipes of three sizes and two classes each (invented data)."""
+    rng = np.random.default_rng(seed)
+    chainage = np.linspace(0.0, 4000.0, 9)
+    ground = np.linspace(200.0, 150.0, 9) - np.concatenate(
+        [[0.0], rng.uniform(20.0, 70.0, 7), [0.0]])
+    ground[0] = 196.0
+    rows = []
+    for material, speed, price, surge_factor in (("stiff", 1150.0, 1.0, 1.2),
+                                                 ("flexible", 330.0, 1.15, None)):
+        for bore, cost in ((150.0, 40.0), (200.0, 60.0), (250.0, 85.0)):
+            for pn, head in (("PN10", 102.0), ("PN16", 163.2)):
+                rows.append({
+                    "material": material, "dn_mm": bore + 20, "internal_diameter_mm": bore,
+                    "pressure_class": pn, "allowable_head_m": head, "roughness_mm": 0.05,
+                    "hazen_williams_c": 140, "cost_per_m": round(
+                        cost * price * (1.25 if pn == "PN16" else 1.0), 2),
+                    "note": "invented test data", "wave_speed_m_s": speed,
+                    "allowable_surge_head_m": "" if surge_factor is None
+                    else round(head * surge_factor, 1)})
+    study = {**DEFAULT_STUDY,
+             "source": {"level_m": 200.0, "top_water_level_m": 201.0, "entrance_k": 0.5},
+             "outlet": {"required_head_m": 165.0, "exit_k": 1.0},
+             "route": {"profile": "profile.csv", "cover_m": 1.0, "min_pressure_m": 2.0},
+             "offtake": [{"chainage_m": 1000.0, "flow": f"{rng.uniform(10, 25):.1f} L/s"},
+                         {"chainage_m": 2500.0, "flow": f"{rng.uniform(5, 15):.1f} L/s"}],
+             "scenario": [{"name": "peak", "flow": "20 L/s"},
+                          {"name": "future", "flow": "26 L/s", "offtake_factor": 1.3}],
+             "rules": {"min_piece_length_m": 100.0, "max_changes": 4},
+             "surge": {"method": "joukowsky", "closure_time_s": float(rng.choice([0, 60]))}}
+    return make_study(study=study, catalogue=rows,
+                      profile=[(float(c), float(g), "", "") for c, g in
+                               zip(chainage, ground, strict=True)])
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_designs_with_joukowsky_pass_the_check(make_study, seed):
+    """Every design `design` returns with surge by wave speed passes the independent check
+    (its per-section class admissibility is conservative: the largest velocity of the
+    option over the run of sections it may cover, the section's lowest pipe level)."""
+    study = load_study(_random_study(make_study, seed).study)
+    outcome = optimise_design(study)
+    if outcome.status == "infeasible":
+        pytest.skip("no design for this invented route")
+    assert outcome.check is not None and outcome.check.ok
+    result = check_design(study, outcome.design, capacity=False)
+    assert result.ok, [v.message for v in result.violations]
+    assert outcome.total_cost == pytest.approx(result.total_cost)

@@ -128,9 +128,7 @@ def prepare(study: Study) -> ProblemData:
     lowest = np.minimum(pipe[:-1], pipe[1:])
     static_head = study.source.top_water_level_m - lowest
     static_demand = static_head + study.surge_allowance_m
-    surge = _surge_head_m(study, np.array(velocities), velocity_ok)
-    class_ok = (static_head[:, None] <= catalogue.allowable_head_m[None, :]) & (
-        static_head[:, None] + surge <= _surge_limit_m(study)[None, :])
+    class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok)
     admissible = class_ok & velocity_ok
 
     # Descending internal diameter; ties by ascending cost then catalogue position, so
@@ -165,26 +163,50 @@ def _surge_limit_m(study: Study) -> np.ndarray:
     return study.catalogue.surge_limit_head_m
 
 
-def _surge_head_m(study: Study, velocity_m_s: np.ndarray, velocity_ok: np.ndarray
-                  ) -> np.ndarray:
-    """(n, m) surge head of option j wherever section s lies in a piece of j.
+def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
+              velocity_ok: np.ndarray) -> np.ndarray:
+    """(n, m) option j's class takes section s's static head (and its surge).
 
-    The check takes a piece's surge from the largest velocity anywhere in the piece in any
-    scenario. A piece of option j can only cover consecutive sections where j meets the
-    velocity window, so the largest velocity of j over that whole run bounds the velocity
-    of any piece of j through s: conservative, like the class decided at the section's
-    lowest pipe level.
+    Allowance (contract section 5): static + allowance <= allowable_head_m. By wave speed
+    (section 10): static <= allowable_head_m and static + surge <= the surge limit, where
+    the check takes a piece's surge from the largest velocity anywhere in the piece in
+    any scenario. A piece of j only covers consecutive sections where j is admissible, so
+    j is kept in s only if s passes with the largest velocity of j over its run of such
+    sections; sections that fail leave, runs split, the largest velocities fall, until
+    nothing changes (the largest set with this property). Conservative, like the class
+    decided at the section's lowest pipe level: every piece of a design built from these
+    sections passes the check's class test.
     """
+    catalogue = study.catalogue
+    operating = static_head_m[:, None] <= catalogue.allowable_head_m[None, :]
+    limit = _surge_limit_m(study)
+    if study.surge.method is SurgeMethod.ALLOWANCE:
+        return operating & (static_head_m[:, None] + study.surge_allowance_m <= limit[None, :])
     fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
-    n, m = fastest.shape
-    bound = np.empty_like(fastest)
-    for j in range(m):
-        starts = np.flatnonzero(np.concatenate([[True], velocity_ok[1:, j]
-                                                != velocity_ok[:-1, j]]))
-        run = np.cumsum(np.isin(np.arange(n), starts)) - 1
-        bound[:, j] = np.maximum.reduceat(fastest[:, j], starts)[run]
-    wave_speed = wave_speeds_m_s(study, study.catalogue)
-    return surge_head_m(study, wave_speed[None, :], bound)
+    wave_speed = wave_speeds_m_s(study, catalogue)
+    own = operating & (static_head_m[:, None] + surge_head_m(study, wave_speed[None, :], fastest)
+                       <= limit[None, :])
+    ok = own.copy()
+    for j in range(len(catalogue)):
+        keep = own[:, j] & velocity_ok[:, j]
+        while True:
+            bound = _run_max(fastest[:, j], keep)
+            still = keep & (static_head_m + surge_head_m(study, wave_speed[j], bound)
+                            <= limit[j])
+            if (still == keep).all():
+                break
+            keep = still
+        # Where the velocity rules out j anyway, leave its class judged on its own.
+        ok[:, j] = np.where(velocity_ok[:, j], keep, own[:, j])
+    return ok
+
+
+def _run_max(values: np.ndarray, mask: np.ndarray) -> np.ndarray:
+    """Largest value over each run of consecutive True in ``mask`` (the value itself where
+    ``mask`` is False)."""
+    starts = np.flatnonzero(np.concatenate([[True], mask[1:] != mask[:-1]]))
+    run = np.cumsum(np.isin(np.arange(len(values)), starts)) - 1
+    return np.where(mask, np.maximum.reduceat(values, starts)[run], values)
 
 
 def rescreen(data: ProblemData) -> None:
