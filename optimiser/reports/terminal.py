@@ -64,7 +64,7 @@ def print_check(console: Console, result: CheckResult) -> None:
     governs = worst_static["class_governs"]
     limit = worst_static["allowable_surge_head_m" if governs == "static + surge"
                          else "allowable_head_m"]
-    critical.add_row("(static)", f"least class margin ({governs} governs; surge "
+    critical.add_row("(static)", f"class, {governs} (surge "
                      f"{worst_static['surge_head_m']:.1f} m)",
                      chainage_label(worst_static["lowest_chainage_m"]),
                      f"{limit - spare_m:.1f} m", f"{limit:.1f} m", f"{spare_m:+.1f} m")
