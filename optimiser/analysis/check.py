@@ -16,9 +16,10 @@ from scipy.optimize import brentq
 
 from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, inflow_m3_s
 from optimiser.analysis.grid import Grid, design_grid
+from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.gradeline import energy_along_chain, final_point_loss_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
-from optimiser.model import Design, Scenario, Study
+from optimiser.model import Design, Scenario, Study, SurgeMethod
 
 _SAME = 1e-12
 
@@ -219,11 +220,16 @@ class _DesignHydraulics:
         return float(brentq(margin, 0.0, high, xtol=1e-13, rtol=4 * np.finfo(float).eps))
 
 
-def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics) -> pd.DataFrame:
+def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics,
+                 evaluated: list[_ScenarioArrays]) -> pd.DataFrame:
     grid = hydraulics.grid
     zone_factor = np.array([study.costs.factor(z) for z in grid.segment_zone])
     rows = []
     top_water = study.source.top_water_level_m
+    # Largest velocity of each grid segment in any scenario (contract section 10).
+    fastest = np.max([arrays.velocity_m_s for arrays in evaluated], axis=0)
+    options = [piece.option for piece in design.pieces]
+    wave_speed = wave_speeds_m_s(study, options)
     for index, piece in enumerate(design.pieces):
         mask = grid.segment_piece == index
         nodes = np.flatnonzero(mask)
@@ -233,6 +239,7 @@ def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics) ->
         option = piece.option
         length = float(grid.segment_length_m[mask].sum())
         cost = float((option.cost_per_m * zone_factor[mask] * grid.segment_length_m[mask]).sum())
+        velocity = float(fastest[mask].max())
         rows.append({
             "from_m": piece.from_m, "to_m": piece.to_m, "material": option.material,
             "dn_mm": option.dn_mm, "pressure_class": option.pressure_class,
@@ -241,34 +248,92 @@ def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics) ->
             "lowest_chainage_m": float(lowest_chainage),
             "static_head_m": top_water - float(levels[lowest]),
             "allowable_head_m": option.allowable_head_m,
+            "max_velocity_m_s": velocity,
+            "wave_speed_m_s": float(wave_speed[index]),
+            "surge_head_m": float(surge_head_m(study, wave_speed[index], velocity)),
+            # With the allowance method section 5 holds: static + allowance against the
+            # working limit; by wave speed the surge limit of the option where it has one.
+            "allowable_surge_head_m": (option.allowable_head_m
+                                       if study.surge.method is SurgeMethod.ALLOWANCE
+                                       else option.surge_limit_head_m),
         })
-    return pd.DataFrame(rows)
+    table = pd.DataFrame(rows)
+    surge_margin = (table["allowable_surge_head_m"] - table["static_head_m"]
+                    - table["surge_head_m"])
+    static_margin = table["allowable_head_m"] - table["static_head_m"]
+    table["class_governs"] = np.where(surge_margin < static_margin, "static + surge", "static")
+    # The largest static head each piece may take: the class envelope of the charts.
+    table["static_head_limit_m"] = np.minimum(
+        table["allowable_head_m"], table["allowable_surge_head_m"] - table["surge_head_m"])
+    return table
+
+
+def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
+    """Pressure class of every piece (contract sections 5 and 10): static head within
+    allowable_head_m and static + surge head within the surge limit; the worse of the
+    two is reported. With the allowance method this is section 5's single test."""
+    violations = []
+    by_wave_speed = study.surge.method is SurgeMethod.JOUKOWSKY
+    for row in pieces.itertuples():
+        name = (f"{row.material} DN{row.dn_mm:g} {row.pressure_class} from {row.from_m:g} to "
+                f"{row.to_m:g} m")
+        demand = row.static_head_m + row.surge_head_m
+        surge_excess = demand - row.allowable_surge_head_m
+        static_excess = row.static_head_m - row.allowable_head_m
+        if max(surge_excess, static_excess) <= 1e-9:
+            continue
+        if surge_excess >= static_excess:
+            what = (f"surge head {row.surge_head_m:.1f} m (wave speed "
+                    f"{row.wave_speed_m_s:.0f} m/s, velocity {row.max_velocity_m_s:.2f} m/s)"
+                    if by_wave_speed else f"surge allowance {row.surge_head_m:g} m")
+            violations.append(Violation(
+                "max_pressure", None, row.lowest_chainage_m, demand,
+                row.allowable_surge_head_m,
+                f"{name}: static head {row.static_head_m:.1f} m + {what} exceeds the class's "
+                f"{row.allowable_surge_head_m:g} m"))
+        else:
+            violations.append(Violation(
+                "max_pressure", None, row.lowest_chainage_m, row.static_head_m,
+                row.allowable_head_m,
+                f"{name}: static head {row.static_head_m:.1f} m exceeds the class's "
+                f"allowable head {row.allowable_head_m:g} m"))
+    return violations
+
+
+def _transient_violations(study: Study, scenario: Scenario, points: pd.DataFrame,
+                          surge_by_piece: np.ndarray) -> list[Violation]:
+    """Down-surge limit (contract section 10): pressure head minus the surge head of the
+    pipe at that point, at or above ``[surge] min_transient_pressure_m``."""
+    limit = study.surge.min_transient_pressure_m
+    if limit is None:
+        return []
+    low = points[points["transient_pressure_m"] < limit - 1e-9]
+    return [Violation(
+        "transient_pressure", scenario.name, float(row.chainage_m),
+        float(row.transient_pressure_m), limit,
+        f"pressure head {row.pressure_m:.2f} m less the surge head "
+        f"{surge_by_piece[int(row.piece)]:.1f} m of its pipe is below the down-surge "
+        f"limit {limit:g} m") for row in low.itertuples()]
 
 
 def check_design(study: Study, design: Design, *, capacity: bool = True) -> CheckResult:
-    """Analyse ``design`` in every scenario of ``study`` (contract section 5).
+    """Analyse ``design`` in every scenario of ``study`` (contract sections 5 and 10).
 
     Returns points, segments, violations, costs and (unless ``capacity=False``) the
     gravity capacity of the design in each scenario.
     """
     hydraulics = _DesignHydraulics(study, design)
-    violations: list[Violation] = []
-    pieces = _piece_table(study, design, hydraulics)
-    surge = study.surge_allowance_m
-    for row in pieces.itertuples():
-        demand = row.static_head_m + surge
-        if demand > row.allowable_head_m + 1e-9:
-            violations.append(Violation(
-                "max_pressure", None, row.lowest_chainage_m, demand, row.allowable_head_m,
-                f"{row.material} DN{row.dn_mm:g} {row.pressure_class} from {row.from_m:g} to "
-                f"{row.to_m:g} m: static head {row.static_head_m:.1f} m + surge allowance "
-                f"{surge:g} m exceeds the class's {row.allowable_head_m:g} m"))
+    evaluated = [hydraulics.evaluate(scenario) for scenario in study.scenarios]
+    pieces = _piece_table(study, design, hydraulics, evaluated)
+    violations = _class_violations(study, pieces)
+    surge_by_piece = pieces["surge_head_m"].to_numpy()
 
     results: list[ScenarioResult] = []
     rules = study.rules
-    for scenario in study.scenarios:
-        arrays = hydraulics.evaluate(scenario)
+    for scenario, arrays in zip(study.scenarios, evaluated, strict=True):
         points = hydraulics.points(arrays)
+        points["surge_head_m"] = surge_by_piece[points["piece"].to_numpy()]
+        points["transient_pressure_m"] = points["pressure_m"] - points["surge_head_m"]
         segments = hydraulics.segments(arrays)
         short = points[points["pressure_m"] < points["min_pressure_m"] - 1e-9]
         for row in short.itertuples():
@@ -277,6 +342,7 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
                 float(row.min_pressure_m),
                 f"pressure head {row.pressure_m:.2f} m below the minimum "
                 f"{row.min_pressure_m:g} m"))
+        violations.extend(_transient_violations(study, scenario, points, surge_by_piece))
         if scenario.velocity_limits:
             for index in range(len(design.pieces)):
                 part = segments[segments["piece"] == index]

@@ -43,7 +43,8 @@ def friction_gradient(study: Study, scenario: Scenario, flow_m3_s: np.ndarray,
     the (n, m) matrix the optimiser uses.
     """
     if study.friction is Friction.HAZEN_WILLIAMS:
-        return hazen_williams_gradient(flow_m3_s, diameter_m, hazen_williams_c)
+        return hazen_williams_gradient(flow_m3_s, diameter_m, hazen_williams_c,
+                                       study.hazen_williams_coefficient)
     return gradient_with_roughness(study, flow_m3_s, diameter_m,
                                    scenario.effective_roughness_mm(roughness_mm),
                                    hazen_williams_c)
@@ -55,7 +56,8 @@ def gradient_with_roughness(study: Study, flow_m3_s: np.ndarray, diameter_m: np.
     """Friction gradient J [m/m] by the study's method with roughness given directly
     (sensitivity studies replace the catalogue's roughness). Arguments broadcast."""
     if study.friction is Friction.HAZEN_WILLIAMS:
-        return hazen_williams_gradient(flow_m3_s, diameter_m, hazen_williams_c)
+        return hazen_williams_gradient(flow_m3_s, diameter_m, hazen_williams_c,
+                                       study.hazen_williams_coefficient)
     return darcy_weisbach_gradient(flow_m3_s, diameter_m,
                                    np.asarray(roughness_mm, dtype=float) / 1000.0,
                                    study.kinematic_viscosity_m2_s)

@@ -26,10 +26,11 @@ for pipe-flow problems, J. Hydraulics Div. ASCE 102(5)):
 
 Hazen--Williams in SI units (Williams, G.S. & Hazen, A. (1905), Hydraulic Tables):
 
-    J = 10.67 Q^1.852 / (C^1.852 d^4.8704)
+    J = k Q^1.852 / (C^1.852 d^4.8704),   k = 10.67 by default
 
-with Q in m^3/s and d in m. It is an empirical formula for water near room temperature
-in turbulent flow; it ignores viscosity.
+with Q in m^3/s and d in m (the constant k is a study setting: published values range
+from 10.5088 to 10.9031, and results are only comparable with the same k). It is an
+empirical formula for water near room temperature in turbulent flow; it ignores viscosity.
 """
 
 from __future__ import annotations
@@ -132,11 +133,20 @@ def darcy_weisbach_gradient(
     return np.where(re > 0.0, f / d * velocity**2 / (2.0 * G_M_S2), 0.0)
 
 
+HAZEN_WILLIAMS_SI_COEFFICIENT: float = 10.67
+"""The constant k of the SI Hazen--Williams formula (the study format's default; the
+literature uses values from 10.5088 to 10.9031)."""
+
+
 def hazen_williams_gradient(
-    flow_m3_s: ArrayLike, diameter_m: ArrayLike, hazen_williams_c: ArrayLike
+    flow_m3_s: ArrayLike, diameter_m: ArrayLike, hazen_williams_c: ArrayLike,
+    coefficient: float = HAZEN_WILLIAMS_SI_COEFFICIENT,
 ) -> np.ndarray:
-    """Friction gradient by Hazen--Williams (SI) [m/m]: J = 10.67 Q^1.852 / (C^1.852 d^4.8704)."""
+    """Friction gradient by Hazen--Williams (SI) [m/m]: J = k Q^1.852 / (C^1.852 d^4.8704).
+
+    ``coefficient`` is k (default 10.67); Q in m^3/s, d in m, C dimensionless.
+    """
     q = np.abs(np.asarray(flow_m3_s, dtype=float))
     c = np.asarray(hazen_williams_c, dtype=float)
     d = np.asarray(diameter_m, dtype=float)
-    return 10.67 * q**1.852 / (c**1.852 * d**4.8704)
+    return coefficient * q**1.852 / (c**1.852 * d**4.8704)

@@ -69,6 +69,13 @@ class CatalogueTable(_Table):
     materials: list[str] | None = None
     surge_allowance_m: float = Field(0.0, ge=0.0)
     friction: Literal["colebrook-white", "hazen-williams"] = "colebrook-white"
+    hazen_williams_coefficient: float = Field(10.67, gt=0.0)
+
+
+class SurgeTable(_Table):
+    method: Literal["allowance", "joukowsky"] = "allowance"
+    closure_time_s: float = Field(0.0, ge=0.0)
+    min_transient_pressure_m: float | None = None
 
 
 class RulesTable(_Table):
@@ -103,6 +110,7 @@ class StudyFile(_Table):
     rules: RulesTable = Field(default_factory=RulesTable)
     costs: CostsTable = Field(default_factory=CostsTable)
     solver: SolverTable = Field(default_factory=SolverTable)
+    surge: SurgeTable = Field(default_factory=SurgeTable)
 
 
 _ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting"}

@@ -16,6 +16,13 @@ from optimiser.hydraulics.water import kinematic_viscosity_m2_s
 from optimiser.io.errors import InputError, ProblemList
 from optimiser.io.limits import out_of_range
 from optimiser.io.schema import StudyFile, describe_location
+from optimiser.io.surge_inputs import (
+    SURGE_COLUMNS,
+    has_wave_speed,
+    surge_columns,
+    surge_problems,
+    surge_settings,
+)
 from optimiser.io.tables import decode_text, number, read_rows
 from optimiser.io.units import parse_flow_m3_s
 from optimiser.model import (
@@ -142,7 +149,7 @@ def _insert_nodes(route: Route, chainages: list[float]) -> Route:
 
 def load_catalogue(path: Path, friction: Friction) -> Catalogue:
     """Read a catalogue CSV (contract section 3)."""
-    rows, _ = read_rows(path, CATALOGUE_COLUMNS, what="catalogue")
+    rows, _ = read_rows(path, CATALOGUE_COLUMNS, SURGE_COLUMNS, what="catalogue")
     problems = ProblemList()
     options: list[PipeOption] = []
     seen: dict[tuple, int] = {}
@@ -160,6 +167,7 @@ def load_catalogue(path: Path, friction: Friction) -> Catalogue:
         c_value = number(path, row, "hazen_williams_c", problems, positive=True,
                          allow_empty=friction is not Friction.HAZEN_WILLIAMS)
         cost = number(path, row, "cost_per_m", problems, non_negative=True)
+        surge = surge_columns(path, row, problems, diameter, allowable)
         if None in (dn, diameter, allowable, roughness, cost) or not material \
                 or not pressure_class:
             continue
@@ -172,7 +180,7 @@ def load_catalogue(path: Path, friction: Friction) -> Catalogue:
             continue
         seen[key] = row.line
         options.append(PipeOption(material, dn, diameter, pressure_class, allowable,
-                                  roughness, c_value, cost, row.cells["note"]))
+                                  roughness, c_value, cost, row.cells["note"], **surge))
     problems.raise_if_any()
     return Catalogue(tuple(options))
 
@@ -290,6 +298,7 @@ def load_study(path: str | Path) -> Study:
                      f"material of {catalogue_path.name}, or leave the key out to use them all")
     if len(chosen) == 0 and spec.catalogue.materials:
         problems.add(f"{path}: [catalogue] materials: no option of the catalogue is left")
+    problems.items.extend(surge_problems(path, catalogue_path, spec, chosen))
     problems.raise_if_any()
 
     route = _insert_nodes(route, [o.chainage_m for o in offtakes] +
@@ -319,6 +328,8 @@ def load_study(path: str | Path) -> Study:
         path=path,
         catalogue_path=catalogue_path,
         profile_path=profile_path,
+        surge=surge_settings(spec),
+        hazen_williams_coefficient=spec.catalogue.hazen_williams_coefficient,
     )
     return study
 
@@ -368,6 +379,10 @@ def load_design(path: str | Path, study: Study) -> Design:
             problems.add(f"{path}: line {row.line}: {material} DN{dn:g} {pressure_class} is "
                          f"not in the catalogue {study.catalogue_path}")
             continue
+        if study.surge.method == "joukowsky" and not has_wave_speed(option):
+            problems.add(f"{path}: line {row.line}: {option.label} has no wave_speed_m_s "
+                         f"(nor wall_thickness_mm with elastic_modulus_gpa) in "
+                         f"{study.catalogue_path}; [surge] method \"joukowsky\" needs it")
         pieces.append(Piece(start, stop, option))
     if previous_end is not None and abs(previous_end - end) > CHAINAGE_TOLERANCE_M:
         problems.add(f"{path}: line {rows[-1].line}: the last piece ends at {previous_end:g} "

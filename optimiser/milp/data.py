@@ -21,8 +21,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.analysis.flows import flow_below_m3_s, friction_gradient
+from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
-from optimiser.model import Study
+from optimiser.model import Study, SurgeMethod
 
 SCREEN_TOLERANCE_M = 1e-3
 """A check point is screened out only if it clears its minimum by this much more than
@@ -51,7 +52,7 @@ class ProblemData:
     section_loss_m: np.ndarray  # (K, n, m) friction + per-km allowance over the section
     source_level_m: np.ndarray  # (K,)
     static_demand_m: np.ndarray  # (n,) top water - lowest pipe level + surge allowance
-    class_ok: np.ndarray  # (n, m) pressure class can take the static head
+    class_ok: np.ndarray  # (n, m) pressure class can take the static head (and surge)
     velocity_ok: np.ndarray  # (n, m) velocity window met in every limited scenario
     admissible: np.ndarray  # (n, m)
     order: np.ndarray  # (m,) option indices by descending internal diameter
@@ -119,14 +120,15 @@ def prepare(study: Study) -> ProblemData:
         losses.append(length[:, None] * (j + study.local_k_per_km / 1000.0 * h))
         levels.append(scenario.source_level_m)
 
-    lowest = np.minimum(pipe[:-1], pipe[1:])
-    static_demand = study.source.top_water_level_m - lowest + study.surge_allowance_m
-    class_ok = static_demand[:, None] <= catalogue.allowable_head_m[None, :]
     velocity_ok = np.ones((n, m), dtype=bool)
     rules = study.rules
     for scenario, v in zip(study.scenarios, velocities, strict=True):
         if scenario.velocity_limits:
             velocity_ok &= (v >= rules.velocity_min_m_s) & (v <= rules.velocity_max_m_s)
+    lowest = np.minimum(pipe[:-1], pipe[1:])
+    static_head = study.source.top_water_level_m - lowest
+    static_demand = static_head + study.surge_allowance_m
+    class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok)
     admissible = class_ok & velocity_ok
 
     # Descending internal diameter; ties by ascending cost then catalogue position, so
@@ -151,6 +153,60 @@ def prepare(study: Study) -> ProblemData:
         screened_interior=np.zeros(n, dtype=bool))
     _screen(data)
     return data
+
+
+def _surge_limit_m(study: Study) -> np.ndarray:
+    """(m,) limit of static + surge head: the working limit with the allowance method
+    (contract section 5), else each option's allowable_surge_head_m (section 10)."""
+    if study.surge.method is SurgeMethod.ALLOWANCE:
+        return study.catalogue.allowable_head_m
+    return study.catalogue.surge_limit_head_m
+
+
+def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
+              velocity_ok: np.ndarray) -> np.ndarray:
+    """(n, m) option j's class takes section s's static head (and its surge).
+
+    Allowance (contract section 5): static + allowance <= allowable_head_m. By wave speed
+    (section 10): static <= allowable_head_m and static + surge <= the surge limit, where
+    the check takes a piece's surge from the largest velocity anywhere in the piece in
+    any scenario. A piece of j only covers consecutive sections where j is admissible, so
+    j is kept in s only if s passes with the largest velocity of j over its run of such
+    sections; sections that fail leave, runs split, the largest velocities fall, until
+    nothing changes (the largest set with this property). Conservative, like the class
+    decided at the section's lowest pipe level: every piece of a design built from these
+    sections passes the check's class test.
+    """
+    catalogue = study.catalogue
+    operating = static_head_m[:, None] <= catalogue.allowable_head_m[None, :]
+    limit = _surge_limit_m(study)
+    if study.surge.method is SurgeMethod.ALLOWANCE:
+        return operating & (static_head_m[:, None] + study.surge_allowance_m <= limit[None, :])
+    fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
+    wave_speed = wave_speeds_m_s(study, catalogue)
+    own = operating & (static_head_m[:, None] + surge_head_m(study, wave_speed[None, :], fastest)
+                       <= limit[None, :])
+    ok = own.copy()
+    for j in range(len(catalogue)):
+        keep = own[:, j] & velocity_ok[:, j]
+        while True:
+            bound = _run_max(fastest[:, j], keep)
+            still = keep & (static_head_m + surge_head_m(study, wave_speed[j], bound)
+                            <= limit[j])
+            if (still == keep).all():
+                break
+            keep = still
+        # Where the velocity rules out j anyway, leave its class judged on its own.
+        ok[:, j] = np.where(velocity_ok[:, j], keep, own[:, j])
+    return ok
+
+
+def _run_max(values: np.ndarray, mask: np.ndarray) -> np.ndarray:
+    """Largest value over each run of consecutive True in ``mask`` (the value itself where
+    ``mask`` is False)."""
+    starts = np.flatnonzero(np.concatenate([[True], mask[1:] != mask[:-1]]))
+    run = np.cumsum(np.isin(np.arange(len(values)), starts)) - 1
+    return np.where(mask, np.maximum.reduceat(values, starts)[run], values)
 
 
 def rescreen(data: ProblemData) -> None:

@@ -13,6 +13,8 @@ from optimiser.model.study import (
     SolverSettings,
     Source,
     Study,
+    SurgeMethod,
+    SurgeSettings,
 )
 
 __all__ = [
@@ -32,4 +34,6 @@ __all__ = [
     "Source",
     "Status",
     "Study",
+    "SurgeMethod",
+    "SurgeSettings",
 ]

@@ -21,6 +21,16 @@ class PipeOption:
     hazen_williams_c: float | None
     cost_per_m: float
     note: str = ""
+    wave_speed_m_s: float | None = None
+    """Pressure wave speed a [m/s] as given; else derived from the wall (Korteweg)."""
+    wall_thickness_mm: float | None = None
+    elastic_modulus_gpa: float | None = None
+    poisson_ratio: float = 0.3
+    allowable_surge_head_m: float | None = None
+    """Most head the option takes with surge included [m]; None: allowable_head_m."""
+    outside_diameter_mm: float | None = None
+    sdr: float | None = None
+    """Standard dimension ratio OD / wall: with the outside diameter, names PE pipe."""
 
     @property
     def key(self) -> tuple[str, float, str]:
@@ -33,8 +43,19 @@ class PipeOption:
 
     @property
     def label(self) -> str:
+        if self.outside_diameter_mm is not None and self.sdr is not None:
+            # Plastic pipe is ordered by outside diameter and SDR.
+            return (f"{self.material} OD{self.outside_diameter_mm:g} SDR{self.sdr:g} "
+                    f"{self.pressure_class}")
         dn = f"{self.dn_mm:g}"
         return f"{self.material} DN{dn} {self.pressure_class}"
+
+    @property
+    def surge_limit_head_m(self) -> float:
+        """Limit of static + surge head [m]: allowable_surge_head_m, else allowable_head_m."""
+        if self.allowable_surge_head_m is None:
+            return self.allowable_head_m
+        return self.allowable_surge_head_m
 
 
 @dataclass(frozen=True)
@@ -89,6 +110,10 @@ class Catalogue:
     @property
     def allowable_head_m(self) -> np.ndarray:
         return np.array([o.allowable_head_m for o in self.options])
+
+    @property
+    def surge_limit_head_m(self) -> np.ndarray:
+        return np.array([o.surge_limit_head_m for o in self.options])
 
     @property
     def materials(self) -> list[str]:

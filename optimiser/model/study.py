@@ -47,6 +47,25 @@ class CostRules:
         return self.zone_factor.get(zone, 1.0) if zone else 1.0
 
 
+class SurgeMethod(StrEnum):
+    ALLOWANCE = "allowance"
+    JOUKOWSKY = "joukowsky"
+
+
+@dataclass(frozen=True)
+class SurgeSettings:
+    """How the surge head of a piece is found (contract section 10).
+
+    ``allowance``: ``[catalogue] surge_allowance_m`` for every piece (section 5).
+    ``joukowsky``: a V / g of each piece from its own wave speed, or 2 L V / (g T) when
+    the closure time T exceeds 2 L / a.
+    """
+
+    method: SurgeMethod = SurgeMethod.ALLOWANCE
+    closure_time_s: float = 0.0
+    min_transient_pressure_m: float | None = None
+
+
 @dataclass(frozen=True)
 class SolverSettings:
     name: str = "highs"
@@ -81,6 +100,9 @@ class Study:
     path: Path | None = None
     catalogue_path: Path | None = None
     profile_path: Path | None = None
+    surge: SurgeSettings = field(default_factory=SurgeSettings)
+    hazen_williams_coefficient: float = 10.67
+    """The constant of the SI Hazen--Williams formula (contract section 12)."""
 
     def scenario(self, name: str) -> Scenario:
         for scenario in self.scenarios:

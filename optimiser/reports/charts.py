@@ -86,8 +86,7 @@ def profile_figure(result: CheckResult, title: str = "Longitudinal profile") -> 
                                   & (route.chainage_m < piece.to_m)]
         x = np.sort(np.concatenate([x, inside]))
         envelope_x += [*x.tolist(), None]
-        envelope_y += [*(route.pipe_level_at(x) + piece.allowable_head_m
-                         - study.surge_allowance_m).tolist(), None]
+        envelope_y += [*(route.pipe_level_at(x) + piece.static_head_limit_m).tolist(), None]
     fig.add_trace(go.Scatter(
         x=envelope_x, y=envelope_y, name="class envelope (allowable − surge)", mode="lines",
         line={"color": CLASS_COLOUR, "width": 1, "dash": "dashdot"}, hoverinfo="skip",
@@ -148,14 +147,14 @@ def pressure_velocity_figure(result: CheckResult) -> go.Figure:
         mode="lines", line={"color": MIN_PRESSURE_COLOUR, "dash": "dot", "width": 1}),
         row=1, col=1)
     fig.add_trace(go.Scatter(
-        x=first["chainage_m"], y=first["static_pressure_m"] + study.surge_allowance_m,
+        x=first["chainage_m"], y=first["static_pressure_m"] + first["surge_head_m"],
         name="static head + surge", mode="lines",
         line={"color": STATIC_COLOUR, "dash": "dot", "width": 1}), row=1, col=1)
     allowable_x: list[float | None] = []
     allowable_y: list[float | None] = []
     for piece in result.pieces.itertuples():
         allowable_x += [piece.from_m, piece.to_m, None]
-        allowable_y += [piece.allowable_head_m, piece.allowable_head_m, None]
+        allowable_y += [piece.allowable_surge_head_m, piece.allowable_surge_head_m, None]
     fig.add_trace(go.Scatter(
         x=allowable_x, y=allowable_y, name="allowable head of class", mode="lines",
         line={"color": CLASS_COLOUR, "dash": "dashdot", "width": 1}), row=1, col=1)

@@ -14,6 +14,7 @@ from optimiser.milp import DesignOutcome
 from optimiser.model import Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.results import assumptions, check_dict
+from optimiser.reports.surge_table import print_class_table
 from optimiser.reports.terminal import chainage_label, print_violations
 from optimiser.reports.text import console_title
 
@@ -47,7 +48,9 @@ def schedule(outcome: DesignOutcome) -> pd.DataFrame:
     assert outcome.check is not None
     check = outcome.check
     table = check.pieces[["from_m", "to_m", "material", "dn_mm", "pressure_class", "length_m",
-                          "internal_diameter_mm", "cost"]].copy()
+                          "internal_diameter_mm", "cost", "static_head_m", "allowable_head_m",
+                          "wave_speed_m_s", "surge_head_m", "allowable_surge_head_m",
+                          "class_governs"]].copy()
     segments = check.scenarios[governing_scenario(outcome)].segments
     grouped = segments.groupby("piece")
     table["velocity_m_s"] = grouped["velocity_m_s"].max().to_numpy()
@@ -148,6 +151,7 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
                        f"{row.velocity_m_s:.2f}", f"{row.unit_head_loss_m_per_km:.2f}",
                        f"{row.cost:,.0f}")
     console.print(pieces)
+    print_class_table(console, outcome.check)
     status = {"optimal": "[bold green]optimal[/bold green] (proven within the gap)",
               "feasible": "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
                           "not proven cheapest)"}[outcome.status]

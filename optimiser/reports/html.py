@@ -155,8 +155,10 @@ def _schedule_section(result: CheckResult, currency: str) -> str:
         "length m": pieces["length_m"],
         "material": pieces["material"], "DN": pieces["dn_mm"].map(lambda v: f"{v:g}"),
         "ID mm": pieces["internal_diameter_mm"], "class": pieces["pressure_class"],
-        "static + surge m": pieces["static_head_m"] + result.study.surge_allowance_m,
-        "allowable m": pieces["allowable_head_m"],
+        "surge m": pieces["surge_head_m"],
+        "static + surge m": pieces["static_head_m"] + pieces["surge_head_m"],
+        "allowable m": pieces["allowable_surge_head_m"],
+        "governs": pieces["class_governs"],
         f"cost {currency}".strip(): pieces["cost"],
     })
     return ("<h2>Schedule of pieces</h2>"

@@ -13,7 +13,8 @@ POINT_FIELDS = ["chainage_m", "side", "label", "ground_m", "pipe_level_m", "ener
                 "hgl_m", "pressure_m", "static_pressure_m", "min_pressure_m",
                 "velocity_m_s", "flow_m3_s"]
 PIECE_FIELDS = ["from_m", "to_m", "material", "dn_mm", "pressure_class", "length_m",
-                "internal_diameter_mm", "cost", "static_head_m", "allowable_head_m"]
+                "internal_diameter_mm", "cost", "static_head_m", "allowable_head_m",
+                "wave_speed_m_s", "surge_head_m", "allowable_surge_head_m", "class_governs"]
 
 
 def assumptions(study: Study) -> dict[str, Any]:
@@ -27,6 +28,10 @@ def assumptions(study: Study) -> dict[str, Any]:
             "blend to Re 4000)" if study.friction is Friction.COLEBROOK_WHITE
             else "Hazen-Williams (SI)"),
         "surge_allowance_m": study.surge_allowance_m,
+        "surge_method": study.surge.method.value,
+        "closure_time_s": study.surge.closure_time_s,
+        "min_transient_pressure_m": study.surge.min_transient_pressure_m,
+        "hazen_williams_coefficient": study.hazen_williams_coefficient,
         "min_pressure_m": study.min_pressure_m,
         "local_k_per_km": study.local_k_per_km,
         "entrance_k": study.source.entrance_k,

@@ -50,9 +50,8 @@ def print_check(console: Console, result: CheckResult) -> None:
     critical = Table(title="Critical points", title_justify="left")
     for column in ("scenario", "what", "chainage", "value", "limit", "margin"):
         critical.add_column(column, justify="left" if column in ("scenario", "what") else "right")
-    surge = study.surge_allowance_m
     pieces = result.pieces
-    worst_static = pieces.loc[(pieces["allowable_head_m"] - pieces["static_head_m"]).idxmin()]
+    worst_static = pieces.loc[(pieces["static_head_limit_m"] - pieces["static_head_m"]).idxmin()]
     for s in result.scenarios:
         least = s.least_pressure_margin
         critical.add_row(s.name, "least pressure margin", chainage_label(least["chainage_m"]),
@@ -63,12 +62,14 @@ def print_check(console: Console, result: CheckResult) -> None:
                          f"{fastest['velocity_m_s']:.2f} m/s",
                          f"{study.rules.velocity_max_m_s:.2f} m/s",
                          f"{study.rules.velocity_max_m_s - fastest['velocity_m_s']:+.2f} m/s")
-    spare_m = worst_static["allowable_head_m"] - worst_static["static_head_m"] - surge
-    critical.add_row("(static)", "highest static head + surge vs class",
+    spare_m = worst_static["static_head_limit_m"] - worst_static["static_head_m"]
+    governs = worst_static["class_governs"]
+    limit = worst_static["allowable_surge_head_m" if governs == "static + surge"
+                         else "allowable_head_m"]
+    critical.add_row("(static)", f"class, {governs} (surge "
+                     f"{worst_static['surge_head_m']:.1f} m)",
                      chainage_label(worst_static["lowest_chainage_m"]),
-                     f"{worst_static['static_head_m'] + surge:.1f} m",
-                     f"{worst_static['allowable_head_m']:.1f} m",
-                     f"{spare_m:+.1f} m")
+                     f"{limit - spare_m:.1f} m", f"{limit:.1f} m", f"{spare_m:+.1f} m")
     console.print(critical)
     print_violations(console, result)
 
