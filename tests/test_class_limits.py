@@ -33,9 +33,10 @@ def test_crossing_is_where_static_head_plus_surge_meets_the_allowable_head(falli
     found = crossing_chainages_m(study.route, levels)
     # By hand (common practice, no source: the pipe level is linear between survey
     # points): pipe level p(c) = 199 - 0.1 c on the first section; the option with
-    # allowable head A stops being admissible where 203 - p + 5 = A.
-    expected = sorted({(a - 9.0) / 0.1 for a in study.catalogue.allowable_head_m
-                       if 0.0 < (a - 9.0) / 0.1 < 1000.0})
+    # allowable head A stops being admissible where 203 - p + 5 = A (static head plus
+    # the surge allowance) and, for the static head alone, where 203 - p = A.
+    expected = sorted({(a - shift) / 0.1 for a in study.catalogue.allowable_head_m
+                       for shift in (9.0, 4.0) if 0.0 < (a - shift) / 0.1 < 1000.0})
     assert len(expected) > 0  # the case means something
     np.testing.assert_allclose(found, expected, rtol=0, atol=1e-9)
 

@@ -23,26 +23,46 @@ import dataclasses
 
 import numpy as np
 
-from optimiser.model import Route, Study
+from optimiser.analysis.flows import flow_below_m3_s
+from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
+from optimiser.model import Route, Study, SurgeMethod
 
 MIN_SPACING_M = 1e-3
 """A crossing closer than this to a survey point is not split off [m]."""
 
 
-def limit_levels_m(study: Study, surge_head_m: np.ndarray | float | None = None
-                   ) -> np.ndarray:
-    """Lowest pipe level [m] at which each option's class is admissible, per section.
+def limit_levels_m(study: Study) -> np.ndarray:
+    """Pipe levels [m] below which some option's class stops being admissible, per section.
 
-    Admissible when top water level − pipe level + surge ≤ allowable head, i.e. when the
-    pipe level ≥ top water level + surge − allowable head (for example 100 m of
-    allowable head under a top water level of 500 m with 10 m of surge: admissible down
-    to a pipe level of 410 m). ``surge_head_m`` broadcasts against (sections, options);
-    by default the study's surge allowance.
+    A class is admissible where static head ≤ allowable head and static head + surge ≤
+    the surge limit (contract sections 5 and 10), the static head being top water level
+    − pipe level: so down to the pipe levels TWL − allowable and TWL + surge − limit (for
+    example 100 m of allowable head under a top water level of 500 m with a 10 m surge
+    allowance: down to 410 m). With the allowance method the surge is the study's
+    allowance and the limit the allowable head; by wave speed, the option's surge at its
+    largest velocity in the section over the scenarios, and its allowable surge head.
+    Returns (sections, levels): both levels of every option.
     """
-    allowable = study.catalogue.allowable_head_m[None, :]
-    surge = study.surge_allowance_m if surge_head_m is None else surge_head_m
-    levels = study.source.top_water_level_m + np.asarray(surge, dtype=float) - allowable
-    return np.broadcast_to(levels, (study.route.n_sections, len(study.catalogue)))
+    catalogue = study.catalogue
+    top = study.source.top_water_level_m
+    n = study.route.n_sections
+    operating = np.broadcast_to(top - catalogue.allowable_head_m[None, :], (n, len(catalogue)))
+    if study.surge.method is SurgeMethod.ALLOWANCE:
+        surge = np.full((n, len(catalogue)), study.surge_allowance_m)
+        limit = catalogue.allowable_head_m
+    else:
+        surge = surge_head_m(study, wave_speeds_m_s(study, catalogue)[None, :],
+                             _fastest_m_s(study))
+        limit = catalogue.surge_limit_head_m
+    return np.hstack([operating, top + surge - limit[None, :]])
+
+
+def _fastest_m_s(study: Study) -> np.ndarray:
+    """(sections, options) largest velocity [m/s] over the scenarios."""
+    starts = study.route.chainage_m[:-1]
+    area = np.pi * study.catalogue.internal_diameter_m[None, :] ** 2 / 4.0
+    flows = np.array([flow_below_m3_s(study, scenario, starts) for scenario in study.scenarios])
+    return (flows.max(axis=0)[:, None]) / area
 
 
 def crossing_chainages_m(route: Route, levels_m: np.ndarray) -> np.ndarray:
@@ -87,10 +107,9 @@ def route_with_points(route: Route, chainage_m: np.ndarray) -> Route:
     return Route(**fields)
 
 
-def split_at_class_limits(study: Study, surge_head_m: np.ndarray | float | None = None
-                          ) -> Study:
+def split_at_class_limits(study: Study) -> Study:
     """``study`` with its route split wherever an option's class limit is crossed."""
-    found = crossing_chainages_m(study.route, limit_levels_m(study, surge_head_m))
+    found = crossing_chainages_m(study.route, limit_levels_m(study))
     if len(found) == 0:
         return study
     return dataclasses.replace(study, route=route_with_points(study.route, found))
