@@ -180,11 +180,15 @@ def tradeoff(
     _finish(failures)
 
 
-def _given_design(study: Study | None, design_path: Path | None,
+def _given_design(study: Study | None, design_path: Path | None, rates: dict[str, float],
                   problems: list[str]) -> Design | None:
+    """The design of ``--design``, after what the study must allow (problems collected)."""
     from optimiser.io import InputError, load_design
 
-    if study is None or design_path is None:
+    if study is None:
+        return None
+    problems += study_problems(study, rates)
+    if design_path is None:
         return None
     try:
         return load_design(design_path, study)
@@ -209,47 +213,62 @@ def _monte_carlo_settings(samples: int | None, seed: int | None, distribution: s
                               rates)
 
 
+# Options of sensitivity.
+RoughnessFromOption = Annotated[float, typer.Option(
+    "--roughness-from", help="Lowest absolute roughness (mm); replaces every option's "
+    "roughness, as a scenario's roughness_mm does.", show_default=False,
+    metavar="MM")]
+RoughnessToOption = Annotated[float, typer.Option(
+    "--roughness-to", help="Highest absolute roughness (mm).", show_default=False,
+    metavar="MM")]
+RoughnessStepsOption = Annotated[int, typer.Option(
+    "--steps", help="Roughness values, evenly spaced, both ends included.", metavar="COUNT")]
+FixedDesignOption = Annotated[Path | None, typer.Option(
+    "--design", help="Fixed design CSV to analyse (default: the least-cost design of "
+    "the study as written).", show_default=False, metavar="FILE")]
+RobustOption = Annotated[bool, typer.Option(
+    "--robust", help="Also find one design feasible at every roughness of the range, "
+    "and its premium over the nominal design.")]
+ReoptimiseOption = Annotated[bool, typer.Option(
+    "--reoptimise/--no-reoptimise", help="Re-optimise the least cost at each "
+    "roughness.")]
+SamplesOption = Annotated[int | None, typer.Option(
+    "--samples", help="Monte Carlo: number of samples of roughness, drawn per material.",
+    show_default=False, metavar="COUNT")]
+SeedOption = Annotated[int | None, typer.Option(
+    "--seed", help="Monte Carlo: random seed (default 0; always recorded).",
+    show_default=False, metavar="NUMBER")]
+DistributionOption = Annotated[str | None, typer.Option(
+    "--distribution", help="Monte Carlo: uniform (default), log-uniform, triangular or "
+    "fixed, between --roughness-from and --roughness-to (fixed: always "
+    "--roughness-from).", show_default=False, metavar="NAME")]
+ModeOption = Annotated[float | None, typer.Option(
+    "--mode", help="Monte Carlo: mode of the triangular distribution, mm (default the "
+    "middle of the range).", show_default=False, metavar="MM")]
+YearsOption = Annotated[float | None, typer.Option(
+    "--years", help="Monte Carlo: years in service T at which to judge the design "
+    "(default 0).", show_default=False, metavar="YEARS")]
+AgeingOption = Annotated[list[str] | None, typer.Option(
+    "--ageing", help="Monte Carlo: MATERIAL=RATE, roughness growth in mm/year "
+    "(repeatable); roughness at year T = drawn value + RATE x T.",
+    show_default=False, metavar="MATERIAL=RATE")]
+
+
 def sensitivity(
     study_path: StudyArgument,
-    roughness_from_mm: Annotated[float, typer.Option(
-        "--roughness-from", help="Lowest absolute roughness (mm); replaces every option's "
-        "roughness, as a scenario's roughness_mm does.", show_default=False,
-        metavar="MM")],
-    roughness_to_mm: Annotated[float, typer.Option(
-        "--roughness-to", help="Highest absolute roughness (mm).", show_default=False,
-        metavar="MM")],
+    roughness_from_mm: RoughnessFromOption,
+    roughness_to_mm: RoughnessToOption,
     out_dir: OutOption,
-    steps: Annotated[int, typer.Option("--steps", help="Roughness values, evenly spaced, "
-                                       "both ends included.", metavar="COUNT")] = 9,
-    design_path: Annotated[Path | None, typer.Option(
-        "--design", help="Fixed design CSV to analyse (default: the least-cost design of "
-        "the study as written).", show_default=False, metavar="FILE")] = None,
-    robust: Annotated[bool, typer.Option(
-        "--robust", help="Also find one design feasible at every roughness of the range, "
-        "and its premium over the nominal design.")] = False,
-    reoptimise: Annotated[bool, typer.Option(
-        "--reoptimise/--no-reoptimise", help="Re-optimise the least cost at each "
-        "roughness.")] = True,
-    samples: Annotated[int | None, typer.Option(
-        "--samples", help="Monte Carlo: number of samples of roughness, drawn per material.",
-        show_default=False, metavar="COUNT")] = None,
-    seed: Annotated[int | None, typer.Option(
-        "--seed", help="Monte Carlo: random seed (default 0; always recorded).",
-        show_default=False, metavar="NUMBER")] = None,
-    distribution: Annotated[str | None, typer.Option(
-        "--distribution", help="Monte Carlo: uniform (default), log-uniform, triangular or "
-        "fixed, between --roughness-from and --roughness-to (fixed: always "
-        "--roughness-from).", show_default=False, metavar="NAME")] = None,
-    mode_mm: Annotated[float | None, typer.Option(
-        "--mode", help="Monte Carlo: mode of the triangular distribution, mm (default the "
-        "middle of the range).", show_default=False, metavar="MM")] = None,
-    years: Annotated[float | None, typer.Option(
-        "--years", help="Monte Carlo: years in service T at which to judge the design "
-        "(default 0).", show_default=False, metavar="YEARS")] = None,
-    ageing: Annotated[list[str] | None, typer.Option(
-        "--ageing", help="Monte Carlo: MATERIAL=RATE, roughness growth in mm/year "
-        "(repeatable); roughness at year T = drawn value + RATE x T.",
-        show_default=False, metavar="MATERIAL=RATE")] = None,
+    steps: RoughnessStepsOption = 9,
+    design_path: FixedDesignOption = None,
+    robust: RobustOption = False,
+    reoptimise: ReoptimiseOption = True,
+    samples: SamplesOption = None,
+    seed: SeedOption = None,
+    distribution: DistributionOption = None,
+    mode_mm: ModeOption = None,
+    years: YearsOption = None,
+    ageing: AgeingOption = None,
     workers: WorkersOption = 1,
     dask_address: DaskOption = None,
     solver: SolverOption = None,
@@ -274,9 +293,7 @@ def sensitivity(
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
-    if study is not None:
-        problems += study_problems(study, rates)
-    given = _given_design(study, design_path, problems)
+    given = _given_design(study, design_path, rates, problems)
     if problems:
         fail_input(InputError(problems))
     assert study is not None

@@ -11,7 +11,7 @@ from rich.console import Console
 from rich.table import Table
 
 from optimiser.milp import DesignOutcome
-from optimiser.model import Study
+from optimiser.model import Status, Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.terminal import chainage_label, print_violations
@@ -120,7 +120,7 @@ def _money(value: float | None, currency: str) -> str:
 def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None:
     """Schedule, totals, bound, binding points and the uniform comparison."""
     currency = study.currency
-    if outcome.status == "infeasible":
+    if outcome.status == Status.INFEASIBLE:
         console.print(f"[bold]{study.title}[/bold]")
         console.print("[bold red]No design meets every limit[/bold red]:")
         for finding in outcome.diagnosis:
@@ -147,8 +147,8 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
                        f"{row.velocity_m_s:.2f}", f"{row.unit_head_loss_m_per_km:.2f}",
                        f"{row.cost:,.0f}")
     console.print(pieces)
-    status = {"optimal": "[bold green]optimal[/bold green] (proven within the gap)",
-              "feasible": "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
+    status = {Status.OPTIMAL: "[bold green]optimal[/bold green] (proven within the gap)",
+              Status.FEASIBLE: "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
                           "not proven cheapest)"}[outcome.status]
     gap = "n/a" if outcome.gap is None else f"{outcome.gap:.2e}"
     console.print(f"Status: {status}; solver {outcome.solver_name}, "
@@ -167,6 +167,12 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
                       if uniform.cost else "")
     else:
         console.print("Cheapest uniform design: none (no single option meets every limit)")
+    console.print(_binding_table(outcome))
+    console.print(f"Why cheapest: {MODEL_STATEMENT}", markup=False, highlight=False)
+    print_violations(console, outcome.check)
+
+
+def _binding_table(outcome: DesignOutcome) -> Table:
     binding = Table(title="Binding points (least pressure margin per scenario)",
                     title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False,
                     padding=(0, 1, 0, 0))
@@ -177,6 +183,4 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
         binding.add_row(point.scenario, chainage_label(point.chainage_m), point.label,
                         f"{point.pressure_m:.2f}", f"{point.min_pressure_m:.2f}",
                         f"{point.margin_m:+.3f}", f"{point.outlet_margin_m:+.3f}")
-    console.print(binding)
-    console.print(f"Why cheapest: {MODEL_STATEMENT}", markup=False, highlight=False)
-    print_violations(console, outcome.check)
+    return binding

@@ -27,7 +27,7 @@ import pandas as pd
 from rich.console import Console
 
 from optimiser.milp import DesignOutcome
-from optimiser.model import Study
+from optimiser.model import Status, Study
 from optimiser.sweeps.runner import run_all
 from optimiser.sweeps.tradeoff import (
     COLUMNS,
@@ -97,7 +97,7 @@ class RoughnessRuns:
             if solved is not None and solved.failed:
                 messages.append(f"{name}: {solved.row['note']}")
         if self.reoptimised is not None:
-            for row in self.reoptimised[self.reoptimised["status"] == "failed"].itertuples():
+            for row in self.reoptimised[self.reoptimised["status"] == Status.FAILED].itertuples():
                 messages.append(f"re-optimised at {row.value:g} mm: {row.note}")
         return messages
 
