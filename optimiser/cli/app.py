@@ -8,8 +8,10 @@ inside themselves, so the help appears without loading pandas, plotly or the sol
 from __future__ import annotations
 
 import sys
+from typing import Any
 
 import typer
+from typer.core import TyperArgument, TyperCommand, TyperGroup
 
 from optimiser.cli import interrupt
 from optimiser.cli.analyse import check, report
@@ -17,9 +19,35 @@ from optimiser.cli.common import EXIT_INTERRUPTED
 from optimiser.cli.design import compare, design
 from optimiser.cli.sweeps import sensitivity, tradeoff
 
+
+def _no_type(ctx: Any) -> None:
+    return None
+
+
+def _plain_types(params: list[Any]) -> list[Any]:
+    """Help shows what a value is in plain words (FILE, FOLDER, SECONDS: each option's
+    metavar), never a parser type name: an argument is named by its metavar, and a flag
+    takes no value, so neither shows a type."""
+    for param in params:
+        if isinstance(param, TyperArgument) or getattr(param, "is_flag", False):
+            param.display_type_rich = _no_type  # this parameter's own, not the class's
+    return params
+
+
+class PlainHelpCommand(TyperCommand):
+    def get_params(self, ctx: Any) -> list[Any]:
+        return _plain_types(super().get_params(ctx))
+
+
+class PlainHelpGroup(TyperGroup):
+    def get_params(self, ctx: Any) -> list[Any]:
+        return _plain_types(super().get_params(ctx))
+
+
 app = typer.Typer(
     help="Least-cost sizing and checking of gravity water mains (preliminary design aid).",
-    no_args_is_help=True, add_completion=False, pretty_exceptions_enable=False)
+    no_args_is_help=True, add_completion=False, pretty_exceptions_enable=False,
+    cls=PlainHelpGroup)
 
 
 @app.callback()
@@ -28,7 +56,7 @@ def _root() -> None:
 
 
 for command in (check, design, report, compare, tradeoff, sensitivity):
-    app.command()(command)
+    app.command(cls=PlainHelpCommand)(command)
 
 
 def main() -> None:

@@ -153,7 +153,7 @@ def _write_comparison(output: StagedOutput, out_dir: Path, table: pd.DataFrame,
 
 def compare(
     study_paths: Annotated[list[Path], typer.Argument(
-        help="Study files, one per option.", show_default=False, metavar="STUDY_FILE...")],
+        help="Study files, one per option.", show_default=False, metavar="STUDY_FILE")],
     out_dir: Annotated[Path | None, typer.Option(
         "--out", help="Folder for comparison.csv, .xlsx, .html and each option's files.",
         metavar="FOLDER", show_default=False)] = None,

@@ -1,0 +1,64 @@
+"""What the terminal tells the engineer (issue 16 item 11): plain words for the values an
+option takes, the files a run wrote, and the cost of a checked design.
+
+Presentation checks of the project's own output (common practice, no source); the study
+is invented test data (``builders.py``).
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from pathlib import Path
+
+import pytest
+
+from optimiser.cli import app
+
+COMMANDS = ["check", "design", "report", "compare", "tradeoff", "sensitivity"]
+PARSER_TYPES = re.compile(r"<\w+>|\b(PATH|TEXT|FLOAT|INTEGER|BOOLEAN)\b")
+
+
+@pytest.mark.parametrize("command", [None, *COMMANDS])
+def test_help_names_values_in_plain_words(command, runner):
+    args = ["--help"] if command is None else [command, "--help"]
+    result = runner.invoke(app, args, env={"COLUMNS": "160"}, terminal_width=160)
+    assert result.exit_code == 0, result.output
+    assert PARSER_TYPES.search(result.output) is None, result.output
+
+
+def test_design_help_shows_the_unit_of_the_time_limit(runner):
+    result = runner.invoke(app, ["design", "--help"], env={"COLUMNS": "160"},
+                           terminal_width=160)
+    assert re.search(r"--time-limit\s+SECONDS", result.output), result.output
+    assert re.search(r"--out\s+FOLDER", result.output), result.output
+
+
+def _written(output: str) -> set[Path]:
+    return {Path(line.removeprefix("wrote ").strip()) for line in output.splitlines()
+            if line.startswith("wrote ")}
+
+
+def test_design_out_lists_every_file_it_wrote(study_files, runner, tmp_path):
+    out = tmp_path / "out"
+    result = runner.invoke(app, ["design", str(study_files.study), "--out", str(out),
+                                 "--json", str(tmp_path / "r.json")],
+                           env={"COLUMNS": "400"}, terminal_width=400)
+    assert result.exit_code == 0, result.output
+    assert _written(result.output) == {*out.iterdir(), tmp_path / "r.json"}
+    assert {p.name for p in out.iterdir()} == {"design.csv", "result.json", "report.html",
+                                               "appurtenances.csv"}
+
+
+def test_check_prints_the_cost_of_the_design_it_checked(study_files, runner, tmp_path):
+    result = runner.invoke(app, ["check", str(study_files.study), "--design",
+                                 str(study_files.design), "--json", str(tmp_path / "r.json")],
+                           env={"COLUMNS": "200"}, terminal_width=200)
+    assert result.exit_code == 0, result.output
+    payload = json.loads((tmp_path / "r.json").read_text())
+    total = sum(piece["cost"] for piece in payload["pieces"]) + payload["change_cost_total"]
+    assert total > 0
+    line = next(line for line in result.output.splitlines()
+                if line.startswith("Capital cost of the design:"))
+    assert f"{total:,.0f}" in line
+    assert payload["currency"] in line
