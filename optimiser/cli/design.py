@@ -29,13 +29,7 @@ if TYPE_CHECKING:
     import pandas as pd
 
     from optimiser.io.writers import StagedOutput
-    from optimiser.milp import DesignOutcome
-    from optimiser.model import Study
     from optimiser.sweeps.options import OptionResult
-
-DESIGN_FILES = frozenset({"design.csv", "result.json", "report.html", "appurtenances.csv"})
-"""The files ``design --out`` writes (a run without a design writes result.json only)."""
-
 
 def _design_problems(solver: str | None, time_limit_s: float | None, gap: float | None,
                      out_dir: Path | None, json_path: Path | None) -> list[str]:
@@ -51,24 +45,6 @@ def _design_problems(solver: str | None, time_limit_s: float | None, gap: float 
     if json_path is not None and json_path.is_dir():
         problems.append(f"{json_path}: --json must be a file, but a folder has this name")
     return problems
-
-
-def write_design_files(folder: Path, outcome: DesignOutcome, study: Study,
-                       command: str = "design") -> None:
-    """design.csv, result.json, report.html and appurtenances.csv of one outcome (only
-    result.json when there is no design)."""
-    from optimiser.io.writers import write_csv, write_json
-    from optimiser.reports.design_report import design_dict, design_table
-    from optimiser.reports.files import write_report_files
-    from optimiser.reports.run_summary import RunSummary
-
-    payload = design_dict(outcome, study)
-    payload["command"] = command
-    if outcome.design is not None:
-        write_csv(folder / "design.csv", design_table(outcome))
-    write_json(folder / "result.json", payload)
-    if outcome.check is not None:
-        write_report_files(folder, outcome.check, RunSummary.from_outcome(outcome))
 
 
 def design(
@@ -89,6 +65,7 @@ def design(
     from optimiser.io.writers import StagedOutput, write_json
     from optimiser.milp import SolverError, VerificationError, optimise_design
     from optimiser.reports.design_report import design_dict, print_design
+    from optimiser.reports.files import DESIGN_FILES, write_design_files
     from optimiser.reports.terminal import print_cautions
 
     try:
@@ -133,6 +110,7 @@ def _write_comparison(output: StagedOutput, out_dir: Path, table: pd.DataFrame,
     """comparison.csv, .xlsx, .html and one folder per option with a design."""
     from optimiser.io.writers import atomic_write_text, write_csv, write_workbook
     from optimiser.reports.compare import comparison_html, option_name
+    from optimiser.reports.files import write_design_files
 
     taken: set[str] = set()
     slugs = [_slug(option_name(option.path), taken) for option in options]

@@ -70,15 +70,6 @@ def write_csv(path: Path, table: pd.DataFrame) -> None:
     atomic_write_text(path, table.to_csv(index=False, lineterminator="\n"))
 
 
-def prepare_out_dir(path: Path) -> Path:
-    """Create an output folder (and parents); a file in the way is an input error."""
-    path = Path(path)
-    if path.exists() and not path.is_dir():
-        raise InputError(f"{path}: --out must be a folder, but a file has this name")
-    path.mkdir(parents=True, exist_ok=True)
-    return path
-
-
 _BAD_SHEET_CHARACTERS = set('[]:*?/\\')
 
 

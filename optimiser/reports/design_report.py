@@ -3,18 +3,20 @@ schedule."""
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 from rich import box
 from rich.console import Console
 from rich.table import Table
 
-from optimiser.milp import DesignOutcome
 from optimiser.model import Status, Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.terminal import chainage_label, print_violations
+
+if TYPE_CHECKING:
+    from optimiser.milp import DesignOutcome
 
 DESIGN_CSV_COLUMNS = ["from_m", "to_m", "material", "dn_mm", "pressure_class", "length_m",
                       "internal_diameter_mm", "cost", "velocity_m_s", "unit_head_loss_m_per_km"]
@@ -69,8 +71,9 @@ def _uniform_dict(outcome: DesignOutcome) -> dict[str, Any] | None:
     }
 
 
-def design_dict(outcome: DesignOutcome, study: Study) -> dict[str, Any]:
-    """Everything ``check`` writes for the returned design, plus the design fields."""
+def design_dict(outcome: DesignOutcome, study: Study, command: str = "design") -> dict[str, Any]:
+    """Everything ``check`` writes for the returned design, plus the design fields;
+    ``command`` names the command that ran the optimiser."""
     extra = {
         "status": outcome.status,
         "verified": outcome.verified,
@@ -90,14 +93,14 @@ def design_dict(outcome: DesignOutcome, study: Study) -> dict[str, Any]:
     }
     if outcome.check is None:
         payload = {
-            "ok": False, "command": "design", "title": study.title,
+            "ok": False, "command": command, "title": study.title,
             "study": str(study.path) if study.path else None, "currency": study.currency,
             "violations": [], "scenarios": [], "pieces": [], "total_cost": None,
             "change_cost_total": None, "assumptions": assumptions(study),
             "cautions": list(CAUTIONS),
         }
     else:
-        payload = check_dict(outcome.check, command="design")
+        payload = check_dict(outcome.check, command=command)
         payload["ok"] = outcome.verified
         table = schedule(outcome)
         payload["pieces"] = table.to_dict(orient="records")

@@ -16,12 +16,11 @@ from optimiser import __version__
 from optimiser.io.writers import atomic_write_text, write_csv, write_json
 from optimiser.model import Status
 from optimiser.reports.cautions import CAUTIONS
-from optimiser.reports.design_report import design_table
+from optimiser.reports.design_report import design_dict, design_table
 from optimiser.reports.results import PIECE_FIELDS, assumptions
 from optimiser.reports.sweep_charts import figures_page, histogram_figure, roughness_figure
 from optimiser.reports.sweep_tables import (
     INFEASIBLE_NOTE,
-    design_result_dict,
     flow,
     money,
     print_sweep,
@@ -162,7 +161,7 @@ def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Pa
         command = "sensitivity --robust" if name == "robust" else "sensitivity"
         writes.append((out_dir / name / "design.csv", design_table(solved.outcome)))
         writes.append((out_dir / name / "result.json",
-                       design_result_dict(solved.outcome, solved.study, command)))
+                       design_dict(solved.outcome, solved.study, command)))
     if result.robust_sweep is not None:
         writes.append((out_dir / "robust_design_roughness.csv", result.robust_sweep))
     if result.monte_carlo is not None:

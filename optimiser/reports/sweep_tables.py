@@ -10,9 +10,7 @@ import pandas as pd
 from rich.console import Console
 from rich.table import Table
 
-from optimiser.milp import DesignOutcome
-from optimiser.model import Status, Study
-from optimiser.reports.design_report import design_dict
+from optimiser.model import Status
 from optimiser.reports.terminal import chainage_label, flow_text
 
 INFEASIBLE_NOTE = ("Steps marked infeasible have no design meeting every limit; they are "
@@ -47,13 +45,6 @@ def flow(value: float | None) -> str:
 def status_style(status: str) -> str:
     return {Status.OPTIMAL: "green", Status.FEASIBLE: "yellow", Status.INFEASIBLE: "red",
             Status.FAILED: "bold red"}.get(status, "")
-
-
-def design_result_dict(outcome: DesignOutcome, study: Study, command: str) -> dict[str, Any]:
-    """The JSON ``design`` writes (contract section 6), with this command's name."""
-    payload = design_dict(outcome, study)
-    payload["command"] = command
-    return payload
 
 
 def sweep_terminal_table(title: str, table: pd.DataFrame, value_header: str,

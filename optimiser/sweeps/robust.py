@@ -21,12 +21,11 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 from rich.console import Console
 
-from optimiser.milp import DesignOutcome
 from optimiser.model import Status, Study
 from optimiser.sweeps.runner import run_all
 from optimiser.sweeps.tradeoff import (
@@ -37,6 +36,9 @@ from optimiser.sweeps.tradeoff import (
     step_tasks,
 )
 from optimiser.sweeps.variants import with_roughness_range
+
+if TYPE_CHECKING:
+    from optimiser.milp import DesignOutcome
 
 
 def robust_study(study: Study, roughness_mm: Sequence[float]) -> Study:
