@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import json
 import re
+import subprocess
+import sys
 from pathlib import Path
 
 import pytest
@@ -62,3 +64,14 @@ def test_check_prints_the_cost_of_the_design_it_checked(study_files, runner, tmp
                 if line.startswith("Capital cost of the design:"))
     assert f"{total:,.0f}" in line
     assert payload["currency"] in line
+
+
+def test_help_loads_no_heavy_library():
+    # The help must come quickly: nothing numeric, no plotting, no solver (issue 12).
+    code = ("import sys\nsys.argv = ['optimiser', '--help']\nfrom optimiser.cli import app\n"
+            "try:\n    app()\nexcept SystemExit:\n    pass\n"
+            "heavy = ('pandas', 'numpy', 'plotly', 'pulp', 'highspy', 'scipy', 'pint')\n"
+            "print('loaded:', sorted(m for m in heavy if m in sys.modules))\n")
+    result = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                            timeout=120, check=True)
+    assert result.stdout.splitlines()[-1] == "loaded: []", result.stdout + result.stderr
