@@ -75,3 +75,37 @@ def test_help_loads_no_heavy_library():
     result = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                             timeout=120, check=True)
     assert result.stdout.splitlines()[-1] == "loaded: []", result.stdout + result.stderr
+
+
+def _summary(page: str) -> str:
+    start = page.index("<h2>Summary</h2>")
+    return page[start:page.index("</table>", start)]
+
+
+def test_report_from_result_json_shows_the_figures_of_the_design_run(study_files, runner,
+                                                                     tmp_path):
+    # The report of `report --result` reads the optimiser's figures from the file; the
+    # report `design` writes reads them from the run itself: the same summary.
+    out = tmp_path / "out"
+    first = runner.invoke(app, ["design", str(study_files.study), "--out", str(out)])
+    assert first.exit_code == 0, first.output
+    again = tmp_path / "again"
+    second = runner.invoke(app, ["report", str(study_files.study), "--design",
+                                 str(out / "design.csv"), "--result", str(out / "result.json"),
+                                 "--out", str(again)])
+    assert second.exit_code == 0, second.output
+    summary = _summary((again / "report.html").read_text(encoding="utf-8"))
+    assert summary == _summary((out / "report.html").read_text(encoding="utf-8"))
+    assert "optimiser status" in summary and "cheapest uniform design" in summary
+
+
+def test_report_with_a_result_that_is_not_a_design_run_is_bad_input(study_files, runner,
+                                                                    tmp_path):
+    result_file = tmp_path / "r.json"
+    result_file.write_text('{"title": "no status here"}\n', encoding="utf-8")
+    result = runner.invoke(app, ["report", str(study_files.study), "--design",
+                                 str(study_files.design), "--result", str(result_file),
+                                 "--out", str(tmp_path / "out")])
+    assert result.exit_code == 2, result.output
+    assert "r.json" in result.output and "Traceback" not in result.output
+    assert not (tmp_path / "out").exists()
