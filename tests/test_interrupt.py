@@ -4,7 +4,8 @@ A command is started as the console script and sent SIGINT after 0.5 s, 1 s and 
 start-up, while it solves): it must print one line, exit 130 with no traceback, and
 leave ``--out`` and the folder around it exactly as they were. The run is a long
 trade-off (many steps), so it is still solving at every moment the signal is sent; no
-time is asserted. Exit 130 for SIGINT is the shell's convention 128 + signal number 2
+time is asserted. With worker processes, the workers leave Ctrl-C to the command, which
+stops them. Exit 130 for SIGINT is the shell's convention 128 + signal number 2
 (POSIX.1-2017, Shell Command Language, 2.8.2 Exit Status for Commands).
 """
 
@@ -31,8 +32,9 @@ def snapshot(folder: Path) -> dict[str, bytes | None]:
             for p in sorted(folder.rglob("*"))}
 
 
-@pytest.mark.parametrize("delay_s", [0.5, 1.0, 2.0])
-def test_sigint_leaves_out_exactly_as_it_was(delay_s, study_files, tmp_path):
+@pytest.mark.parametrize(("delay_s", "spread"), [
+    (0.5, []), (1.0, []), (2.0, []), (2.0, ["--workers", "2"])])
+def test_sigint_leaves_out_exactly_as_it_was(delay_s, spread, study_files, tmp_path):
     assert SCRIPT.exists(), "the console script is installed with the package"
     place = tmp_path / "place"
     out = place / "out"
@@ -42,7 +44,7 @@ def test_sigint_leaves_out_exactly_as_it_was(delay_s, study_files, tmp_path):
     before = snapshot(place)
     process = subprocess.Popen(
         [str(SCRIPT), "tradeoff", str(study_files.study), "--vary", "source-level",
-         "--from", "197", "--to", "209", "--steps", "2000", "--out", str(out)],
+         "--from", "197", "--to", "209", "--steps", "2000", "--out", str(out), *spread],
         stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
         process.wait(timeout=delay_s)
