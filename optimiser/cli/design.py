@@ -31,6 +31,7 @@ if TYPE_CHECKING:
     from optimiser.io.writers import StagedOutput
     from optimiser.sweeps.options import OptionResult
 
+
 def _design_problems(solver: str | None, time_limit_s: float | None, gap: float | None,
                      out_dir: Path | None, json_path: Path | None) -> list[str]:
     problems = []

@@ -37,6 +37,7 @@ AXIS_TITLE = {"source-level": "source design level (m)",
               "required-head": "required energy level at the outlet (m)",
               "flow": "outlet flow of the first scenario (L/s)"}
 
+
 def _display_value(variable: str, value_si: float) -> float:
     """Values as shown to the engineer: flows in L/s, levels in m."""
     return value_si * 1000.0 if variable == "flow" else value_si
