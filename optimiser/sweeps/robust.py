@@ -47,7 +47,7 @@ def robust_study(study: Study, roughness_mm: Sequence[float]) -> Study:
     return with_roughness_range(study, values)
 
 
-@dataclass
+@dataclass(frozen=True)
 class SolvedDesign:
     """An optimiser run kept whole: its table row and its outcome (None if it failed)."""
 
@@ -64,7 +64,7 @@ class SolvedDesign:
         return self.outcome is None
 
 
-@dataclass
+@dataclass(frozen=True)
 class RoughnessRuns:
     """Everything a roughness study solved: the nominal design, the robust design (if
     asked) and the re-optimised cost at each roughness (if asked)."""

@@ -171,7 +171,7 @@ def tradeoff(study: Study, variable: str, values: Sequence[float], *, workers: i
                  mip_gap=mip_gap, label=f"trade-off over {variable}")
 
 
-@dataclass
+@dataclass(frozen=True)
 class TradeoffResult:
     """A trade-off table and the study's own point on it (value and its row)."""
 
