@@ -15,6 +15,7 @@ import json
 import signal
 import subprocess
 import sys
+import time
 from pathlib import Path
 
 import pytest
@@ -61,7 +62,7 @@ def test_interrupt_inside_the_commit_waits_for_it(tmp_path):
     from optimiser.cli import interrupt
 
     handler = signal.getsignal(signal.SIGINT)
-    interrupt.while_running()
+    interrupt.while_running(watch=False)
     try:
         with pytest.raises(interrupt.Interrupted), StagedOutput() as output:
             write_json(output.folder(tmp_path / "out", {"a.json"}) / "a.json", {"a": 1})
@@ -72,6 +73,7 @@ def test_interrupt_inside_the_commit_waits_for_it(tmp_path):
     finally:
         signal.signal(signal.SIGINT, handler)
         interrupt._state["written"] = False
+        interrupt._handled.clear()
     assert json.loads((tmp_path / "out" / "a.json").read_text()) == {"a": 1}
 
 
@@ -130,3 +132,25 @@ def test_a_rerun_without_a_design_leaves_no_stale_report(make_study, runner, tmp
     assert second.exit_code == 1, second.output
     assert {p.name for p in out.iterdir()} == {"result.json"}
     assert json.loads((out / "result.json").read_text())["status"] == "infeasible"
+
+
+def test_sigint_inside_compiled_code_still_ends_the_run():
+    # Python runs a handler only between its own instructions; a long call into compiled
+    # code (here a key derivation of 10^9 rounds, as a long solve inside a solver) would
+    # hold it back for minutes. The watcher ends the process instead, with the same line.
+    code = ("import hashlib, sys\nfrom optimiser.cli import interrupt\n"
+            "interrupt.while_running()\nprint('ready', flush=True)\n"
+            "try:\n    hashlib.pbkdf2_hmac('sha256', b'x', b'y', 10**9)\n"
+            "except interrupt.Interrupted:\n    print('handler ran')\n")
+    process = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE,
+                               stderr=subprocess.PIPE, text=True)
+    try:
+        assert process.stdout.readline() == "ready\n"
+        time.sleep(0.5)  # let it enter the compiled call (a statement away)
+        process.send_signal(signal.SIGINT)
+        stdout, stderr = process.communicate(timeout=120)
+    finally:
+        process.kill()
+    assert process.returncode == 130
+    assert stderr == "interrupted, nothing written\n"
+    assert "handler ran" not in stdout

@@ -19,7 +19,7 @@ from optimiser.cli.common import (
     fail_input,
     print_written,
 )
-from optimiser.cli.interrupt import committing
+from optimiser.cli.interrupt import committing, writing
 
 if TYPE_CHECKING:
     from optimiser.reports.run_summary import RunSummary
@@ -38,7 +38,7 @@ def check(study_path: StudyArgument, design_path: DesignFileOption,
         study = load_study(study_path)
         design = load_design(design_path, study)
         result = check_design(study, design)
-        with StagedOutput() as output:
+        with writing(), StagedOutput() as output:
             if json_path is not None:
                 write_json(output.file(json_path), check_dict(result))
             with committing():
@@ -74,7 +74,7 @@ def report(
         design = load_design(design_path, study)
         summary = None if result_path is None else read_run_summary(result_path)
         result = check_design(study, design)
-        with StagedOutput() as output:
+        with writing(), StagedOutput() as output:
             write_report_files(output.folder(out_dir, REPORT_FILES), result, summary)
             with committing():
                 written = output.commit()

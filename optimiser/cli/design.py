@@ -23,7 +23,7 @@ from optimiser.cli.common import (
     fail_solver,
     print_written,
 )
-from optimiser.cli.interrupt import committing
+from optimiser.cli.interrupt import committing, writing
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -82,7 +82,7 @@ def design(
     except (SolverError, VerificationError) as error:
         fail_solver(str(error))
     try:
-        with StagedOutput() as output:
+        with writing(), StagedOutput() as output:
             if json_path is not None:
                 write_json(output.file(json_path), design_dict(outcome, study))
             if out_dir is not None:
@@ -160,7 +160,7 @@ def compare(
     written: list[Path] = []
     if out_dir is not None:
         try:
-            with StagedOutput() as output:
+            with writing(), StagedOutput() as output:
                 _write_comparison(output, out_dir, table, options)
                 with committing():
                     written = output.commit()

@@ -24,7 +24,7 @@ from optimiser.cli.common import (
     fail_input,
     print_written,
 )
-from optimiser.cli.interrupt import committing
+from optimiser.cli.interrupt import committing, writing
 from optimiser.cli.sweep_options import (
     monte_carlo_problems,
     out_problems,
@@ -103,7 +103,7 @@ def _write(out_dir: Path, names: frozenset[str], write: Callable[[Path], Any]) -
     from optimiser.io.writers import StagedOutput
 
     try:
-        with StagedOutput() as output:
+        with writing(), StagedOutput() as output:
             write(output.folder(out_dir, names))
             with committing():
                 return output.commit()
