@@ -154,3 +154,14 @@ def test_sigint_inside_compiled_code_still_ends_the_run():
     assert process.returncode == 130
     assert stderr == "interrupted, nothing written\n"
     assert "handler ran" not in stdout
+
+
+def test_json_inside_the_out_folder_of_the_same_run(study_files, runner, tmp_path):
+    out = tmp_path / "out"
+    result = runner.invoke(app, ["design", str(study_files.study), "--out", str(out),
+                                 "--json", str(out / "result.json")])
+    assert result.exit_code == 0, result.output
+    assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]  # no staging left
+    assert sorted(p.name for p in out.iterdir()) == ["appurtenances.csv", "design.csv",
+                                                     "report.html", "result.json"]
+    assert json.loads((out / "result.json").read_text())["status"] == "optimal"
