@@ -32,6 +32,7 @@ from results_file import update_section
 
 import optimiser
 from optimiser.analysis.sensitivity import RoughnessDistribution, monte_carlo
+from optimiser.model import Status
 from optimiser.sweeps.tradeoff import tradeoff
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -94,7 +95,7 @@ def bench_tradeoff(steps: int = 25, mip_gap: float = 1e-2, time_limit_s: float =
                                    mip_gap=mip_gap, time_limit_s=time_limit_s)
         figures[f"workers_{workers}_s"] = time.perf_counter() - started
     # Solves stopped by the time limit may differ between runs; compare the rest.
-    stable = tables[1]["status"] != "feasible"
+    stable = tables[1]["status"] != Status.FEASIBLE
     figures["identical"] = tables[1][stable].equals(tables[2][stable])
     figures["statuses"] = tables[1]["status"].value_counts().to_dict()
     figures["ratio"] = figures["workers_1_s"] / figures["workers_2_s"]

@@ -13,18 +13,25 @@ Layers (data flows one way): ``io`` (files) -> ``model`` -> ``hydraulics`` / ``a
 
 __version__ = "0.1.0"
 
-from optimiser.analysis import CheckResult, check_design
-from optimiser.io import InputError, load_design, load_study
-
 __all__ = ["CheckResult", "InputError", "__version__", "check_design", "load_design",
            "load_study", "optimise_design"]
 
+# Imported on first use, so that ``optimiser --help`` and other light commands do not pay
+# for pandas, scipy and pint (the check and the loaders), nor for pulp and HiGHS (the
+# optimiser).
+_LAZY = {
+    "CheckResult": "optimiser.analysis",
+    "check_design": "optimiser.analysis",
+    "InputError": "optimiser.io",
+    "load_design": "optimiser.io",
+    "load_study": "optimiser.io",
+    "optimise_design": "optimiser.milp",
+}
+
 
 def __getattr__(name: str):
-    # optimise_design is imported on first use: it brings in pulp and HiGHS, which the
-    # check and the loaders do not need.
-    if name == "optimise_design":
-        from optimiser.milp import optimise_design
+    if name in _LAZY:
+        import importlib
 
-        return optimise_design
+        return getattr(importlib.import_module(_LAZY[name]), name)
     raise AttributeError(f"module 'optimiser' has no attribute {name!r}")

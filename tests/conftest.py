@@ -1,4 +1,5 @@
-"""Shared fixtures. Study builders live in ``builders.py`` (import them as ``builders``);
+"""Shared fixtures. Study builders live in ``builders.py`` (import them as ``builders``:
+pytest puts ``tests/`` on the import path, see ``pythonpath`` in pyproject.toml);
 the independent reference hydraulics used as check values live in ``reference.py``.
 
 Fixtures:
@@ -12,13 +13,9 @@ Fixtures:
 from __future__ import annotations
 
 import itertools
-import sys
 from pathlib import Path
 
 import pytest
-
-sys.path.insert(0, str(Path(__file__).parent))
-
 from builders import StudyFiles, write_study
 
 

@@ -4,6 +4,7 @@ and the row (line N) or key, no traceback, no JSON written (contract section 6).
 
 from __future__ import annotations
 
+import json
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -406,13 +407,27 @@ def test_unknown_option_is_a_usage_error(study_files, runner):
     assert "Traceback" not in result.output
 
 
-def test_json_into_a_missing_folder_is_bad_input(study_files, runner, tmp_path):
+def test_json_into_a_missing_folder_creates_it(study_files, runner, tmp_path):
+    # Issue 16 item 11: --json PATH creates missing folders (common practice, no source).
     target = tmp_path / "no" / "such" / "folder" / "r.json"
+    result = runner.invoke(app, ["check", str(study_files.study), "--design",
+                                 str(study_files.design), "--json", str(target)])
+    assert result.exit_code == 0, result.output
+    assert json.loads(target.read_text(encoding="utf-8"))["ok"] is True
+    assert sorted(p.name for p in target.parent.iterdir()) == ["r.json"]
+
+
+def test_json_under_a_file_is_bad_input_and_creates_nothing(study_files, runner, tmp_path):
+    target = tmp_path / "new" / "afile" / "r.json"
+    (tmp_path / "new").mkdir()
+    (tmp_path / "new" / "afile").write_text("in the way\n", encoding="utf-8")
+    before = sorted(p.relative_to(tmp_path) for p in tmp_path.rglob("*"))
     result = runner.invoke(app, ["check", str(study_files.study), "--design",
                                  str(study_files.design), "--json", str(target)])
     assert result.exit_code == 2, result.output
     assert "Traceback" not in result.output
-    assert not target.exists()
+    assert "afile" in result.output
+    assert sorted(p.relative_to(tmp_path) for p in tmp_path.rglob("*")) == before
 
 
 def test_empty_materials_list_stops_design_with_exit_2(make_study, runner, tmp_path):

@@ -20,8 +20,8 @@ from typer.testing import CliRunner
 
 import optimiser
 import optimiser.sweeps.tradeoff as tradeoff_module
-from optimiser.cli import check
-from optimiser.cli_sweeps import sensitivity, tradeoff
+from optimiser.cli.analyse import check
+from optimiser.cli.sweeps import sensitivity, tradeoff
 from optimiser.milp import SolverError
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.sweeps.variants import with_roughness

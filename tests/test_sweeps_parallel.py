@@ -14,8 +14,8 @@ from distributed import LocalCluster
 from typer.testing import CliRunner
 
 import optimiser
-from optimiser.cli import check
-from optimiser.cli_sweeps import tradeoff as tradeoff_command
+from optimiser.cli.analyse import check
+from optimiser.cli.sweeps import tradeoff as tradeoff_command
 from optimiser.sweeps.robust import roughness_runs
 from optimiser.sweeps.tradeoff import tradeoff
 

@@ -1,10 +1,13 @@
-"""Writing results: atomic file writes, JSON-safe values, design CSV."""
+"""Writing results: atomic file writes, JSON-safe values, design CSV, and output sets
+staged beside their targets and moved into place whole."""
 
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import os
+import shutil
 import tempfile
 from pathlib import Path
 from typing import Any
@@ -67,15 +70,6 @@ def write_csv(path: Path, table: pd.DataFrame) -> None:
     atomic_write_text(path, table.to_csv(index=False, lineterminator="\n"))
 
 
-def prepare_out_dir(path: Path) -> Path:
-    """Create an output folder (and parents); a file in the way is an input error."""
-    path = Path(path)
-    if path.exists() and not path.is_dir():
-        raise InputError(f"{path}: --out must be a folder, but a file has this name")
-    path.mkdir(parents=True, exist_ok=True)
-    return path
-
-
 _BAD_SHEET_CHARACTERS = set('[]:*?/\\')
 
 
@@ -108,3 +102,117 @@ def write_workbook(path: Path, sheets: dict[str, pd.DataFrame]) -> None:
     except BaseException:
         Path(temporary).unlink(missing_ok=True)
         raise
+
+
+# --------------------------------------------------------------------------- staged output
+
+
+def _missing_parents(folder: Path) -> list[Path]:
+    """The folders that must be created for ``folder`` to exist, outermost first."""
+    missing = []
+    while not folder.exists():
+        missing.append(folder)
+        if folder.parent == folder:
+            break
+        folder = folder.parent
+    return missing[::-1]
+
+
+class StagedOutput:
+    """The files of one run, written beside their targets and moved into place together.
+
+    :meth:`folder` and :meth:`file` give paths in temporary places (a hidden folder
+    beside each target); the caller writes there, then :meth:`commit` moves everything
+    into place. Until then the targets are untouched, and :meth:`discard` (also run when
+    the ``with`` block ends by an exception or an interrupt) removes every trace, the
+    folders created for the targets included. A folder's ``names`` are the files and
+    subfolders the command writes there: on commit, those the run did not produce are
+    removed, so the folder never holds a stale file of an earlier run beside new ones.
+    Other files in the folder are left alone.
+    """
+
+    def __init__(self) -> None:
+        self._created: list[Path] = []
+        self._folders: list[tuple[Path, Path, frozenset[str]]] = []
+        self._files: list[tuple[Path, Path]] = []
+
+    def __enter__(self) -> StagedOutput:
+        return self
+
+    def __exit__(self, kind: object, error: object, trace: object) -> None:
+        if kind is not None:
+            self.discard()
+
+    def _parent(self, target: Path) -> Path:
+        parent = target.parent if str(target.parent) else Path(".")
+        if parent.exists() and not parent.is_dir():
+            raise InputError(f"{target}: {parent} is a file, not a folder")
+        for folder in _missing_parents(parent):
+            folder.mkdir()
+            self._created.append(folder)
+        return parent
+
+    def folder(self, target: Path, names: set[str] | frozenset[str]) -> Path:
+        """A temporary folder to write the set ``names`` of ``target`` into."""
+        target = Path(target)
+        if target.exists() and not target.is_dir():
+            raise InputError(f"{target}: --out must be a folder, but a file has this name")
+        stage = Path(tempfile.mkdtemp(dir=self._parent(target), prefix=f".{target.name}.",
+                                      suffix=".partial"))
+        self._folders.append((target, stage, frozenset(names)))
+        return stage
+
+    def file(self, target: Path) -> Path:
+        """A temporary path to write the single file ``target`` to."""
+        target = Path(target)
+        if target.is_dir():
+            raise InputError(f"{target}: is a folder, not a file")
+        descriptor, stage = tempfile.mkstemp(dir=self._parent(target),
+                                             prefix=f".{target.name}.", suffix=".partial")
+        os.close(descriptor)
+        self._files.append((target, Path(stage)))
+        return Path(stage)
+
+    def commit(self) -> list[Path]:
+        """Move every staged file into place; the paths now in place, in order."""
+        written: list[Path] = []
+        for target, stage in self._files:
+            os.chmod(stage, _umask_mode())
+            os.replace(stage, target)
+            written.append(target)
+        for target, stage, names in self._folders:
+            written += _move_folder(stage, target, names)
+        self._files, self._folders, self._created = [], [], []
+        return written
+
+    def discard(self) -> None:
+        """Remove every staged file and folder, and the folders made for the targets."""
+        for _, stage in self._files:
+            stage.unlink(missing_ok=True)
+        for _, stage, _ in self._folders:
+            shutil.rmtree(stage, ignore_errors=True)
+        for folder in reversed(self._created):
+            with contextlib.suppress(OSError):  # not empty: something else wrote there
+                folder.rmdir()
+        self._files, self._folders, self._created = [], [], []
+
+
+def _move_folder(stage: Path, target: Path, names: frozenset[str]) -> list[Path]:
+    """Move the staged set into ``target``; return the files now in place."""
+    files = sorted(p.relative_to(stage) for p in stage.rglob("*") if p.is_file())
+    for path in stage.rglob("*"):
+        path.chmod(_umask_mode() | (0o111 if path.is_dir() else 0))
+    if not target.exists():
+        stage.chmod(_umask_mode() | 0o111)
+        os.replace(stage, target)
+        return [target / f for f in files]
+    old = stage / ".replaced"  # inside the stage, so removed with it
+    old.mkdir()
+    produced = {p.name for p in stage.iterdir() if p != old}
+    for name in sorted(names | produced):
+        if (target / name).exists():
+            os.replace(target / name, old / name)
+        if name in produced:
+            os.replace(stage / name, target / name)
+    shutil.rmtree(stage, ignore_errors=True)
+    return [target / f for f in files]

@@ -50,6 +50,64 @@ def _piece_label(row: pd.Series) -> str:
     return f"DN{row['dn_mm']:g} {row['material']} {row['pressure_class']}"
 
 
+def _add_class_envelope(fig: go.Figure, result: CheckResult) -> None:
+    study = result.study
+    route = study.route
+    # Class envelope: pipe level + allowable head of the piece's class, minus the surge
+    # allowance, i.e. the highest static line each piece could take.
+    envelope_x: list[float] = []
+    envelope_y: list[float] = []
+    for piece in result.pieces.itertuples():
+        x = np.linspace(piece.from_m, piece.to_m, 2)
+        inside = route.chainage_m[(route.chainage_m > piece.from_m)
+                                  & (route.chainage_m < piece.to_m)]
+        x = np.sort(np.concatenate([x, inside]))
+        envelope_x += [*x.tolist(), None]
+        envelope_y += [*(route.pipe_level_at(x) + piece.static_head_limit_m).tolist(), None]
+    fig.add_trace(go.Scatter(
+        x=envelope_x, y=envelope_y, name="class envelope (allowable − surge)", mode="lines",
+        line={"color": CLASS_COLOUR, "width": 1, "dash": "dashdot"}, hoverinfo="skip",
+        connectgaps=False), row=1, col=1)
+
+
+def _add_scenario_lines(fig: go.Figure, result: CheckResult) -> None:
+    """HGL (shown) and energy line (in the legend only) of each scenario."""
+    for index, scenario in enumerate(result.scenarios):
+        points = scenario.points
+        style = _scenario_style(index)
+        custom = np.column_stack([
+            [chainage_label(c) for c in points["chainage_m"]], points["pressure_m"],
+            points["velocity_m_s"], points["pipe_level_m"], points["energy_m"]])
+        fig.add_trace(go.Scatter(
+            x=points["chainage_m"], y=points["hgl_m"], name=f"HGL, {scenario.name}",
+            mode="lines", line={"color": style["color"], "width": 2, "dash": style["dash"]},
+            customdata=custom, legendgroup=scenario.name,
+            hovertemplate=(f"<b>{scenario.name}</b><br>%{{customdata[0]}}<br>HGL %{{y:.2f}} m"
+                           "<br>energy %{customdata[4]:.2f} m<br>pipe %{customdata[3]:.2f} m"
+                           "<br>pressure %{customdata[1]:.2f} m"
+                           "<br>velocity %{customdata[2]:.2f} m/s<extra></extra>")),
+            row=1, col=1)
+        fig.add_trace(go.Scatter(
+            x=points["chainage_m"], y=points["energy_m"], name=f"energy line, {scenario.name}",
+            mode="lines", line={"color": style["color"], "width": 1, "dash": "dot"},
+            legendgroup=scenario.name, hoverinfo="skip", visible="legendonly"), row=1, col=1)
+
+
+def _add_piece_bars(fig: go.Figure, result: CheckResult) -> None:
+    """One bar per piece under the profile, labelled with its option."""
+    for index, piece in enumerate(result.pieces.itertuples()):
+        row = result.pieces.iloc[index]
+        fig.add_trace(go.Bar(
+            x=[piece.to_m - piece.from_m], base=[piece.from_m], y=["pieces"],
+            orientation="h", marker={"color": PIECE_COLOURS[index % len(PIECE_COLOURS)],
+                                     "line": {"color": PIPE_COLOUR, "width": 0.5}},
+            text=[_piece_label(row)], textposition="inside", insidetextanchor="middle",
+            showlegend=False, name=_piece_label(row),
+            hovertemplate=(f"{_piece_label(row)}<br>{chainage_label(piece.from_m)} to "
+                           f"{chainage_label(piece.to_m)}<br>ID {piece.internal_diameter_mm:g}"
+                           f" mm, {piece.length_m:.0f} m<extra></extra>")), row=2, col=1)
+
+
 def profile_figure(result: CheckResult, title: str = "Longitudinal profile") -> go.Figure:
     """Ground, pipe, energy line and HGL per scenario, static line, envelopes, pieces."""
     study = result.study
@@ -76,51 +134,9 @@ def profile_figure(result: CheckResult, title: str = "Longitudinal profile") -> 
         name="minimum-pressure envelope", mode="lines",
         line={"color": MIN_PRESSURE_COLOUR, "width": 1, "dash": "dot"},
         hoverinfo="skip"), row=1, col=1)
-    # Class envelope: pipe level + allowable head of the piece's class, minus the surge
-    # allowance, i.e. the highest static line each piece could take.
-    envelope_x: list[float] = []
-    envelope_y: list[float] = []
-    for piece in result.pieces.itertuples():
-        x = np.linspace(piece.from_m, piece.to_m, 2)
-        inside = route.chainage_m[(route.chainage_m > piece.from_m)
-                                  & (route.chainage_m < piece.to_m)]
-        x = np.sort(np.concatenate([x, inside]))
-        envelope_x += [*x.tolist(), None]
-        envelope_y += [*(route.pipe_level_at(x) + piece.static_head_limit_m).tolist(), None]
-    fig.add_trace(go.Scatter(
-        x=envelope_x, y=envelope_y, name="class envelope (allowable − surge)", mode="lines",
-        line={"color": CLASS_COLOUR, "width": 1, "dash": "dashdot"}, hoverinfo="skip",
-        connectgaps=False), row=1, col=1)
-    for index, scenario in enumerate(result.scenarios):
-        points = scenario.points
-        style = _scenario_style(index)
-        custom = np.column_stack([
-            [chainage_label(c) for c in points["chainage_m"]], points["pressure_m"],
-            points["velocity_m_s"], points["pipe_level_m"], points["energy_m"]])
-        fig.add_trace(go.Scatter(
-            x=points["chainage_m"], y=points["hgl_m"], name=f"HGL, {scenario.name}",
-            mode="lines", line={"color": style["color"], "width": 2, "dash": style["dash"]},
-            customdata=custom, legendgroup=scenario.name,
-            hovertemplate=(f"<b>{scenario.name}</b><br>%{{customdata[0]}}<br>HGL %{{y:.2f}} m"
-                           "<br>energy %{customdata[4]:.2f} m<br>pipe %{customdata[3]:.2f} m"
-                           "<br>pressure %{customdata[1]:.2f} m"
-                           "<br>velocity %{customdata[2]:.2f} m/s<extra></extra>")),
-            row=1, col=1)
-        fig.add_trace(go.Scatter(
-            x=points["chainage_m"], y=points["energy_m"], name=f"energy line, {scenario.name}",
-            mode="lines", line={"color": style["color"], "width": 1, "dash": "dot"},
-            legendgroup=scenario.name, hoverinfo="skip", visible="legendonly"), row=1, col=1)
-    for index, piece in enumerate(result.pieces.itertuples()):
-        row = result.pieces.iloc[index]
-        fig.add_trace(go.Bar(
-            x=[piece.to_m - piece.from_m], base=[piece.from_m], y=["pieces"],
-            orientation="h", marker={"color": PIECE_COLOURS[index % len(PIECE_COLOURS)],
-                                     "line": {"color": PIPE_COLOUR, "width": 0.5}},
-            text=[_piece_label(row)], textposition="inside", insidetextanchor="middle",
-            showlegend=False, name=_piece_label(row),
-            hovertemplate=(f"{_piece_label(row)}<br>{chainage_label(piece.from_m)} to "
-                           f"{chainage_label(piece.to_m)}<br>ID {piece.internal_diameter_mm:g}"
-                           f" mm, {piece.length_m:.0f} m<extra></extra>")), row=2, col=1)
+    _add_class_envelope(fig, result)
+    _add_scenario_lines(fig, result)
+    _add_piece_bars(fig, result)
     # Keep the view on the hydraulics: the class envelope may run far above the static line.
     low = float(route.pipe_level_m.min())
     high = max(study.source.top_water_level_m, float(route.ground_m.max()))

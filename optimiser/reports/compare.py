@@ -3,17 +3,18 @@
 from __future__ import annotations
 
 import html
-from dataclasses import dataclass
 from pathlib import Path
 
 import pandas as pd
 from plotly.offline import get_plotlyjs
+from rich.console import Console
+from rich.table import Table
 
-from optimiser.milp import DesignOutcome
-from optimiser.model import Study
+from optimiser.model import Status
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.charts import profile_figure
 from optimiser.reports.text import short_title
+from optimiser.sweeps.options import OptionResult
 
 COMPARISON_COLUMNS = [
     "rank", "option", "title", "study", "status", "verified", "total_cost", "currency",
@@ -22,16 +23,6 @@ COMPARISON_COLUMNS = [
     "highest_velocity_m_s", "uniform_option", "uniform_cost", "saving_vs_uniform",
     "gap", "lower_bound", "diagnosis",
 ]
-
-
-@dataclass
-class OptionResult:
-    """One option of a comparison: its study file, loaded study and outcome (or error)."""
-
-    path: Path
-    study: Study
-    outcome: DesignOutcome | None
-    error: str | None = None
 
 
 def option_name(path: Path) -> str:
@@ -54,7 +45,7 @@ def comparison_row(option: OptionResult) -> dict:
            "study": str(option.path), "currency": study.currency,
            "design_flow_l_s": design_flow}
     if outcome is None:
-        row.update(status="error", verified=False, diagnosis=option.error or "")
+        row.update(status=Status.ERROR, verified=False, diagnosis=option.error or "")
         return row
     row.update(status=outcome.status, verified=outcome.verified,
                diagnosis=" | ".join(outcome.diagnosis), gap=outcome.gap,
@@ -136,3 +127,28 @@ th{{background:#f0f0f0}}.grid{{display:grid;grid-template-columns:1fr 1fr;gap:1e
 <tbody>{body}</tbody></table>
 <h2>Longitudinal profiles</h2><div class="grid">{''.join(plots)}</div>
 </body></html>"""
+
+
+def print_comparison(console: Console, table: pd.DataFrame) -> None:
+    """The deciding figures of each option, ranked; every column is in comparison.csv."""
+    view = Table(title="Options ranked by capital cost", title_justify="left")
+    columns = [("rank", "#"), ("option", "option"), ("status", "status"),
+               ("total_cost", "cost"), ("n_changes", "changes"),
+               ("least_pressure_margin_m", "least margin m"), ("verified", "verified")]
+    for _, title in columns:
+        view.add_column(title, justify="left" if title in ("option", "status") else "right")
+    for row in table.itertuples(index=False):
+        cells = []
+        for key, _ in columns:
+            value = getattr(row, key)
+            if value is None or (isinstance(value, float) and pd.isna(value)):
+                cells.append("–")
+            elif isinstance(value, float):
+                cells.append(f"{value:,.0f}" if abs(value) >= 100 else f"{value:.2f}")
+            else:
+                cells.append(str(value))
+        view.add_row(*cells)
+    console.print(view)
+    for row in table.itertuples(index=False):
+        if row.diagnosis:
+            console.print(f"[bold]{row.option}[/bold]: {row.diagnosis}")

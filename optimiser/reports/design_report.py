@@ -3,20 +3,22 @@ schedule."""
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 from rich import box
 from rich.console import Console
 from rich.table import Table
 
-from optimiser.milp import DesignOutcome
-from optimiser.model import Study
+from optimiser.model import Status, Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.surge_table import print_class_table
 from optimiser.reports.terminal import chainage_label, print_violations
 from optimiser.reports.text import console_title
+
+if TYPE_CHECKING:
+    from optimiser.milp import DesignOutcome
 
 DESIGN_CSV_COLUMNS = ["from_m", "to_m", "material", "dn_mm", "pressure_class", "length_m",
                       "internal_diameter_mm", "cost", "velocity_m_s", "unit_head_loss_m_per_km"]
@@ -73,8 +75,9 @@ def _uniform_dict(outcome: DesignOutcome) -> dict[str, Any] | None:
     }
 
 
-def design_dict(outcome: DesignOutcome, study: Study) -> dict[str, Any]:
-    """Everything ``check`` writes for the returned design, plus the design fields."""
+def design_dict(outcome: DesignOutcome, study: Study, command: str = "design") -> dict[str, Any]:
+    """Everything ``check`` writes for the returned design, plus the design fields;
+    ``command`` names the command that ran the optimiser."""
     extra = {
         "status": outcome.status,
         "verified": outcome.verified,
@@ -94,14 +97,14 @@ def design_dict(outcome: DesignOutcome, study: Study) -> dict[str, Any]:
     }
     if outcome.check is None:
         payload = {
-            "ok": False, "command": "design", "title": study.title,
+            "ok": False, "command": command, "title": study.title,
             "study": str(study.path) if study.path else None, "currency": study.currency,
             "violations": [], "scenarios": [], "pieces": [], "total_cost": None,
             "change_cost_total": None, "assumptions": assumptions(study),
             "cautions": list(CAUTIONS),
         }
     else:
-        payload = check_dict(outcome.check, command="design")
+        payload = check_dict(outcome.check, command=command)
         payload["ok"] = outcome.verified
         table = schedule(outcome)
         payload["pieces"] = table.to_dict(orient="records")
@@ -124,7 +127,7 @@ def _money(value: float | None, currency: str) -> str:
 def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None:
     """Schedule, totals, bound, binding points and the uniform comparison."""
     currency = study.currency
-    if outcome.status == "infeasible":
+    if outcome.status == Status.INFEASIBLE:
         console.print(f"[bold]{console_title(study.title)}[/bold]")
         console.print("[bold red]No design meets every limit[/bold red]:")
         for finding in outcome.diagnosis:
@@ -152,8 +155,8 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
                        f"{row.cost:,.0f}")
     console.print(pieces)
     print_class_table(console, outcome.check)
-    status = {"optimal": "[bold green]optimal[/bold green] (proven within the gap)",
-              "feasible": "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
+    status = {Status.OPTIMAL: "[bold green]optimal[/bold green] (proven within the gap)",
+              Status.FEASIBLE: "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
                           "not proven cheapest)"}[outcome.status]
     gap = "n/a" if outcome.gap is None else f"{outcome.gap:.2e}"
     console.print(f"Status: {status}; solver {outcome.solver_name}, "
@@ -172,6 +175,12 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
                       if uniform.cost else "")
     else:
         console.print("Cheapest uniform design: none (no single option meets every limit)")
+    console.print(_binding_table(outcome))
+    console.print(f"Why cheapest: {MODEL_STATEMENT}", markup=False, highlight=False)
+    print_violations(console, outcome.check)
+
+
+def _binding_table(outcome: DesignOutcome) -> Table:
     binding = Table(title="Binding points (least pressure margin per scenario)",
                     title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False,
                     padding=(0, 1, 0, 0))
@@ -182,6 +191,4 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
         binding.add_row(point.scenario, chainage_label(point.chainage_m), point.label,
                         f"{point.pressure_m:.2f}", f"{point.min_pressure_m:.2f}",
                         f"{point.margin_m:+.3f}", f"{point.outlet_margin_m:+.3f}")
-    console.print(binding)
-    console.print(f"Why cheapest: {MODEL_STATEMENT}", markup=False, highlight=False)
-    print_violations(console, outcome.check)
+    return binding

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import html
 from datetime import UTC, datetime
-from typing import Any
 
 import pandas as pd
 from plotly.offline import get_plotlyjs
@@ -15,6 +14,7 @@ from optimiser.analysis.check import CheckResult
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.charts import cost_figure, pressure_velocity_figure, profile_figure
 from optimiser.reports.results import assumptions
+from optimiser.reports.run_summary import RunSummary
 from optimiser.reports.terminal import chainage_label
 from optimiser.reports.text import short_title
 
@@ -57,11 +57,10 @@ def _money(value: float | None, currency: str) -> str:
 
 
 def render_report(result: CheckResult, appurtenances: list[Appurtenance],
-                  design_info: dict[str, Any] | None = None) -> str:
-    """The report as one HTML string. ``design_info`` carries the optimiser's figures
-    (status, gap, lower_bound, lp_bound, uniform, solver, solve_time_s)."""
+                  summary: RunSummary | None = None) -> str:
+    """The report as one HTML string; ``summary`` carries the optimiser's figures when
+    the design comes from a design run."""
     study = result.study
-    currency = study.currency
     figures = [("Longitudinal profile", profile_figure(result)),
                ("Pressure head and velocity", pressure_velocity_figure(result)),
                ("Cost by option", cost_figure(result))]
@@ -71,59 +70,7 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
                              div_id=f"plot-{index}", config={"displaylogo": False})
         plots.append(f"<h2>{html.escape(heading)}</h2><div class='plot'>{div}</div>")
         if index == 0:
-            plots.append(_schedule_section(result, currency))
-
-    status = ("<span class='status-ok'>every limit met in every scenario</span>"
-              if result.ok else
-              f"<span class='status-bad'>{len(result.violations)} violation(s)</span>")
-    summary_rows = [
-        ("study", html.escape(short_title(study.title))),
-        ("route length", f"{study.route.total_chainage_m:,.0f} m (chainage)"),
-        ("check", status),
-        ("capital cost", html.escape(_money(result.total_cost, currency))),
-    ]
-    if design_info:
-        summary_rows += [
-            ("optimiser status", html.escape(str(design_info.get("status")))),
-            ("solver", html.escape(f"{design_info.get('solver', '')}, "
-                                   f"{design_info.get('solve_time_s', 0):.1f} s")),
-            ("best bound", html.escape(_money(design_info.get("lower_bound"), currency))),
-            ("relative gap", html.escape(f"{design_info.get('gap') or 0:.2e}")),
-            ("LP bound (rules relaxed)", html.escape(_money(design_info.get("lp_bound"),
-                                                            currency))),
-        ]
-        uniform = design_info.get("uniform")
-        if uniform:
-            saving = uniform["cost"] - result.total_cost
-            summary_rows.append((
-                "cheapest uniform design",
-                html.escape(f"{uniform['label']}: {_money(uniform['cost'], currency)}; this "
-                            f"design saves {_money(saving, currency)} "
-                            f"({saving / uniform['cost']:.1%})")))
-    summary = "".join(f"<tr><th class='text'>{k}</th><td class='text'>{v}</td></tr>"
-                      for k, v in summary_rows)
-
-    scenario_rows = pd.DataFrame([{
-        "scenario": s.name, "inflow L/s": s.inflow_m3_s * 1000,
-        "outlet energy m": s.outlet_energy_m, "required m": s.required_head_m,
-        "outlet margin m": s.outlet_margin_m,
-        "least pressure margin m": float(s.least_pressure_margin["pressure_m"]
-                                         - s.least_pressure_margin["min_pressure_m"]),
-        "at": chainage_label(float(s.least_pressure_margin["chainage_m"])),
-        "max velocity m/s": float(s.segments["velocity_m_s"].max()),
-        "capacity L/s": (s.capacity_m3_s or 0.0) * 1000 if s.capacity_m3_s is not None
-        else "none",
-    } for s in result.scenarios])
-
-    violations = ("<p>None.</p>" if result.ok else _table(pd.DataFrame([{
-        "kind": v.kind, "scenario": v.scenario or "(static)",
-        "chainage": chainage_label(v.chainage_m), "value": v.value, "limit": v.limit,
-        "detail": v.message} for v in result.violations[:200]]),
-        {"kind", "scenario", "chainage", "detail"}))
-    valves = ("<p>None found.</p>" if not appurtenances else _table(pd.DataFrame([{
-        "kind": a.kind, "chainage": chainage_label(a.chainage_m),
-        "pipe level m": a.pipe_level_m, "ground m": a.ground_m, "reason": a.reason,
-        "label": a.label} for a in appurtenances]), {"kind", "chainage", "reason", "label"}))
+            plots.append(_schedule_section(result, study.currency))
     basis = pd.DataFrame([{"assumption": k, "value": "" if v is None else str(v)}
                           for k, v in assumptions(study).items()])
     cautions = "".join(f"<li>{html.escape(c)}</li>" for c in CAUTIONS)
@@ -137,14 +84,80 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
 <h1>{html.escape(short_title(study.title))}</h1>
 <p class="meta">Pipeline sizing report, tool version {__version__}, made {stamp}.</p>
 <div class="cautions"><strong>Cautions.</strong><ul>{cautions}</ul></div>
-<h2>Summary</h2><table>{summary}</table>
-<h2>Scenarios</h2>{_table(scenario_rows, {"scenario", "at"})}
+<h2>Summary</h2><table>{_summary_rows(result, summary)}</table>
+<h2>Scenarios</h2>{_table(_scenario_frame(result), {"scenario", "at"})}
 {''.join(plots)}
-<h2>Violations</h2>{violations}
-<h2>Air valves and washouts (preliminary)</h2>{valves}
+<h2>Violations</h2>{_violations_section(result)}
+<h2>Air valves and washouts (preliminary)</h2>{_appurtenance_section(appurtenances)}
 <h2>Assumptions</h2>{_table(basis, {"assumption", "value"})}
 </body></html>
 """
+
+
+def _summary_rows(result: CheckResult, summary: RunSummary | None) -> str:
+    study = result.study
+    currency = study.currency
+    status = ("<span class='status-ok'>every limit met in every scenario</span>"
+              if result.ok else
+              f"<span class='status-bad'>{len(result.violations)} violation(s)</span>")
+    rows = [
+        ("study", html.escape(short_title(study.title))),
+        ("route length", f"{study.route.total_chainage_m:,.0f} m (chainage)"),
+        ("check", status),
+        ("capital cost", html.escape(_money(result.total_cost, currency))),
+    ]
+    if summary is not None:
+        rows += [
+            ("optimiser status", html.escape(summary.status)),
+            ("solver", html.escape(f"{summary.solver or ''}, "
+                                   f"{summary.solve_time_s or 0:.1f} s")),
+            ("best bound", html.escape(_money(summary.lower_bound, currency))),
+            ("relative gap", html.escape(f"{summary.gap or 0:.2e}")),
+            ("LP bound (rules relaxed)", html.escape(_money(summary.lp_bound, currency))),
+        ]
+        if summary.uniform_cost:
+            saving = summary.uniform_cost - result.total_cost
+            rows.append((
+                "cheapest uniform design",
+                html.escape(f"{summary.uniform_label}: "
+                            f"{_money(summary.uniform_cost, currency)}; this design saves "
+                            f"{_money(saving, currency)} "
+                            f"({saving / summary.uniform_cost:.1%})")))
+    return "".join(f"<tr><th class='text'>{k}</th><td class='text'>{v}</td></tr>"
+                   for k, v in rows)
+
+
+def _scenario_frame(result: CheckResult) -> pd.DataFrame:
+    return pd.DataFrame([{
+        "scenario": s.name, "inflow L/s": s.inflow_m3_s * 1000,
+        "outlet energy m": s.outlet_energy_m, "required m": s.required_head_m,
+        "outlet margin m": s.outlet_margin_m,
+        "least pressure margin m": float(s.least_pressure_margin["pressure_m"]
+                                         - s.least_pressure_margin["min_pressure_m"]),
+        "at": chainage_label(float(s.least_pressure_margin["chainage_m"])),
+        "max velocity m/s": float(s.segments["velocity_m_s"].max()),
+        "capacity L/s": (s.capacity_m3_s or 0.0) * 1000 if s.capacity_m3_s is not None
+        else "none",
+    } for s in result.scenarios])
+
+
+def _violations_section(result: CheckResult) -> str:
+    if result.ok:
+        return "<p>None.</p>"
+    return _table(pd.DataFrame([{
+        "kind": v.kind, "scenario": v.scenario or "(static)",
+        "chainage": chainage_label(v.chainage_m), "value": v.value, "limit": v.limit,
+        "detail": v.message} for v in result.violations[:200]]),
+        {"kind", "scenario", "chainage", "detail"})
+
+
+def _appurtenance_section(appurtenances: list[Appurtenance]) -> str:
+    if not appurtenances:
+        return "<p>None found.</p>"
+    return _table(pd.DataFrame([{
+        "kind": a.kind, "chainage": chainage_label(a.chainage_m),
+        "pipe level m": a.pipe_level_m, "ground m": a.ground_m, "reason": a.reason,
+        "label": a.label} for a in appurtenances]), {"kind", "chainage", "reason", "label"})
 
 
 def _schedule_section(result: CheckResult, currency: str) -> str:

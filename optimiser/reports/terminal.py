@@ -37,6 +37,10 @@ def print_check(console: Console, result: CheckResult) -> None:
     console.print(f"[bold]{console_title(study.title)}[/bold]  (check of "
                   f"{len(result.design.pieces)} pieces, "
                   f"{study.route.total_chainage_m / 1000:.3f} km)")
+    cost = f"Capital cost of the design: {result.total_cost:,.0f} {study.currency}".strip()
+    if result.change_cost_total:
+        cost += f" (including {result.change_cost_total:,.0f} for changes of pipe)"
+    console.print(cost, markup=False, highlight=False)
     summary = Table(title="Scenarios", title_justify="left")
     for column in ("scenario", "inflow", "outlet energy m", "required m", "margin m",
                    "capacity (all limits)", "capacity (outlet only)"):

@@ -21,13 +21,12 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 from rich.console import Console
 
-from optimiser.milp import DesignOutcome
-from optimiser.model import Study
+from optimiser.model import Status, Study
 from optimiser.sweeps.runner import run_all
 from optimiser.sweeps.tradeoff import (
     COLUMNS,
@@ -38,6 +37,9 @@ from optimiser.sweeps.tradeoff import (
 )
 from optimiser.sweeps.variants import with_roughness_range
 
+if TYPE_CHECKING:
+    from optimiser.milp import DesignOutcome
+
 
 def robust_study(study: Study, roughness_mm: Sequence[float]) -> Study:
     """The study whose scenarios are every (scenario, roughness) pair of the range."""
@@ -45,7 +47,7 @@ def robust_study(study: Study, roughness_mm: Sequence[float]) -> Study:
     return with_roughness_range(study, values)
 
 
-@dataclass
+@dataclass(frozen=True)
 class SolvedDesign:
     """An optimiser run kept whole: its table row and its outcome (None if it failed)."""
 
@@ -62,7 +64,7 @@ class SolvedDesign:
         return self.outcome is None
 
 
-@dataclass
+@dataclass(frozen=True)
 class RoughnessRuns:
     """Everything a roughness study solved: the nominal design, the robust design (if
     asked) and the re-optimised cost at each roughness (if asked)."""
@@ -97,7 +99,7 @@ class RoughnessRuns:
             if solved is not None and solved.failed:
                 messages.append(f"{name}: {solved.row['note']}")
         if self.reoptimised is not None:
-            for row in self.reoptimised[self.reoptimised["status"] == "failed"].itertuples():
+            for row in self.reoptimised[self.reoptimised["status"] == Status.FAILED].itertuples():
                 messages.append(f"re-optimised at {row.value:g} mm: {row.note}")
         return messages
 

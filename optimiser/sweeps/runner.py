@@ -7,6 +7,7 @@ function of its input, so serial, ``workers=N`` and a Dask cluster give identica
 from __future__ import annotations
 
 import multiprocessing
+import signal
 from collections.abc import Callable, Sequence
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from typing import Any, TypeVar
@@ -45,17 +46,37 @@ def run_all(function: Callable[[T], R], items: Sequence[T], *, workers: int = 1,
                     results[index[future.key]] = future.result()
                     progress.advance(task)
         elif workers > 1:
-            # Fresh interpreters, not forks: a fork of a process that has already run
-            # HiGHS inherits its thread pool in a broken state and the child's solve
-            # never returns.
-            with ProcessPoolExecutor(max_workers=workers,
-                                     mp_context=multiprocessing.get_context("spawn")) as pool:
-                futures = {pool.submit(function, item): i for i, item in enumerate(items)}
-                for future in as_completed(futures):
-                    results[futures[future]] = future.result()
-                    progress.advance(task)
+            _run_on_processes(function, items, workers, results,
+                              lambda: progress.advance(task))
         else:
             for i, item in enumerate(items):
                 results[i] = function(item)
                 progress.advance(task)
     return results
+
+
+def _ignore_interrupts() -> None:
+    """In a worker: Ctrl-C is the parent's to handle (it stops the workers)."""
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+def _run_on_processes(function: Callable[[T], R], items: Sequence[T], workers: int,
+                      results: list[Any], advance: Callable[[], None]) -> None:
+    """Fill ``results`` from a pool of fresh processes; on any exception or interrupt in
+    the parent, stop the workers at once instead of waiting for their solves."""
+    # Fresh interpreters, not forks: a fork of a process that has already run HiGHS
+    # inherits its thread pool in a broken state and the child's solve never returns.
+    pool = ProcessPoolExecutor(max_workers=workers, initializer=_ignore_interrupts,
+                               mp_context=multiprocessing.get_context("spawn"))
+    try:
+        futures = {pool.submit(function, item): i for i, item in enumerate(items)}
+        for future in as_completed(futures):
+            results[futures[future]] = future.result()
+            advance()
+    except BaseException:
+        # The executor has no public way to end running tasks (Python 3.11).
+        for process in list(getattr(pool, "_processes", {}).values()):
+            process.terminate()
+        pool.shutdown(wait=False, cancel_futures=True)
+        raise
+    pool.shutdown(wait=True)

@@ -20,14 +20,12 @@ import pandas as pd
 from rich.console import Console
 
 from optimiser.milp import DesignOutcome, SolverError, VerificationError, optimise_design
-from optimiser.model import Study
+from optimiser.model import Status, Study
 from optimiser.sweeps.runner import run_all
 from optimiser.sweeps.variants import VARIABLES, study_value, vary, with_roughness
 
 ROUGHNESS = "roughness"
 """The variable of a re-optimised roughness sweep (every option's roughness, mm)."""
-
-STATUS_FAILED = "failed"
 
 COLUMNS = ["value", "status", "cost", "lower_bound", "gap", "lp_bound", "n_pieces",
            "pieces", "binding_scenario", "binding_what", "binding_chainage_m",
@@ -100,7 +98,7 @@ def binding_point(outcome: DesignOutcome) -> dict[str, Any]:
 def outcome_row(value: float, outcome: DesignOutcome) -> dict[str, Any]:
     """One table row (plain Python values) from an optimiser outcome."""
     n_pieces, summary = pieces_summary(outcome)
-    note = outcome.diagnosis[0] if outcome.status == "infeasible" and outcome.diagnosis \
+    note = outcome.diagnosis[0] if outcome.status == Status.INFEASIBLE and outcome.diagnosis \
         else ""
     return {"value": float(value), "status": outcome.status, "cost": outcome.total_cost,
             "lower_bound": outcome.lower_bound, "gap": outcome.gap,
@@ -110,7 +108,7 @@ def outcome_row(value: float, outcome: DesignOutcome) -> dict[str, Any]:
 
 def failed_row(value: float, message: str) -> dict[str, Any]:
     row: dict[str, Any] = dict.fromkeys(COLUMNS)
-    row.update({"value": float(value), "status": STATUS_FAILED, "n_pieces": 0, "pieces": "",
+    row.update({"value": float(value), "status": Status.FAILED, "n_pieces": 0, "pieces": "",
                 "verified": False, "note": message})
     return row
 
@@ -173,7 +171,7 @@ def tradeoff(study: Study, variable: str, values: Sequence[float], *, workers: i
                  mip_gap=mip_gap, label=f"trade-off over {variable}")
 
 
-@dataclass
+@dataclass(frozen=True)
 class TradeoffResult:
     """A trade-off table and the study's own point on it (value and its row)."""
 
@@ -184,11 +182,11 @@ class TradeoffResult:
 
     @property
     def failed(self) -> pd.DataFrame:
-        return self.table[self.table["status"] == STATUS_FAILED]
+        return self.table[self.table["status"] == Status.FAILED]
 
     @property
     def infeasible(self) -> pd.DataFrame:
-        return self.table[self.table["status"] == "infeasible"]
+        return self.table[self.table["status"] == Status.INFEASIBLE]
 
 
 def tradeoff_with_study_point(study: Study, variable: str, values: Sequence[float], *,

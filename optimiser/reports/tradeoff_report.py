@@ -1,0 +1,121 @@
+"""Output of ``tradeoff``: the terminal table, ``tradeoff.csv``, ``tradeoff.json`` and
+``tradeoff.html``. Every JSON and HTML file carries the cautions."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+import plotly.graph_objects as go
+from rich.console import Console
+
+from optimiser import __version__
+from optimiser.io.writers import atomic_write_text, write_csv, write_json
+from optimiser.model import Status, Study
+from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.results import assumptions
+from optimiser.reports.sweep_charts import figures_page, tradeoff_figure
+from optimiser.reports.sweep_tables import (
+    INFEASIBLE_NOTE,
+    flow,
+    money,
+    print_sweep,
+    records,
+    sweep_terminal_table,
+)
+from optimiser.reports.text import console_title, short_title
+from optimiser.sweeps.tradeoff import TradeoffResult
+
+TRADEOFF_FILES = frozenset({"tradeoff.csv", "tradeoff.json", "tradeoff.html"})
+"""The files :func:`write_tradeoff_files` writes."""
+
+VALUE_COLUMN = {"source-level": "source_level_m", "required-head": "required_head_m",
+                "flow": "flow_m3_s"}
+AXIS_TITLE = {"source-level": "source design level (m)",
+              "required-head": "required energy level at the outlet (m)",
+              "flow": "outlet flow of the first scenario (L/s)"}
+
+
+def _display_value(variable: str, value_si: float) -> float:
+    """Values as shown to the engineer: flows in L/s, levels in m."""
+    return value_si * 1000.0 if variable == "flow" else value_si
+
+
+def tradeoff_table(result: TradeoffResult) -> pd.DataFrame:
+    """The CSV table: the varied value under its own name with unit, then the columns,
+    then the change in least cost per unit of the varied quantity between steps."""
+    table = result.table.rename(columns={"value": VALUE_COLUMN[result.variable]})
+    values = np.array([_display_value(result.variable, v) for v in result.table["value"]])
+    cost = result.table["cost"].astype(float).to_numpy()
+    marginal = np.full(len(values), np.nan)
+    if len(values) > 1:
+        with np.errstate(invalid="ignore", divide="ignore"):
+            marginal[1:] = np.diff(cost) / np.diff(values)
+    unit = "l_s" if result.variable == "flow" else "m"
+    table[f"cost_change_per_{unit}"] = marginal
+    return table
+
+
+def tradeoff_dict(result: TradeoffResult, study: Study) -> dict[str, Any]:
+    own = result.own_row
+    return {
+        "command": "tradeoff", "tool_version": __version__, "title": study.title,
+        "study": str(study.path) if study.path else None, "currency": study.currency,
+        "variable": result.variable, "value_column": VALUE_COLUMN[result.variable],
+        "study_point": {"value": result.own_value, "status": own["status"],
+                        "cost": own["cost"], "pieces": own["pieces"]},
+        "steps": records(tradeoff_table(result)),
+        "infeasible_steps": int((result.table["status"] == Status.INFEASIBLE).sum()),
+        "failed_steps": int((result.table["status"] == Status.FAILED).sum()),
+        "notes": [INFEASIBLE_NOTE],
+        "assumptions": assumptions(study),
+        "cautions": list(CAUTIONS),
+    }
+
+
+def tradeoff_chart(result: TradeoffResult, study: Study) -> go.Figure:
+    table = result.table.copy()
+    table["value"] = [_display_value(result.variable, v) for v in table["value"]]
+    table["cost"] = table["cost"].astype(float)
+    own_cost = result.own_row["cost"]
+    return tradeoff_figure(table, AXIS_TITLE[result.variable],
+                           _display_value(result.variable, result.own_value),
+                           None if own_cost is None or math.isnan(own_cost) else own_cost,
+                           study.currency)
+
+
+def write_tradeoff_files(out_dir: Path, result: TradeoffResult, study: Study) -> list[Path]:
+    """``tradeoff.csv``, ``tradeoff.json`` and ``tradeoff.html`` in ``out_dir``."""
+    out_dir = Path(out_dir)
+    paths = [out_dir / "tradeoff.csv", out_dir / "tradeoff.json", out_dir / "tradeoff.html"]
+    page = figures_page(
+        f"{short_title(study.title)}: least cost against {AXIS_TITLE[result.variable]}",
+        [("Least cost", tradeoff_chart(result, study))],
+        [INFEASIBLE_NOTE, "Each step is re-optimised on its own; the diamond (or dashed "
+         "line) is the study as written."])
+    write_csv(paths[0], tradeoff_table(result))
+    write_json(paths[1], tradeoff_dict(result, study))
+    atomic_write_text(paths[2], page)
+    return paths
+
+
+def print_tradeoff(console: Console, result: TradeoffResult, study: Study) -> None:
+    variable = result.variable
+
+    def text(value: float) -> str:
+        return flow(value) if variable == "flow" else f"{value:.2f} m"
+
+    console.print(f"[bold]{console_title(study.title)}[/bold]  (trade-off over {variable}, "
+                  f"{len(result.table)} steps)")
+    print_sweep(console, *sweep_terminal_table(
+        "Least cost at each step", result.table, AXIS_TITLE[variable].split(" (")[0], text,
+        study.currency))
+    own = result.own_row
+    console.print(f"This study ({text(result.own_value)}): {own['status']}, least cost "
+                  f"{money(own['cost'], study.currency)}")
+    infeasible = int((result.table["status"] == Status.INFEASIBLE).sum())
+    if infeasible:
+        console.print(f"[red]{infeasible} step(s) infeasible[/red]: {INFEASIBLE_NOTE}")

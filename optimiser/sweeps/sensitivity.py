@@ -1,0 +1,124 @@
+"""The ``sensitivity`` study as a whole: a fixed design across a roughness range, the
+re-optimised and robust designs, and a Monte Carlo of roughness and ageing.
+
+:func:`sensitivity_study` computes everything; :class:`SensitivityResult` holds it for
+the reports (:mod:`optimiser.reports.sensitivity_report`), which only format it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+import pandas as pd
+
+from optimiser.analysis.sensitivity import (
+    MonteCarloResult,
+    RoughnessDistribution,
+    monte_carlo,
+    roughness_sweep,
+)
+from optimiser.model import Design, Study
+from optimiser.sweeps.robust import RoughnessRuns, roughness_runs
+
+if TYPE_CHECKING:
+    from rich.console import Console
+
+    from optimiser.analysis.check import CheckResult
+
+
+@dataclass(frozen=True)
+class MonteCarloSettings:
+    """What a Monte Carlo of roughness draws: distribution, samples, seed, year, ageing."""
+
+    distribution: RoughnessDistribution
+    samples: int
+    seed: int
+    years: float
+    ageing_mm_per_year: dict[str, float]
+
+
+@dataclass(frozen=True)
+class SensitivityResult:
+    """Everything a ``sensitivity`` run found, ready to print and write."""
+
+    study: Study
+    roughness_mm: list[float]
+    design_source: str  # "given" (--design FILE) or "optimised" (the nominal design)
+    fixed_check: CheckResult | None  # the fixed design checked on the study as written
+    fixed_sweep: pd.DataFrame | None
+    runs: RoughnessRuns
+    robust_sweep: pd.DataFrame | None = None
+    monte_carlo: MonteCarloResult | None = None
+    monte_carlo_settings: MonteCarloSettings | None = None
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def design_flows_m3_s(self) -> dict[str, float]:
+        return {s.name: s.outlet_flow_m3_s for s in self.study.scenarios}
+
+
+def _fixed_design(study: Study, given: Design | None, runs: RoughnessRuns,
+                  notes: list[str]) -> tuple[Design | None, CheckResult | None]:
+    """The design held fixed (the given one, else the nominal least-cost design) and its
+    check on the study as written."""
+    from optimiser.analysis import check_design
+
+    fixed, fixed_check = given, None
+    if given is not None:
+        fixed_check = check_design(study, given, capacity=False)
+    elif runs.nominal is not None and runs.nominal.outcome is not None:
+        fixed, fixed_check = runs.nominal.outcome.design, runs.nominal.outcome.check
+    if fixed is None:
+        notes.append("The study as written has no design (status "
+                     f"{runs.nominal.row['status'] if runs.nominal else 'unknown'}), so the "
+                     "fixed-design analysis and the Monte Carlo are skipped; give --design.")
+    elif fixed_check is not None and not fixed_check.ok:
+        notes.append("The fixed design does not meet every limit of the study as written "
+                     "(run check for the list).")
+    return fixed, fixed_check
+
+
+def _monte_carlo(study: Study, fixed: Design, settings: MonteCarloSettings,
+                 notes: list[str]) -> MonteCarloResult:
+    rates = settings.ageing_mm_per_year
+    result = monte_carlo(study, fixed, settings.distribution, samples=settings.samples,
+                         seed=settings.seed, years=settings.years, ageing_mm_per_year=rates)
+    if rates and settings.years == 0:
+        notes.append("--ageing has no effect at year 0: give --years T.")
+    unused = sorted(set(rates) - {p.option.material for p in fixed.pieces})
+    if unused:
+        notes.append(f"--ageing: the fixed design uses no {', '.join(unused)}.")
+    return result
+
+
+def sensitivity_study(study: Study, roughness_mm: Sequence[float], *,
+                      given: Design | None = None, robust: bool = False,
+                      reoptimise: bool = True,
+                      monte_carlo_settings: MonteCarloSettings | None = None,
+                      workers: int = 1, dask_address: str | None = None,
+                      console: Console | None = None,
+                      **solver_options: Any) -> SensitivityResult:
+    """Run the whole roughness study of ``study`` (``solver_options`` as
+    :func:`optimiser.sweeps.robust.roughness_runs`)."""
+    values = [float(v) for v in roughness_mm]
+    runs = roughness_runs(study, values, nominal=given is None, robust=robust,
+                          reoptimise=reoptimise, workers=workers, dask_address=dask_address,
+                          console=console, **solver_options)
+    notes: list[str] = []
+    fixed, fixed_check = _fixed_design(study, given, runs, notes)
+    grid = np.asarray(values)
+    fixed_sweep = roughness_sweep(study, fixed, grid) if fixed is not None else None
+    robust_sweep = None
+    robust_outcome = runs.robust.outcome if runs.robust is not None else None
+    if robust_outcome is not None and robust_outcome.design is not None:
+        robust_sweep = roughness_sweep(study, robust_outcome.design, grid)
+    mc = settings = None
+    if monte_carlo_settings is not None and fixed is not None:
+        settings = monte_carlo_settings
+        mc = _monte_carlo(study, fixed, settings, notes)
+    return SensitivityResult(study, values, "given" if given is not None else "optimised",
+                             fixed_check, fixed_sweep, runs, robust_sweep, mc, settings,
+                             notes)
