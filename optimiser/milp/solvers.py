@@ -20,6 +20,7 @@ without a solution) and ``failed`` (the solver broke down).
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import math
 import os
 import re
@@ -33,13 +34,17 @@ from pathlib import Path
 import numpy as np
 
 from optimiser.milp.formulation import Formulation, WarmStart
+from optimiser.model.status import Status
 
 SOLVERS = ("highs", "cbc")
 
 
-@dataclass
+@dataclass(frozen=True)
 class SolveReport:
-    status: str
+    """What a solve gave: status, objective and best bound (with the objective's constant
+    added), wall time, the solver's name and a message."""
+
+    status: Status
     objective: float | None
     bound: float | None
     seconds: float
@@ -48,7 +53,7 @@ class SolveReport:
 
     @property
     def has_solution(self) -> bool:
-        return self.status in ("optimal", "feasible")
+        return self.status.has_design
 
     @property
     def gap(self) -> float | None:
@@ -131,11 +136,11 @@ def solve(form: Formulation, solver_name: str, *, time_limit_s: float, mip_gap: 
         report = _solve_highs(form, time_limit_s, mip_gap, warm_start, msg, started)
     else:
         report = _solve_cbc(form, time_limit_s, mip_gap, warm_start, msg, started)
-    if report.objective is not None:
-        report.objective = float(report.objective) + form.objective_offset
-    if report.bound is not None:
-        report.bound = float(report.bound) + form.objective_offset
-    return report
+    offset = form.objective_offset
+    return dataclasses.replace(
+        report,
+        objective=None if report.objective is None else float(report.objective) + offset,
+        bound=None if report.bound is None else float(report.bound) + offset)
 
 
 def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
@@ -145,7 +150,7 @@ def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
     try:
         highs, is_mip = _highs_model(form)
     except RuntimeError as error:
-        return SolveReport("failed", None, None, time.perf_counter() - started, "highs",
+        return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "highs",
                            str(error))
     highs.setOptionValue("output_flag", bool(msg))
     highs.setOptionValue("time_limit", float(time_limit_s))
@@ -171,20 +176,20 @@ def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
         objective = float(info.objective_function_value) - form.objective_offset
     if status == states.kOptimal:
         bound = (info.mip_dual_bound - form.objective_offset) if is_mip else objective
-        return SolveReport("optimal", objective, bound, seconds, "highs")
+        return SolveReport(Status.OPTIMAL, objective, bound, seconds, "highs")
     if status in (states.kInfeasible, states.kUnboundedOrInfeasible):
-        return SolveReport("infeasible", None, None, seconds, "highs")
+        return SolveReport(Status.INFEASIBLE, None, None, seconds, "highs")
     if has_point and is_mip:
         bound = info.mip_dual_bound - form.objective_offset
-        return SolveReport("feasible", objective, bound if math.isfinite(bound) else None,
+        return SolveReport(Status.FEASIBLE, objective, bound if math.isfinite(bound) else None,
                            seconds, "highs", f"stopped: {status.name}")
     form.values = None
     if status in (states.kTimeLimit, states.kIterationLimit, states.kInterrupt):
         bound = info.mip_dual_bound - form.objective_offset if is_mip else None
-        return SolveReport("no_solution", None,
+        return SolveReport(Status.NO_SOLUTION, None,
                            bound if bound is not None and math.isfinite(bound) else None,
                            seconds, "highs", f"stopped without a solution: {status.name}")
-    return SolveReport("failed", None, None, seconds, "highs", f"HiGHS status {status.name}")
+    return SolveReport(Status.FAILED, None, None, seconds, "highs", f"HiGHS status {status.name}")
 
 
 CBC_HARD_STOP = 1.25
@@ -233,7 +238,7 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
     try:
         highs, is_mip = _highs_model(form, with_offset=False)
     except RuntimeError as error:
-        return SolveReport("failed", None, None, time.perf_counter() - started, "cbc",
+        return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "cbc",
                            str(error))
     n_columns = form.model.n_columns
     offset = float(form.objective_offset)
@@ -265,17 +270,17 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
                                  stdin=subprocess.DEVNULL,
                                  timeout=CBC_HARD_STOP * time_limit_s + CBC_GRACE_S)
         except subprocess.TimeoutExpired:
-            return SolveReport("no_solution", None, None, time.perf_counter() - started,
+            return SolveReport(Status.NO_SOLUTION, None, None, time.perf_counter() - started,
                                "cbc", "CBC ran past its time limit and was stopped")
         except OSError as error:
-            return SolveReport("failed", None, None, time.perf_counter() - started, "cbc",
+            return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "cbc",
                                f"CBC could not be started: {error}")
         log = run.stdout + run.stderr
         if msg:
             print(log)
         seconds = time.perf_counter() - started
         if run.returncode != 0 or not solution.exists():
-            return SolveReport("failed", None, None, seconds, "cbc",
+            return SolveReport(Status.FAILED, None, None, seconds, "cbc",
                                f"CBC exited with code {run.returncode}")
         text = solution.read_text(encoding="utf-8", errors="replace").splitlines()
     first = text[0] if text else ""
@@ -311,13 +316,13 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
         bound -= offset
     if word == "Optimal":
         form.values = values
-        return SolveReport("optimal", objective, bound, seconds, "cbc")
+        return SolveReport(Status.OPTIMAL, objective, bound, seconds, "cbc")
     if word == "Infeasible" or first.startswith("Integer infeasible"):
-        return SolveReport("infeasible", None, None, seconds, "cbc")
+        return SolveReport(Status.INFEASIBLE, None, None, seconds, "cbc")
     if word == "Stopped" and objective_match and "no integer" not in first.lower():
         form.values = values
-        return SolveReport("feasible", objective, bound, seconds, "cbc", first.strip())
+        return SolveReport(Status.FEASIBLE, objective, bound, seconds, "cbc", first.strip())
     if word == "Stopped":
-        return SolveReport("no_solution", None, None, seconds, "cbc",
+        return SolveReport(Status.NO_SOLUTION, None, None, seconds, "cbc",
                            "stopped without a solution")
-    return SolveReport("failed", None, None, seconds, "cbc", f"CBC: {first.strip()}")
+    return SolveReport(Status.FAILED, None, None, seconds, "cbc", f"CBC: {first.strip()}")
