@@ -240,7 +240,6 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
     except RuntimeError as error:
         return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "cbc",
                            str(error))
-    n_columns = form.model.n_columns
     offset = float(form.objective_offset)
     if offset:
         # The objective offset as a column fixed at 1 (MPS readers disagree on the sign
@@ -254,62 +253,90 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
         command = [cbc_path(), str(mps), "-sec", f"{time_limit_s:g}",
                    "-ratio", f"{mip_gap:g}", "-timeMode", "elapsed"]
         if warm_start and is_mip:
-            columns, values = form.warm_columns(warm_start)
-            if len(columns):
-                start = Path(folder) / "start.txt"
-                lines = ["Stopped on time - objective value 0\n"]
-                lines += [f"{c:>7} c{c} {v:>15.10g} {0:>23}\n"
-                          for c, v in zip(columns.tolist(), values.tolist(), strict=True)]
-                start.write_text("".join(lines), encoding="utf-8")
-                command += ["-mips", str(start)]
+            command += _cbc_start(form, warm_start, Path(folder) / "start.txt")
         command += ["-solve" if is_mip else "-initialSolve", "-solution", str(solution)]
-        try:
-            # CBC checks its -sec limit only between some of its steps (preprocessing and
-            # root cuts can run far past it): a hard stop keeps the run near its limit.
-            run = subprocess.run(command, capture_output=True, text=True, check=False,
-                                 stdin=subprocess.DEVNULL,
-                                 timeout=CBC_HARD_STOP * time_limit_s + CBC_GRACE_S)
-        except subprocess.TimeoutExpired:
-            return SolveReport(Status.NO_SOLUTION, None, None, time.perf_counter() - started,
-                               "cbc", "CBC ran past its time limit and was stopped")
-        except OSError as error:
-            return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "cbc",
-                               f"CBC could not be started: {error}")
-        log = run.stdout + run.stderr
+        ran = _run_cbc(command, time_limit_s, started)
+        if isinstance(ran, SolveReport):
+            return ran
+        log = ran.stdout + ran.stderr
         if msg:
             print(log)
         seconds = time.perf_counter() - started
-        if run.returncode != 0 or not solution.exists():
+        if ran.returncode != 0 or not solution.exists():
             return SolveReport(Status.FAILED, None, None, seconds, "cbc",
-                               f"CBC exited with code {run.returncode}")
+                               f"CBC exited with code {ran.returncode}")
         text = solution.read_text(encoding="utf-8", errors="replace").splitlines()
-    first = text[0] if text else ""
+    return _cbc_report(form, text, log, is_mip, mip_gap, seconds)
+
+
+def _cbc_start(form: Formulation, warm_start: WarmStart, start: Path) -> list[str]:
+    """Write a warm start as a CBC solution file; the options that read it."""
+    columns, values = form.warm_columns(warm_start)
+    if not len(columns):
+        return []
+    lines = ["Stopped on time - objective value 0\n"]
+    lines += [f"{c:>7} c{c} {v:>15.10g} {0:>23}\n"
+              for c, v in zip(columns.tolist(), values.tolist(), strict=True)]
+    start.write_text("".join(lines), encoding="utf-8")
+    return ["-mips", str(start)]
+
+
+def _run_cbc(command: list[str], time_limit_s: float, started: float
+             ) -> subprocess.CompletedProcess | SolveReport:
+    """Run CBC; a report if it could not be started or ran past its hard stop."""
+    try:
+        # CBC checks its -sec limit only between some of its steps (preprocessing and
+        # root cuts can run far past it): a hard stop keeps the run near its limit.
+        return subprocess.run(command, capture_output=True, text=True, check=False,
+                              stdin=subprocess.DEVNULL,
+                              timeout=CBC_HARD_STOP * time_limit_s + CBC_GRACE_S)
+    except subprocess.TimeoutExpired:
+        return SolveReport(Status.NO_SOLUTION, None, None, time.perf_counter() - started,
+                           "cbc", "CBC ran past its time limit and was stopped")
+    except OSError as error:
+        return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "cbc",
+                           f"CBC could not be started: {error}")
+
+
+def _cbc_values(text: list[str], n_columns: int) -> np.ndarray:
+    """Column values from the lines of CBC's solution file (after its status line)."""
     values = np.zeros(n_columns)
     for line in text[1:]:
         parts = line.split()
         if len(parts) >= 3 and parts[1].startswith("c") and parts[1][1:].isdigit() \
                 and int(parts[1][1:]) < n_columns:
             values[int(parts[1][1:])] = float(parts[2])
+    return values
+
+
+def _cbc_proven_bound(log: str, objective: float, bound: float | None, mip_gap: float
+                      ) -> float:
+    """The bound of an integer programme CBC stopped by -ratio.
+
+    The gap to the best possible is below that fraction of "the larger of two" (best
+    known, best possible), or "of the objective value at the root node" (CBC 2.10.3's own
+    help for ratioGap gives both); the larger of the objective and the root value covers
+    either reading. The log prints no final bound then.
+    """
+    root = _cbc_root(log)
+    scale = max(abs(objective), abs(root) if root is not None else 0.0)
+    proven = objective - mip_gap * scale
+    return proven if bound is None else max(bound, proven)
+
+
+def _cbc_report(form: Formulation, text: list[str], log: str, is_mip: bool,
+                mip_gap: float, seconds: float) -> SolveReport:
+    """Status, objective and bound from CBC's solution file and log (without the
+    objective's offset: solve() adds it to objective and bound)."""
+    first = text[0] if text else ""
+    values = _cbc_values(text, form.model.n_columns)
     objective_match = re.search(r"objective value\s+(\S+)", first)
-    objective = None
-    if objective_match:
-        objective = float(objective_match.group(1))
+    objective = float(objective_match.group(1)) if objective_match else None
     bound = _cbc_bound(log)
     word = first.split()[0] if first.split() else ""
     if word == "Optimal" and objective is not None:
-        if not is_mip:
-            bound = objective
-        else:
-            # Stopped by -ratio: the gap to the best possible is below that fraction of
-            # "the larger of two" (best known, best possible), or "of the objective
-            # value at the root node" (CBC 2.10.3's own help for ratioGap gives both);
-            # the larger of the objective and the root value covers either reading.
-            # The log prints no final bound then.
-            root = _cbc_root(log)
-            scale = max(abs(objective), abs(root) if root is not None else 0.0)
-            proven = objective - mip_gap * scale
-            bound = proven if bound is None else max(bound, proven)
-    # Report without the offset (solve() adds it to objective and bound).
+        bound = _cbc_proven_bound(log, objective, bound, mip_gap) if is_mip else objective
+    offset = float(form.objective_offset)
     if objective is not None:
         objective -= offset
     if bound is not None:
