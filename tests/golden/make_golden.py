@@ -20,12 +20,12 @@ minimum piece length, no limit on changes, any size order, no change cost; veloc
 limits stay), at the study's own gap; and two "-tight" cases at a relative gap of 1e-6,
 where more stages run before the proof: the first demo with its rules, and the invented
 undulating route of ``tests/test_milp_priced.py`` (written here with
-``tests/test_milp_support.py``). Runs get a generous time limit so that no stage is cut
+``tests/test_milp_support.py``); and one "-exact" case at a gap of 0, an invented seeded
+route whose reach model does not prove, so every later stage runs (see
+:func:`_rough_study`). Runs get a generous time limit so that no stage is cut
 short or skipped by the clock, which keeps the stage sequence independent of the
-machine's speed. Stages that run only when the reach model with the rules fails to prove
-within its share of the time (polishing after it, the priced dynamic programme, the
-large-neighbourhood search, the full model with the rules) depend on the clock by
-design, so no case here reaches them; their own tests cover them.
+machine's speed (a stage skipped as too large for the time left, or a model stopped by
+its share of the time, would make it depend on the clock; none is in these cases).
 """
 
 from __future__ import annotations
@@ -52,9 +52,20 @@ BENCHMARK_SECTIONS = 2000
 CASES = [*(f"{name}-rules-{state}" for name in
            ("demo-gravity-main", "demo-pe-option", f"benchmark-{BENCHMARK_SECTIONS}")
            for state in ("on", "off")),
-         "demo-gravity-main-rules-on-tight", "undulating-rules-on-tight"]
+         "demo-gravity-main-rules-on-tight", "undulating-rules-on-tight",
+         "rough-rules-on-exact"]
 TIGHT_GAP = 1e-6
 """The relative gap of the "-tight" cases (more stages run before the proof)."""
+MIXED_CATALOGUE = [
+    ("PE", 200, 176.2, "PN10", 102.0, 0.02, 150.0, 42.0),
+    ("PE", 200, 176.2, "PN16", 163.2, 0.02, 150.0, 50.0),
+    ("PE", 250, 220.4, "PN10", 102.0, 0.02, 150.0, 60.0),
+    ("DI", 200, 173.0, "PN25", 254.9, 0.10, 135.0, 70.0),
+    ("DI", 250, 215.0, "PN25", 254.9, 0.10, 135.0, 80.0),
+    ("PE", 315, 277.6, "PN10", 102.0, 0.02, 150.0, 90.0),
+]
+"""Invented options (material, DN, ID mm, class, allowable head m, roughness mm, C,
+cost per m), those of ``tests/test_milp_dominance.py``."""
 
 
 def _module(path: Path, name: str):
@@ -101,9 +112,34 @@ def without_rules(study: Study) -> Study:
     return dataclasses.replace(study, rules=rules, costs=costs)
 
 
+def _rough_study(folder: Path, seed: int = 11) -> Study:
+    """An invented, seeded 4 km route with a hump and a dip, the mixed catalogue and the
+    rules on: at a gap of 0 its reach model does not prove, so the polishing, the priced
+    dynamic programme, the large-neighbourhood search, the larger restricted models and
+    the full model all run, each to its own proof (no clock involved)."""
+    support = _module(HERE.parent / "test_milp_support.py", "golden_milp_support")
+    rng = np.random.default_rng(seed)
+    chainage = np.linspace(0.0, 4000.0, 21 + seed % 3 * 10)
+    ground = 100.0 - 0.01 * chainage + rng.normal(0.0, 2.0, chainage.size)
+    ground[(chainage > 1500) & (chainage < 2500)] -= float(rng.uniform(0.0, 50.0))
+    ground[(chainage > 800) & (chainage < 1100)] += float(rng.uniform(0.0, 25.0))
+    profile = [(float(c), round(float(g), 3)) for c, g in zip(chainage, ground, strict=True)]
+    required = float(rng.uniform(40.0, 60.0))
+    flow = f"{rng.uniform(15.0, 30.0):.1f} L/s"
+    rules = {"min_piece_length_m": float(rng.choice([200.0, 400.0, 700.0])),
+             "max_changes": int(rng.integers(1, 4))}
+    costs = {"change_cost": float(rng.choice([0.0, 300.0, 3000.0]))}
+    return load_study(support.write_study(
+        folder, profile=profile, catalogue=MIXED_CATALOGUE, source_level_m=106.0,
+        required_head_m=required, scenarios=[{"name": "peak", "flow": flow}], rules=rules,
+        costs=costs))
+
+
 def case_study(case: str, folder: Path) -> Study:
     """The study of ``case`` (``folder``: where a generated study may be written)."""
-    name, state = case.removesuffix("-tight").rsplit("-rules-", 1)
+    name, state = case.removesuffix("-tight").removesuffix("-exact").rsplit("-rules-", 1)
+    if name == "rough":
+        return _rough_study(folder)
     if name == "undulating":
         return _undulating_study(folder)
     if name.startswith("benchmark-"):
@@ -130,7 +166,8 @@ def run_case(case: str) -> dict:
     """Run ``case`` once and return its figures."""
     with tempfile.TemporaryDirectory(prefix="golden_") as folder:
         study = case_study(case, Path(folder))
-        gap = TIGHT_GAP if case.endswith("-tight") else None
+        gap = TIGHT_GAP if case.endswith("-tight") else 0.0 if case.endswith("-exact") \
+            else None
         return figures(optimise_design(study, time_limit_s=TIME_LIMIT_S, mip_gap=gap))
 
 
