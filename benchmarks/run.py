@@ -39,7 +39,7 @@ def run_case(study_path: str, solver: str, time_limit_s: float) -> dict:
 
     warnings.filterwarnings("ignore")
     from optimiser import load_study
-    from optimiser.milp import optimise_design
+    from optimiser.milp import StageKind, optimise_design
 
     started = time.perf_counter()
     study = load_study(study_path)
@@ -52,7 +52,7 @@ def run_case(study_path: str, solver: str, time_limit_s: float) -> dict:
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
     result = {"wall_s": wall, "peak_mb": peak_mb, "error": error}
     if outcome is not None:
-        lp_stages = [s for s in outcome.stages if s.name.startswith("LP relaxation")]
+        lp_stages = [s for s in outcome.stages if s.kind is StageKind.LP_RELAXATION]
         result.update({
             "status": outcome.status, "cost": outcome.total_cost,
             "bound": outcome.lower_bound, "gap": outcome.gap, "lp_bound": outcome.lp_bound,

@@ -26,13 +26,13 @@ import pytest
 from test_milp_priced import undulating_rules_study
 from test_milp_support import write_study
 
-import optimiser.milp.optimise as optimise_module
+import optimiser.milp.search.dominance as dominance_stage
 from optimiser import load_study
 from optimiser.analysis import check_design
 from optimiser.milp import optimise_design, prepare
-from optimiser.milp.data import dominated_options
 from optimiser.milp.extract import design_from_choice, rule_problems
 from optimiser.milp.formulation import build
+from optimiser.milp.presolve import dominated_options
 from optimiser.milp.repair import covering_choice
 from optimiser.milp.solvers import solve
 
@@ -97,7 +97,7 @@ def test_setting_dominated_options_aside_keeps_the_optimum(tmp_path, monkeypatch
         costs={"change_cost": 300.0})
     assert dominated_options(prepare(study)).any()  # the comparison means something
     pruned = optimise_design(study, time_limit_s=60.0, mip_gap=1e-6)
-    monkeypatch.setattr(optimise_module, "dominated_options",
+    monkeypatch.setattr(dominance_stage, "dominated_options",
                         lambda data: np.zeros(data.n_options, dtype=bool))
     kept = optimise_design(study, time_limit_s=60.0, mip_gap=1e-6)
     assert pruned.status == kept.status

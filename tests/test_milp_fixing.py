@@ -19,11 +19,11 @@ import numpy as np
 import pytest
 from test_milp_priced import undulating_rules_study
 
-import optimiser.milp.optimise as optimise_module
+import optimiser.milp.search.reach_model as reach_model_stage
 from optimiser.milp import optimise_design, prepare
 from optimiser.milp.fixing import allowed_below, window_minimum
 from optimiser.milp.formulation import build
-from optimiser.milp.reduce import ActivePoints, merge, with_active
+from optimiser.milp.reaches import ActivePoints, merge, with_active
 from optimiser.milp.solvers import solve
 
 
@@ -86,7 +86,7 @@ def test_fixing_keeps_the_options_of_the_optimum(study):
 
 def test_fixing_does_not_change_the_optimum(study, monkeypatch):
     fixed = optimise_design(study, time_limit_s=60.0, mip_gap=1e-6)
-    monkeypatch.setattr(optimise_module, "allowed_below", lambda *args: None)
+    monkeypatch.setattr(reach_model_stage, "allowed_below", lambda *args: None)
     whole = optimise_design(study, time_limit_s=60.0, mip_gap=1e-6)
     assert fixed.status == whole.status == "optimal"
     assert fixed.total_cost == pytest.approx(whole.total_cost, rel=1e-5)

@@ -23,7 +23,7 @@ import itertools
 
 import numpy as np
 import pytest
-from test_milp_reduce import undulating_profile
+from test_milp_reaches import undulating_profile
 from test_milp_support import write_study
 
 from optimiser import load_study

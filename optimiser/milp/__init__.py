@@ -7,21 +7,25 @@ Public API::
     outcome.status, outcome.design, outcome.total_cost, outcome.lower_bound, outcome.gap
 
 See :mod:`optimiser.milp.formulation` for what the model holds exactly, what it holds
-conservatively, and over which designs the answer is proven cheapest.
+conservatively, and over which designs the answer is proven cheapest, and
+:mod:`optimiser.milp.optimise` for the run, stage by stage (:mod:`optimiser.milp.search`).
 """
 
 from optimiser.milp.data import ProblemData, prepare
 from optimiser.milp.diagnose import diagnose
 from optimiser.milp.extract import rule_problems
-from optimiser.milp.optimise import (
+from optimiser.milp.optimise import optimise_design
+from optimiser.milp.outcome import (
     BindingPoint,
     DesignOutcome,
     SolverError,
     Stage,
     VerificationError,
-    optimise_design,
 )
+from optimiser.milp.search.kinds import StageKind
+from optimiser.milp.solvers import SOLVERS
 from optimiser.milp.uniform import UniformDesign, cheapest_uniform
+from optimiser.model.status import Status
 
 
 def diagnose_study(study) -> list[str]:
@@ -30,11 +34,14 @@ def diagnose_study(study) -> list[str]:
 
 
 __all__ = [
+    "SOLVERS",
     "BindingPoint",
     "DesignOutcome",
     "ProblemData",
     "SolverError",
     "Stage",
+    "StageKind",
+    "Status",
     "UniformDesign",
     "VerificationError",
     "cheapest_uniform",

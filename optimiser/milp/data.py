@@ -16,6 +16,7 @@ lengths of the options laid in it.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -30,9 +31,12 @@ SCREEN_TOLERANCE_M = 1e-3
 the worst velocity head could take away (guards against rounding)."""
 
 
-@dataclass
+@dataclass(frozen=True)
 class ProblemData:
-    """Section, node and option arrays of one study, for the formulation and diagnosis."""
+    """Section, node and option arrays of one study, for the formulation and diagnosis.
+
+    Immutable: a step that changes the problem (options set aside by dominance, merged
+    reaches, check points left out) makes a new one with :func:`dataclasses.replace`."""
 
     study: Study
     n_sections: int
@@ -62,7 +66,7 @@ class ProblemData:
     screened_interior: np.ndarray  # (n,) no point inside section s can bind
     free_order: np.ndarray | None = None
     """(n,) sections whose pieces may be laid in any order (merged reaches of a reduced
-    model, :mod:`optimiser.milp.reduce`); None: none."""
+    model, :mod:`optimiser.milp.reaches`); None: none."""
     chainage_per_share_m: np.ndarray | None = None
     """(n,) largest chainage a whole section's worth of one option can cover (merged
     reaches: slopes differ along a reach); None: the chainage length."""
@@ -151,8 +155,7 @@ def prepare(study: Study) -> ProblemData:
         rank=rank, screened_up=np.zeros(n + 1, dtype=bool),
         screened_down=np.zeros(n + 1, dtype=bool),
         screened_interior=np.zeros(n, dtype=bool))
-    _screen(data)
-    return data
+    return screened(data)
 
 
 def _surge_limit_m(study: Study) -> np.ndarray:
@@ -209,13 +212,7 @@ def _run_max(values: np.ndarray, mask: np.ndarray) -> np.ndarray:
     return np.where(mask, np.maximum.reduceat(values, starts)[run], values)
 
 
-def rescreen(data: ProblemData) -> None:
-    """Screen the check points again after options left ``data.admissible`` (fewer
-    options, smaller largest velocity head: more points that cannot bind)."""
-    _screen(data)
-
-
-def _screen(data: ProblemData) -> None:
+def screened(data: ProblemData) -> ProblemData:
     """Mark check points that no feasible design can bring down to their minimum.
 
     Energy falls monotonically downstream and every feasible design keeps the energy at
@@ -225,7 +222,10 @@ def _screen(data: ProblemData) -> None:
     pipe_i + min_i)``. A point whose pipe level and limit leave ``floor_s`` above them by
     more than the largest velocity head any admissible option can have there is met by
     every feasible design: its constraint is redundant and is left out of the model.
-    This is exact (it removes no design), and it is what keeps the model small.
+    This is exact (it removes no design), and it is what keeps the model small. Returns
+    ``data`` with the screened points marked; call it again whenever options leave
+    ``admissible`` (fewer options, smaller largest velocity head: more points that
+    cannot bind).
     """
     study = data.study
     n = data.n_sections
@@ -245,61 +245,5 @@ def _screen(data: ProblemData) -> None:
                 - data.node_min_pressure_m[-1] >= tol)
     interior = (floor_end - head_max - np.maximum(pipe[:-1], pipe[1:])
                 - study.min_pressure_m >= tol)
-    data.screened_up[:] = up
-    data.screened_down[:] = down
-    data.screened_interior[:] = interior
-
-
-def dominated_options(data: ProblemData) -> np.ndarray:
-    """Options no cheapest design needs: (m,) mask of options ``a`` such that another
-    option ``b`` is admissible in every section where ``a`` is and there costs no more,
-    loses no more head and has no larger velocity head in any scenario (so no smaller
-    internal diameter), and no other remaining option has an internal diameter between
-    theirs (inclusive).
-
-    Replacing every piece of ``a`` by ``b`` in place then keeps each piece where it was
-    and its place in the section order (descending internal diameter): pieces of the
-    same option that become adjacent merge, so changes only fall and pieces only grow;
-    energy nowhere falls and velocity heads nowhere rise, so every pressure and the
-    outlet head stay met; sizes stay non-increasing where they were (nothing remains
-    between ``a`` and ``b`` in size). So the options left hold a design at least as
-    cheap as any design that uses ``a``. This is the exact, rules-safe form of "drop
-    options off the lower hull of cost against head loss" (with rules on, an option off
-    that hull in one stretch may still be worth carrying on to save a change, so only
-    options dominated wherever they are admissible go). Removal is greedy and
-    repeated until nothing more goes.
-    """
-    m = data.n_options
-    admissible = data.admissible
-    diameter = data.study.catalogue.internal_diameter_mm
-    tolerance = 1e-12
-    pairs: list[tuple[int, int]] = []
-    for a in range(m):
-        where = admissible[:, a]
-        if not where.any():
-            continue
-        for b in range(m):
-            if b == a or diameter[b] < diameter[a] or not admissible[where, b].all():
-                continue
-            if (data.section_cost[where, b] <= data.section_cost[where, a] + tolerance).all() \
-                    and (data.section_loss_m[:, where, b]
-                         <= data.section_loss_m[:, where, a] + tolerance).all() \
-                    and (data.velocity_head_m[:, where, b]
-                         <= data.velocity_head_m[:, where, a] + tolerance).all():
-                pairs.append((a, b))
-    remaining = admissible.any(axis=0)
-    gone = np.zeros(m, dtype=bool)
-    changed = True
-    while changed:
-        changed = False
-        for a, b in pairs:
-            if gone[a] or not remaining[b]:
-                continue
-            low, high = diameter[a], diameter[b]
-            between = remaining & (diameter >= low) & (diameter <= high)
-            between[[a, b]] = False
-            if not between.any():
-                gone[a] = True
-                remaining[a] = False
-                changed = True
-    return gone
+    return dataclasses.replace(data, screened_up=up, screened_down=down,
+                               screened_interior=interior)

@@ -167,6 +167,40 @@ class SearchRecord:
     not): the neighbourhood a restricted integer programme searches next."""
 
 
+@dataclass
+class _Polyak:
+    """Projected subgradient steps on the prices with Polyak's step length (Polyak, B. T.
+    (1969), Minimization of unsmooth functionals, USSR Comput. Math. Math. Phys. 9(3)),
+    aimed TARGET_GAIN above the best Lagrangian value so far (capped at the best design's
+    cost), halved after three rounds without a better value."""
+
+    best_lagrangian: float = -np.inf
+    step_factor: float = 1.0
+    stalled: int = 0
+
+    def step(self, values: np.ndarray, margin: np.ndarray, lagrangian: float,
+             upper_bound: float | None) -> np.ndarray | None:
+        """The next prices (None: stop, the step vanished)."""
+        if lagrangian > self.best_lagrangian + 1e-9 * abs(lagrangian):
+            self.best_lagrangian = lagrangian
+            self.stalled = 0
+        else:
+            self.stalled += 1
+            if self.stalled >= 3:
+                self.step_factor /= 2.0
+                self.stalled = 0
+        direction = -margin
+        direction[(values <= 0) & (direction < 0)] = 0.0  # projected on lambda >= 0
+        norm = float(direction @ direction)
+        if norm <= 0 or self.step_factor < 1e-3:
+            return None
+        target = self.best_lagrangian + TARGET_GAIN * abs(self.best_lagrangian)
+        if upper_bound is not None:
+            target = min(target, upper_bound)
+        step = self.step_factor * max(target - lagrangian, 1e-6 * abs(lagrangian)) / norm
+        return np.maximum(values + step * direction, 0.0)
+
+
 def priced_search(data: ProblemData, prices: Prices, *, upper_bound: float | None,
                   deadline: float, max_rounds: int = 20, patience: int = 5
                   ) -> tuple[list[tuple[float, np.ndarray]], SearchRecord]:
@@ -183,9 +217,7 @@ def priced_search(data: ProblemData, prices: Prices, *, upper_bound: float | Non
     values = prices.flat()
     found: dict[bytes, tuple[float, np.ndarray]] = {}
     used = np.zeros((data.n_sections, data.n_options), dtype=bool)
-    best_lagrangian = -np.inf
-    step_factor = 1.0
-    stalled = 0
+    polyak = _Polyak()
     rounds = 0
     seen: set[bytes] = set()
     unchanged = 0  # rounds since a design not seen before
@@ -208,25 +240,9 @@ def priced_search(data: ProblemData, prices: Prices, *, upper_bound: float | Non
         if margin.min() >= CLEARANCE_M:
             found.setdefault(key, (cost, choice))
             upper_bound = cost if upper_bound is None else min(upper_bound, cost)
-        lagrangian = cost - float(values @ margin)
-        if lagrangian > best_lagrangian + 1e-9 * abs(lagrangian):
-            best_lagrangian = lagrangian
-            stalled = 0
-        else:
-            stalled += 1
-            if stalled >= 3:
-                step_factor /= 2.0
-                stalled = 0
-        direction = -margin
-        direction[(values <= 0) & (direction < 0)] = 0.0  # projected on lambda >= 0
-        norm = float(direction @ direction)
-        if norm <= 0 or step_factor < 1e-3:
+        values = polyak.step(values, margin, cost - float(values @ margin), upper_bound)
+        if values is None:
             break
-        target = best_lagrangian + TARGET_GAIN * abs(best_lagrangian)
-        if upper_bound is not None:
-            target = min(target, upper_bound)
-        step = step_factor * max(target - lagrangian, 1e-6 * abs(lagrangian)) / norm
-        values = np.maximum(values + step * direction, 0.0)
     designs = sorted(found.values(), key=lambda item: item[0])
     record = SearchRecord(rounds, len(designs), designs[0][0] if designs else None,
                           time.perf_counter() - begun, used)

@@ -59,7 +59,6 @@ def cheapest_sequence(rate: np.ndarray, chainage_length_m: np.ndarray, *,
         previous_ok &= diameter_mm[None, :] >= diameter_mm[:, None] - 1e-9
 
     inf = np.inf
-    rows_of_layers = np.arange(layers)
     value = np.full((n + 1, layers, m), inf)
     start_node = np.full((n + 1, layers, m), -2, dtype=np.int32)  # -1: grown from b-1
     before = np.full((n + 1, layers, m), -1, dtype=np.int32)  # option of the piece before
@@ -83,24 +82,7 @@ def cheapest_sequence(rate: np.ndarray, chainage_length_m: np.ndarray, *,
             came_from = np.full((layers, m), -1, dtype=np.int32)
         else:
             # best piece before, per (layer, new option): previous layer if counted
-            source = value[node]
-            if diameter_mm is None:
-                # any other option may come before: the best, or the second best
-                # where the best is the new option itself
-                top = np.argpartition(source, 1, axis=1)[:, :2] if m > 1 else \
-                    np.zeros((layers, 2), dtype=np.int64)
-                first = np.take_along_axis(source, top, axis=1)
-                swap = first[:, 1] < first[:, 0]
-                top[swap] = top[swap][:, ::-1]
-                pick = np.broadcast_to(top[:, :1], (layers, m)).copy()
-                pick[rows_of_layers, top[:, 0]] = top[:, 1] if m > 1 else -1
-                best = np.take_along_axis(source, np.maximum(pick, 0), axis=1)
-                if m == 1:
-                    best = np.full((layers, m), inf)
-            else:
-                masked = np.where(previous_ok[None, :, :], source[:, None, :], inf)
-                pick = np.argmin(masked, axis=2)  # (L, m)
-                best = np.take_along_axis(masked, pick[:, :, None], axis=2)[:, :, 0]
+            best, pick = _best_before(value[node], previous_ok, diameter_mm is None)
             candidate = np.full((layers, m), inf)
             came_from = np.full((layers, m), -1, dtype=np.int32)
             if counted:
@@ -113,6 +95,38 @@ def cheapest_sequence(rate: np.ndarray, chainage_length_m: np.ndarray, *,
         pending[end] = np.where(better, candidate, pending[end])
         pending_start[end] = np.where(better, node, pending_start[end])
         pending_before[end] = np.where(better, came_from, pending_before[end])
+    return _trace_back(value, start_node, before, counted)
+
+
+def _best_before(source: np.ndarray, previous_ok: np.ndarray, any_order: bool
+                 ) -> tuple[np.ndarray, np.ndarray]:
+    """Per (layer, new option): the cheapest complete piece that may come before it at
+    this node (``source``: (L, m) values) and its option."""
+    layers, m = source.shape
+    inf = np.inf
+    if not any_order:
+        masked = np.where(previous_ok[None, :, :], source[:, None, :], inf)
+        pick = np.argmin(masked, axis=2)  # (L, m)
+        return np.take_along_axis(masked, pick[:, :, None], axis=2)[:, :, 0], pick
+    # any other option may come before: the best, or the second best where the best is
+    # the new option itself
+    top = np.argpartition(source, 1, axis=1)[:, :2] if m > 1 else \
+        np.zeros((layers, 2), dtype=np.int64)
+    first = np.take_along_axis(source, top, axis=1)
+    swap = first[:, 1] < first[:, 0]
+    top[swap] = top[swap][:, ::-1]
+    pick = np.broadcast_to(top[:, :1], (layers, m)).copy()
+    pick[np.arange(layers), top[:, 0]] = top[:, 1] if m > 1 else -1
+    best = np.take_along_axis(source, np.maximum(pick, 0), axis=1)
+    if m == 1:
+        best = np.full((layers, m), inf)
+    return best, pick
+
+
+def _trace_back(value: np.ndarray, start_node: np.ndarray, before: np.ndarray,
+                counted: bool) -> np.ndarray | None:
+    """The option per section of the cheapest complete state at the last node."""
+    n = value.shape[0] - 1
     final = value[n]
     if not np.isfinite(final).any():
         return None

@@ -20,6 +20,7 @@ without a solution) and ``failed`` (the solver broke down).
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import math
 import os
 import re
@@ -33,13 +34,17 @@ from pathlib import Path
 import numpy as np
 
 from optimiser.milp.formulation import Formulation, WarmStart
+from optimiser.model.status import Status
 
 SOLVERS = ("highs", "cbc")
 
 
-@dataclass
+@dataclass(frozen=True)
 class SolveReport:
-    status: str
+    """What a solve gave: status, objective and best bound (with the objective's constant
+    added), wall time, the solver's name and a message."""
+
+    status: Status
     objective: float | None
     bound: float | None
     seconds: float
@@ -48,7 +53,7 @@ class SolveReport:
 
     @property
     def has_solution(self) -> bool:
-        return self.status in ("optimal", "feasible")
+        return self.status.has_design
 
     @property
     def gap(self) -> float | None:
@@ -131,11 +136,11 @@ def solve(form: Formulation, solver_name: str, *, time_limit_s: float, mip_gap: 
         report = _solve_highs(form, time_limit_s, mip_gap, warm_start, msg, started)
     else:
         report = _solve_cbc(form, time_limit_s, mip_gap, warm_start, msg, started)
-    if report.objective is not None:
-        report.objective = float(report.objective) + form.objective_offset
-    if report.bound is not None:
-        report.bound = float(report.bound) + form.objective_offset
-    return report
+    offset = form.objective_offset
+    return dataclasses.replace(
+        report,
+        objective=None if report.objective is None else float(report.objective) + offset,
+        bound=None if report.bound is None else float(report.bound) + offset)
 
 
 def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
@@ -145,7 +150,7 @@ def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
     try:
         highs, is_mip = _highs_model(form)
     except RuntimeError as error:
-        return SolveReport("failed", None, None, time.perf_counter() - started, "highs",
+        return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "highs",
                            str(error))
     highs.setOptionValue("output_flag", bool(msg))
     highs.setOptionValue("time_limit", float(time_limit_s))
@@ -171,20 +176,20 @@ def _solve_highs(form: Formulation, time_limit_s: float, mip_gap: float,
         objective = float(info.objective_function_value) - form.objective_offset
     if status == states.kOptimal:
         bound = (info.mip_dual_bound - form.objective_offset) if is_mip else objective
-        return SolveReport("optimal", objective, bound, seconds, "highs")
+        return SolveReport(Status.OPTIMAL, objective, bound, seconds, "highs")
     if status in (states.kInfeasible, states.kUnboundedOrInfeasible):
-        return SolveReport("infeasible", None, None, seconds, "highs")
+        return SolveReport(Status.INFEASIBLE, None, None, seconds, "highs")
     if has_point and is_mip:
         bound = info.mip_dual_bound - form.objective_offset
-        return SolveReport("feasible", objective, bound if math.isfinite(bound) else None,
+        return SolveReport(Status.FEASIBLE, objective, bound if math.isfinite(bound) else None,
                            seconds, "highs", f"stopped: {status.name}")
     form.values = None
     if status in (states.kTimeLimit, states.kIterationLimit, states.kInterrupt):
         bound = info.mip_dual_bound - form.objective_offset if is_mip else None
-        return SolveReport("no_solution", None,
+        return SolveReport(Status.NO_SOLUTION, None,
                            bound if bound is not None and math.isfinite(bound) else None,
                            seconds, "highs", f"stopped without a solution: {status.name}")
-    return SolveReport("failed", None, None, seconds, "highs", f"HiGHS status {status.name}")
+    return SolveReport(Status.FAILED, None, None, seconds, "highs", f"HiGHS status {status.name}")
 
 
 CBC_HARD_STOP = 1.25
@@ -233,9 +238,8 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
     try:
         highs, is_mip = _highs_model(form, with_offset=False)
     except RuntimeError as error:
-        return SolveReport("failed", None, None, time.perf_counter() - started, "cbc",
+        return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "cbc",
                            str(error))
-    n_columns = form.model.n_columns
     offset = float(form.objective_offset)
     if offset:
         # The objective offset as a column fixed at 1 (MPS readers disagree on the sign
@@ -249,75 +253,103 @@ def _solve_cbc(form: Formulation, time_limit_s: float, mip_gap: float,
         command = [cbc_path(), str(mps), "-sec", f"{time_limit_s:g}",
                    "-ratio", f"{mip_gap:g}", "-timeMode", "elapsed"]
         if warm_start and is_mip:
-            columns, values = form.warm_columns(warm_start)
-            if len(columns):
-                start = Path(folder) / "start.txt"
-                lines = ["Stopped on time - objective value 0\n"]
-                lines += [f"{c:>7} c{c} {v:>15.10g} {0:>23}\n"
-                          for c, v in zip(columns.tolist(), values.tolist(), strict=True)]
-                start.write_text("".join(lines), encoding="utf-8")
-                command += ["-mips", str(start)]
+            command += _cbc_start(form, warm_start, Path(folder) / "start.txt")
         command += ["-solve" if is_mip else "-initialSolve", "-solution", str(solution)]
-        try:
-            # CBC checks its -sec limit only between some of its steps (preprocessing and
-            # root cuts can run far past it): a hard stop keeps the run near its limit.
-            run = subprocess.run(command, capture_output=True, text=True, check=False,
-                                 stdin=subprocess.DEVNULL,
-                                 timeout=CBC_HARD_STOP * time_limit_s + CBC_GRACE_S)
-        except subprocess.TimeoutExpired:
-            return SolveReport("no_solution", None, None, time.perf_counter() - started,
-                               "cbc", "CBC ran past its time limit and was stopped")
-        except OSError as error:
-            return SolveReport("failed", None, None, time.perf_counter() - started, "cbc",
-                               f"CBC could not be started: {error}")
-        log = run.stdout + run.stderr
+        ran = _run_cbc(command, time_limit_s, started)
+        if isinstance(ran, SolveReport):
+            return ran
+        log = ran.stdout + ran.stderr
         if msg:
             print(log)
         seconds = time.perf_counter() - started
-        if run.returncode != 0 or not solution.exists():
-            return SolveReport("failed", None, None, seconds, "cbc",
-                               f"CBC exited with code {run.returncode}")
+        if ran.returncode != 0 or not solution.exists():
+            return SolveReport(Status.FAILED, None, None, seconds, "cbc",
+                               f"CBC exited with code {ran.returncode}")
         text = solution.read_text(encoding="utf-8", errors="replace").splitlines()
-    first = text[0] if text else ""
+    return _cbc_report(form, text, log, is_mip, mip_gap, seconds)
+
+
+def _cbc_start(form: Formulation, warm_start: WarmStart, start: Path) -> list[str]:
+    """Write a warm start as a CBC solution file; the options that read it."""
+    columns, values = form.warm_columns(warm_start)
+    if not len(columns):
+        return []
+    lines = ["Stopped on time - objective value 0\n"]
+    lines += [f"{c:>7} c{c} {v:>15.10g} {0:>23}\n"
+              for c, v in zip(columns.tolist(), values.tolist(), strict=True)]
+    start.write_text("".join(lines), encoding="utf-8")
+    return ["-mips", str(start)]
+
+
+def _run_cbc(command: list[str], time_limit_s: float, started: float
+             ) -> subprocess.CompletedProcess | SolveReport:
+    """Run CBC; a report if it could not be started or ran past its hard stop."""
+    try:
+        # CBC checks its -sec limit only between some of its steps (preprocessing and
+        # root cuts can run far past it): a hard stop keeps the run near its limit.
+        return subprocess.run(command, capture_output=True, text=True, check=False,
+                              stdin=subprocess.DEVNULL,
+                              timeout=CBC_HARD_STOP * time_limit_s + CBC_GRACE_S)
+    except subprocess.TimeoutExpired:
+        return SolveReport(Status.NO_SOLUTION, None, None, time.perf_counter() - started,
+                           "cbc", "CBC ran past its time limit and was stopped")
+    except OSError as error:
+        return SolveReport(Status.FAILED, None, None, time.perf_counter() - started, "cbc",
+                           f"CBC could not be started: {error}")
+
+
+def _cbc_values(text: list[str], n_columns: int) -> np.ndarray:
+    """Column values from the lines of CBC's solution file (after its status line)."""
     values = np.zeros(n_columns)
     for line in text[1:]:
         parts = line.split()
         if len(parts) >= 3 and parts[1].startswith("c") and parts[1][1:].isdigit() \
                 and int(parts[1][1:]) < n_columns:
             values[int(parts[1][1:])] = float(parts[2])
+    return values
+
+
+def _cbc_proven_bound(log: str, objective: float, bound: float | None, mip_gap: float
+                      ) -> float:
+    """The bound of an integer programme CBC stopped by -ratio.
+
+    The gap to the best possible is below that fraction of "the larger of two" (best
+    known, best possible), or "of the objective value at the root node" (CBC 2.10.3's own
+    help for ratioGap gives both); the larger of the objective and the root value covers
+    either reading. The log prints no final bound then.
+    """
+    root = _cbc_root(log)
+    scale = max(abs(objective), abs(root) if root is not None else 0.0)
+    proven = objective - mip_gap * scale
+    return proven if bound is None else max(bound, proven)
+
+
+def _cbc_report(form: Formulation, text: list[str], log: str, is_mip: bool,
+                mip_gap: float, seconds: float) -> SolveReport:
+    """Status, objective and bound from CBC's solution file and log (without the
+    objective's offset: solve() adds it to objective and bound)."""
+    first = text[0] if text else ""
+    values = _cbc_values(text, form.model.n_columns)
     objective_match = re.search(r"objective value\s+(\S+)", first)
-    objective = None
-    if objective_match:
-        objective = float(objective_match.group(1))
+    objective = float(objective_match.group(1)) if objective_match else None
     bound = _cbc_bound(log)
     word = first.split()[0] if first.split() else ""
     if word == "Optimal" and objective is not None:
-        if not is_mip:
-            bound = objective
-        else:
-            # Stopped by -ratio: the gap to the best possible is below that fraction of
-            # "the larger of two" (best known, best possible), or "of the objective
-            # value at the root node" (CBC 2.10.3's own help for ratioGap gives both);
-            # the larger of the objective and the root value covers either reading.
-            # The log prints no final bound then.
-            root = _cbc_root(log)
-            scale = max(abs(objective), abs(root) if root is not None else 0.0)
-            proven = objective - mip_gap * scale
-            bound = proven if bound is None else max(bound, proven)
-    # Report without the offset (solve() adds it to objective and bound).
+        bound = _cbc_proven_bound(log, objective, bound, mip_gap) if is_mip else objective
+    offset = float(form.objective_offset)
     if objective is not None:
         objective -= offset
     if bound is not None:
         bound -= offset
     if word == "Optimal":
         form.values = values
-        return SolveReport("optimal", objective, bound, seconds, "cbc")
+        return SolveReport(Status.OPTIMAL, objective, bound, seconds, "cbc")
     if word == "Infeasible" or first.startswith("Integer infeasible"):
-        return SolveReport("infeasible", None, None, seconds, "cbc")
+        return SolveReport(Status.INFEASIBLE, None, None, seconds, "cbc")
     if word == "Stopped" and objective_match and "no integer" not in first.lower():
         form.values = values
-        return SolveReport("feasible", objective, bound, seconds, "cbc", first.strip())
+        return SolveReport(Status.FEASIBLE, objective, bound, seconds, "cbc", first.strip())
     if word == "Stopped":
-        return SolveReport("no_solution", None, None, seconds, "cbc",
+        return SolveReport(Status.NO_SOLUTION, None, None, seconds, "cbc",
                            "stopped without a solution")
-    return SolveReport("failed", None, None, seconds, "cbc", f"CBC: {first.strip()}")
+    return SolveReport(Status.FAILED, None, None, seconds, "cbc", f"CBC: {first.strip()}")

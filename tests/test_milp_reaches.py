@@ -19,7 +19,7 @@ from test_milp_support import write_study
 from optimiser import load_study
 from optimiser.milp import optimise_design, prepare
 from optimiser.milp.formulation import build
-from optimiser.milp.reduce import ActivePoints, merge, refine, with_active
+from optimiser.milp.reaches import ActivePoints, merge, refine, with_active
 from optimiser.milp.solvers import solve
 
 

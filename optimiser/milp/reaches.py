@@ -1,4 +1,4 @@
-"""A smaller, equivalent model: quiet survey sections merged into reaches.
+"""Sections grouped into reaches: quiet survey sections merged, a smaller equivalent model.
 
 A long route has thousands of survey sections, but pressure can bind at only a few of
 its points. Where a run of consecutive sections has no check point in the model (none
@@ -15,7 +15,8 @@ length).
 Which points are "in the model" is the caller's choice (``active``): all points that
 are not screened out (the full model), or only those a previous solution came close to
 violating (row generation; the model is then a relaxation, its value a valid bound,
-and the check judges every point of the design it yields).
+and the check judges every point of the design it yields); :func:`points_near` picks the
+points a checked design says should join the model next.
 """
 
 from __future__ import annotations
@@ -25,17 +26,26 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from optimiser.analysis import CheckResult
 from optimiser.milp.data import ProblemData
 from optimiser.milp.extract import SLIVER_M
 from optimiser.milp.formulation import Formulation
 from optimiser.model import Design, Piece
+
+MAX_ROW_ROUNDS = 12
+"""Rounds of row generation at most (LP relaxation, reach model with the rules)."""
+NEAR_M = 0.3
+"""Once a round's design violates nothing, row generation adds every check point whose
+pressure came within this of its minimum [m]."""
+VIOLATION_M = 1e-6
+"""A pressure below its minimum by more than this [m] counts as violated."""
 
 
 @dataclass(frozen=True)
 class ActivePoints:
     """Check points kept in a model: upstream and downstream sides of every node (n+1)
     and the inside of every section (n). A point screened out by
-    :func:`optimiser.milp.data._screen` is never in the model."""
+    :func:`optimiser.milp.data.screened` is never in the model."""
 
     up: np.ndarray
     down: np.ndarray
@@ -61,7 +71,7 @@ class ActivePoints:
         return int(self.up.sum() + self.down.sum() + self.interior.sum())
 
 
-@dataclass
+@dataclass(frozen=True)
 class Reaches:
     """The merged model's data and, for each reach, its first and last fine section."""
 
@@ -221,3 +231,49 @@ def refine(fine: ProblemData, reaches: Reaches, fractions: np.ndarray) -> np.nda
                           - np.maximum(begins[None, :], edges[:-1, None]), 0.0, None)
         out[a:b + 1, order] = overlap / lengths[:, None]
     return out
+
+
+def points_near(data: ProblemData, result: CheckResult) -> ActivePoints:
+    """Check points (not screened out) to add to the model after ``result``.
+
+    While the design violates some pressure, only the deepest point of each run of
+    violated points (per scenario) is added: on a long ridge the whole run is usually
+    cleared once its deepest point is, and every point added splits a reach, so adding
+    them all makes the integer programmes far larger than they need be. Once nothing is
+    violated, every point within NEAR_M of its minimum is added. A node adds both its
+    sides, a point inside a section adds the inside of that section and its end nodes.
+    """
+    margins = [(scenario.points["chainage_m"].to_numpy(),
+                (scenario.points["pressure_m"] - scenario.points["min_pressure_m"]).to_numpy())
+               for scenario in result.scenarios]
+    violated = any((margin < -VIOLATION_M).any() for _, margin in margins)
+    wanted = ActivePoints.none(data)
+    for along, margin in margins:
+        close = _deepest_violations(along, margin) if violated else along[margin < NEAR_M]
+        if len(close):
+            _mark(data, wanted, close)
+    return ActivePoints(wanted.up & ~data.screened_up, wanted.down & ~data.screened_down,
+                        wanted.interior & ~data.screened_interior)
+
+
+def _deepest_violations(along: np.ndarray, margin: np.ndarray) -> np.ndarray:
+    """Chainage of the deepest point of each run of violated points."""
+    bad = margin < -VIOLATION_M
+    edges = np.flatnonzero(np.diff(np.concatenate([[0], bad.astype(int), [0]])))
+    deepest = [a + int(np.argmin(margin[a:b]))
+               for a, b in zip(edges[::2], edges[1::2], strict=True)]
+    return along[deepest]
+
+
+def _mark(data: ProblemData, wanted: ActivePoints, close: np.ndarray) -> None:
+    """Mark the points at chainages ``close`` in ``wanted`` (its arrays, in place)."""
+    chainage = data.node_chainage_m
+    index = np.clip(np.searchsorted(chainage, close), 0, data.n_sections)
+    on_node = np.abs(chainage[index] - close) <= 1e-6
+    nodes = index[on_node]
+    wanted.up[nodes] = True
+    wanted.down[nodes] = True
+    inside = np.clip(index[~on_node] - 1, 0, data.n_sections - 1)
+    wanted.interior[inside] = True
+    wanted.down[inside] = True
+    wanted.up[inside + 1] = True

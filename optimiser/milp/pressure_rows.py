@@ -1,0 +1,118 @@
+"""Rows of the model along the energy line: pressure at every check point, outlet head.
+
+Part of :mod:`optimiser.milp.formulation` (whose docstring states what is exact and
+what is conservative). Per scenario the energy runs down the route from the source
+level: point losses (entrance, fittings) with the velocity head of the section's last
+piece, friction and the per-km allowance linear in the fractions, and the exit loss at
+the outlet. The running energy is a list of terms plus a constant; a free column
+``e[k, s]`` replaces it where a row needs it, which keeps rows short.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from optimiser.milp.built_model import MARGIN_M, Formulation
+from optimiser.milp.columns import SectionColumns
+from optimiser.milp.matrix import Affine, Term, var
+
+
+def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
+    """Add the pressure rows of every scenario, and the outlet rows, to ``form``."""
+    data = form.data
+    n = data.n_sections
+    k_node = data.node_point_k
+    need_end = np.zeros(n, dtype=bool)
+    need_end[n - 1] = True
+    for s in range(n - 1):
+        need_end[s] = (not data.screened_up[s + 1] or not data.screened_down[s + 1]
+                       or columns.need_interior[s + 1] or k_node[s + 1] > 0)
+    for k in range(data.n_scenarios):
+        running = Affine([], float(data.source_level_m[k]))
+        for s in range(n):
+            running = _section_rows(form, columns, k, s, running, bool(need_end[s]))
+        _outlet_rows(form, columns, k, running)
+
+
+def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine]) -> Affine:
+    """Velocity head of the piece the indicators ``fractions`` pick, scenario k."""
+    expr = Affine()
+    for j, frac in fractions.items():
+        expr.add_in_place(frac, float(form.data.velocity_head_m[k, s, j]))
+    return expr
+
+
+def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
+                  running: Affine, need_end: bool) -> Affine:
+    """Rows of section s in scenario k; returns the running energy at its end."""
+    data = form.data
+    model = form.model
+    pipe = data.node_pipe_level_m
+    order = columns.orders[s]
+    last_frac = columns.last_frac[s]
+    k_start = data.node_point_k[s] + (data.study.source.entrance_k if s == 0 else 0.0)
+    head_first = _head_of(form, k, s, last_frac) if last_frac else None
+    if k_start > 0:
+        assert head_first is not None
+        running.add_in_place(head_first, -float(k_start))
+    if not data.screened_down[s] or columns.need_interior[s]:
+        start = Affine(list(running.terms), running.constant)
+        if not data.screened_down[s]:
+            assert head_first is not None
+            row = model.at_least(start - head_first, float(
+                pipe[s] + data.node_min_pressure_m[s] + MARGIN_M))
+            form.pressure_rows.append((row, "down", k, s))
+        if columns.need_interior[s]:
+            _boundary_rows(form, columns, k, s, start)
+    running.terms.extend((form.x[s, j], -float(data.section_loss_m[k, s, j])) for j in order)
+    if need_end:
+        column = model.add_column(-np.inf, np.inf)
+        model.equal(var(column) - running, 0.0)
+        running = var(column)
+    if not data.screened_up[s + 1]:
+        row = model.at_least(running - _head_of(form, k, s, last_frac), float(
+            pipe[s + 1] + data.node_min_pressure_m[s + 1] + MARGIN_M))
+        form.pressure_rows.append((row, "up", k, s + 1))
+    return running
+
+
+def _boundary_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
+                   start: Affine) -> None:
+    """Pressure at every piece boundary inside section s (downstream side: the velocity
+    head of the pipe after the boundary, ``h[t] * CL[s, t]``), held to the route's
+    minimum pressure."""
+    data = form.data
+    pipe = data.node_pipe_level_m
+    drop = pipe[s + 1] - pipe[s]
+    cumulative: list[Term] = []
+    cl = columns.cl_cols[s]
+    for t, j in enumerate(columns.orders[s]):
+        row = form.model.at_least(
+            start + Affine([*cumulative, (cl[t], -float(data.velocity_head_m[k, s, j]))]),
+            float(pipe[s] + data.study.min_pressure_m + MARGIN_M))
+        form.pressure_rows.append((row, "inside", k, s))
+        cumulative.append((form.x[s, j], -float(data.section_loss_m[k, s, j] + drop)))
+
+
+def _outlet_rows(form: Formulation, columns: SectionColumns, k: int,
+                 running: Affine) -> None:
+    """Outlet head after the exit loss and, with a fitting at the last node, the
+    pressure just downstream of it."""
+    data = form.data
+    study = data.study
+    n = data.n_sections
+    k_last = data.node_point_k[n]
+    last = n - 1
+    head_last = _head_of(form, k, last, columns.last_frac[last]) \
+        if columns.last_frac[last] else None
+    outlet = Affine(list(running.terms), running.constant)
+    if study.outlet.exit_k + k_last > 0:
+        assert head_last is not None
+        outlet.add_in_place(head_last, -float(study.outlet.exit_k + k_last))
+    row = form.model.at_least(outlet, float(study.outlet.required_head_m + MARGIN_M))
+    form.pressure_rows.append((row, "outlet", k, n))
+    if not data.screened_down[n] and k_last > 0:
+        assert head_last is not None
+        row = form.model.at_least(running - head_last.scaled(float(k_last + 1.0)), float(
+            data.node_pipe_level_m[n] + data.node_min_pressure_m[n] + MARGIN_M))
+        form.pressure_rows.append((row, "down", k, n))

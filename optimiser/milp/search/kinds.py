@@ -1,0 +1,65 @@
+"""What each step of the search is (:class:`StageKind`) and the text it shows.
+
+Stages are told apart by their kind; the text (``label``) is only shown to the user and
+written to the JSON, with a suffix for the round or the size radius.
+"""
+
+from __future__ import annotations
+
+from enum import Enum
+
+
+class StageKind(Enum):
+    """The kinds of step of the search, in the order a run meets them."""
+
+    DOMINANCE = "dominance"
+    """Presolve: options dominated wherever they are admissible set aside."""
+    LP_RELAXATION = "lp_relaxation"
+    """A round of the LP relaxation (rules relaxed) with row generation."""
+    LP_NEARBY = "lp_nearby"
+    """MILP restricted to the options the LP used near each section."""
+    REPAIRED_NEARBY = "repaired_nearby"
+    """MILP restricted to the options of the rules-repaired LP design nearby."""
+    COVERING_NEARBY = "covering_nearby"
+    """MILP restricted to the sizes near the covering design."""
+    REACH_RELAXED = "reach_relaxed"
+    """LP relaxation of the reach model with the rules (a bound, and options to try)."""
+    REACH_NEARBY = "reach_nearby"
+    """Small reach model: options its LP or the best design uses, and their neighbours."""
+    REACH_MODEL = "reach_model"
+    """A round of the reach model with the rules (a relaxation: bound and design)."""
+    POLISH = "polish"
+    """MILP restricted to the options of a reach model's design nearby."""
+    PRICED = "priced"
+    """Dynamic programme with the rules at pressure prices (designs, no bound)."""
+    PRICED_NEARBY = "priced_nearby"
+    """MILP restricted to the options of the priced designs nearby."""
+    NEIGHBOURHOOD = "neighbourhood"
+    """Large-neighbourhood search: MILP around the best design."""
+    LP_ANYWHERE = "lp_anywhere"
+    """MILP restricted to the options the LP used anywhere and their neighbours."""
+    FULL_MODEL = "full_model"
+    """The full model (with the rules if any): bound and design."""
+
+    @property
+    def label(self) -> str:
+        """The text shown for a step of this kind (before any round or radius)."""
+        return _LABELS[self]
+
+
+_LABELS = {
+    StageKind.DOMINANCE: "options dominated wherever they are admissible",
+    StageKind.LP_RELAXATION: "LP relaxation (rules relaxed)",
+    StageKind.LP_NEARBY: "MILP, options the LP used nearby",
+    StageKind.REPAIRED_NEARBY: "MILP, options of the rules-repaired design nearby",
+    StageKind.COVERING_NEARBY: "MILP, sizes near the covering design",
+    StageKind.REACH_RELAXED: "LP, reach model with the rules (binaries relaxed)",
+    StageKind.REACH_NEARBY: "MILP, reach model, options its LP or the best design uses",
+    StageKind.REACH_MODEL: "MILP, reach model with the rules",
+    StageKind.POLISH: "MILP, options of the reach model's design nearby",
+    StageKind.PRICED: "dynamic programme with the rules at pressure prices",
+    StageKind.PRICED_NEARBY: "MILP, options of the priced designs nearby",
+    StageKind.NEIGHBOURHOOD: "MILP, neighbourhood of the best design",
+    StageKind.LP_ANYWHERE: "MILP, options the LP used anywhere and their neighbours",
+    StageKind.FULL_MODEL: "MILP, full model",
+}
