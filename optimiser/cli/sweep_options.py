@@ -89,7 +89,7 @@ def parse_ageing(items: list[str]) -> tuple[dict[str, float], list[str]]:
 def solver_problems(solver: str | None, time_limit_s: float | None, mip_gap: float | None,
                     workers: int, dask_address: str | None) -> list[str]:
     """Problems with the solver, time limit, gap, workers and Dask options."""
-    from optimiser.milp.solvers import SOLVERS
+    from optimiser.milp import SOLVERS
 
     problems = []
     if solver is not None and solver.lower() not in SOLVERS:
