@@ -10,6 +10,7 @@ import pandas as pd
 from optimiser.analysis.appurtenances import schedule
 from optimiser.analysis.check import CheckResult
 from optimiser.io.writers import atomic_write_text, write_csv
+from optimiser.reports.geojson import write_geometry_files
 from optimiser.reports.html import render_report
 
 APPURTENANCE_COLUMNS = ["kind", "chainage_m", "pipe_level_m", "ground_m", "reason", "label"]
@@ -36,4 +37,4 @@ def write_report_files(out_dir: Path, result: CheckResult,
     atomic_write_text(report, render_report(result, items, info))
     frame = pd.DataFrame([a.as_dict() for a in items], columns=APPURTENANCE_COLUMNS)
     write_csv(table, frame.round({"chainage_m": 2, "pipe_level_m": 3, "ground_m": 3}))
-    return [report, table]
+    return [report, table, *write_geometry_files(out_dir, result, items)]  # with coordinates
