@@ -41,7 +41,7 @@ def _outside(path: Path, mask: np.ndarray, chainage_m: np.ndarray, why: str) -> 
 def _pixel_coordinates(raster_transform: Affine, x: np.ndarray,
                        y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Fractional column and row of points, measured from the first pixel's centre."""
-    col, row = ~raster_transform * (x, y)
+    col, row = ~raster_transform @ (x, y)
     return np.asarray(col) - 0.5, np.asarray(row) - 0.5
 
 
