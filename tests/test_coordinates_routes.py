@@ -107,9 +107,12 @@ def test_xy_csv_chainage_labels_zones_and_inserted_nodes(make_study):
     assert route.coordinates.crs is None  # a local grid without [route] crs
 
 
-def test_ground_from_a_plane_raster_bilinear_is_exact(make_study, tmp_path):
+@pytest.mark.parametrize("tile", [512, 16])
+def test_ground_from_a_plane_raster_bilinear_is_exact(make_study, monkeypatch, tile):
     """Bilinear interpolation reproduces a plane exactly (common practice, no source);
-    sampled every sample_spacing_m and at every vertex (contract section 11)."""
+    sampled every sample_spacing_m and at every vertex (contract section 11); the same
+    read in one window or in many small tiles."""
+    monkeypatch.setattr("optimiser.io.geometry.raster.TILE", tile)
     east, north, _ = invented_line(21)
     def plane(x, y):
         return 150.0 + 0.01 * (x - 412_000.0) - 0.004 * (y - 5_512_000.0)
@@ -224,3 +227,15 @@ def test_coordinate_keys_with_a_chainage_profile_are_an_error(make_study):
     with pytest.raises(InputError) as error:
         load_study(files.study)
     assert str(files.study) in str(error.value) and "[route] crs" in str(error.value)
+
+
+def test_a_track_that_doubles_back_keeps_chainage_increasing(make_study):
+    """Points a few mm apart that walk out and back are dropped until every kept point is
+    at least min_point_spacing_m from the one before it (common practice, no source)."""
+    text = ("x_m,y_m,ground_m,label\n0,0,199,start\n0.006,0,199,\n0.0002,0,199,here\n"
+            "1000,0,170,\n3000,0,145,\n")
+    _, study = _study(make_study, "p.csv", text)
+    coordinates = study.route.coordinates
+    assert list(coordinates.chainage_m) == [0.0, 1000.0, 3000.0]
+    assert study.route.labels[0] == "start / here"
+    assert any("2 point(s) dropped" in n for n in coordinates.notes)

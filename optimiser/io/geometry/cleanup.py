@@ -18,6 +18,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import numpy as np
 
 from optimiser.io.geometry.readers import SurveyLine
@@ -31,27 +33,42 @@ def _where(chainage_m: np.ndarray, refs: list[str], indices: np.ndarray) -> str:
     return ", ".join(items) + more
 
 
-def drop_close_points(line: SurveyLine, steps_m: np.ndarray,
-                      min_spacing_m: float) -> tuple[np.ndarray, list[str]]:
-    """Indices of the points kept, and a note on those dropped.
-
-    ``steps_m`` are the distances between consecutive points of the file; a point is
-    dropped when its distance to the previous kept point is below ``min_spacing_m``
-    (at least 1 mm, so that chainage strictly increases). The last point of the file is
-    kept in place of a close predecessor, so the route ends where the file ends.
-    """
-    threshold = max(min_spacing_m, 1e-3)
+def _one_pass(steps_m: np.ndarray, threshold: float) -> list[int]:
+    """Positions kept by one pass over consecutive distances ``steps_m``."""
     kept = [0]
     since_kept = 0.0
-    for index in range(1, len(line)):
+    last = len(steps_m)
+    for index in range(1, last + 1):
         since_kept += steps_m[index - 1]
         if since_kept >= threshold:
             kept.append(index)
             since_kept = 0.0
-        elif index == len(line) - 1 and len(kept) > 1:
+        elif index == last and len(kept) > 1:
             kept[-1] = index  # keep the end of the route
-    dropped = sorted(set(range(len(line))) - set(kept))
-    _pass_on(line, np.concatenate([[0.0], np.cumsum(steps_m)]), np.array(kept), dropped)
+    return kept
+
+
+def drop_close_points(line: SurveyLine, measure: Callable[[np.ndarray], np.ndarray],
+                      min_spacing_m: float) -> tuple[np.ndarray, list[str]]:
+    """Indices of the points kept, and a note on those dropped.
+
+    ``measure(indices)`` gives the distances between consecutive points of ``indices``.
+    A point is dropped while the distance walked since the previous kept point is below
+    ``min_spacing_m`` (at least 1 mm, so chainage strictly increases); passes repeat until
+    every kept point is that far from the one before it in a straight line too (a track
+    that doubles back). The last point of the file is kept in place of a close
+    predecessor, so the route ends where the file ends.
+    """
+    threshold = max(min_spacing_m, 1e-3)
+    kept = np.arange(len(line))
+    while len(kept) > 1:
+        steps = measure(kept)
+        if steps.min() >= threshold:
+            break
+        kept = kept[_one_pass(steps, threshold)]
+    dropped = sorted(set(range(len(line))) - {int(k) for k in kept})
+    along = np.concatenate([[0.0], np.cumsum(measure(np.arange(len(line))))])
+    _pass_on(line, along, kept, dropped)
     notes = []
     if dropped:
         refs = ", ".join(line.refs[i] for i in dropped[:10])
@@ -68,12 +85,15 @@ def _pass_on(line: SurveyLine, along_m: np.ndarray, kept: np.ndarray,
     """Labels of dropped points pass to the nearest kept point; a zone (which applies to
     the section starting at its row) passes to the kept point before it."""
     for index in dropped:
-        nearest = int(kept[np.argmin(np.abs(along_m[kept] - along_m[index]))])
+        position = int(np.searchsorted(kept, index))  # kept[position - 1] < index
+        before = int(kept[position - 1])
+        after = int(kept[min(position, len(kept) - 1)])
+        nearest = after if (along_m[after] - along_m[index]
+                            < along_m[index] - along_m[before]) else before
         label = line.labels[index]
         if label and label not in line.labels[nearest]:
             line.labels[nearest] = " / ".join(x for x in (line.labels[nearest], label) if x)
-        before = int(kept[kept < index].max()) if (kept < index).any() else None
-        if line.zones[index] and before is not None:
+        if line.zones[index]:
             line.zones[before] = line.zones[index]
 
 

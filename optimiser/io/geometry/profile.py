@@ -82,8 +82,8 @@ def _measure(line: SurveyLine, crs: pyproj.CRS | None,
     """Drop close points, then chainage and plan coordinates (and their CRS) of the
     points kept."""
     check_positions(line, crs)
-    kept, notes = cleanup.drop_close_points(line, step_lengths_m(line.a, line.b, crs),
-                                            spec.min_point_spacing_m)
+    kept, notes = cleanup.drop_close_points(
+        line, lambda i: step_lengths_m(line.a[i], line.b[i], crs), spec.min_point_spacing_m)
     if len(kept) < 2:
         raise InputError(f"{line.path}: the route needs at least two distinct points "
                          f"(it has {len(kept)} after dropping duplicates)")

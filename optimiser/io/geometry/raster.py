@@ -21,6 +21,8 @@ from rasterio.transform import Affine
 from optimiser.io.errors import InputError
 from optimiser.io.geometry.plan import transform
 
+TILE = 512
+
 
 def _open(path: Path):
     if not path.is_file():
@@ -60,23 +62,32 @@ def sample_ground(path: Path, x_m: np.ndarray, y_m: np.ndarray, crs: str,
             raise _outside(path, outside, chainage_m, "lie outside the raster")
         col = np.clip(col, 0.0, width - 1.0)
         row = np.clip(row, 0.0, height - 1.0)
-        c0 = int(np.floor(col.min()))
-        r0 = int(np.floor(row.min()))
-        c1 = min(int(np.floor(col.max())) + 2, width)
-        r1 = min(int(np.floor(row.max())) + 2, height)
-        window = rasterio.windows.Window(c0, r0, c1 - c0, r1 - r0)
-        band = dataset.read(1, window=window, masked=True).astype(float)
-    values = np.where(np.ma.getmaskarray(band), np.nan, np.ma.getdata(band))
-    col -= c0
-    row -= r0
-    if method == "nearest":
-        ground = values[np.floor(row + 0.5).astype(int), np.floor(col + 0.5).astype(int)]
-    else:
-        ground = _bilinear(values, col, row)
+        ground = np.full(len(col), np.nan)
+        # Read the raster in tiles around the points only: a fine elevation model of a
+        # long route's whole bounding box would not fit in memory.
+        tile = np.floor(row).astype(int) // TILE * (width // TILE + 1) \
+            + np.floor(col).astype(int) // TILE
+        for key in np.unique(tile):
+            chosen = tile == key
+            r0 = int(np.floor(row[chosen].min()))
+            c0 = int(np.floor(col[chosen].min()))
+            r1 = min(int(np.floor(row[chosen].max())) + 2, height)
+            c1 = min(int(np.floor(col[chosen].max())) + 2, width)
+            band = dataset.read(1, window=rasterio.windows.Window(c0, r0, c1 - c0, r1 - r0),
+                                masked=True).astype(float)
+            values = np.where(np.ma.getmaskarray(band), np.nan, np.ma.getdata(band))
+            ground[chosen] = _interpolate(values, col[chosen] - c0, row[chosen] - r0, method)
     missing = ~np.isfinite(ground)
     if missing.any():
         raise _outside(path, missing, chainage_m, "fall on no-data pixels")
     return ground
+
+
+def _interpolate(values: np.ndarray, col: np.ndarray, row: np.ndarray,
+                 method: str) -> np.ndarray:
+    if method == "nearest":
+        return values[np.floor(row + 0.5).astype(int), np.floor(col + 0.5).astype(int)]
+    return _bilinear(values, col, row)
 
 
 def _bilinear(values: np.ndarray, col: np.ndarray, row: np.ndarray) -> np.ndarray:
