@@ -6,6 +6,7 @@ exit 2 naming the file (contract sections 6 and 11). Routes are invented
 from __future__ import annotations
 
 import csv
+import itertools
 import json
 
 import numpy as np
@@ -36,6 +37,7 @@ def gps_design(make_study, tmp_path):
     out = tmp_path / "out"
     result = run("design", files.study, "--out", out)
     assert result.exit_code == 0, result.output
+    (out / "study-path.txt").write_text(str(files.study))
     return out
 
 
@@ -196,3 +198,37 @@ def test_a_missing_raster_exits_2(make_study):
                        profile=geojson_text(east, north, None))
     result = run("design", files.study)
     assert result.exit_code == 2 and "ground raster not found" in result.output
+
+
+def test_plan_view_colours_by_size_and_ticks_every_km_like_the_long_section(gps_design):
+    """Plan and long section linked by chainage (the issue's requirement): km marks every
+    1,000 m, labels at the long section's axis ticks; one trace per option, a darker
+    colour for a larger DN (common practice, no source)."""
+    from plotly.colors import hex_to_rgb, unlabel_rgb
+
+    from optimiser.analysis import check_design
+    from optimiser.analysis.appurtenances import schedule
+    from optimiser.io import load_design, load_study
+    from optimiser.reports.charts import chainage_ticks
+    from optimiser.reports.plan_view import plan_figure
+
+    study = load_study((gps_design / "study-path.txt").read_text())
+    result = check_design(study, load_design(gps_design / "design.csv", study))
+    figure = plan_figure(result, schedule(result))
+    names = [t.name for t in figure.data]
+    options = {f"DN{r.dn_mm:g} {r.material} {r.pressure_class}"
+               for r in result.pieces.itertuples()}
+    assert options <= set(names)
+    marks = next(t for t in figure.data if t.name == "chainage every 1 km")
+    assert len(marks.x) == int(study.route.total_chainage_m // 1000) + 1
+    labels = next(t for t in figure.data if t.mode == "text")
+    assert list(labels.text) == chainage_ticks(study.route.total_chainage_m)[1]
+
+    def darkness(colour: str) -> float:
+        rgb = unlabel_rgb(colour) if colour.startswith("rgb") else hex_to_rgb(colour)
+        return -sum(rgb)
+
+    by_dn = {float(t.name.split()[0][2:]): darkness(t.line.color) for t in figure.data
+             if t.name in options}
+    sizes = sorted(by_dn)
+    assert all(by_dn[a] < by_dn[b] for a, b in itertools.pairwise(sizes))

@@ -148,7 +148,7 @@ def write_geometry_files(out_dir: Path, result: CheckResult,
     if coordinates.crs is not None:
         path = Path(out_dir) / "design.geojson"
         collection = design_feature_collection(result, appurtenances)
-        atomic_write_text(path, json.dumps(json_safe(collection), indent=1) + "\n")
+        atomic_write_text(path, json.dumps(json_safe(collection)) + "\n")
         written.append(path)
     points = Path(out_dir) / "profile_points.csv"
     write_csv(points, profile_points(result))
