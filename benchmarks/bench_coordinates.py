@@ -130,7 +130,7 @@ def report(results: dict[str, list[dict]], points: int) -> str:
         "on), read from GPX, ground smoothed over 50 m: "
         f"{first['nodes']:,} route nodes; design.geojson {first['geojson_mb']:.1f} MB.",
         "",
-        "| relative gap | status | cost | gap reached | pieces | "
+        "| relative gap | status | cost (run 1) | gap reached (run 1) | pieces | "
         + " | ".join(name for _, name in STEPS) + " |",
         "|:---|:---|---:|---:|---:|" + "---:|" * len(STEPS),
     ]
