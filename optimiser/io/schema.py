@@ -45,6 +45,15 @@ class RouteTable(_Table):
     local_k_per_km: float = Field(0.0, ge=0.0)
     length: Literal["slope", "chainage"] = "slope"
     fitting: list[FittingTable] = Field(default_factory=list)
+    # Routes from coordinates (contract section 11; optimiser/io/geometry).
+    crs: str | None = None
+    ground_raster: str | None = None
+    sample_spacing_m: float = Field(25.0, gt=0.0)
+    raster_interpolation: Literal["bilinear", "nearest"] = "bilinear"
+    smoothing_window_m: float = Field(0.0, ge=0.0)
+    min_point_spacing_m: float = Field(0.01, ge=0.0)
+    warn_point_spacing_m: float = Field(100.0, gt=0.0)
+    warn_grade_percent: float = Field(50.0, gt=0.0)
 
 
 class OfftakeTable(_Table):

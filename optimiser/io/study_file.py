@@ -14,6 +14,7 @@ from pydantic import ValidationError
 
 from optimiser.hydraulics.water import kinematic_viscosity_m2_s
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.geometry import load_coordinate_profile
 from optimiser.io.limits import out_of_range
 from optimiser.io.schema import StudyFile, describe_location
 from optimiser.io.surge_inputs import (
@@ -144,7 +145,7 @@ def _insert_nodes(route: Route, chainages: list[float]) -> Route:
         labels.insert(index, "")
         zones.insert(index, zones[index - 1])  # the split section keeps its zone
     return Route(np.array(chainage), np.array(ground), route.cover_m, labels, zones,
-                 route.slope_length)
+                 route.slope_length, coordinates=route.coordinates)
 
 
 def load_catalogue(path: Path, friction: Friction) -> Catalogue:
@@ -254,7 +255,11 @@ def load_study(path: str | Path) -> Study:
     catalogue_path = (base / spec.catalogue.file).resolve()
     route = catalogue = None
     try:
-        route = load_profile(profile_path, spec.route.cover_m, spec.route.length == "slope")
+        route = load_coordinate_profile(profile_path, spec.route, path, spec.route.cover_m,
+                                        spec.route.length == "slope")  # None: chainage CSV
+        if route is None:
+            route = load_profile(profile_path, spec.route.cover_m,
+                                 spec.route.length == "slope")
     except InputError as error:
         problems.items.extend(error.problems)
     try:

@@ -32,6 +32,32 @@ class Fitting:
     label: str = ""
 
 
+@dataclass(frozen=True)
+class RouteCoordinates:
+    """Where the route lies in plan: a polyline keyed by chainage (contract section 11).
+
+    ``x_m``, ``y_m`` are easting and northing [m] in the projected ``crs`` (an
+    ``"EPSG:...."`` string, or ``None`` for a local grid of an ``x_m, y_m`` profile given
+    without one). Any chainage of the route has a plan position, linear between the
+    polyline's points, so nodes inserted later (offtakes, fittings) have one too.
+    ``notes`` says what was done to the survey on loading (clean-up, sampling, warnings).
+    """
+
+    crs: str | None
+    chainage_m: np.ndarray
+    x_m: np.ndarray
+    y_m: np.ndarray
+    notes: tuple[str, ...] = ()
+    point_refs: tuple[str, ...] = ()
+    """Per polyline point, where it came from in the file (``line 7``, ``point 12``,
+    ``sample``)."""
+
+    def xy_at(self, chainage_m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Easting and northing [m] at any chainages, linear between polyline points."""
+        return (np.interp(chainage_m, self.chainage_m, self.x_m),
+                np.interp(chainage_m, self.chainage_m, self.y_m))
+
+
 @dataclass
 class Route:
     """Nodes (profile points) and sections of a route.
@@ -47,6 +73,7 @@ class Route:
     labels: list[str]
     zones: list[str]
     slope_length: bool = True
+    coordinates: RouteCoordinates | None = None
     start_node: np.ndarray = field(init=False)
     end_node: np.ndarray = field(init=False)
     parent: np.ndarray = field(init=False)

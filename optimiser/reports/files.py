@@ -13,14 +13,16 @@ from optimiser.analysis.check import CheckResult
 from optimiser.io.writers import atomic_write_text, write_csv, write_json
 from optimiser.model import Study
 from optimiser.reports.design_report import design_dict, design_table
+from optimiser.reports.geojson import write_geometry_files
 from optimiser.reports.html import render_report
 from optimiser.reports.run_summary import RunSummary
 
 if TYPE_CHECKING:
     from optimiser.milp import DesignOutcome
 
-REPORT_FILES = frozenset({"report.html", "appurtenances.csv"})
-"""The files :func:`write_report_files` writes."""
+REPORT_FILES = frozenset({"report.html", "appurtenances.csv", "design.geojson",
+                          "profile_points.csv"})
+"""The files :func:`write_report_files` writes (the last two for routes with coordinates)."""
 DESIGN_FILES = frozenset({"design.csv", "result.json", *REPORT_FILES})
 """The files :func:`write_design_files` writes (result.json only when there is no design)."""
 
@@ -36,7 +38,7 @@ def write_report_files(out_dir: Path, result: CheckResult,
     atomic_write_text(report, render_report(result, items, summary))
     frame = pd.DataFrame([a.as_dict() for a in items], columns=APPURTENANCE_COLUMNS)
     write_csv(table, frame.round({"chainage_m": 2, "pipe_level_m": 3, "ground_m": 3}))
-    return [report, table]
+    return [report, table, *write_geometry_files(out_dir, result, items)]  # with coordinates
 
 
 def write_design_files(folder: Path, outcome: DesignOutcome, study: Study,

@@ -13,6 +13,7 @@ from optimiser.analysis.appurtenances import Appurtenance
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.charts import cost_figure, pressure_velocity_figure, profile_figure
+from optimiser.reports.plan_view import plan_section
 from optimiser.reports.results import assumptions
 from optimiser.reports.run_summary import RunSummary
 from optimiser.reports.terminal import chainage_label
@@ -70,6 +71,7 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
                              div_id=f"plot-{index}", config={"displaylogo": False})
         plots.append(f"<h2>{html.escape(heading)}</h2><div class='plot'>{div}</div>")
         if index == 0:
+            plots.append(plan_section(result, appurtenances))  # "" without coordinates
             plots.append(_schedule_section(result, study.currency))
     basis = pd.DataFrame([{"assumption": k, "value": "" if v is None else str(v)}
                           for k, v in assumptions(study).items()])
