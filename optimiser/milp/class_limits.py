@@ -86,30 +86,9 @@ def crossing_chainages_m(route: Route, levels_m: np.ndarray) -> np.ndarray:
     return found
 
 
-def route_with_points(route: Route, chainage_m: np.ndarray) -> Route:
-    """``route`` with nodes added at ``chainage_m`` (strictly inside sections; ground
-    linear between survey points; each part of a split section keeps its zone)."""
-    if len(chainage_m) == 0:
-        return route
-    chainage = list(route.chainage_m)
-    ground = list(route.ground_m)
-    labels = list(route.labels)
-    zones = list(route.zones)  # one per section
-    for c in sorted(float(c) for c in chainage_m):
-        index = int(np.searchsorted(chainage, c))
-        ground.insert(index, float(np.interp(c, chainage, ground)))
-        chainage.insert(index, c)
-        labels.insert(index, "")
-        zones.insert(index, zones[index - 1])
-    fields = {f.name: getattr(route, f.name) for f in dataclasses.fields(route) if f.init}
-    fields |= {"chainage_m": np.array(chainage), "ground_m": np.array(ground),
-               "labels": labels, "zones": zones}
-    return Route(**fields)
-
-
 def split_at_class_limits(study: Study) -> Study:
     """``study`` with its route split wherever an option's class limit is crossed."""
     found = crossing_chainages_m(study.route, limit_levels_m(study))
     if len(found) == 0:
         return study
-    return dataclasses.replace(study, route=route_with_points(study.route, found))
+    return dataclasses.replace(study, route=study.route.with_nodes(found, tolerance_m=0.0))

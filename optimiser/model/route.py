@@ -8,6 +8,7 @@ branched systems can be added without reworking the model.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -121,3 +122,25 @@ class Route:
 
     def ground_at(self, chainage_m: np.ndarray) -> np.ndarray:
         return np.interp(chainage_m, self.chainage_m, self.ground_m)
+
+    def with_nodes(self, chainage_m: list[float] | np.ndarray,
+                   tolerance_m: float = 1e-6) -> Route:
+        """This route with a node at each chainage not already one (within
+        ``tolerance_m``): ground linear between survey points, no label, and each part of
+        a split section keeps its zone. Every other field is carried over."""
+        new = sorted({float(c) for c in chainage_m
+                      if not np.any(np.abs(self.chainage_m - c) <= tolerance_m)})
+        if not new:
+            return self
+        chainage = list(self.chainage_m)
+        ground = list(self.ground_m)
+        labels = list(self.labels)
+        zones = list(self.zones)  # one per section
+        for c in new:
+            index = int(np.searchsorted(chainage, c))
+            ground.insert(index, float(np.interp(c, chainage, ground)))
+            chainage.insert(index, c)
+            labels.insert(index, "")
+            zones.insert(index, zones[index - 1])
+        return dataclasses.replace(self, chainage_m=np.array(chainage),
+                                   ground_m=np.array(ground), labels=labels, zones=zones)
