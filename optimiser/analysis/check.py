@@ -3,7 +3,10 @@
 This is the independent check that every design goes through, whoever made it. It
 follows contract section 5 literally on the analysis grid (survey points plus piece
 boundaries), evaluating both sides of every node where the velocity or a point loss
-makes them differ.
+makes them differ. Each rule comes from its one home, shared with the optimiser's data:
+flows and fittings from :mod:`optimiser.analysis.flows`, the energy line from
+:mod:`optimiser.hydraulics.gradeline`, the limits from :mod:`optimiser.analysis.limits`.
+It reads only the study and the design, never the optimiser's structures.
 """
 
 from __future__ import annotations
@@ -35,7 +38,7 @@ from optimiser.hydraulics.gradeline import (
     static_head_m,
 )
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
-from optimiser.model import Design, Scenario, Study
+from optimiser.model import Design, DesignRules, Scenario, Study
 
 _SAME = 1e-12
 
@@ -247,6 +250,27 @@ def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics) ->
     return pd.DataFrame(rows)
 
 
+def _velocity_violations(scenario_name: str, segments: pd.DataFrame, n_pieces: int,
+                         rules: DesignRules) -> list[Violation]:
+    """The fastest and slowest segment of each piece against the velocity window."""
+    violations = []
+    for index in range(n_pieces):
+        part = segments[segments["piece"] == index]
+        fastest = part["velocity_m_s"].idxmax()
+        slowest = part["velocity_m_s"].idxmin()
+        if above_velocity_max(part.at[fastest, "velocity_m_s"], rules, CHECK_TOLERANCE):
+            violations.append(Violation(
+                "velocity_max", scenario_name, float(part.at[fastest, "from_m"]),
+                float(part.at[fastest, "velocity_m_s"]), rules.velocity_max_m_s,
+                f"piece {index + 1}: velocity above the maximum"))
+        if below_velocity_min(part.at[slowest, "velocity_m_s"], rules, CHECK_TOLERANCE):
+            violations.append(Violation(
+                "velocity_min", scenario_name, float(part.at[slowest, "from_m"]),
+                float(part.at[slowest, "velocity_m_s"]), rules.velocity_min_m_s,
+                f"piece {index + 1}: velocity below the minimum (settling, water age)"))
+    return violations
+
+
 def check_design(study: Study, design: Design, *, capacity: bool = True) -> CheckResult:
     """Analyse ``design`` in every scenario of ``study`` (contract section 5).
 
@@ -268,7 +292,6 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
                 f"{surge:g} m exceeds the class's {row.allowable_head_m:g} m"))
 
     results: list[ScenarioResult] = []
-    rules = study.rules
     for scenario in study.scenarios:
         arrays = hydraulics.evaluate(scenario)
         points = hydraulics.points(arrays)
@@ -281,21 +304,8 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
                 f"pressure head {row.pressure_m:.2f} m below the minimum "
                 f"{row.min_pressure_m:g} m"))
         if scenario.velocity_limits:
-            for index in range(len(design.pieces)):
-                part = segments[segments["piece"] == index]
-                fastest = part["velocity_m_s"].idxmax()
-                slowest = part["velocity_m_s"].idxmin()
-                if above_velocity_max(part.at[fastest, "velocity_m_s"], rules, CHECK_TOLERANCE):
-                    violations.append(Violation(
-                        "velocity_max", scenario.name, float(part.at[fastest, "from_m"]),
-                        float(part.at[fastest, "velocity_m_s"]), rules.velocity_max_m_s,
-                        f"piece {index + 1}: velocity above the maximum"))
-                if below_velocity_min(part.at[slowest, "velocity_m_s"], rules, CHECK_TOLERANCE):
-                    violations.append(Violation(
-                        "velocity_min", scenario.name, float(part.at[slowest, "from_m"]),
-                        float(part.at[slowest, "velocity_m_s"]), rules.velocity_min_m_s,
-                        f"piece {index + 1}: velocity below the minimum (settling, "
-                        "water age)"))
+            violations.extend(_velocity_violations(scenario.name, segments,
+                                                   len(design.pieces), study.rules))
         if arrays.outlet_energy_m < study.outlet.required_head_m - CHECK_TOLERANCE:
             violations.append(Violation(
                 "outlet_head", scenario.name, study.route.total_chainage_m,
