@@ -43,8 +43,8 @@ def offtakes_downstream(study: Study, start_chainage_m: np.ndarray) -> np.ndarra
     return chainage[None, :] > start[:, None] + _OFFTAKE_TOLERANCE_M
 
 
-def carried_flow_m3_s(outlet_flow_m3_s, offtake_factor: float, carried: np.ndarray,
-                      offtake_flow_m3_s: np.ndarray) -> np.ndarray:
+def carried_flow_m3_s(outlet_flow_m3_s: float | np.ndarray, offtake_factor: float,
+                      carried: np.ndarray, offtake_flow_m3_s: np.ndarray) -> np.ndarray:
     """Flow [m^3/s] of pipes carrying the marked offtakes: outlet flow plus the scenario's
     share of each carried offtake, added offtake by offtake.
 
