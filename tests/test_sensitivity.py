@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 import optimiser
-from optimiser.analysis.reduced import reduce_design
+from optimiser.analysis.linear_check import linear_check
 from optimiser.analysis.sensitivity import (
     RoughnessDistribution,
     monte_carlo,
@@ -94,6 +94,6 @@ def test_same_seed_same_numbers(study_and_design):
 
 def test_reduced_form_outlet_row_is_total_pipe_length(study_and_design):
     study, design = study_and_design
-    reduced = reduce_design(study, design)
+    reduced = linear_check(study, design)
     result = optimiser.check_design(study, design, capacity=False)
     assert reduced.outlet_length.sum() == pytest.approx(result.pieces["length_m"].sum())

@@ -3,7 +3,10 @@
 This is the independent check that every design goes through, whoever made it. It
 follows contract section 5 literally on the analysis grid (survey points plus piece
 boundaries), evaluating both sides of every node where the velocity or a point loss
-makes them differ.
+makes them differ. Each rule comes from its one home, shared with the optimiser's data:
+flows and fittings from :mod:`optimiser.analysis.flows`, the energy line from
+:mod:`optimiser.hydraulics.gradeline`, the limits from :mod:`optimiser.analysis.limits`.
+It reads only the study and the design, never the optimiser's structures.
 """
 
 from __future__ import annotations
@@ -14,12 +17,29 @@ import numpy as np
 import pandas as pd
 from scipy.optimize import brentq
 
-from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, inflow_m3_s
+from optimiser.analysis.flows import (
+    flow_below_m3_s,
+    friction_gradient,
+    inflow_m3_s,
+    node_point_k,
+)
 from optimiser.analysis.grid import Grid, design_grid
+from optimiser.analysis.limits import (
+    CHECK_TOLERANCE,
+    above_velocity_max,
+    below_velocity_min,
+    class_holds,
+    node_min_pressure_m,
+)
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
-from optimiser.hydraulics.gradeline import energy_along_chain, final_point_loss_m
+from optimiser.hydraulics.gradeline import (
+    energy_along_chain,
+    hydraulic_grade_m,
+    outlet_energy_m,
+    static_head_m,
+)
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
-from optimiser.model import Design, Scenario, Study, SurgeMethod
+from optimiser.model import Design, DesignRules, Scenario, Study, SurgeMethod
 
 _SAME = 1e-12
 
@@ -87,7 +107,7 @@ class _ScenarioArrays:
     gradient: np.ndarray
     energy_start_m: np.ndarray
     energy_end_m: np.ndarray
-    final_point_loss_m: float
+    after_final_fitting_m: float
     outlet_energy_m: float
 
 
@@ -103,10 +123,8 @@ class _DesignHydraulics:
         self.roughness_mm = np.array([o.roughness_mm for o in options])
         self.hazen_williams_c = np.array(
             [np.nan if o.hazen_williams_c is None else o.hazen_williams_c for o in options])
-        self.node_point_k = np.zeros(len(self.grid.node_chainage_m))
-        for fitting in study.fittings:
-            index = int(np.argmin(np.abs(self.grid.node_chainage_m - fitting.chainage_m)))
-            self.node_point_k[index] += fitting.k
+        self.node_point_k = node_point_k(study, self.grid.node_chainage_m)
+        self.node_min_pressure_m = node_min_pressure_m(study, self.grid.node_chainage_m)
 
     def evaluate(self, scenario: Scenario, outlet_flow_m3_s: float | None = None
                  ) -> _ScenarioArrays:
@@ -118,29 +136,16 @@ class _DesignHydraulics:
         start, end = energy_along_chain(
             scenario.source_level_m, study.source.entrance_k, self.grid.segment_length_m,
             gradient, study.local_k_per_km, velocity, self.node_point_k)
-        last_head = float(velocity_head_m(velocity[-1]))
-        final_loss = final_point_loss_m(self.node_point_k, velocity)
-        outlet = float(end[-1]) - final_loss - study.outlet.exit_k * last_head
-        return _ScenarioArrays(flow, velocity, gradient, start, end, final_loss, outlet)
-
-    def node_min_pressure_m(self) -> np.ndarray:
-        """Minimum pressure head [m] per node: the route's, overridden at an offtake's
-        node by that offtake's own minimum (the strictest, if several share a node)."""
-        limits = np.full(len(self.grid.node_chainage_m), self.study.min_pressure_m)
-        overrides: dict[int, float] = {}
-        for offtake in self.study.offtakes:
-            if offtake.min_pressure_m is not None:
-                index = int(np.argmin(np.abs(self.grid.node_chainage_m - offtake.chainage_m)))
-                overrides[index] = max(overrides.get(index, -np.inf), offtake.min_pressure_m)
-        for index, limit in overrides.items():
-            limits[index] = limit
-        return limits
+        after_fitting, outlet = outlet_energy_m(end[-1], velocity_head_m(velocity[-1]),
+                                                self.node_point_k[-1], study.outlet.exit_k)
+        return _ScenarioArrays(flow, velocity, gradient, start, end, float(after_fitting),
+                               float(outlet))
 
     def points(self, arrays: _ScenarioArrays) -> pd.DataFrame:
         """Check points: both sides of every node where they differ."""
         grid = self.grid
         n = len(grid.segment_length_m)
-        limits = self.node_min_pressure_m()
+        limits = self.node_min_pressure_m
         rows: list[tuple] = []
         for node in range(n + 1):
             sides: list[tuple[str, float, float, int]] = []
@@ -151,7 +156,7 @@ class _DesignHydraulics:
                 sides.append(("downstream", arrays.energy_start_m[node],
                               arrays.velocity_m_s[node], node))
             else:
-                sides.append(("downstream", arrays.energy_end_m[-1] - arrays.final_point_loss_m,
+                sides.append(("downstream", arrays.after_final_fitting_m,
                               arrays.velocity_m_s[-1], n - 1))
             if len(sides) == 2 and abs(sides[0][1] - sides[1][1]) <= _SAME and \
                     abs(sides[0][2] - sides[1][2]) <= _SAME:
@@ -164,7 +169,7 @@ class _DesignHydraulics:
         energy = np.array([r[2] for r in rows])
         velocity = np.array([r[3] for r in rows])
         segment = np.array([r[4] for r in rows])
-        hgl = energy - velocity_head_m(velocity)
+        hgl = hydraulic_grade_m(energy, velocity)
         pipe = grid.node_pipe_level_m[node_index]
         top_water = self.study.source.top_water_level_m
         return pd.DataFrame({
@@ -176,7 +181,7 @@ class _DesignHydraulics:
             "energy_m": energy,
             "hgl_m": hgl,
             "pressure_m": hgl - pipe,
-            "static_pressure_m": top_water - pipe,
+            "static_pressure_m": static_head_m(top_water, pipe),
             "min_pressure_m": limits[node_index],
             "velocity_m_s": velocity,
             "flow_m3_s": arrays.flow_m3_s[segment],
@@ -246,7 +251,7 @@ def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics,
             "length_m": length, "internal_diameter_mm": option.internal_diameter_mm,
             "cost": cost, "lowest_pipe_level_m": float(levels[lowest]),
             "lowest_chainage_m": float(lowest_chainage),
-            "static_head_m": top_water - float(levels[lowest]),
+            "static_head_m": float(static_head_m(top_water, levels[lowest])),
             "allowable_head_m": option.allowable_head_m,
             "max_velocity_m_s": velocity,
             "wave_speed_m_s": float(wave_speed[index]),
@@ -280,7 +285,8 @@ def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
         demand = row.static_head_m + row.surge_head_m
         surge_excess = demand - row.allowable_surge_head_m
         static_excess = row.static_head_m - row.allowable_head_m
-        if max(surge_excess, static_excess) <= 1e-9:
+        if class_holds(demand, row.allowable_surge_head_m, CHECK_TOLERANCE) and \
+                class_holds(row.static_head_m, row.allowable_head_m, CHECK_TOLERANCE):
             continue
         if surge_excess >= static_excess:
             what = (f"surge head {row.surge_head_m:.1f} m (wave speed "
@@ -316,6 +322,27 @@ def _transient_violations(study: Study, scenario: Scenario, points: pd.DataFrame
         f"limit {limit:g} m") for row in low.itertuples()]
 
 
+def _velocity_violations(scenario_name: str, segments: pd.DataFrame, n_pieces: int,
+                         rules: DesignRules) -> list[Violation]:
+    """The fastest and slowest segment of each piece against the velocity window."""
+    violations = []
+    for index in range(n_pieces):
+        part = segments[segments["piece"] == index]
+        fastest = part["velocity_m_s"].idxmax()
+        slowest = part["velocity_m_s"].idxmin()
+        if above_velocity_max(part.at[fastest, "velocity_m_s"], rules, CHECK_TOLERANCE):
+            violations.append(Violation(
+                "velocity_max", scenario_name, float(part.at[fastest, "from_m"]),
+                float(part.at[fastest, "velocity_m_s"]), rules.velocity_max_m_s,
+                f"piece {index + 1}: velocity above the maximum"))
+        if below_velocity_min(part.at[slowest, "velocity_m_s"], rules, CHECK_TOLERANCE):
+            violations.append(Violation(
+                "velocity_min", scenario_name, float(part.at[slowest, "from_m"]),
+                float(part.at[slowest, "velocity_m_s"]), rules.velocity_min_m_s,
+                f"piece {index + 1}: velocity below the minimum (settling, water age)"))
+    return violations
+
+
 def check_design(study: Study, design: Design, *, capacity: bool = True) -> CheckResult:
     """Analyse ``design`` in every scenario of ``study`` (contract sections 5 and 10).
 
@@ -329,13 +356,12 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     surge_by_piece = pieces["surge_head_m"].to_numpy()
 
     results: list[ScenarioResult] = []
-    rules = study.rules
     for scenario, arrays in zip(study.scenarios, evaluated, strict=True):
         points = hydraulics.points(arrays)
         points["surge_head_m"] = surge_by_piece[points["piece"].to_numpy()]
         points["transient_pressure_m"] = points["pressure_m"] - points["surge_head_m"]
         segments = hydraulics.segments(arrays)
-        short = points[points["pressure_m"] < points["min_pressure_m"] - 1e-9]
+        short = points[points["pressure_m"] < points["min_pressure_m"] - CHECK_TOLERANCE]
         for row in short.itertuples():
             violations.append(Violation(
                 "min_pressure", scenario.name, float(row.chainage_m), float(row.pressure_m),
@@ -344,22 +370,9 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
                 f"{row.min_pressure_m:g} m"))
         violations.extend(_transient_violations(study, scenario, points, surge_by_piece))
         if scenario.velocity_limits:
-            for index in range(len(design.pieces)):
-                part = segments[segments["piece"] == index]
-                fastest = part["velocity_m_s"].idxmax()
-                slowest = part["velocity_m_s"].idxmin()
-                if part.at[fastest, "velocity_m_s"] > rules.velocity_max_m_s + 1e-9:
-                    violations.append(Violation(
-                        "velocity_max", scenario.name, float(part.at[fastest, "from_m"]),
-                        float(part.at[fastest, "velocity_m_s"]), rules.velocity_max_m_s,
-                        f"piece {index + 1}: velocity above the maximum"))
-                if part.at[slowest, "velocity_m_s"] < rules.velocity_min_m_s - 1e-9:
-                    violations.append(Violation(
-                        "velocity_min", scenario.name, float(part.at[slowest, "from_m"]),
-                        float(part.at[slowest, "velocity_m_s"]), rules.velocity_min_m_s,
-                        f"piece {index + 1}: velocity below the minimum (settling, "
-                        "water age)"))
-        if arrays.outlet_energy_m < study.outlet.required_head_m - 1e-9:
+            violations.extend(_velocity_violations(scenario.name, segments,
+                                                   len(design.pieces), study.rules))
+        if arrays.outlet_energy_m < study.outlet.required_head_m - CHECK_TOLERANCE:
             violations.append(Violation(
                 "outlet_head", scenario.name, study.route.total_chainage_m,
                 arrays.outlet_energy_m, study.outlet.required_head_m,

@@ -1,8 +1,13 @@
 """Study-level hydraulic quantities shared by the check and the optimiser.
 
 These functions apply the pure hydraulics of :mod:`optimiser.hydraulics` to the model:
-section flows from scenario and offtakes, and friction gradients with the scenario's
-roughness. They are the single place where a study's friction method is dispatched.
+section flows from scenario and offtakes, fittings placed on nodes, and friction
+gradients with the scenario's roughness. They are the single place where a study's
+friction method is dispatched and where the flow rule of contract section 5 is written:
+
+    Q_section = Q_outlet + offtake_factor * sum(offtakes downstream of the section start)
+
+An offtake at chainage c is upstream of every section starting at c or later.
 """
 
 from __future__ import annotations
@@ -15,17 +20,52 @@ from optimiser.model import Friction, Scenario, Study
 _OFFTAKE_TOLERANCE_M = 1e-6
 
 
+def nearest_node(node_chainage_m: np.ndarray, chainage_m: float) -> int:
+    """Index of the node nearest to ``chainage_m`` (the loader puts a node at every
+    offtake and fitting, so this is the node at that chainage)."""
+    return int(np.argmin(np.abs(np.asarray(node_chainage_m, dtype=float) - chainage_m)))
+
+
+def node_point_k(study: Study, node_chainage_m: np.ndarray) -> np.ndarray:
+    """Fitting loss coefficient K [-] at each node (fittings at one node add up); the
+    entrance and exit are not included."""
+    node_k = np.zeros(len(node_chainage_m))
+    for fitting in study.fittings:
+        node_k[nearest_node(node_chainage_m, fitting.chainage_m)] += fitting.k
+    return node_k
+
+
+def offtakes_downstream(study: Study, start_chainage_m: np.ndarray) -> np.ndarray:
+    """(n, n_offtakes) True where an offtake lies strictly downstream of a pipe starting
+    at each chainage, i.e. where that pipe carries the offtake's flow."""
+    start = np.asarray(start_chainage_m, dtype=float).reshape(-1)
+    chainage = np.array([o.chainage_m for o in study.offtakes], dtype=float)
+    return chainage[None, :] > start[:, None] + _OFFTAKE_TOLERANCE_M
+
+
+def carried_flow_m3_s(outlet_flow_m3_s: float | np.ndarray, offtake_factor: float,
+                      carried: np.ndarray, offtake_flow_m3_s: np.ndarray) -> np.ndarray:
+    """Flow [m^3/s] of pipes carrying the marked offtakes: outlet flow plus the scenario's
+    share of each carried offtake, added offtake by offtake.
+
+    ``carried`` is (n, n_offtakes); ``outlet_flow_m3_s`` broadcasts against (n,) (e.g. a
+    column of S sample flows gives (S, n))."""
+    flows = np.asarray(outlet_flow_m3_s, dtype=float) + np.zeros(carried.shape[0])
+    for column, flow in enumerate(np.asarray(offtake_flow_m3_s, dtype=float)):
+        flows = flows + np.where(carried[:, column], offtake_factor * flow, 0.0)
+    return flows
+
+
 def flow_below_m3_s(study: Study, scenario: Scenario, start_chainage_m: np.ndarray,
                     outlet_flow_m3_s: float | None = None) -> np.ndarray:
     """Flow [m^3/s] in pipe starting at each chainage: outlet flow plus the scenario's
     share of every offtake strictly downstream of that start (contract section 5)."""
     start = np.asarray(start_chainage_m, dtype=float)
     outlet = scenario.outlet_flow_m3_s if outlet_flow_m3_s is None else outlet_flow_m3_s
-    flows = np.full(start.shape, outlet, dtype=float)
-    for offtake in study.offtakes:
-        carried = offtake.chainage_m > start + _OFFTAKE_TOLERANCE_M
-        flows = flows + np.where(carried, scenario.offtake_factor * offtake.flow_m3_s, 0.0)
-    return flows
+    flows = carried_flow_m3_s(outlet, scenario.offtake_factor,
+                              offtakes_downstream(study, start),
+                              np.array([o.flow_m3_s for o in study.offtakes], dtype=float))
+    return flows.reshape(start.shape)
 
 
 def inflow_m3_s(study: Study, scenario: Scenario, outlet_flow_m3_s: float | None = None) -> float:

@@ -17,35 +17,36 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from optimiser.analysis.reduced import ReducedDesign, reduce_design
+from optimiser.analysis.limits import CHECK_TOLERANCE
+from optimiser.analysis.linear_check import LinearCheck, linear_check
 from optimiser.model import Design, Study
 
 DISTRIBUTIONS = ("uniform", "log-uniform", "triangular", "fixed")
 
 
 def roughness_sweep(study: Study, design: Design, roughness_mm: np.ndarray,
-                    reduced: ReducedDesign | None = None) -> pd.DataFrame:
+                    linear: LinearCheck | None = None) -> pd.DataFrame:
     """Capacity and margins of a fixed design at each roughness, per scenario.
 
     Columns: scenario, roughness_mm, capacity_m3_s, capacity_outlet_only_m3_s,
     outlet_margin_m, least_pressure_margin_m, meets (outlet and pressures).
     """
-    reduced = reduced or reduce_design(study, design)
+    linear = linear or linear_check(study, design)
     values = np.asarray(roughness_mm, dtype=float)
     rows = []
     for scenario in study.scenarios:
-        roughness = np.repeat(values[:, None], reduced.n_groups, axis=1)
+        roughness = np.repeat(values[:, None], linear.n_groups, axis=1)
         source = np.full(values.shape, scenario.source_level_m)
         flow = np.full(values.shape, scenario.outlet_flow_m3_s)
-        outlet, pressure = reduced.margins(flow, scenario.offtake_factor, source, roughness)
-        capacity = reduced.capacity_m3_s(scenario.offtake_factor, source, roughness)
-        outlet_only = reduced.capacity_m3_s(scenario.offtake_factor, source, roughness,
+        outlet, pressure = linear.margins(flow, scenario.offtake_factor, source, roughness)
+        capacity = linear.capacity_m3_s(scenario.offtake_factor, source, roughness)
+        outlet_only = linear.capacity_m3_s(scenario.offtake_factor, source, roughness,
                                             outlet_only=True)
         rows.append(pd.DataFrame({
             "scenario": scenario.name, "roughness_mm": values, "capacity_m3_s": capacity,
             "capacity_outlet_only_m3_s": outlet_only, "outlet_margin_m": outlet,
             "least_pressure_margin_m": pressure,
-            "meets": (outlet >= -1e-9) & (pressure >= -1e-9)}))
+            "meets": (outlet >= -CHECK_TOLERANCE) & (pressure >= -CHECK_TOLERANCE)}))
     return pd.concat(rows, ignore_index=True)
 
 
@@ -88,7 +89,7 @@ class MonteCarloResult:
 def monte_carlo(study: Study, design: Design, distribution: RoughnessDistribution, *,
                 samples: int, seed: int, years: float = 0.0,
                 ageing_mm_per_year: Mapping[str, float] | None = None,
-                reduced: ReducedDesign | None = None) -> MonteCarloResult:
+                linear: LinearCheck | None = None) -> MonteCarloResult:
     """Probability that the fixed design meets each scenario at year ``years``.
 
     Each sample draws one initial roughness per material, adds ``rate x years`` for the
@@ -96,22 +97,22 @@ def monte_carlo(study: Study, design: Design, distribution: RoughnessDistributio
     pressures; velocities and classes do not depend on roughness). Same seed, same
     numbers.
     """
-    reduced = reduced or reduce_design(study, design)
+    linear = linear or linear_check(study, design)
     rates = dict(ageing_mm_per_year or {})
-    materials = sorted({o.material for o in reduced.group_option})
+    materials = sorted({o.material for o in linear.group_option})
     rng = np.random.default_rng(seed)
     initial = distribution.draw(rng, (samples, len(materials)))
     aged = initial + np.array([rates.get(m, 0.0) for m in materials]) * years
     column = {m: i for i, m in enumerate(materials)}
-    roughness = aged[:, [column[m] for m in reduced.group_materials]]
+    roughness = aged[:, [column[m] for m in linear.group_materials]]
     frames = []
     summary = []
     for scenario in study.scenarios:
         source = np.full(samples, scenario.source_level_m)
         flow = np.full(samples, scenario.outlet_flow_m3_s)
-        outlet, pressure = reduced.margins(flow, scenario.offtake_factor, source, roughness)
-        capacity = reduced.capacity_m3_s(scenario.offtake_factor, source, roughness)
-        meets = (outlet >= -1e-9) & (pressure >= -1e-9)
+        outlet, pressure = linear.margins(flow, scenario.offtake_factor, source, roughness)
+        capacity = linear.capacity_m3_s(scenario.offtake_factor, source, roughness)
+        meets = (outlet >= -CHECK_TOLERANCE) & (pressure >= -CHECK_TOLERANCE)
         frame = pd.DataFrame({"sample": np.arange(samples), "scenario": scenario.name,
                               "capacity_m3_s": capacity, "outlet_margin_m": outlet,
                               "least_pressure_margin_m": pressure, "meets": meets})

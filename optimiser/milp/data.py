@@ -21,8 +21,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from optimiser.analysis.flows import flow_below_m3_s, friction_gradient
+from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, node_point_k
+from optimiser.analysis.limits import class_holds, node_min_pressure_m, within_velocity_window
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
+from optimiser.hydraulics.gradeline import section_loss_m, static_head_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.model import Study, SurgeMethod
 
@@ -94,17 +96,8 @@ def prepare(study: Study) -> ProblemData:
     roughness = catalogue.roughness_mm
     c_value = catalogue.hazen_williams_c
 
-    node_k = np.zeros(n + 1)
-    for fitting in study.fittings:
-        node_k[int(np.argmin(np.abs(chainage - fitting.chainage_m)))] += fitting.k
-    node_min = np.full(n + 1, study.min_pressure_m)
-    overrides: dict[int, float] = {}
-    for offtake in study.offtakes:
-        if offtake.min_pressure_m is not None:
-            index = int(np.argmin(np.abs(chainage - offtake.chainage_m)))
-            overrides[index] = max(overrides.get(index, -np.inf), offtake.min_pressure_m)
-    for index, limit in overrides.items():
-        node_min[index] = limit
+    node_k = node_point_k(study, chainage)
+    node_min = node_min_pressure_m(study, chainage)
 
     length = route.length_m
     factor = np.array([study.costs.factor(z) for z in route.zones])
@@ -121,16 +114,16 @@ def prepare(study: Study) -> ProblemData:
         velocities.append(v)
         heads.append(h)
         gradients.append(j)
-        losses.append(length[:, None] * (j + study.local_k_per_km / 1000.0 * h))
+        losses.append(section_loss_m(length[:, None], j, study.local_k_per_km, h))
         levels.append(scenario.source_level_m)
 
     velocity_ok = np.ones((n, m), dtype=bool)
     rules = study.rules
     for scenario, v in zip(study.scenarios, velocities, strict=True):
         if scenario.velocity_limits:
-            velocity_ok &= (v >= rules.velocity_min_m_s) & (v <= rules.velocity_max_m_s)
+            velocity_ok &= within_velocity_window(v, rules)
     lowest = np.minimum(pipe[:-1], pipe[1:])
-    static_head = study.source.top_water_level_m - lowest
+    static_head = static_head_m(study.source.top_water_level_m, lowest, 0.0)
     static_demand = static_head + study.surge_allowance_m
     class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok)
     admissible = class_ok & velocity_ok
@@ -181,10 +174,11 @@ def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
     sections passes the check's class test.
     """
     catalogue = study.catalogue
-    operating = static_head_m[:, None] <= catalogue.allowable_head_m[None, :]
+    operating = class_holds(static_head_m[:, None], catalogue.allowable_head_m[None, :])
     limit = _surge_limit_m(study)
     if study.surge.method is SurgeMethod.ALLOWANCE:
-        return operating & (static_head_m[:, None] + study.surge_allowance_m <= limit[None, :])
+        return operating & class_holds(static_head_m[:, None] + study.surge_allowance_m,
+                                       limit[None, :])
     fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
     wave_speed = wave_speeds_m_s(study, catalogue)
     own = operating & (static_head_m[:, None] + surge_head_m(study, wave_speed[None, :], fastest)

@@ -1,9 +1,10 @@
-"""A fixed design in reduced linear form, for fast repeated evaluation.
+"""The linear check: the check of a fixed design in linear form, for fast repeated runs.
 
 For a given design every segment belongs to a *group*: same pipe option and same set of
 offtakes downstream, hence the same flow and friction gradient in any scenario. The
 energy at every check point is then linear in the groups' gradients J_g and velocity
-heads h_g (Bernoulli with losses, as in :mod:`optimiser.hydraulics.gradeline`):
+heads h_g (Bernoulli with losses, as in :mod:`optimiser.hydraulics.gradeline`, whose
+functions build the matrices below from unit losses, so the two cannot disagree):
 
     E_p = H - sum_g ( A_pg J_g + B_pg h_g )
 
@@ -30,18 +31,30 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from optimiser.analysis.check import _DesignHydraulics
-from optimiser.analysis.flows import gradient_with_roughness
-from optimiser.hydraulics.local_losses import velocity_head_m
+from optimiser.analysis.flows import (
+    carried_flow_m3_s,
+    gradient_with_roughness,
+    node_point_k,
+    offtakes_downstream,
+)
+from optimiser.analysis.grid import design_grid
+from optimiser.analysis.limits import CHECK_TOLERANCE, node_min_pressure_m
+from optimiser.hydraulics.gradeline import (
+    energy_line_m,
+    outlet_energy_m,
+    section_loss_m,
+    start_point_loss_m,
+)
+from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.model import Design, Study
 
 _BLOCK_ELEMENTS = 1 << 22  # samples x points per product (32 MiB of float64)
-_SAME_MARGIN_M = 1e-9  # the check's own tolerance on limits
+_SAME_MARGIN_M = CHECK_TOLERANCE
 
 
 @dataclass
-class ReducedDesign:
-    """Matrices of one design; see the module docstring."""
+class LinearCheck:
+    """The linear check of one design: its matrices (see the module docstring)."""
 
     study: Study
     group_option: list  # PipeOption of each group
@@ -81,15 +94,16 @@ class ReducedDesign:
     def group_flows_m3_s(self, outlet_flow_m3_s: np.ndarray, offtake_factor: float
                          ) -> np.ndarray:
         """(S, G) flows for outlet flows of shape (S,)."""
-        carried = self.group_offtake_mask.astype(float) @ self.offtake_flow_m3_s
-        return np.asarray(outlet_flow_m3_s, dtype=float)[:, None] + offtake_factor * carried
+        return carried_flow_m3_s(np.asarray(outlet_flow_m3_s, dtype=float)[:, None],
+                                 offtake_factor, self.group_offtake_mask,
+                                 self.offtake_flow_m3_s)
 
     def _gradients(self, flows: np.ndarray, roughness_mm: np.ndarray
                    ) -> tuple[np.ndarray, np.ndarray]:
         diameter = self.group_diameter_m
         gradient = gradient_with_roughness(self.study, flows, diameter, roughness_mm,
                                            self.group_hazen_williams_c)
-        head = velocity_head_m(flows / (np.pi * diameter**2 / 4.0))
+        head = velocity_head_m(velocity_m_s(flows, diameter))
         return gradient, head
 
     def _state(self, outlet_flow_m3_s: np.ndarray, offtake_factor: float,
@@ -235,59 +249,59 @@ def _bracketed_root(margin, count: int, tolerance_m3_s: float) -> np.ndarray:
     return low
 
 
-def reduce_design(study: Study, design: Design) -> ReducedDesign:
-    """Build the reduced linear form of ``design`` (see the module docstring)."""
-    hydraulics = _DesignHydraulics(study, design)
-    grid = hydraulics.grid
-    n = len(grid.segment_length_m)
-    offtake_chainage = np.array([o.chainage_m for o in study.offtakes])
-    offtake_flow = np.array([o.flow_m3_s for o in study.offtakes])
-    carried = (offtake_chainage[None, :] > grid.start_m[:, None] + 1e-6) if len(
-        study.offtakes) else np.zeros((n, 0), dtype=bool)
+def _groups(design: Design, segment_piece: np.ndarray, carried: np.ndarray
+            ) -> tuple[list, np.ndarray, np.ndarray]:
+    """Options of the groups, their offtake masks (G, n_offtakes) and each segment's
+    group: a group is one option carrying one set of offtakes."""
     keys: dict[tuple, int] = {}
-    segment_group = np.empty(n, dtype=int)
+    segment_group = np.empty(len(segment_piece), dtype=int)
     options = []
     masks = []
-    for i in range(n):
-        option = design.pieces[grid.segment_piece[i]].option
+    for i, piece in enumerate(segment_piece.tolist()):
+        option = design.pieces[piece].option
         key = (option.key, tuple(carried[i].tolist()))
         if key not in keys:
             keys[key] = len(options)
             options.append(option)
             masks.append(carried[i])
         segment_group[i] = keys[key]
+    mask = np.array(masks, dtype=bool).reshape(len(options), carried.shape[1])
+    return options, mask, segment_group
+
+
+def linear_check(study: Study, design: Design) -> LinearCheck:
+    """Build the linear check of ``design`` (see the module docstring).
+
+    The matrices come from the energy line itself: with a unit gradient (or a unit
+    velocity head) in one group and none elsewhere, the energy lost down to each point
+    is that group's column of A (or B).
+    """
+    grid = design_grid(study, design)
+    n = len(grid.segment_length_m)
+    options, masks, segment_group = _groups(design, grid.segment_piece,
+                                            offtakes_downstream(study, grid.start_m))
     groups = len(options)
-    one_hot = np.zeros((n, groups))
-    one_hot[np.arange(n), segment_group] = 1.0
-    length = grid.segment_length_m[:, None] * one_hot
-    per_km = study.local_k_per_km * grid.segment_length_m[:, None] / 1000.0 * one_hot
-    node_k = hydraulics.node_point_k[:n, None] * one_hot
-    node_k[0, segment_group[0]] += study.source.entrance_k
-    cumulative_length = np.cumsum(length, axis=0)
-    cumulative_per_km = np.cumsum(per_km, axis=0)
-    cumulative_node_k = np.cumsum(node_k, axis=0)
-    # Start of segment i: pipe and per-km loss upstream of i, point losses up to node i.
-    start_length = cumulative_length - length
-    start_loss = cumulative_per_km - per_km + cumulative_node_k
-    end_length = cumulative_length
-    end_loss = cumulative_per_km + cumulative_node_k
-    limits = hydraulics.node_min_pressure_m()
+    unit = np.zeros((n, groups))
+    unit[np.arange(n), segment_group] = 1.0
+    length = grid.segment_length_m[:, None]
+    node_k = node_point_k(study, grid.node_chainage_m)
+    start_a, end_a = energy_line_m(0.0, np.zeros((n, groups)),
+                                   section_loss_m(length, unit, study.local_k_per_km, 0.0))
+    start_b, end_b = energy_line_m(
+        0.0, start_point_loss_m(node_k, study.source.entrance_k, unit),
+        section_loss_m(length, 0.0, study.local_k_per_km, unit))
+    after_fitting, outlet = outlet_energy_m(end_b[-1], unit[-1], node_k[-1],
+                                            study.outlet.exit_k)
+    limits = node_min_pressure_m(study, grid.node_chainage_m)
     last = segment_group[-1]
-    final = np.zeros(groups)
-    final[last] = hydraulics.node_point_k[-1]
-    outlet_loss = end_loss[-1] + final
-    outlet_loss_with_exit = outlet_loss.copy()
-    outlet_loss_with_exit[last] += study.outlet.exit_k
-    length_matrix = np.vstack([start_length, end_length, end_length[-1:]])
-    loss_matrix = np.vstack([start_loss, end_loss, outlet_loss[None, :]])
-    point_group = np.concatenate([segment_group, segment_group, [last]])
     node_of_point = np.concatenate([np.arange(n), np.arange(1, n + 1), [n]])
-    return ReducedDesign(
-        study=study, group_option=options, group_offtake_mask=np.array(masks, dtype=bool)
-        .reshape(groups, len(study.offtakes)), length_matrix=length_matrix,
-        loss_matrix=loss_matrix, point_group=point_group,
+    return LinearCheck(
+        study=study, group_option=options, group_offtake_mask=masks,
+        length_matrix=-np.vstack([start_a, end_a, end_a[-1:]]),
+        loss_matrix=-np.vstack([start_b, end_b, after_fitting[None, :]]),
+        point_group=np.concatenate([segment_group, segment_group, [last]]),
         point_level_m=grid.node_pipe_level_m[node_of_point],
         point_min_pressure_m=limits[node_of_point],
         point_chainage_m=grid.node_chainage_m[node_of_point],
-        outlet_length=end_length[-1], outlet_loss=outlet_loss_with_exit,
-        offtake_flow_m3_s=offtake_flow)
+        outlet_length=-end_a[-1], outlet_loss=-outlet,
+        offtake_flow_m3_s=np.array([o.flow_m3_s for o in study.offtakes], dtype=float))
