@@ -70,7 +70,9 @@ def sweep_terminal_table(title: str, table: pd.DataFrame, value_header: str,
                 "solver failed (see below)"
             reasons.append(f"{value}: {status}: {row['note'] or 'no reason given'}")
         style = status_style(status)
-        view.add_row(value, f"[{style}]{status}[/{style}]", money(row["cost"], currency),
+        shown = "feasible (time limit)" if status == Status.FEASIBLE \
+            else status
+        view.add_row(value, f"[{style}]{shown}[/{style}]", money(row["cost"], currency),
                      gap_text(row["gap"]), detail, binding)
     return view, reasons
 
