@@ -248,6 +248,19 @@ def test_sensitivity_writes_everything(app, study_files, tmp_path):
     assert summary["monte_carlo"]["seed"] == 5
     assert summary["monte_carlo"]["ageing_mm_per_year"] == {"PE": 0.005}
     assert "licensed engineer" in (out / "sensitivity.html").read_text()
+    # Issue 16, item 6: the robust and nominal designs get the files `design --out`
+    # writes, and the page states the probability of meeting each scenario (the same
+    # figure as monte_carlo_summary.csv).
+    for folder in ("robust", "nominal"):
+        for name in ("report.html", "appurtenances.csv"):
+            assert (out / folder / name).is_file(), (folder, name)
+    assert "licensed engineer" in (out / "robust" / "report.html").read_text()
+    page = (out / "sensitivity.html").read_text()
+    mc = pd.read_csv(out / "monte_carlo_summary.csv")
+    for row in mc.itertuples():
+        assert (f"Monte Carlo, year 20: the fixed design meets scenario &#x27;{row.scenario}"
+                f"&#x27; in {100 * row.probability_meets:.1f} % of 40 samples.") in page
+    assert "probability of meeting" in page
 
 
 def test_monte_carlo_degenerate_equals_check_and_seeds_repeat(app, study_files, tmp_path):
