@@ -109,3 +109,37 @@ def test_report_with_a_result_that_is_not_a_design_run_is_bad_input(study_files,
     assert result.exit_code == 2, result.output
     assert "r.json" in result.output and "Traceback" not in result.output
     assert not (tmp_path / "out").exists()
+
+
+# Invented test catalogue: long material names and prices that make eight-figure costs.
+WIDE_CATALOGUE = [
+    ("ductile iron", 160, 141.0, "PN10", 102.0, 0.02, 150, 6100.0, "invented test data"),
+    ("ductile iron", 200, 176.2, "PN10", 102.0, 0.02, 150, 9050.0, "invented test data"),
+    ("ductile iron", 250, 220.4, "PN10", 102.0, 0.02, 150, 13100.0, "invented test data"),
+    ("ductile iron", 250, 204.6, "PN16", 163.0, 0.02, 150, 17050.0, "invented test data"),
+]
+
+
+def test_schedule_at_80_columns_shows_every_column_and_whole_costs(make_study, runner,
+                                                                    tmp_path):
+    # Issue 16, item 11: at 80 columns no column of the schedule is dropped and no number
+    # is cut (common practice, no source: a cost read off a cut cell is a wrong cost).
+    files = make_study(catalogue=WIDE_CATALOGUE)
+    result = runner.invoke(app, ["design", str(files.study), "--json",
+                                 str(tmp_path / "r.json")],
+                           env={"COLUMNS": "80"}, terminal_width=80)
+    assert result.exit_code == 0, result.output
+    payload = json.loads((tmp_path / "r.json").read_text())
+    lines = result.output.splitlines()
+    start = next(i for i, line in enumerate(lines) if line.startswith("Schedule"))
+    end = next(i for i, line in enumerate(lines) if line.startswith("Status:"))
+    schedule = lines[start:end]
+    assert max(len(line.rstrip()) for line in schedule) <= 80
+    header = " ".join(schedule[1:4])
+    for word in ("from", "to", "length", "material", "DN", "ID", "class", "V", "J", "cost",
+                 "USD"):
+        assert re.search(rf"\b{re.escape(word)}\b", header), (word, header)
+    assert max(piece["cost"] for piece in payload["pieces"]) >= 1e7  # eight figures
+    for piece in payload["pieces"]:
+        row = next(line for line in schedule if f"{piece['length_m']:,.1f}" in line)
+        assert row.rstrip().endswith(f"{piece['cost']:,.0f}"), (row, piece["cost"])
