@@ -143,3 +143,25 @@ def test_schedule_at_80_columns_shows_every_column_and_whole_costs(make_study, r
     for piece in payload["pieces"]:
         row = next(line for line in schedule if f"{piece['length_m']:,.1f}" in line)
         assert row.rstrip().endswith(f"{piece['cost']:,.0f}"), (row, piece["cost"])
+
+
+def test_one_word_for_the_limiting_points_in_every_output(study_files, runner, tmp_path):
+    # Issue 16, item 11: the points nearest a limit have one name ("limiting point")
+    # on screen and in the documentation of the files; the JSON field names stay
+    # (common practice, no source: one thing, one name).
+    other_words = re.compile(r"critical point|binding point|binding limit", re.IGNORECASE)
+    outputs = []
+    for args in (["check", str(study_files.study), "--design", str(study_files.design)],
+                 ["design", str(study_files.study), "--json", str(tmp_path / "r.json")],
+                 ["tradeoff", str(study_files.study), "--vary", "source-level", "--from",
+                  "203", "--to", "205", "--steps", "2", "--out", str(tmp_path / "t")]):
+        result = runner.invoke(app, args, env={"COLUMNS": "200"}, terminal_width=200)
+        assert result.exit_code == 0, result.output
+        assert "limiting point" in result.output.lower(), args[0]
+        outputs.append(result.output)
+    assert "binding" in json.loads((tmp_path / "r.json").read_text())  # field name kept
+    root = Path(__file__).resolve().parents[1]
+    docs = [root / "README.md", root / "docs" / "user-guide.md",
+            root / "docs" / "file-formats.md"]
+    for text in [*outputs, *(path.read_text(encoding="utf-8") for path in docs)]:
+        assert other_words.search(text) is None, other_words.search(text)

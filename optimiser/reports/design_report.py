@@ -125,7 +125,7 @@ def _money(value: float | None, currency: str) -> str:
 
 
 def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None:
-    """Schedule, totals, bound, binding points and the uniform comparison."""
+    """Schedule, totals, bound, limiting points and the uniform comparison."""
     currency = study.currency
     if outcome.status == Status.INFEASIBLE:
         console.print(f"[bold]{console_title(study.title)}[/bold]")
@@ -196,7 +196,7 @@ def _schedule_table(table: pd.DataFrame, governing: str, currency: str) -> Table
 
 
 def _binding_table(outcome: DesignOutcome) -> Table:
-    binding = Table(title="Binding points (least pressure margin per scenario)",
+    binding = Table(title="Limiting points (least pressure margin per scenario)",
                     title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False,
                     padding=(0, 1, 0, 0))
     for column in ("scenario", "chainage", "label", "pressure m", "minimum m", "margin m",

@@ -53,7 +53,7 @@ def sweep_terminal_table(title: str, table: pd.DataFrame, value_header: str,
     view = Table(title=title, title_justify="left")
     for column, justify in ((value_header, "right"), ("status", "left"),
                             ("least cost", "right"), ("gap", "right"),
-                            ("pieces", "left"), ("binding", "left")):
+                            ("pieces", "left"), ("limiting point", "left")):
         view.add_column(column, justify=justify)
     reasons = []
     for row in table.itertuples(index=False):

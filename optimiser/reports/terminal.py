@@ -1,4 +1,8 @@
-"""Terminal output with rich: critical points, violations, cautions."""
+"""Terminal output with rich: limiting points, violations, cautions.
+
+"Limiting point" is the one name, in every output, for the point where a design comes
+nearest a limit (least pressure margin, highest velocity, class nearest its limit).
+"""
 
 from __future__ import annotations
 
@@ -32,7 +36,7 @@ def print_cautions(console: Console) -> None:
 
 
 def print_check(console: Console, result: CheckResult) -> None:
-    """Scenario summary, critical points and violations of a checked design."""
+    """Scenario summary, limiting points and violations of a checked design."""
     study = result.study
     console.print(f"[bold]{console_title(study.title)}[/bold]  (check of "
                   f"{len(result.design.pieces)} pieces, "
@@ -51,7 +55,7 @@ def print_check(console: Console, result: CheckResult) -> None:
                         flow_text(s.capacity_m3_s), flow_text(s.capacity_outlet_only_m3_s))
     console.print(summary)
 
-    critical = Table(title="Critical points", title_justify="left")
+    critical = Table(title="Limiting points (nearest each limit)", title_justify="left")
     for column in ("scenario", "what", "chainage", "value", "limit", "margin"):
         critical.add_column(column, justify="left" if column in ("scenario", "what") else "right")
     pieces = result.pieces

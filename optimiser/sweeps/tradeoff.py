@@ -77,8 +77,8 @@ def pieces_summary(outcome: DesignOutcome) -> tuple[int, str]:
 
 
 def binding_point(outcome: DesignOutcome) -> dict[str, Any]:
-    """The tightest limit of the design over all scenarios: a minimum pressure at a
-    chainage, or the outlet head at the route's end."""
+    """The limiting point of the design over all scenarios (its tightest limit): a
+    minimum pressure at a chainage, or the outlet head at the route's end."""
     empty = {"binding_scenario": None, "binding_what": None, "binding_chainage_m": None,
              "binding_margin_m": None}
     if not outcome.binding or outcome.check is None:
