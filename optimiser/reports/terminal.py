@@ -86,13 +86,11 @@ def print_violations(console: Console, result: CheckResult, limit: int = 20) -> 
     if result.ok:
         console.print("[bold green]OK[/bold green]: every limit is met in every scenario.")
         return
-    table = Table(title=f"Violations ({len(result.violations)})", title_justify="left")
-    for column in ("kind", "scenario", "chainage", "value", "limit", "detail"):
-        table.add_column(column)
+    # One sentence each (what, where, by how much, which scenario): a table would cut
+    # them into narrow columns at 80 columns.
+    console.print(f"[bold]Violations ({len(result.violations)})[/bold]")
     for v in result.violations[:limit]:
-        table.add_row(v.kind, v.scenario or "(static)", chainage_label(v.chainage_m),
-                      f"{v.value:.3f}", f"{v.limit:.3f}", v.message)
-    console.print(table)
+        console.print(f"- {v.message} [{v.kind}]", markup=False, highlight=False)
     if len(result.violations) > limit:
         console.print(f"... and {len(result.violations) - limit} more (see --json)")
     console.print("[bold red]NOT OK[/bold red]: the design violates the limits above.")

@@ -26,6 +26,7 @@ from optimiser.reports.sweep_tables import (
     records,
     sweep_terminal_table,
 )
+from optimiser.reports.terminal import chainage_label
 from optimiser.reports.text import console_title, short_title
 from optimiser.sweeps.tradeoff import TradeoffResult
 
@@ -160,8 +161,14 @@ def print_tradeoff(console: Console, result: TradeoffResult, study: Study) -> No
         "Least cost at each step", result.table, AXIS_TITLE[variable].split(" (")[0], text,
         study.currency))
     own = result.own_row
+    limiting = ""
+    if own.get("binding_what"):
+        limiting = (f"; limiting point: {own['binding_what']} at "
+                    f"{chainage_label(own['binding_chainage_m'])}, {own['binding_scenario']} "
+                    f"({own['binding_margin_m']:+.2f} m)")
     console.print(f"This study ({text(result.own_value)}): {own['status']}, least cost "
-                  f"{money(own['cost'], study.currency)}")
+                  f"{money(own['cost'], study.currency)}{limiting}", markup=False,
+                  highlight=False)
     console.print(curve_gap_text(result), markup=False, highlight=False)
     stopped = len(_time_limited(result.table))
     if stopped:
