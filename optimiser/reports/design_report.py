@@ -14,6 +14,7 @@ from optimiser.model import Status, Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.surge_table import print_class_table
+from optimiser.reports.sweep_tables import gap_text
 from optimiser.reports.terminal import chainage_label, print_violations
 from optimiser.reports.text import console_title
 
@@ -144,9 +145,9 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     status = {Status.OPTIMAL: "[bold green]optimal[/bold green] (proven within the gap)",
               Status.FEASIBLE: "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
                           "not proven cheapest)"}[outcome.status]
-    gap = "n/a" if outcome.gap is None else f"{outcome.gap:.2e}"
+    gap = "n/a" if outcome.gap is None else gap_text(outcome.gap)
     console.print(f"Status: {status}; solver {outcome.solver_name}, "
-                  f"{outcome.solve_time_s:.1f} s, gap {gap} (target {outcome.mip_gap:g})")
+                  f"{outcome.solve_time_s:.1f} s, gap {gap} (target {gap_text(outcome.mip_gap)})")
     if outcome.check.change_cost_total:
         console.print(f"Change costs included: {_money(outcome.check.change_cost_total, currency)}")
     console.print(f"Total cost:              {_money(outcome.total_cost, currency)}")

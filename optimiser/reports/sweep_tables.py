@@ -24,9 +24,10 @@ def money(value: float | None, currency: str = "") -> str:
 
 
 def gap_text(value: float | None) -> str:
+    """A relative gap as a percentage, to two significant figures: 0.00061 -> '0.061 %'."""
     if value is None or (isinstance(value, float) and math.isnan(value)):
         return "-"
-    return f"{value:.1e}"
+    return f"{100 * value:.2g} %" if value > 0 else "0 %"
 
 
 def records(table: pd.DataFrame) -> list[dict[str, Any]]:
