@@ -170,5 +170,6 @@ def test_robust_study_keeps_factors_and_states_fixed_scenarios_once(aged_study_a
     by_name = {s.name: s.roughness_mm for s in robust.scenarios}
     # common practice, no source: the rule above, written out scenario by scenario.
     assert by_name == pytest.approx({"peak day @ 0.1 mm": 0.1, "peak day @ 0.4 mm": 0.4,
-                                     "aged pipe @ 0.1 mm": 0.25, "aged pipe @ 0.4 mm": 1.0,
+                                     "aged pipe @ 0.1 mm x 2.5": 0.25,
+                                     "aged pipe @ 0.4 mm x 2.5": 1.0,
                                      "stated": 0.3})

@@ -71,7 +71,8 @@ def with_roughness_range(study: Study, roughness_mm: list[float]) -> Study:
         if s.roughness_mm is not None:
             scenarios.append(s)
             continue
-        scenarios += [at_roughness(s, r, f"{s.name} @ {r:g} mm") for r in roughness_mm]
+        times = "" if s.roughness_factor is None else f" x {s.roughness_factor:g}"
+        scenarios += [at_roughness(s, r, f"{s.name} @ {r:g} mm{times}") for r in roughness_mm]
     return dataclasses.replace(study, scenarios=tuple(scenarios))
 
 
