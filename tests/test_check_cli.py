@@ -69,11 +69,11 @@ def _run(runner, files, tmp_path, *extra):
 # --------------------------------------------------------------------------- a good study
 
 
-def test_good_study_exits_0_with_critical_points_and_cautions(study_files, runner, tmp_path):
+def test_good_study_exits_0_with_limiting_points_and_cautions(study_files, runner, tmp_path):
     result, payload = _run(runner, study_files, tmp_path)
     assert result.exit_code == 0, result.output
     text = squash(result.output)
-    assert "Criticalpoints" in text
+    assert "Limitingpoints" in text
     assert "Cautions" in text
     for caution in CAUTIONS:
         assert squash(caution) in text

@@ -74,3 +74,36 @@ def test_compare_bad_study_is_exit_2(runner, options, tmp_path):
     result = runner.invoke(app, ["compare", str(options[0]), str(missing)])
     assert result.exit_code == 2
     assert "nowhere" in result.output and "Traceback" not in result.output
+
+
+def test_two_options_with_one_name_are_told_apart(runner, make_study, tmp_path):
+    # Two runs both in folders called `opt` (issue 16, item 8): each keeps a row, a sheet,
+    # a heading and a folder of its own, named in the order given (`opt`, then `opt-2`),
+    # as docs/user-guide.md states (common practice, no source).
+    first = make_study(folder="a/opt")
+    second = make_study(folder="b/opt", study=FEWER_PIPES)
+    out = tmp_path / "out"
+    result = runner.invoke(app, ["compare", str(first.study), str(second.study),
+                                 "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    table = pd.read_csv(out / "comparison.csv")
+    assert sorted(table["option"]) == ["opt", "opt-2"]
+    by_name = table.set_index("option")["study"]
+    assert by_name["opt"] == str(first.study) and by_name["opt-2"] == str(second.study)
+    book = openpyxl.load_workbook(out / "comparison.xlsx", read_only=True)
+    assert {"opt", "opt-2"} <= set(book.sheetnames)
+    for name in ("opt", "opt-2"):
+        assert (out / name / "design.csv").is_file()
+    page = (out / "comparison.html").read_text(encoding="utf-8")
+    assert "opt-2" in page
+
+
+def test_unique_names_keep_a_name_another_option_has():
+    from pathlib import Path
+
+    from optimiser.sweeps.options import unique_names
+
+    paths = [Path("a/opt/study.toml"), Path("b/opt/study.toml"), Path("c/opt-2/study.toml"),
+             Path("d/base.toml")]
+    # `opt-2` is the third option's own name, so the second `opt` becomes `opt-3`.
+    assert unique_names(paths) == ["opt", "opt-3", "opt-2", "base"]

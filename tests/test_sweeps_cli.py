@@ -167,6 +167,44 @@ def test_tradeoff_solver_failure_exits_3_and_keeps_other_steps(app, study_files,
     assert "time limit" in table["note"].iloc[2]
 
 
+def test_tradeoff_marks_steps_stopped_at_the_time_limit(app, study_files, tmp_path,
+                                                       monkeypatch):
+    # A step that stops at its time limit keeps a design that meets every limit but is
+    # not proven within the gap (status feasible): the table, CSV, JSON and chart must
+    # say so (issue 16, item 7; common practice, no source). The stop is simulated on
+    # one step: the marking is what is checked, not the solver.
+    import dataclasses
+
+    from optimiser.model import Status
+
+    real = tradeoff_module.optimise_design
+
+    def stopping(study, **options):
+        outcome = real(study, **options)
+        if study.source.level_m > 206.0:
+            return dataclasses.replace(outcome, status=Status.FEASIBLE, gap=0.03)
+        return outcome
+
+    monkeypatch.setattr(tradeoff_module, "optimise_design", stopping)
+    out = tmp_path / "out"
+    result = run(app, "tradeoff", study_files.study, "--vary", "source-level", "--from",
+                 "201", "--to", "211", "--steps", "3", "--gap", "0.01", "--out", out)
+    assert result.exit_code == 0, result.output
+    assert "(time" in result.output  # the status cell: "feasible (time limit)", wrapped
+    assert said(result, "1 step(s) stopped at the time limit")
+    assert said(result, "each step is proven within 1 % of the least cost")
+    table = pd.read_csv(out / "tradeoff.csv")
+    assert table["status"].tolist() == ["optimal", "optimal", "feasible"]
+    assert "stopped at the time limit" in table["note"].iloc[2]
+    assert "gap 3.00 %" in table["note"].iloc[2]
+    assert table["target_gap"].tolist() == [0.01] * 3
+    payload = json.loads((out / "tradeoff.json").read_text())
+    assert payload["time_limit_steps"] == 1
+    page = (out / "tradeoff.html").read_text()
+    assert "stopped at the time limit (not proven within the gap)" in page
+    assert "Target gap: each step is proven within 1 % of the least cost" in page
+
+
 # --------------------------------------------------------------------------- sensitivity
 
 
@@ -210,6 +248,19 @@ def test_sensitivity_writes_everything(app, study_files, tmp_path):
     assert summary["monte_carlo"]["seed"] == 5
     assert summary["monte_carlo"]["ageing_mm_per_year"] == {"PE": 0.005}
     assert "licensed engineer" in (out / "sensitivity.html").read_text()
+    # Issue 16, item 6: the robust and nominal designs get the files `design --out`
+    # writes, and the page states the probability of meeting each scenario (the same
+    # figure as monte_carlo_summary.csv).
+    for folder in ("robust", "nominal"):
+        for name in ("report.html", "appurtenances.csv"):
+            assert (out / folder / name).is_file(), (folder, name)
+    assert "licensed engineer" in (out / "robust" / "report.html").read_text()
+    page = (out / "sensitivity.html").read_text()
+    mc = pd.read_csv(out / "monte_carlo_summary.csv")
+    for row in mc.itertuples():
+        assert (f"Monte Carlo, year 20: the fixed design meets scenario &#x27;{row.scenario}"
+                f"&#x27; in {100 * row.probability_meets:.1f} % of 40 samples.") in page
+    assert "probability of meeting" in page
 
 
 def test_monte_carlo_degenerate_equals_check_and_seeds_repeat(app, study_files, tmp_path):

@@ -26,7 +26,12 @@ import numpy as np
 import pytest
 
 import optimiser
-from optimiser.sweeps.tradeoff import COLUMNS, tradeoff, tradeoff_with_study_point
+from optimiser.sweeps.tradeoff import (
+    COLUMNS,
+    pieces_summary,
+    tradeoff,
+    tradeoff_with_study_point,
+)
 
 GAP = 1e-6
 
@@ -116,6 +121,25 @@ def test_study_point_is_solved_when_not_a_step(study):
     assert result.own_row["cost"] >= result.table.iloc[0]["cost"] * (1 - 1e-3)
     on_step = tradeoff_with_study_point(study, "source-level", [201.0, 205.0])
     assert on_step.own_row["cost"] == on_step.table.iloc[0]["cost"]
+
+
+def test_study_point_is_the_design_that_design_gives(study):
+    # Issue 16, item 7: a curve solved at a looser gap than the study's must not move the
+    # study's own point; it is solved as `design` solves it (the study's own [solver]
+    # gap and time limit). The reference is the optimiser's own `design` run of the
+    # same study (common practice, no source: one study, one answer).
+    own = study.source.level_m
+    loose = 0.05
+    assert loose > study.solver.mip_gap
+    result = tradeoff_with_study_point(study, "source-level", [own, own + 5.0],
+                                       mip_gap=loose)
+    expected = optimiser.optimise_design(study)
+    assert result.own_row["target_gap"] == study.solver.mip_gap
+    assert result.own_row["time_limit_s"] == study.solver.time_limit_s
+    assert result.own_row["cost"] == pytest.approx(expected.total_cost, rel=1e-12)
+    assert result.own_row["pieces"] == pieces_summary(expected)[1]
+    # The steps keep the gap they were asked for.
+    assert set(result.table["target_gap"]) == {loose}
 
 
 def test_unknown_variable_is_refused(study):

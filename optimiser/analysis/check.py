@@ -17,6 +17,7 @@ import numpy as np
 import pandas as pd
 from scipy.optimize import brentq
 
+from optimiser.analysis import violation_text as text
 from optimiser.analysis.flows import (
     flow_below_m3_s,
     friction_gradient,
@@ -295,14 +296,15 @@ def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
             violations.append(Violation(
                 "max_pressure", None, row.lowest_chainage_m, demand,
                 row.allowable_surge_head_m,
-                f"{name}: static head {row.static_head_m:.1f} m + {what} exceeds the class's "
-                f"{row.allowable_surge_head_m:g} m"))
+                text.class_exceeded(name, demand, f"static head {row.static_head_m:.1f} m + "
+                                    f"{what}", row.allowable_surge_head_m,
+                                    row.lowest_chainage_m)))
         else:
             violations.append(Violation(
                 "max_pressure", None, row.lowest_chainage_m, row.static_head_m,
                 row.allowable_head_m,
-                f"{name}: static head {row.static_head_m:.1f} m exceeds the class's "
-                f"allowable head {row.allowable_head_m:g} m"))
+                text.class_exceeded(name, row.static_head_m, "static head",
+                                    row.allowable_head_m, row.lowest_chainage_m)))
     return violations
 
 
@@ -317,9 +319,8 @@ def _transient_violations(study: Study, scenario: Scenario, points: pd.DataFrame
     return [Violation(
         "transient_pressure", scenario.name, float(row.chainage_m),
         float(row.transient_pressure_m), limit,
-        f"pressure head {row.pressure_m:.2f} m less the surge head "
-        f"{surge_by_piece[int(row.piece)]:.1f} m of its pipe is below the down-surge "
-        f"limit {limit:g} m") for row in low.itertuples()]
+        text.transient_short(scenario.name, row.pressure_m, surge_by_piece[int(row.piece)],
+                             limit, row.chainage_m)) for row in low.itertuples()]
 
 
 def _velocity_violations(scenario_name: str, segments: pd.DataFrame, n_pieces: int,
@@ -334,12 +335,14 @@ def _velocity_violations(scenario_name: str, segments: pd.DataFrame, n_pieces: i
             violations.append(Violation(
                 "velocity_max", scenario_name, float(part.at[fastest, "from_m"]),
                 float(part.at[fastest, "velocity_m_s"]), rules.velocity_max_m_s,
-                f"piece {index + 1}: velocity above the maximum"))
+                text.velocity_outside(scenario_name, index + 1, part.at[fastest, "velocity_m_s"],
+                                      rules.velocity_max_m_s, part.at[fastest, "from_m"], True)))
         if below_velocity_min(part.at[slowest, "velocity_m_s"], rules, CHECK_TOLERANCE):
             violations.append(Violation(
                 "velocity_min", scenario_name, float(part.at[slowest, "from_m"]),
                 float(part.at[slowest, "velocity_m_s"]), rules.velocity_min_m_s,
-                f"piece {index + 1}: velocity below the minimum (settling, water age)"))
+                text.velocity_outside(scenario_name, index + 1, part.at[slowest, "velocity_m_s"],
+                                      rules.velocity_min_m_s, part.at[slowest, "from_m"], False)))
     return violations
 
 
@@ -366,8 +369,8 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
             violations.append(Violation(
                 "min_pressure", scenario.name, float(row.chainage_m), float(row.pressure_m),
                 float(row.min_pressure_m),
-                f"pressure head {row.pressure_m:.2f} m below the minimum "
-                f"{row.min_pressure_m:g} m"))
+                text.pressure_short(scenario.name, row.pressure_m, row.min_pressure_m,
+                                    row.chainage_m)))
         violations.extend(_transient_violations(study, scenario, points, surge_by_piece))
         if scenario.velocity_limits:
             violations.extend(_velocity_violations(scenario.name, segments,
@@ -376,8 +379,8 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
             violations.append(Violation(
                 "outlet_head", scenario.name, study.route.total_chainage_m,
                 arrays.outlet_energy_m, study.outlet.required_head_m,
-                f"energy at the outlet after the exit loss is "
-                f"{study.outlet.required_head_m - arrays.outlet_energy_m:.2f} m short"))
+                text.outlet_short(scenario.name, arrays.outlet_energy_m,
+                                  study.outlet.required_head_m, study.route.total_chainage_m)))
         result = ScenarioResult(scenario.name, inflow_m3_s(study, scenario),
                                 scenario.outlet_flow_m3_s, arrays.outlet_energy_m,
                                 study.outlet.required_head_m, points, segments)

@@ -1,7 +1,10 @@
 """How a fixed design behaves when the roughness assumption is wrong or the pipe ages.
 
-Roughness replaces every option's catalogue roughness, as a scenario's ``roughness_mm``
-does; flows, levels and offtakes stay as each scenario states them.
+A swept (or drawn) roughness stands for the catalogue's roughness of every option; each
+scenario then applies its own rule to it, as it does to the catalogue's
+(:meth:`optimiser.model.Scenario.effective_roughness_mm`): a ``roughness_factor``
+multiplies it, a scenario's own ``roughness_mm`` replaces it (such a scenario does not
+move with the sweep). Flows, levels and offtakes stay as each scenario states them.
 
 Ageing follows the linear growth of absolute roughness with time that Colebrook & White
 observed in water mains: eps(T) = eps_0 + alpha T (Colebrook, C.F. & White, C.M. (1937),
@@ -28,14 +31,17 @@ def roughness_sweep(study: Study, design: Design, roughness_mm: np.ndarray,
                     linear: LinearCheck | None = None) -> pd.DataFrame:
     """Capacity and margins of a fixed design at each roughness, per scenario.
 
-    Columns: scenario, roughness_mm, capacity_m3_s, capacity_outlet_only_m3_s,
-    outlet_margin_m, least_pressure_margin_m, meets (outlet and pressures).
+    Columns: scenario, roughness_mm (the swept value), scenario_roughness_mm (the value
+    the scenario uses: see the module docstring), capacity_m3_s,
+    capacity_outlet_only_m3_s, outlet_margin_m, least_pressure_margin_m, meets (outlet and
+    pressures).
     """
     linear = linear or linear_check(study, design)
     values = np.asarray(roughness_mm, dtype=float)
     rows = []
     for scenario in study.scenarios:
-        roughness = np.repeat(values[:, None], linear.n_groups, axis=1)
+        used = scenario.effective_roughness_mm(values)
+        roughness = np.repeat(used[:, None], linear.n_groups, axis=1)
         source = np.full(values.shape, scenario.source_level_m)
         flow = np.full(values.shape, scenario.outlet_flow_m3_s)
         outlet, pressure = linear.margins(flow, scenario.offtake_factor, source, roughness)
@@ -43,7 +49,8 @@ def roughness_sweep(study: Study, design: Design, roughness_mm: np.ndarray,
         outlet_only = linear.capacity_m3_s(scenario.offtake_factor, source, roughness,
                                             outlet_only=True)
         rows.append(pd.DataFrame({
-            "scenario": scenario.name, "roughness_mm": values, "capacity_m3_s": capacity,
+            "scenario": scenario.name, "roughness_mm": values,
+            "scenario_roughness_mm": used, "capacity_m3_s": capacity,
             "capacity_outlet_only_m3_s": outlet_only, "outlet_margin_m": outlet,
             "least_pressure_margin_m": pressure,
             "meets": (outlet >= -CHECK_TOLERANCE) & (pressure >= -CHECK_TOLERANCE)}))
@@ -92,9 +99,11 @@ def monte_carlo(study: Study, design: Design, distribution: RoughnessDistributio
                 linear: LinearCheck | None = None) -> MonteCarloResult:
     """Probability that the fixed design meets each scenario at year ``years``.
 
-    Each sample draws one initial roughness per material, adds ``rate x years`` for the
-    material's ageing rate, and evaluates every scenario (outlet head and minimum
-    pressures; velocities and classes do not depend on roughness). Same seed, same
+    Each sample draws one initial roughness per material and adds ``rate x years`` for
+    the material's ageing rate; every scenario applies its own rule to that aged value
+    (module docstring: a ``roughness_factor`` multiplies it) and is evaluated (outlet
+    head and minimum pressures; velocities and classes do not depend on roughness). The
+    ``roughness_mm[material]`` columns hold the value each scenario used. Same seed, same
     numbers.
     """
     linear = linear or linear_check(study, design)
@@ -104,10 +113,12 @@ def monte_carlo(study: Study, design: Design, distribution: RoughnessDistributio
     initial = distribution.draw(rng, (samples, len(materials)))
     aged = initial + np.array([rates.get(m, 0.0) for m in materials]) * years
     column = {m: i for i, m in enumerate(materials)}
-    roughness = aged[:, [column[m] for m in linear.group_materials]]
+    base = aged[:, [column[m] for m in linear.group_materials]]
     frames = []
     summary = []
     for scenario in study.scenarios:
+        roughness = scenario.effective_roughness_mm(base)
+        used = scenario.effective_roughness_mm(aged)
         source = np.full(samples, scenario.source_level_m)
         flow = np.full(samples, scenario.outlet_flow_m3_s)
         outlet, pressure = linear.margins(flow, scenario.offtake_factor, source, roughness)
@@ -117,7 +128,7 @@ def monte_carlo(study: Study, design: Design, distribution: RoughnessDistributio
                               "capacity_m3_s": capacity, "outlet_margin_m": outlet,
                               "least_pressure_margin_m": pressure, "meets": meets})
         for i, material in enumerate(materials):
-            frame[f"roughness_mm[{material}]"] = aged[:, i]
+            frame[f"roughness_mm[{material}]"] = used[:, i]
         frames.append(frame)
         finite = capacity[np.isfinite(capacity)]
         summary.append({

@@ -116,11 +116,11 @@ def _write_comparison(output: StagedOutput, out_dir: Path, table: pd.DataFrame,
                       options: list[OptionResult]) -> None:
     """comparison.csv, .xlsx, .html and one folder per option with a design."""
     from optimiser.io.writers import atomic_write_text, write_csv, write_workbook
-    from optimiser.reports.compare import comparison_html, option_name
+    from optimiser.reports.compare import comparison_html
     from optimiser.reports.files import write_design_files
 
     taken: set[str] = set()
-    slugs = [_slug(option_name(option.path), taken) for option in options]
+    slugs = [_slug(option.label, taken) for option in options]
     names = {"comparison.csv", "comparison.xlsx", "comparison.html", *slugs}
     folder = output.folder(out_dir, names)
     schedules: dict[str, pd.DataFrame] = {"comparison": table}

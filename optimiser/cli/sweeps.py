@@ -215,8 +215,9 @@ def _monte_carlo_settings(samples: int | None, seed: int | None, distribution: s
 
 # Options of sensitivity.
 RoughnessFromOption = Annotated[float, typer.Option(
-    "--roughness-from", help="Lowest absolute roughness (mm); replaces every option's "
-    "roughness, as a scenario's roughness_mm does.", show_default=False,
+    "--roughness-from", help="Lowest absolute roughness (mm); stands for every option's "
+    "catalogue roughness (a scenario's roughness_factor still multiplies it).",
+    show_default=False,
     metavar="MM")]
 RoughnessToOption = Annotated[float, typer.Option(
     "--roughness-to", help="Highest absolute roughness (mm).", show_default=False,
@@ -246,8 +247,8 @@ ModeOption = Annotated[float | None, typer.Option(
     "--mode", help="Monte Carlo: mode of the triangular distribution, mm (default the "
     "middle of the range).", show_default=False, metavar="MM")]
 YearsOption = Annotated[float | None, typer.Option(
-    "--years", help="Monte Carlo: years in service T at which to judge the design "
-    "(default 0).", show_default=False, metavar="YEARS")]
+    "--years", help="Monte Carlo: years in service T at which to judge the design in "
+    "every scenario (default 0).", show_default=False, metavar="YEARS")]
 AgeingOption = Annotated[list[str] | None, typer.Option(
     "--ageing", help="Monte Carlo: MATERIAL=RATE, roughness growth in mm/year "
     "(repeatable); roughness at year T = drawn value + RATE x T.",

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import html
-from pathlib import Path
 
 import pandas as pd
 from plotly.offline import get_plotlyjs
@@ -14,7 +13,10 @@ from optimiser.model import Status
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.charts import profile_figure
 from optimiser.reports.text import short_title
-from optimiser.sweeps.options import OptionResult
+from optimiser.sweeps.options import OptionResult, option_name
+
+__all__ = ["comparison_html", "comparison_row", "comparison_table", "option_name",
+           "print_comparison"]
 
 COMPARISON_COLUMNS = [
     "rank", "option", "title", "study", "status", "verified", "total_cost", "currency",
@@ -23,12 +25,6 @@ COMPARISON_COLUMNS = [
     "highest_velocity_m_s", "uniform_option", "uniform_cost", "saving_vs_uniform",
     "gap", "lower_bound", "diagnosis",
 ]
-
-
-def option_name(path: Path) -> str:
-    """A short name for an option: its folder for ``study.toml``, else the file's stem."""
-    path = Path(path)
-    return path.parent.name or path.stem if path.stem == "study" else path.stem
 
 
 def _lengths(pieces: pd.DataFrame, column: str, fmt: str) -> str:
@@ -41,7 +37,7 @@ def comparison_row(option: OptionResult) -> dict:
     study = option.study
     outcome = option.outcome
     design_flow = max(s.outlet_flow_m3_s for s in study.scenarios) * 1000.0
-    row = {"option": option_name(option.path), "title": short_title(study.title),
+    row = {"option": option.label, "title": short_title(study.title),
            "study": str(option.path), "currency": study.currency,
            "design_flow_l_s": design_flow}
     if outcome is None:
@@ -106,10 +102,10 @@ def comparison_html(table: pd.DataFrame, options: list[OptionResult]) -> str:
         outcome = option.outcome
         if outcome is None or outcome.check is None:
             reason = option.error or " | ".join(outcome.diagnosis if outcome else [])
-            plots.append(f"<div class='cell'><h3>{html.escape(option_name(option.path))}</h3>"
+            plots.append(f"<div class='cell'><h3>{html.escape(option.label)}</h3>"
                          f"<p>No design: {html.escape(reason)}</p></div>")
             continue
-        figure = profile_figure(outcome.check, title=option_name(option.path))
+        figure = profile_figure(outcome.check, title=option.label)
         figure.update_layout(height=520, legend={"font": {"size": 9}})
         plots.append("<div class='cell'>" + figure.to_html(
             full_html=False, include_plotlyjs=False, div_id=f"plot-{index}") + "</div>")

@@ -14,6 +14,7 @@ from optimiser.model import Status, Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.surge_table import print_class_table
+from optimiser.reports.sweep_tables import gap_text
 from optimiser.reports.terminal import chainage_label, print_violations
 from optimiser.reports.text import console_title
 
@@ -125,7 +126,7 @@ def _money(value: float | None, currency: str) -> str:
 
 
 def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None:
-    """Schedule, totals, bound, binding points and the uniform comparison."""
+    """Schedule, totals, bound, limiting points and the uniform comparison."""
     currency = study.currency
     if outcome.status == Status.INFEASIBLE:
         console.print(f"[bold]{console_title(study.title)}[/bold]")
@@ -139,28 +140,14 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     length_km = study.route.total_chainage_m / 1000
     console.print(f"[bold]{console_title(study.title)}[/bold]  (design of {length_km:.3f} km, "
                   f"{len(table)} pieces)")
-    pieces = Table(title=f"Schedule (velocity and unit head loss in scenario {governing!r})",
-                   title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False,
-                   padding=(0, 1, 0, 0))
-    for column in ("from", "to", "length m", "material", "DN", "ID mm", "class", "V m/s",
-                   "J m/km", f"cost {currency}".strip()):
-        pieces.add_column(column, justify="left" if column in ("material", "class") else "right",
-                          no_wrap=column != "material",
-                          min_width=8 if column == "material" else None)
-    for row in table.itertuples():
-        pieces.add_row(chainage_label(row.from_m), chainage_label(row.to_m),
-                       f"{row.length_m:,.1f}", row.material, f"{row.dn_mm:g}",
-                       f"{row.internal_diameter_mm:g}", row.pressure_class,
-                       f"{row.velocity_m_s:.2f}", f"{row.unit_head_loss_m_per_km:.2f}",
-                       f"{row.cost:,.0f}")
-    console.print(pieces)
+    console.print(_schedule_table(table, governing, currency))
     print_class_table(console, outcome.check)
     status = {Status.OPTIMAL: "[bold green]optimal[/bold green] (proven within the gap)",
               Status.FEASIBLE: "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
                           "not proven cheapest)"}[outcome.status]
-    gap = "n/a" if outcome.gap is None else f"{outcome.gap:.2e}"
+    gap = "n/a" if outcome.gap is None else gap_text(outcome.gap)
     console.print(f"Status: {status}; solver {outcome.solver_name}, "
-                  f"{outcome.solve_time_s:.1f} s, gap {gap} (target {outcome.mip_gap:g})")
+                  f"{outcome.solve_time_s:.1f} s, gap {gap} (target {gap_text(outcome.mip_gap)})")
     if outcome.check.change_cost_total:
         console.print(f"Change costs included: {_money(outcome.check.change_cost_total, currency)}")
     console.print(f"Total cost:              {_money(outcome.total_cost, currency)}")
@@ -180,8 +167,37 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     print_violations(console, outcome.check)
 
 
+SCHEDULE_HEADERS = ("from", "to", "length\nm", "material", "DN", "ID\nmm", "class", "V\nm/s",
+                    "J\nm/km")
+"""Headers of the terminal schedule: units on a second line, so that at 80 columns every
+column and every number is shown whole."""
+
+
+def _schedule_table(table: pd.DataFrame, governing: str, currency: str) -> Table:
+    """The schedule of pieces for the terminal. Numbers are never cut: each number column
+    is at least as wide as its widest value; only the material's name may wrap."""
+    rows = [(chainage_label(row.from_m), chainage_label(row.to_m), f"{row.length_m:,.1f}",
+             row.material, f"{row.dn_mm:g}", f"{row.internal_diameter_mm:g}",
+             row.pressure_class, f"{row.velocity_m_s:.2f}",
+             f"{row.unit_head_loss_m_per_km:.2f}", f"{row.cost:,.0f}")
+            for row in table.itertuples()]
+    view = Table(title=f"Schedule (velocity and unit head loss in scenario {governing!r})",
+                 title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False,
+                 padding=(0, 0, 0, 0))  # the box puts a space between columns
+    headers = (*SCHEDULE_HEADERS, f"cost\n{currency}".strip())
+    for index, header in enumerate(headers):
+        wraps = header == "material"
+        widest = max((len(row[index]) for row in rows), default=1)
+        view.add_column(header, justify="left" if header in ("material", "class") else "right",
+                        no_wrap=not wraps, overflow="fold",
+                        min_width=8 if wraps else widest)
+    for row in rows:
+        view.add_row(*row)
+    return view
+
+
 def _binding_table(outcome: DesignOutcome) -> Table:
-    binding = Table(title="Binding points (least pressure margin per scenario)",
+    binding = Table(title="Limiting points (least pressure margin per scenario)",
                     title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False,
                     padding=(0, 1, 0, 0))
     for column in ("scenario", "chainage", "label", "pressure m", "minimum m", "margin m",

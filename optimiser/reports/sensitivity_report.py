@@ -16,7 +16,7 @@ from optimiser import __version__
 from optimiser.io.writers import atomic_write_text, write_csv, write_json
 from optimiser.model import Status
 from optimiser.reports.cautions import CAUTIONS
-from optimiser.reports.design_report import design_dict, design_table
+from optimiser.reports.files import write_design_files
 from optimiser.reports.results import PIECE_FIELDS, assumptions
 from optimiser.reports.sweep_charts import figures_page, histogram_figure, roughness_figure
 from optimiser.reports.sweep_tables import (
@@ -29,7 +29,7 @@ from optimiser.reports.sweep_tables import (
 )
 from optimiser.reports.text import console_title, short_title
 from optimiser.sweeps.robust import RoughnessRuns, SolvedDesign
-from optimiser.sweeps.sensitivity import SensitivityResult
+from optimiser.sweeps.sensitivity import ROUGHNESS_RULE, SensitivityResult
 
 SENSITIVITY_FILES = frozenset({
     "fixed_design_roughness.csv", "reoptimised_roughness.csv", "robust", "nominal",
@@ -55,8 +55,7 @@ def sensitivity_dict(result: SensitivityResult) -> dict[str, Any]:
         "study": str(study.path) if study.path else None, "currency": study.currency,
         "quantity": "roughness_mm",
         "roughness_mm": result.roughness_mm,
-        "roughness_note": "replaces every option's roughness, as a scenario's roughness_mm "
-                          "does; flows, levels and offtakes as each scenario states them",
+        "roughness_note": ROUGHNESS_RULE,
         "fixed_design": None,
         "reoptimised": None if runs.reoptimised is None else records(runs.reoptimised),
         "nominal": _solved_summary(runs.nominal),
@@ -78,7 +77,8 @@ def sensitivity_dict(result: SensitivityResult) -> dict[str, Any]:
         payload["robust"] = {
             **(_solved_summary(runs.robust) or {}),
             "premium": runs.premium, "premium_fraction": runs.premium_fraction,
-            "files": ["robust/result.json", "robust/design.csv"]
+            "files": ["robust/design.csv", "robust/result.json", "robust/report.html",
+                      "robust/appurtenances.csv"]
             if runs.robust.outcome is not None and runs.robust.outcome.check is not None
             else [],
             "sweep": None if result.robust_sweep is None else records(result.robust_sweep),
@@ -93,7 +93,8 @@ def sensitivity_dict(result: SensitivityResult) -> dict[str, Any]:
             "samples": settings.samples, "seed": settings.seed, "years": settings.years,
             "ageing_mm_per_year": settings.ageing_mm_per_year,
             "ageing_note": "roughness grows linearly with years in service, "
-                           "eps(T) = eps_0 + rate * T (Colebrook & White 1937)",
+                           "eps(T) = eps_0 + rate * T (Colebrook & White 1937), in every "
+                           "scenario; a scenario's roughness_factor multiplies eps(T)",
             "summary": records(result.monte_carlo.summary),
         }
     return payload
@@ -138,10 +139,42 @@ def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]
         figures.append(("Robust design across roughness",
                         roughness_figure(result.robust_sweep, result.design_flows_m3_s)))
     if result.monte_carlo is not None:
-        figures.append((f"Monte Carlo: capacity at year {result.monte_carlo.years:g}",
+        years = result.monte_carlo.years
+        figures.append((f"Monte Carlo: probability of meeting each scenario at year "
+                        f"{years:g}", probability_figure(result.monte_carlo.summary)))
+        figures.append((f"Monte Carlo: capacity at year {years:g}",
                         histogram_figure(result.monte_carlo.samples, result.design_flows_m3_s,
-                                         result.monte_carlo.years)))
+                                         years)))
     return figures
+
+
+def probability_notes(result: SensitivityResult) -> list[str]:
+    """The Monte Carlo's probability of meeting each scenario, one sentence each."""
+    if result.monte_carlo is None:
+        return []
+    mc = result.monte_carlo
+    return [f"Monte Carlo, year {mc.years:g}: the fixed design meets scenario "
+            f"{row.scenario!r} in {100 * row.probability_meets:.1f} % of {row.samples:,} "
+            "samples." for row in mc.summary.itertuples()]
+
+
+def probability_figure(summary: pd.DataFrame) -> go.Figure:
+    """The Monte Carlo summary as a table: per scenario, the probability that the fixed
+    design meets it (outlet head and every minimum pressure) and its capacity."""
+    header = ["scenario", "design flow (L/s)", "probability of meeting", "samples",
+              "capacity p05 (L/s)", "p50 (L/s)", "p95 (L/s)"]
+
+    def litres(column: str) -> list[str]:
+        return ["none" if pd.isna(v) else f"{1000 * float(v):.2f}" for v in summary[column]]
+
+    cells = [summary["scenario"].tolist(), litres("design_flow_m3_s"),
+             [f"{100 * float(p):.1f} %" for p in summary["probability_meets"]],
+             [f"{int(n):,}" for n in summary["samples"]], litres("capacity_p05_m3_s"),
+             litres("capacity_p50_m3_s"), litres("capacity_p95_m3_s")]
+    figure = go.Figure(go.Table(header={"values": header, "align": "left"},
+                                cells={"values": cells, "align": "left"}))
+    figure.update_layout(height=80 + 30 * len(summary), margin={"t": 10, "b": 10})
+    return figure
 
 
 def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Path]:
@@ -154,15 +187,6 @@ def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Pa
         writes.append((out_dir / "fixed_design_roughness.csv", result.fixed_sweep))
     if runs.reoptimised is not None:
         writes.append((out_dir / "reoptimised_roughness.csv", runs.reoptimised))
-    for name, solved in (("robust", runs.robust),
-                         ("nominal", runs.nominal if result.design_source == "optimised"
-                          else None)):
-        if solved is None or solved.outcome is None or solved.outcome.check is None:
-            continue
-        command = "sensitivity --robust" if name == "robust" else "sensitivity"
-        writes.append((out_dir / name / "design.csv", design_table(solved.outcome)))
-        writes.append((out_dir / name / "result.json",
-                       design_dict(solved.outcome, solved.study, command)))
     if result.robust_sweep is not None:
         writes.append((out_dir / "robust_design_roughness.csv", result.robust_sweep))
     if result.monte_carlo is not None:
@@ -173,9 +197,10 @@ def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Pa
     robust_note = _robust_figure_note(runs, result.study.currency)
     if robust_note:
         notes.append(robust_note)
+    notes += probability_notes(result)
     page = figures_page(f"{short_title(result.study.title)}: roughness sensitivity",
                         sensitivity_figures(result), notes)
-    paths = []
+    paths = _write_designs(out_dir, result)
     for path, content in writes:
         path.parent.mkdir(parents=True, exist_ok=True)
         if isinstance(content, pd.DataFrame):
@@ -185,6 +210,24 @@ def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Pa
         paths.append(path)
     atomic_write_text(out_dir / "sensitivity.html", page)
     paths.append(out_dir / "sensitivity.html")
+    return paths
+
+
+def _write_designs(out_dir: Path, result: SensitivityResult) -> list[Path]:
+    """The robust and nominal designs' files in ``robust/`` and ``nominal/``, as
+    ``design --out`` writes them (design.csv, result.json, report.html,
+    appurtenances.csv)."""
+    runs = result.runs
+    paths: list[Path] = []
+    for name, solved in (("robust", runs.robust),
+                         ("nominal", runs.nominal if result.design_source == "optimised"
+                          else None)):
+        if solved is None or solved.outcome is None or solved.outcome.check is None:
+            continue
+        command = "sensitivity --robust" if name == "robust" else "sensitivity"
+        folder = out_dir / name
+        folder.mkdir(parents=True, exist_ok=True)
+        paths += write_design_files(folder, solved.outcome, solved.study, command)
     return paths
 
 

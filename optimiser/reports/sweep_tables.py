@@ -24,9 +24,10 @@ def money(value: float | None, currency: str = "") -> str:
 
 
 def gap_text(value: float | None) -> str:
+    """A relative gap as a percentage, to two significant figures: 0.00061 -> '0.061 %'."""
     if value is None or (isinstance(value, float) and math.isnan(value)):
         return "-"
-    return f"{value:.1e}"
+    return f"{100 * value:.2g} %" if value > 0 else "0 %"
 
 
 def records(table: pd.DataFrame) -> list[dict[str, Any]]:
@@ -53,7 +54,7 @@ def sweep_terminal_table(title: str, table: pd.DataFrame, value_header: str,
     view = Table(title=title, title_justify="left")
     for column, justify in ((value_header, "right"), ("status", "left"),
                             ("least cost", "right"), ("gap", "right"),
-                            ("pieces", "left"), ("binding", "left")):
+                            ("pieces", "left"), ("limiting point", "left")):
         view.add_column(column, justify=justify)
     reasons = []
     for row in table.itertuples(index=False):
@@ -70,7 +71,9 @@ def sweep_terminal_table(title: str, table: pd.DataFrame, value_header: str,
                 "solver failed (see below)"
             reasons.append(f"{value}: {status}: {row['note'] or 'no reason given'}")
         style = status_style(status)
-        view.add_row(value, f"[{style}]{status}[/{style}]", money(row["cost"], currency),
+        shown = "feasible (time limit)" if status == Status.FEASIBLE \
+            else status
+        view.add_row(value, f"[{style}]{shown}[/{style}]", money(row["cost"], currency),
                      gap_text(row["gap"]), detail, binding)
     return view, reasons
 

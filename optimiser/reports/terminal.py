@@ -1,4 +1,8 @@
-"""Terminal output with rich: critical points, violations, cautions."""
+"""Terminal output with rich: limiting points, violations, cautions.
+
+"Limiting point" is the one name, in every output, for the point where a design comes
+nearest a limit (least pressure margin, highest velocity, class nearest its limit).
+"""
 
 from __future__ import annotations
 
@@ -32,7 +36,7 @@ def print_cautions(console: Console) -> None:
 
 
 def print_check(console: Console, result: CheckResult) -> None:
-    """Scenario summary, critical points and violations of a checked design."""
+    """Scenario summary, limiting points and violations of a checked design."""
     study = result.study
     console.print(f"[bold]{console_title(study.title)}[/bold]  (check of "
                   f"{len(result.design.pieces)} pieces, "
@@ -51,7 +55,7 @@ def print_check(console: Console, result: CheckResult) -> None:
                         flow_text(s.capacity_m3_s), flow_text(s.capacity_outlet_only_m3_s))
     console.print(summary)
 
-    critical = Table(title="Critical points", title_justify="left")
+    critical = Table(title="Limiting points (nearest each limit)", title_justify="left")
     for column in ("scenario", "what", "chainage", "value", "limit", "margin"):
         critical.add_column(column, justify="left" if column in ("scenario", "what") else "right")
     pieces = result.pieces
@@ -82,13 +86,11 @@ def print_violations(console: Console, result: CheckResult, limit: int = 20) -> 
     if result.ok:
         console.print("[bold green]OK[/bold green]: every limit is met in every scenario.")
         return
-    table = Table(title=f"Violations ({len(result.violations)})", title_justify="left")
-    for column in ("kind", "scenario", "chainage", "value", "limit", "detail"):
-        table.add_column(column)
+    # One sentence each (what, where, by how much, which scenario): a table would cut
+    # them into narrow columns at 80 columns.
+    console.print(f"[bold]Violations ({len(result.violations)})[/bold]")
     for v in result.violations[:limit]:
-        table.add_row(v.kind, v.scenario or "(static)", chainage_label(v.chainage_m),
-                      f"{v.value:.3f}", f"{v.limit:.3f}", v.message)
-    console.print(table)
+        console.print(f"- {v.message} [{v.kind}]", markup=False, highlight=False)
     if len(result.violations) > limit:
         console.print(f"... and {len(result.violations) - limit} more (see --json)")
     console.print("[bold red]NOT OK[/bold red]: the design violates the limits above.")

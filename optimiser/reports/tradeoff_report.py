@@ -26,6 +26,7 @@ from optimiser.reports.sweep_tables import (
     records,
     sweep_terminal_table,
 )
+from optimiser.reports.terminal import chainage_label
 from optimiser.reports.text import console_title, short_title
 from optimiser.sweeps.tradeoff import TradeoffResult
 
@@ -59,6 +60,35 @@ def tradeoff_table(result: TradeoffResult) -> pd.DataFrame:
     return table
 
 
+def _percent(gap: float) -> str:
+    return f"{100 * gap:.2g} %"
+
+
+def curve_gap_text(result: TradeoffResult) -> str:
+    """The gap the curve's steps were solved to, and the study's point's, in words."""
+    gaps = sorted({float(g) for g in result.table["target_gap"].dropna()})
+    if not gaps:
+        curve = "no step was solved"
+    elif len(gaps) == 1:
+        curve = f"each step is proven within {_percent(gaps[0])} of the least cost"
+    else:
+        curve = (f"steps are proven within {_percent(gaps[0])} to {_percent(gaps[-1])} "
+                 "of the least cost")
+    own_gap = result.own_row.get("target_gap")
+    own = "" if own_gap is None else (f"; the study's own point is solved as design "
+                                      f"solves it, within {_percent(float(own_gap))}")
+    return f"Target gap: {curve}{own}."
+
+
+TIME_LIMIT_NOTE = ("Steps marked 'stopped at the time limit' (status feasible) have a "
+                   "design that meets every limit but is not proven within the target "
+                   "gap; their cost may be above the least cost by up to their gap.")
+
+
+def _time_limited(table: pd.DataFrame) -> pd.DataFrame:
+    return table[table["status"] == Status.FEASIBLE]
+
+
 def tradeoff_dict(result: TradeoffResult, study: Study) -> dict[str, Any]:
     own = result.own_row
     return {
@@ -66,11 +96,15 @@ def tradeoff_dict(result: TradeoffResult, study: Study) -> dict[str, Any]:
         "study": str(study.path) if study.path else None, "currency": study.currency,
         "variable": result.variable, "value_column": VALUE_COLUMN[result.variable],
         "study_point": {"value": result.own_value, "status": own["status"],
-                        "cost": own["cost"], "pieces": own["pieces"]},
+                        "cost": own["cost"], "pieces": own["pieces"],
+                        "lower_bound": own["lower_bound"], "gap": own["gap"],
+                        "target_gap": own.get("target_gap"),
+                        "time_limit_s": own.get("time_limit_s")},
         "steps": records(tradeoff_table(result)),
         "infeasible_steps": int((result.table["status"] == Status.INFEASIBLE).sum()),
         "failed_steps": int((result.table["status"] == Status.FAILED).sum()),
-        "notes": [INFEASIBLE_NOTE],
+        "time_limit_steps": len(_time_limited(result.table)),
+        "notes": [INFEASIBLE_NOTE, TIME_LIMIT_NOTE, curve_gap_text(result)],
         "assumptions": assumptions(study),
         "cautions": list(CAUTIONS),
     }
@@ -81,10 +115,22 @@ def tradeoff_chart(result: TradeoffResult, study: Study) -> go.Figure:
     table["value"] = [_display_value(result.variable, v) for v in table["value"]]
     table["cost"] = table["cost"].astype(float)
     own_cost = result.own_row["cost"]
-    return tradeoff_figure(table, AXIS_TITLE[result.variable],
-                           _display_value(result.variable, result.own_value),
-                           None if own_cost is None or math.isnan(own_cost) else own_cost,
-                           study.currency)
+    figure = tradeoff_figure(table, AXIS_TITLE[result.variable],
+                             _display_value(result.variable, result.own_value),
+                             None if own_cost is None or math.isnan(own_cost) else own_cost,
+                             study.currency)
+    stopped = _time_limited(table)
+    if len(stopped):
+        figure.add_trace(go.Scatter(
+            x=stopped["value"], y=stopped["cost"], mode="markers",
+            name="stopped at the time limit (not proven within the gap)",
+            marker={"color": "#b8860b", "size": 15, "symbol": "circle-open",
+                    "line": {"width": 2}},
+            customdata=stopped["gap"].astype(float) * 100,
+            hovertemplate="%{x:.3f}<br>cost %{y:,.0f}<br>stopped at the time limit, "
+                          "gap %{customdata:.2f} %<extra></extra>"))
+    figure.update_layout(title={"text": curve_gap_text(result), "font": {"size": 13}})
+    return figure
 
 
 def write_tradeoff_files(out_dir: Path, result: TradeoffResult, study: Study) -> list[Path]:
@@ -94,8 +140,9 @@ def write_tradeoff_files(out_dir: Path, result: TradeoffResult, study: Study) ->
     page = figures_page(
         f"{short_title(study.title)}: least cost against {AXIS_TITLE[result.variable]}",
         [("Least cost", tradeoff_chart(result, study))],
-        [INFEASIBLE_NOTE, "Each step is re-optimised on its own; the diamond (or dashed "
-         "line) is the study as written."])
+        [INFEASIBLE_NOTE, TIME_LIMIT_NOTE, curve_gap_text(result),
+         "Each step is re-optimised on its own; the diamond (or dashed line) is the "
+         "study as written."])
     write_csv(paths[0], tradeoff_table(result))
     write_json(paths[1], tradeoff_dict(result, study))
     atomic_write_text(paths[2], page)
@@ -114,8 +161,19 @@ def print_tradeoff(console: Console, result: TradeoffResult, study: Study) -> No
         "Least cost at each step", result.table, AXIS_TITLE[variable].split(" (")[0], text,
         study.currency))
     own = result.own_row
+    limiting = ""
+    if own.get("binding_what"):
+        limiting = (f"; limiting point: {own['binding_what']} at "
+                    f"{chainage_label(own['binding_chainage_m'])}, {own['binding_scenario']} "
+                    f"({own['binding_margin_m']:+.2f} m)")
     console.print(f"This study ({text(result.own_value)}): {own['status']}, least cost "
-                  f"{money(own['cost'], study.currency)}")
+                  f"{money(own['cost'], study.currency)}{limiting}", markup=False,
+                  highlight=False)
+    console.print(curve_gap_text(result), markup=False, highlight=False)
+    stopped = len(_time_limited(result.table))
+    if stopped:
+        console.print(f"[yellow]{stopped} step(s) stopped at the time limit[/yellow]: "
+                      f"{TIME_LIMIT_NOTE}")
     infeasible = int((result.table["status"] == Status.INFEASIBLE).sum())
     if infeasible:
         console.print(f"[red]{infeasible} step(s) infeasible[/red]: {INFEASIBLE_NOTE}")

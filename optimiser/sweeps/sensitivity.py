@@ -94,6 +94,29 @@ def _monte_carlo(study: Study, fixed: Design, settings: MonteCarloSettings,
     return result
 
 
+ROUGHNESS_RULE = ("the swept (or drawn and aged) roughness stands for every option's "
+                  "catalogue roughness; a scenario's roughness_factor still multiplies "
+                  "it, and a scenario's own roughness_mm replaces it (that scenario does "
+                  "not move with the sweep); flows, levels and offtakes as each scenario "
+                  "states them")
+"""How a swept roughness combines with a scenario's own (JSON, page and docs)."""
+
+
+def scenario_roughness_notes(study: Study) -> list[str]:
+    """One note per scenario whose own roughness rule changes the swept value."""
+    notes = []
+    for scenario in study.scenarios:
+        if scenario.roughness_mm is not None:
+            notes.append(f"Scenario {scenario.name!r} states its own roughness_mm = "
+                         f"{scenario.roughness_mm:g} mm: the swept roughness, the Monte "
+                         "Carlo draws and the ageing do not change it.")
+        elif scenario.roughness_factor is not None:
+            notes.append(f"Scenario {scenario.name!r} has roughness_factor = "
+                         f"{scenario.roughness_factor:g}: it multiplies the swept (or drawn "
+                         "and aged) roughness.")
+    return notes
+
+
 def sensitivity_study(study: Study, roughness_mm: Sequence[float], *,
                       given: Design | None = None, robust: bool = False,
                       reoptimise: bool = True,
@@ -107,7 +130,7 @@ def sensitivity_study(study: Study, roughness_mm: Sequence[float], *,
     runs = roughness_runs(study, values, nominal=given is None, robust=robust,
                           reoptimise=reoptimise, workers=workers, dask_address=dask_address,
                           console=console, **solver_options)
-    notes: list[str] = []
+    notes: list[str] = scenario_roughness_notes(study)
     fixed, fixed_check = _fixed_design(study, given, runs, notes)
     grid = np.asarray(values)
     fixed_sweep = roughness_sweep(study, fixed, grid) if fixed is not None else None

@@ -29,8 +29,9 @@ ROUGHNESS = "roughness"
 
 COLUMNS = ["value", "status", "cost", "lower_bound", "gap", "lp_bound", "n_pieces",
            "pieces", "binding_scenario", "binding_what", "binding_chainage_m",
-           "binding_margin_m", "verified", "note"]
-"""Columns of a sweep table, in order. ``value`` is in SI units (m, m^3/s or mm)."""
+           "binding_margin_m", "verified", "note", "target_gap", "time_limit_s"]
+"""Columns of a sweep table, in order. ``value`` is in SI units (m, m^3/s or mm);
+``target_gap`` and ``time_limit_s`` are the settings the step was solved with."""
 
 
 @dataclass(frozen=True)
@@ -76,8 +77,8 @@ def pieces_summary(outcome: DesignOutcome) -> tuple[int, str]:
 
 
 def binding_point(outcome: DesignOutcome) -> dict[str, Any]:
-    """The tightest limit of the design over all scenarios: a minimum pressure at a
-    chainage, or the outlet head at the route's end."""
+    """The limiting point of the design over all scenarios (its tightest limit): a
+    minimum pressure at a chainage, or the outlet head at the route's end."""
     empty = {"binding_scenario": None, "binding_what": None, "binding_chainage_m": None,
              "binding_margin_m": None}
     if not outcome.binding or outcome.check is None:
@@ -98,18 +99,40 @@ def binding_point(outcome: DesignOutcome) -> dict[str, Any]:
 def outcome_row(value: float, outcome: DesignOutcome) -> dict[str, Any]:
     """One table row (plain Python values) from an optimiser outcome."""
     n_pieces, summary = pieces_summary(outcome)
-    note = outcome.diagnosis[0] if outcome.status == Status.INFEASIBLE and outcome.diagnosis \
-        else ""
+    note = ""
+    if outcome.status == Status.INFEASIBLE and outcome.diagnosis:
+        note = outcome.diagnosis[0]
+    elif outcome.status == Status.FEASIBLE:
+        note = time_limit_note(outcome.time_limit_s, outcome.gap, outcome.mip_gap)
     return {"value": float(value), "status": outcome.status, "cost": outcome.total_cost,
             "lower_bound": outcome.lower_bound, "gap": outcome.gap,
             "lp_bound": outcome.lp_bound, "n_pieces": n_pieces, "pieces": summary,
-            **binding_point(outcome), "verified": bool(outcome.verified), "note": note}
+            **binding_point(outcome), "verified": bool(outcome.verified), "note": note,
+            "target_gap": outcome.mip_gap, "time_limit_s": outcome.time_limit_s}
+
+
+def time_limit_note(time_limit_s: float, gap: float | None, target_gap: float) -> str:
+    """What a step with status ``feasible`` means: stopped at its time limit before its
+    gap reached the target, so its cost may be above the least cost by up to its gap."""
+    reached = "no bound" if gap is None else f"gap {100 * gap:.2f} %"
+    return (f"stopped at the time limit ({time_limit_s:g} s) with {reached}, above the "
+            f"target {100 * target_gap:.2f} %")
 
 
 def failed_row(value: float, message: str) -> dict[str, Any]:
     row: dict[str, Any] = dict.fromkeys(COLUMNS)
     row.update({"value": float(value), "status": Status.FAILED, "n_pieces": 0, "pieces": "",
                 "verified": False, "note": message})
+    return row
+
+
+def _failed_task_row(task: SolveTask, message: str) -> dict[str, Any]:
+    """The row of a step whose solve failed, with the settings it was given."""
+    row = failed_row(task.value, message)
+    study = task.study.solver
+    row["target_gap"] = study.mip_gap if task.mip_gap is None else task.mip_gap
+    row["time_limit_s"] = study.time_limit_s if task.time_limit_s is None \
+        else task.time_limit_s
     return row
 
 
@@ -121,7 +144,7 @@ def solve_task(task: SolveTask) -> dict[str, Any]:
                                   time_limit_s=task.time_limit_s, mip_gap=task.mip_gap)
     except (SolverError, VerificationError) as error:
         # One step's failure must not lose the others; the caller reports it (exit 3).
-        row = failed_row(task.value, f"{type(error).__name__}: {error}")
+        row = _failed_task_row(task, f"{type(error).__name__}: {error}")
         outcome = None
     else:
         row = outcome_row(task.value, outcome)
@@ -195,8 +218,14 @@ def tradeoff_with_study_point(study: Study, variable: str, values: Sequence[floa
                               solver_name: str | None = None,
                               time_limit_s: float | None = None,
                               mip_gap: float | None = None) -> TradeoffResult:
-    """:func:`tradeoff`, plus the study's own value: taken from the table when it is one
-    of the steps, else solved in the same batch (its row is not a step of the table)."""
+    """:func:`tradeoff`, plus the study's own point, solved as ``design`` solves it.
+
+    The steps take ``time_limit_s`` and ``mip_gap`` (a curve rarely needs the study's
+    tight gap), but the study's own point is the design the engineer gets from
+    ``design STUDY [--solver S]``: the study itself at its own ``[solver]`` gap and time
+    limit, in the same batch. A step at the study's value is reused for it only when the
+    steps run at the study's own settings (no ``time_limit_s`` or ``mip_gap`` given).
+    """
     if variable not in VARIABLES:
         raise ValueError(f"cannot vary {variable!r}; choose one of {', '.join(VARIABLES)}")
     own = float(study_value(study, variable))
@@ -205,11 +234,13 @@ def tradeoff_with_study_point(study: Study, variable: str, values: Sequence[floa
                                                                abs_tol=1e-12)]
     tasks = step_tasks(study, variable, steps, solver_name=solver_name,
                        time_limit_s=time_limit_s, mip_gap=mip_gap)
-    if not matches:
-        # The study itself, not a variant: the point the engineer already has.
-        tasks.append(SolveTask(study, own, solver_name, time_limit_s, mip_gap))
+    reuse = bool(matches) and time_limit_s is None and mip_gap is None
+    if not reuse:
+        # The study itself, not a variant, at its own settings: the point the engineer
+        # already has from `design`.
+        tasks.append(SolveTask(study, own, solver_name))
     rows = run_all(solve_task, tasks, workers=workers, dask_address=dask_address,
                    console=console, label=f"trade-off over {variable}")
     table = pd.DataFrame(rows[:len(steps)], columns=COLUMNS)
-    own_row = rows[matches[0]] if matches else rows[-1]
+    own_row = rows[matches[0]] if reuse else rows[-1]
     return TradeoffResult(variable, table, own, own_row)

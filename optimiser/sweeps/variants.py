@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import dataclasses
 
-from optimiser.model import Study
+import numpy as np
+
+from optimiser.model import Scenario, Study
 
 VARIABLES = ("source-level", "required-head", "flow")
 
@@ -37,21 +39,41 @@ def with_outlet_flow(study: Study, flow_m3_s: float) -> Study:
     return dataclasses.replace(study, scenarios=scenarios)
 
 
+def scenario_roughness_mm(scenario: Scenario, roughness_mm: float) -> float:
+    """The roughness [mm] ``scenario`` uses when ``roughness_mm`` stands for the
+    catalogue's roughness of every option: the scenario's own rule applied to it
+    (:meth:`Scenario.effective_roughness_mm`): times its ``roughness_factor``, or its own
+    ``roughness_mm``, which the sweep does not change."""
+    return float(scenario.effective_roughness_mm(np.array(roughness_mm)))
+
+
+def at_roughness(scenario: Scenario, roughness_mm: float, name: str | None = None
+                 ) -> Scenario:
+    """``scenario`` with the catalogue's roughness replaced by ``roughness_mm``."""
+    return dataclasses.replace(scenario, name=name or scenario.name,
+                               roughness_mm=scenario_roughness_mm(scenario, roughness_mm),
+                               roughness_factor=None)
+
+
 def with_roughness(study: Study, roughness_mm: float) -> Study:
-    """Every scenario with every option's roughness replaced by ``roughness_mm``."""
-    scenarios = tuple(dataclasses.replace(s, roughness_mm=roughness_mm, roughness_factor=None)
-                      for s in study.scenarios)
+    """The study with ``roughness_mm`` for every option's catalogue roughness; each
+    scenario's own factor still multiplies it (:func:`scenario_roughness_mm`)."""
+    scenarios = tuple(at_roughness(s, roughness_mm) for s in study.scenarios)
     return dataclasses.replace(study, scenarios=scenarios)
 
 
 def with_roughness_range(study: Study, roughness_mm: list[float]) -> Study:
     """One scenario per (scenario, roughness) pair: a design feasible for all of them is
-    feasible at every listed roughness (the robust design's study)."""
-    scenarios = tuple(
-        dataclasses.replace(s, name=f"{s.name} @ {r:g} mm", roughness_mm=r,
-                            roughness_factor=None)
-        for s in study.scenarios for r in roughness_mm)
-    return dataclasses.replace(study, scenarios=scenarios)
+    feasible at every listed roughness (the robust design's study). A scenario with its
+    own ``roughness_mm`` does not move with the roughness and enters once, unchanged."""
+    scenarios = []
+    for s in study.scenarios:
+        if s.roughness_mm is not None:
+            scenarios.append(s)
+            continue
+        times = "" if s.roughness_factor is None else f" x {s.roughness_factor:g}"
+        scenarios += [at_roughness(s, r, f"{s.name} @ {r:g} mm{times}") for r in roughness_mm]
+    return dataclasses.replace(study, scenarios=tuple(scenarios))
 
 
 def vary(study: Study, variable: str, value: float) -> Study:
