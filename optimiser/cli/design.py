@@ -15,12 +15,15 @@ from optimiser.cli.common import (
     EXIT_VIOLATION,
     GapOption,
     JsonOption,
+    Paper,
+    PaperOption,
     SolverOption,
     StudyArgument,
     console,
     error_console,
     fail_input,
     fail_solver,
+    print_notes,
     print_written,
 )
 from optimiser.cli.interrupt import committing, writing
@@ -52,14 +55,15 @@ def design(
     study_path: StudyArgument,
     json_path: JsonOption = None,
     out_dir: Annotated[Path | None, typer.Option(
-        "--out", help="Folder for design.csv, result.json, report.html and "
-        "appurtenances.csv (created if missing).", metavar="FOLDER",
+        "--out", help="Folder for design.csv, result.json, report.html, report.pdf, "
+        "design.xlsx and appurtenances.csv (created if missing).", metavar="FOLDER",
         show_default=False)] = None,
     solver: SolverOption = None,
     time_limit_s: Annotated[float | None, typer.Option(
         "--time-limit", help="Time limit of the whole run [s] (default: the study's).",
         metavar="SECONDS", show_default=False)] = None,
     gap: GapOption = None,
+    paper: PaperOption = Paper.A4,
 ) -> None:
     """Cheapest verified telescoping design (MILP): schedule, cost, bound and gap."""
     from optimiser.io import InputError, load_study
@@ -87,18 +91,21 @@ def design(
                                   mip_gap=gap)
     except (SolverError, VerificationError) as error:
         fail_solver(str(error))
+    notes: list[str] = []
     try:
         with writing(), StagedOutput() as output:
             if json_path is not None:
                 write_json(output.file(json_path), design_dict(outcome, study))
             if out_dir is not None:
-                write_design_files(output.folder(out_dir, DESIGN_FILES), outcome, study)
+                write_design_files(output.folder(out_dir, DESIGN_FILES), outcome, study,
+                                   paper=paper.value, notes=notes)
             with committing():
                 written = output.commit()
     except InputError as error:
         fail_input(error)
     print_design(console, outcome, study)
     print_written(written)
+    print_notes(notes)
     print_cautions(console)
     raise typer.Exit(EXIT_OK if outcome.verified else EXIT_VIOLATION)
 

@@ -16,6 +16,7 @@ and no network port are needed.
 from __future__ import annotations
 
 import base64
+import contextlib
 import html
 import json
 import os
@@ -43,7 +44,7 @@ and US letter (186 mm) between 15 mm margins."""
 _TIMEOUT_S = 120.0
 
 
-class PdfUnavailable(RuntimeError):
+class PdfUnavailableError(RuntimeError):
     """No PDF could be made (no browser, or the browser failed); the message is one line."""
 
 
@@ -85,10 +86,10 @@ class _Pipe:
     def _message(self, deadline: float) -> dict[str, Any]:
         while b"\0" not in self.buffer:
             if time.monotonic() > deadline:
-                raise PdfUnavailable("the browser did not answer in time")
+                raise PdfUnavailableError("the browser did not answer in time")
             chunk = os.read(self.read_fd, 1 << 20)
             if not chunk:
-                raise PdfUnavailable("the browser closed before the page was printed")
+                raise PdfUnavailableError("the browser closed before the page was printed")
             self.buffer += chunk
         raw, self.buffer = self.buffer.split(b"\0", 1)
         return json.loads(raw)
@@ -104,7 +105,7 @@ class _Pipe:
             reply = self._message(deadline)
             if reply.get("id") == self.next_id:
                 if "error" in reply:
-                    raise PdfUnavailable(f"the browser refused {method}: "
+                    raise PdfUnavailableError(f"the browser refused {method}: "
                                          f"{reply['error'].get('message', '')}")
                 return reply.get("result", {})
             self.events.append(reply)
@@ -136,7 +137,7 @@ def _launch(browser: str, profile: Path) -> _Pipe:
                                    stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
                                    close_fds=False, preexec_fn=child_fds)
     except OSError as error:
-        raise PdfUnavailable(f"the browser {browser} could not start ({error})") from None
+        raise PdfUnavailableError(f"the browser {browser} could not start ({error})") from None
     finally:
         os.close(to_browser_r)
         os.close(from_browser_w)
@@ -167,23 +168,21 @@ def html_to_pdf(page: Path, paper: str, footer: PageFooter) -> bytes:
 
     Raises
     ------
-    PdfUnavailable
+    PdfUnavailableError
         No browser was found, or it failed; the message says which, in one line.
     """
     if paper not in PAPER_SIZES_IN:
         raise ValueError(f"paper must be one of {sorted(PAPER_SIZES_IN)}, got {paper!r}")
     browser = find_browser()
     if browser is None:
-        raise PdfUnavailable("no Chromium browser found (install chromium, or set "
+        raise PdfUnavailableError("no Chromium browser found (install chromium, or set "
                              "OPTIMISER_CHROMIUM to its path)")
     with tempfile.TemporaryDirectory(prefix="optimiser-pdf-") as profile:
         pipe = _launch(browser, Path(profile))
         try:
             data = _print(pipe, page, paper, footer)
-            try:
+            with contextlib.suppress(PdfUnavailableError):  # it may close before answering
                 pipe.call("Browser.close")
-            except PdfUnavailable:
-                pass  # the browser may close before it answers
         finally:
             os.close(pipe.write_fd)
             os.close(pipe.read_fd)

@@ -24,7 +24,6 @@ from optimiser.reports.geojson import point_items
 from optimiser.reports.terminal import chainage_label
 
 
-
 def _size_colours(dns: list[float]) -> dict[float, str]:
     sizes = sorted(set(dns))
     if len(sizes) == 1:
