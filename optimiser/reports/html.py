@@ -58,7 +58,7 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
         charts.append(chart("Plan", "plot-plan", plan_figure(result, appurtenances), width))
     title = TitleBlock.make(study.title, option, study.path, DOCUMENT)
     return render(
-        "design_report.html.j2", title, printing, charts=charts,
+        "design_report.html.j2", title, printing, charts=charts, colour=colour,
         summary=_summary_rows(result, summary), scenario_table=_scenario_grid(result),
         plan_notes=plan_notes(result),
         schedule=_schedule_grid(result), total_cost=fmt.money(result.total_cost, study.currency),

@@ -54,6 +54,8 @@ class TitleBlock:
     date: str
     tool_version: str
     document: str
+    options: tuple[tuple[str, str, str, str], ...] = ()
+    """For a comparison: name, colour, study file and its SHA-256 of each option."""
 
     @classmethod
     def make(cls, title: str, option: str, study_path: Path | None,

@@ -59,7 +59,7 @@ def add_sheet(book: Workbook, title: str, columns: Sequence[Column],
     return sheet
 
 
-def _schedule_sheet(book: Workbook, title: str, result: CheckResult, taken: set[str]) -> None:
+def schedule_sheet(book: Workbook, title: str, result: CheckResult, taken: set[str]) -> None:
     currency = result.study.currency or "cost units"
     columns = [Column("from (m)", "length", 11), Column("to (m)", "length", 11),
                Column("length (m)", "length", 11), Column("material", "text", 16),
@@ -145,7 +145,7 @@ def design_workbook(result: CheckResult, appurtenances: list[Appurtenance],
     book.remove(book.active)
     taken: set[str] = set()
     cautions_sheet(book, taken)
-    _schedule_sheet(book, "Schedule", result, taken)
+    schedule_sheet(book, "Schedule", result, taken)
     bill_sheet(book, "Bill of quantities", bill_of_quantities(result, appurtenances),
                result.study.currency, taken)
     _scenario_sheet(book, result, taken)
