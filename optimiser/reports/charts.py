@@ -129,24 +129,34 @@ def _point_rows(result: CheckResult, appurtenances: list[Appurtenance]
 
 def _add_points(fig: go.Figure, result: CheckResult,
                 appurtenances: list[Appurtenance]) -> None:
-    """Markers at pipe level, labelled, for every point along the route."""
+    """Markers at pipe level for every point along the route, and a label on a short
+    leader above each; labels of close points are stacked so that none overlap."""
     route = result.study.route
-    positions = {"offtake": "top center", "fitting": "bottom center",
-                 "air valve": "top center", "washout": "bottom center"}
+    labels: list[tuple[float, str, str]] = []
     for kind, rows in _point_rows(result, appurtenances).items():
         if not rows:
             continue
         symbol, colour, size = MARKERS[kind]
         x = np.array([c for c, _ in rows])
-        labels = [label for _, label in rows]
         fig.add_trace(go.Scatter(
-            x=x, y=route.pipe_level_at(x), mode="markers+text", name=kind, text=labels,
-            textposition=positions[kind], textfont={"size": 9, "color": colour},
+            x=x, y=route.pipe_level_at(x), mode="markers", name=kind,
+            text=[label for _, label in rows],
             marker={"symbol": symbol, "color": colour, "size": size * 0.8,
                     "line": {"width": 1.5, "color": colour}},
             customdata=[chainage_label(c) for c in x],
             hovertemplate=f"{kind}<br>%{{text}}<br>%{{customdata}}<extra></extra>"),
             row=1, col=1)
+        labels += [(c, label, colour) for c, label in rows]
+    near_m = 0.06 * route.total_chainage_m
+    previous, tier = -np.inf, 0
+    for chainage, text, colour in sorted(labels):
+        tier = tier + 1 if chainage - previous < near_m else 0
+        previous = chainage
+        fig.add_annotation(
+            x=chainage, y=float(route.pipe_level_at(np.array([chainage]))[0]), text=text,
+            showarrow=True, arrowhead=0, arrowwidth=0.8, arrowcolor=colour, ax=0,
+            ay=-(22 + 13 * (tier % 4)), font={"size": 9, "color": colour},
+            bgcolor="rgba(255,255,255,0.8)", xref="x", yref="y")
 
 
 def _legend_rows(fig: go.Figure, width_px: int = 680) -> int:

@@ -2,10 +2,10 @@
 
 Options: each option of a comparison keeps one colour in every chart and every report
 of that comparison (its own report included). The palette is our own: eight dark,
-well-separated hues that stay apart from the scenario colours (Okabe & Ito 2008, used
-for scenarios in :mod:`optimiser.reports.charts`) and print legibly in grey. Options are
-coloured in the order the engineer lists them; a design on its own takes the colour its
-name hashes to, so the same name always gets the same colour.
+well-separated hues, drawn as the solid pipe line beside the scenario colours (Okabe &
+Ito 2008, used for scenarios in :mod:`optimiser.reports.charts`), legible in grey. An
+option's colour follows from its name, so the same options keep their colours from one
+comparison to the next and a design on its own has the colour it has in a comparison.
 
 Points along the route (offtakes, fittings, air valves, washouts, the source and the
 outlet) have one marker shape and colour each, in the long section and in the plan.
@@ -15,8 +15,8 @@ from __future__ import annotations
 
 import hashlib
 
-OPTION_PALETTE = ("#1F3A68", "#9C3D1B", "#2E6B34", "#7A5A0A", "#5E2F73", "#1D6E73",
-                  "#8C2449", "#4A4A4A")
+OPTION_PALETTE = ("#8C2449", "#1D6E73", "#7A5A0A", "#5E2F73", "#1F3A68", "#9C3D1B",
+                  "#2E6B34", "#4A4A4A")
 """Option colours, in the order they are given out."""
 
 MARKERS: dict[str, tuple[str, str, int]] = {
@@ -35,7 +35,18 @@ def option_colour(key: str) -> str:
 
 
 def option_colours(keys: list[str]) -> dict[str, str]:
-    """One colour per option of a comparison, in the order given (distinct up to eight
-    options, then the palette repeats)."""
-    return {key: OPTION_PALETTE[index % len(OPTION_PALETTE)]
-            for index, key in enumerate(keys)}
+    """One colour per option of a comparison: the colour its name hashes to, or the next
+    free one when two names hash alike (resolved in sorted order, so the same options
+    get the same colours in whatever order they are given); distinct up to eight
+    options, then the palette repeats."""
+    colours: dict[str, str] = {}
+    free = list(OPTION_PALETTE)
+    for key in sorted(set(keys)):
+        if not free:
+            free = list(OPTION_PALETTE)
+        wanted = option_colour(key)
+        start = OPTION_PALETTE.index(wanted)
+        ring = OPTION_PALETTE[start:] + OPTION_PALETTE[:start]
+        colours[key] = next(c for c in ring if c in free)
+        free.remove(colours[key])
+    return colours

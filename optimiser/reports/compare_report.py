@@ -45,8 +45,8 @@ def _value(row: pd.Series, key: str) -> float | None:
 def comparison_title(options: list[OptionResult], keys: list[str],
                      colours: dict[str, str]) -> TitleBlock:
     """The title block of the comparison: each option with its file and hash."""
-    first = options[0].study.title if options else ""
-    block = TitleBlock.make(first, ", ".join(keys), None, DOCUMENT)
+    titles = list(dict.fromkeys(option.study.title for option in options))
+    block = TitleBlock.make(" / ".join(titles), ", ".join(keys), None, DOCUMENT)
     rows = tuple((key, colours[key], str(option.path), file_sha256(Path(option.path)))
                  for key, option in zip(keys, options, strict=True))
     return TitleBlock(block.project, block.option, block.study_file, block.study_sha256,
@@ -177,6 +177,12 @@ def comparison_workbook(table: pd.DataFrame, options: list[OptionResult],
     return save(book)
 
 
+COMPARISON_CSV_DECIMALS = {"total_cost": 2, "cost_per_l_s": 2, "design_flow_l_s": 3,
+                           "highest_static_head_m": 3, "least_pressure_margin_m": 3,
+                           "least_margin_at_m": 3, "highest_velocity_m_s": 3,
+                           "uniform_cost": 2, "saving_vs_uniform": 2, "lower_bound": 2}
+"""Decimals of comparison.csv's columns (and of the workbook's, which holds the same)."""
+
 COMPARISON_FILES = frozenset({"comparison.csv", "comparison.xlsx", "comparison.html",
                               "comparison.pdf"})
 """The files of a comparison beside each option's folder (the PDF when a browser is found)."""
@@ -193,6 +199,7 @@ def write_comparison_files(folder: Path, table: pd.DataFrame, options: list[Opti
 
     notes = [] if notes is None else notes
     colours = option_colours(keys)
+    table = table.round(COMPARISON_CSV_DECIMALS)
     for key, option in zip(keys, options, strict=True):
         outcome = option.outcome
         if outcome is None or outcome.check is None:
