@@ -171,7 +171,7 @@ def comparison_workbook(table: pd.DataFrame, options: list[OptionResult],
         check = outcome.check
         schedule_sheet(book, key, check, taken)
         bill_sheet(book, f"{key[:26]} BoQ", bill_of_quantities(check, schedule(check)),
-                   option.study.currency, taken)
+                   option.study.currency, taken, check.total_cost)
         studies[key] = (option.study, RunSummary.from_outcome(outcome))
     inputs_sheet(book, "Inputs", studies, taken)
     return save(book)

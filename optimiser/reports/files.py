@@ -32,10 +32,13 @@ DESIGN_FILES = frozenset({"design.csv", "result.json", *REPORT_FILES})
 """The files :func:`write_design_files` writes (result.json only when there is no design)."""
 
 APPURTENANCE_COLUMNS = ["kind", "chainage_m", "pipe_level_m", "ground_m", "reason", "label"]
-CSV_DECIMALS = {"from_m": 3, "to_m": 3, "length_m": 3, "chainage_m": 3,
+CSV_DECIMALS = {"length_m": 3, "chainage_m": 3,
                 "internal_diameter_mm": 1, "cost": 2, "velocity_m_s": 3,
                 "unit_head_loss_m_per_km": 3, "pipe_level_m": 3, "ground_m": 3}
-"""Decimals of each CSV column (lengths to 0.001 m; DN is written as an integer)."""
+"""Decimals of each CSV column (lengths to 0.001 m; DN is written as an integer). The
+piece boundaries ``from_m`` and ``to_m`` of design.csv stay exact: design.csv is read
+back by ``check`` and ``report``, and a design whose limits bind exactly (the cheapest
+usually does) would fail the check by a rounding of its boundaries."""
 
 
 def rounded_csv(table: pd.DataFrame) -> pd.DataFrame:

@@ -86,7 +86,7 @@ def _summary_rows(result: CheckResult, summary: RunSummary | None
                  ("bound with the rules relaxed", fmt.money(summary.lp_bound, currency), "")]
         if summary.uniform_cost:
             saving = summary.uniform_cost - result.total_cost
-            rows.append(("cheapest single-pipe design",
+            rows.append(("cheapest uniform design",
                          f"{summary.uniform_label}: {fmt.money(summary.uniform_cost, currency)};"
                          f" this design saves {fmt.money(saving, currency)} "
                          f"({fmt.percent(saving / summary.uniform_cost, 1)})", ""))

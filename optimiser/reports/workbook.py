@@ -92,8 +92,9 @@ def _scenario_sheet(book: Workbook, result: CheckResult, taken: set[str]) -> Non
 
 
 def bill_sheet(book: Workbook, title: str, lines: list[BillLine], currency: str,
-               taken: set[str]) -> None:
-    """The bill of quantities, with a total of the priced lines."""
+               taken: set[str], design_cost: float | None = None) -> None:
+    """The bill of quantities, with a total of the priced lines (and, below it, the
+    design's own cost on laid lengths, which the bill exceeds by its whole pipes)."""
     currency = currency or "cost units"
     columns = [Column("item", "count", 6), Column("description", "text", 46),
                Column("unit", "text", 6), Column("quantity", "length", 11),
@@ -110,6 +111,11 @@ def bill_sheet(book: Workbook, title: str, lines: list[BillLine], currency: str,
     sheet = add_sheet(book, title, columns, rows, taken)
     for cell in sheet[sheet.max_row]:
         cell.font = Font(bold=True)
+    if design_cost is not None:
+        sheet.append([None, "design cost on laid lengths (pipes not rounded up; items "
+                      "without a rate left out)", None, None, None, None, None, None,
+                      design_cost])
+        sheet.cell(sheet.max_row, 9).number_format = EXCEL_FORMATS["money"]
 
 
 def inputs_sheet(book: Workbook, title: str, studies: dict[str, tuple[Study,
@@ -147,7 +153,7 @@ def design_workbook(result: CheckResult, appurtenances: list[Appurtenance],
     cautions_sheet(book, taken)
     schedule_sheet(book, "Schedule", result, taken)
     bill_sheet(book, "Bill of quantities", bill_of_quantities(result, appurtenances),
-               result.study.currency, taken)
+               result.study.currency, taken, result.total_cost)
     _scenario_sheet(book, result, taken)
     add_sheet(book, "Air valves and washouts",
               [Column("kind", "text", 10), Column("chainage (m)", "length", 12),
