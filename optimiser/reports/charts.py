@@ -147,16 +147,32 @@ def _add_points(fig: go.Figure, result: CheckResult,
             hovertemplate=f"{kind}<br>%{{text}}<br>%{{customdata}}<extra></extra>"),
             row=1, col=1)
         labels += [(c, label, colour) for c, label in rows]
+    _add_labels(fig, result, sorted(labels))
+
+
+def _add_labels(fig: go.Figure, result: CheckResult,
+                labels: list[tuple[float, str, str]]) -> None:
+    """Each label on a leader above its point; labels of points close along the route
+    form a cluster and are stacked above the cluster's highest point, so none overlap."""
+    route = result.study.route
     near_m = 0.06 * route.total_chainage_m
-    previous, tier = -np.inf, 0
-    for chainage, text, colour in sorted(labels):
-        tier = tier + 1 if chainage - previous < near_m else 0
-        previous = chainage
-        fig.add_annotation(
-            x=chainage, y=float(route.pipe_level_at(np.array([chainage]))[0]), text=text,
-            showarrow=True, arrowhead=0, arrowwidth=0.8, arrowcolor=colour, ax=0,
-            ay=-(22 + 13 * (tier % 4)), font={"size": 9, "color": colour},
-            bgcolor="rgba(255,255,255,0.8)", xref="x", yref="y")
+    step_m = 0.045 * float(route.ground_m.max() - route.pipe_level_m.min())
+    clusters: list[list[tuple[float, str, str]]] = []
+    for item in labels:
+        if clusters and item[0] - clusters[-1][-1][0] < near_m:
+            clusters[-1].append(item)
+        else:
+            clusters.append([item])
+    for cluster in clusters:
+        levels = route.pipe_level_at(np.array([c for c, _, _ in cluster]))
+        top = float(levels.max())
+        for tier, ((chainage, text, colour), level) in enumerate(
+                zip(cluster, levels, strict=True)):
+            fig.add_annotation(
+                x=chainage, y=float(level), ax=chainage, ay=top + step_m * (1.3 + tier),
+                axref="x", ayref="y", xref="x", yref="y", text=text, showarrow=True,
+                arrowhead=0, arrowwidth=0.8, arrowcolor=colour,
+                font={"size": 9, "color": colour}, bgcolor="rgba(255,255,255,0.8)")
 
 
 def _legend_rows(fig: go.Figure, width_px: int = 680) -> int:

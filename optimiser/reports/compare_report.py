@@ -16,9 +16,10 @@ from optimiser.analysis.appurtenances import schedule
 from optimiser.reports import numbers as fmt
 from optimiser.reports.bill import bill_of_quantities
 from optimiser.reports.charts import profile_figure
+from optimiser.reports.hashing import file_sha256
 from optimiser.reports.html import Grid
 from optimiser.reports.inputs import input_tables
-from optimiser.reports.pages import TitleBlock, chart, file_sha256, render
+from optimiser.reports.pages import TitleBlock, chart, render
 from optimiser.reports.pdf import PRINTABLE_WIDTH_PX
 from optimiser.reports.run_summary import RunSummary
 from optimiser.reports.workbook import (

@@ -5,11 +5,13 @@ price basis, the surge method, the solver and its gap."""
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass
 from pathlib import Path
 
 from optimiser.model import Friction, Study, SurgeMethod
 from optimiser.reports import numbers as fmt
+from optimiser.reports.hashing import file_sha256
 from optimiser.reports.run_summary import RunSummary
 from optimiser.reports.terminal import chainage_label
 
@@ -138,7 +140,8 @@ def _catalogue(study: Study) -> InputTable:
     dns = sorted({o.dn_mm for o in options})
     path = study.catalogue_path
     rows = [
-        ("file", str(path) if path else "given in the study"),
+        ("file", _beside_study(study, path) if path else "given in the study"),
+        ("SHA-256 of the file", file_sha256(path)),
         ("options offered", f"{len(options)} ({', '.join(study.catalogue.materials)})"),
         ("sizes", f"DN{fmt.dn(dns[0])} to DN{fmt.dn(dns[-1])}" if dns else "–"),
         ("classes", ", ".join(sorted({o.pressure_class for o in options}))),
@@ -147,6 +150,16 @@ def _catalogue(study: Study) -> InputTable:
     ]
     rows += [("catalogue note", note) for note in notes[:5]]
     return InputTable("Pipe catalogue", ("item", "value"), tuple(rows))
+
+
+def _beside_study(study: Study, path: Path) -> str:
+    """``path`` relative to the study file's folder when it can be, else as it is."""
+    if study.path is None:
+        return str(path)
+    try:
+        return os.path.relpath(path, Path(study.path).resolve().parent)
+    except ValueError:  # another drive
+        return str(path)
 
 
 def _surge(study: Study) -> str:

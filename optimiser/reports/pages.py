@@ -3,7 +3,6 @@ number filters, the title block of page one and the charts embedded once per pag
 
 from __future__ import annotations
 
-import hashlib
 import json
 from dataclasses import dataclass
 from datetime import UTC, datetime
@@ -17,6 +16,7 @@ from plotly.offline import get_plotlyjs
 from optimiser import __version__
 from optimiser.reports import numbers
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.hashing import file_sha256
 from optimiser.reports.text import short_title
 
 TEMPLATES = Path(__file__).resolve().parent / "templates"
@@ -33,13 +33,6 @@ def _environment() -> Environment:
 
 
 ENVIRONMENT = _environment()
-
-
-def file_sha256(path: Path | None) -> str:
-    """SHA-256 of a file's bytes in hex, or a dash when there is no file to read."""
-    if path is None or not Path(path).is_file():
-        return "–"
-    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
 
 
 @dataclass(frozen=True)
