@@ -234,6 +234,7 @@ def test_each_option_keeps_its_colour_in_every_report(runner, make_study, tmp_pa
                                    str(out)])
         assert done.exit_code == 0, done.output
         page = (out / "comparison.html").read_text(encoding="utf-8")
+        assert page.count("<script") == 2  # plotly.js once, then the charts' data
         for name in ("north", "south"):
             found = re.search(r'class="swatch" style="background:(#[0-9A-Fa-f]{6})">'
                               rf"</span>Option {name}:", page)
