@@ -16,9 +16,12 @@ from pathlib import Path
 import pytest
 
 from optimiser.cli import app
+from optimiser.reports.pdf import find_browser
 
 COMMANDS = ["check", "design", "report", "compare", "tradeoff", "sensitivity"]
 PARSER_TYPES = re.compile(r"<\w+>|\b(PATH|TEXT|FLOAT|INTEGER|BOOLEAN)\b")
+
+PDF = ["report.pdf"] if find_browser() else []  # written when a browser is found
 
 
 @pytest.mark.parametrize("command", [None, *COMMANDS])
@@ -49,7 +52,8 @@ def test_design_out_lists_every_file_it_wrote(study_files, runner, tmp_path):
     assert result.exit_code == 0, result.output
     assert _written(result.output) == {*out.iterdir(), tmp_path / "r.json"}
     assert {p.name for p in out.iterdir()} == {"design.csv", "result.json", "report.html",
-                                               "appurtenances.csv"}
+                                               "appurtenances.csv", "design.xlsx",
+                                               *PDF}
 
 
 def test_check_prints_the_cost_of_the_design_it_checked(study_files, runner, tmp_path):

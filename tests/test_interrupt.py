@@ -23,8 +23,11 @@ import pytest
 from optimiser.cli import app
 from optimiser.io import InputError
 from optimiser.io.writers import StagedOutput, write_json
+from optimiser.reports.pdf import find_browser
 
 SCRIPT = Path(sys.executable).parent / "optimiser"
+
+PDF = ["report.pdf"] if find_browser() else []  # written when a browser is found
 
 
 def snapshot(folder: Path) -> dict[str, bytes | None]:
@@ -125,7 +128,8 @@ def test_a_rerun_without_a_design_leaves_no_stale_report(make_study, runner, tmp
     first = runner.invoke(app, ["design", str(feasible.study), "--out", str(out)])
     assert first.exit_code == 0, first.output
     assert {p.name for p in out.iterdir()} == {"design.csv", "result.json", "report.html",
-                                               "appurtenances.csv"}
+                                               "appurtenances.csv", "design.xlsx",
+                                               *PDF}
     # A required outlet head far above the source: no design (common practice, no source).
     infeasible = make_study(study={"outlet": {"required_head_m": 400.0}})
     second = runner.invoke(app, ["design", str(infeasible.study), "--out", str(out)])
@@ -162,6 +166,7 @@ def test_json_inside_the_out_folder_of_the_same_run(study_files, runner, tmp_pat
                                  "--json", str(out / "result.json")])
     assert result.exit_code == 0, result.output
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]  # no staging left
-    assert sorted(p.name for p in out.iterdir()) == ["appurtenances.csv", "design.csv",
-                                                     "report.html", "result.json"]
+    assert sorted(p.name for p in out.iterdir()) == sorted([
+        "appurtenances.csv", "design.csv", "design.xlsx", "report.html", "result.json",
+        *PDF])
     assert json.loads((out / "result.json").read_text())["status"] == "optimal"

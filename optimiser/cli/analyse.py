@@ -14,9 +14,12 @@ from optimiser.cli.common import (
     EXIT_VIOLATION,
     DesignFileOption,
     JsonOption,
+    Paper,
+    PaperOption,
     StudyArgument,
     console,
     fail_input,
+    print_notes,
     print_written,
 )
 from optimiser.cli.interrupt import committing, writing
@@ -56,13 +59,15 @@ def report(
     design_path: Annotated[Path, typer.Option(
         "--design", help="Design CSV to report on.", metavar="FILE", show_default=False)],
     out_dir: Annotated[Path, typer.Option(
-        "--out", help="Folder for report.html and appurtenances.csv.", metavar="FOLDER",
+        "--out", help="Folder for report.html, report.pdf, design.xlsx and "
+        "appurtenances.csv.", metavar="FOLDER",
         show_default=False)],
     result_path: Annotated[Path | None, typer.Option(
         "--result", help="result.json from `design`, for the optimiser's figures.",
         metavar="FILE", show_default=False)] = None,
+    paper: PaperOption = Paper.A4,
 ) -> None:
-    """Write the HTML report and appurtenance schedule of an existing design."""
+    """Write the report (HTML, PDF), workbook and appurtenance schedule of a design."""
     from optimiser.analysis import check_design
     from optimiser.io import InputError, load_design, load_study
     from optimiser.io.writers import StagedOutput
@@ -74,14 +79,17 @@ def report(
         design = load_design(design_path, study)
         summary = None if result_path is None else read_run_summary(result_path)
         result = check_design(study, design)
+        notes: list[str] = []
         with writing(), StagedOutput() as output:
-            write_report_files(output.folder(out_dir, REPORT_FILES), result, summary)
+            write_report_files(output.folder(out_dir, REPORT_FILES), result, summary,
+                               paper=paper.value, notes=notes)
             with committing():
                 written = output.commit()
     except InputError as error:
         fail_input(error)
     print_check(console, result)
     print_written(written)
+    print_notes(notes)
     print_cautions(console)
     raise typer.Exit(EXIT_OK if result.ok else EXIT_VIOLATION)
 

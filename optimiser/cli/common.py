@@ -9,6 +9,7 @@ This module imports nothing heavy (no pandas, plotly, solvers or the check), so 
 from __future__ import annotations
 
 from collections.abc import Iterable
+from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Annotated, NoReturn
 
@@ -49,6 +50,19 @@ def print_written(paths: Iterable[Path]) -> None:
         console.print(f"wrote {path}", markup=False, highlight=False, soft_wrap=True)
 
 
+def print_notes(notes: Iterable[str]) -> None:
+    """One line per file that could not be made (e.g. a PDF without a browser)."""
+    for note in notes:
+        error_console.print(f"note: {note}", markup=False, highlight=False, soft_wrap=True)
+
+
+class Paper(StrEnum):
+    """Paper of the PDF reports."""
+
+    A4 = "a4"
+    LETTER = "letter"
+
+
 # Option types shared by several commands. The metavars are plain words (FILE, FOLDER,
 # SECONDS, ...) rather than the parser's type names.
 StudyArgument = Annotated[Path, typer.Argument(
@@ -67,3 +81,6 @@ GapOption = Annotated[float | None, typer.Option(
     show_default=False, metavar="FRACTION")]
 DesignFileOption = Annotated[Path, typer.Option(
     "--design", help="Design CSV to analyse.", metavar="FILE", show_default=False)]
+PaperOption = Annotated[Paper, typer.Option(
+    "--paper", help="Paper of the PDF report: a4 or letter.", case_sensitive=False,
+    metavar="a4|letter")]

@@ -15,12 +15,15 @@ from optimiser.cli.common import (
     EXIT_VIOLATION,
     GapOption,
     JsonOption,
+    Paper,
+    PaperOption,
     SolverOption,
     StudyArgument,
     console,
     error_console,
     fail_input,
     fail_solver,
+    print_notes,
     print_written,
 )
 from optimiser.cli.interrupt import committing, writing
@@ -52,14 +55,15 @@ def design(
     study_path: StudyArgument,
     json_path: JsonOption = None,
     out_dir: Annotated[Path | None, typer.Option(
-        "--out", help="Folder for design.csv, result.json, report.html and "
-        "appurtenances.csv (created if missing).", metavar="FOLDER",
+        "--out", help="Folder for design.csv, result.json, report.html, report.pdf, "
+        "design.xlsx and appurtenances.csv (created if missing).", metavar="FOLDER",
         show_default=False)] = None,
     solver: SolverOption = None,
     time_limit_s: Annotated[float | None, typer.Option(
         "--time-limit", help="Time limit of the whole run [s] (default: the study's).",
         metavar="SECONDS", show_default=False)] = None,
     gap: GapOption = None,
+    paper: PaperOption = Paper.A4,
 ) -> None:
     """Cheapest verified telescoping design (MILP): schedule, cost, bound and gap."""
     from optimiser.io import InputError, load_study
@@ -87,18 +91,21 @@ def design(
                                   mip_gap=gap)
     except (SolverError, VerificationError) as error:
         fail_solver(str(error))
+    notes: list[str] = []
     try:
         with writing(), StagedOutput() as output:
             if json_path is not None:
                 write_json(output.file(json_path), design_dict(outcome, study))
             if out_dir is not None:
-                write_design_files(output.folder(out_dir, DESIGN_FILES), outcome, study)
+                write_design_files(output.folder(out_dir, DESIGN_FILES), outcome, study,
+                                   paper=paper.value, notes=notes)
             with committing():
                 written = output.commit()
     except InputError as error:
         fail_input(error)
     print_design(console, outcome, study)
     print_written(written)
+    print_notes(notes)
     print_cautions(console)
     raise typer.Exit(EXIT_OK if outcome.verified else EXIT_VIOLATION)
 
@@ -113,35 +120,24 @@ def _slug(text: str, taken: set[str]) -> str:
 
 
 def _write_comparison(output: StagedOutput, out_dir: Path, table: pd.DataFrame,
-                      options: list[OptionResult]) -> None:
-    """comparison.csv, .xlsx, .html and one folder per option with a design."""
-    from optimiser.io.writers import atomic_write_text, write_csv, write_workbook
-    from optimiser.reports.compare import comparison_html
-    from optimiser.reports.files import write_design_files
+                      options: list[OptionResult], paper: str, notes: list[str]) -> None:
+    """comparison.csv, .xlsx, .html, .pdf and one folder per option with a design."""
+    from optimiser.reports.compare_report import COMPARISON_FILES, write_comparison_files
 
     taken: set[str] = set()
     slugs = [_slug(option.label, taken) for option in options]
-    names = {"comparison.csv", "comparison.xlsx", "comparison.html", *slugs}
-    folder = output.folder(out_dir, names)
-    schedules: dict[str, pd.DataFrame] = {"comparison": table}
-    for slug, option in zip(slugs, options, strict=True):
-        outcome = option.outcome
-        if outcome is None or outcome.check is None:
-            continue
-        (folder / slug).mkdir()
-        write_design_files(folder / slug, outcome, option.study)
-        schedules[slug] = outcome.check.pieces
-    write_csv(folder / "comparison.csv", table)
-    write_workbook(folder / "comparison.xlsx", schedules)
-    atomic_write_text(folder / "comparison.html", comparison_html(table, options))
+    folder = output.folder(out_dir, {*COMPARISON_FILES, *slugs})
+    write_comparison_files(folder, table, options, slugs, paper=paper, notes=notes)
 
 
 def compare(
     study_paths: Annotated[list[Path], typer.Argument(
         help="Study files, one per option.", show_default=False, metavar="STUDY_FILE")],
     out_dir: Annotated[Path | None, typer.Option(
-        "--out", help="Folder for comparison.csv, .xlsx, .html and each option's files.",
+        "--out", help="Folder for comparison.csv, .xlsx, .html, .pdf and each option's "
+        "files.",
         metavar="FOLDER", show_default=False)] = None,
+    paper: PaperOption = Paper.A4,
 ) -> None:
     """Design every option and compare them side by side, ranked by capital cost."""
     from optimiser.io import InputError, load_study
@@ -164,15 +160,17 @@ def compare(
     table = comparison_table(options)
     print_comparison(console, table)
     written: list[Path] = []
+    notes: list[str] = []
     if out_dir is not None:
         try:
             with writing(), StagedOutput() as output:
-                _write_comparison(output, out_dir, table, options)
+                _write_comparison(output, out_dir, table, options, paper.value, notes)
                 with committing():
                     written = output.commit()
         except InputError as error:
             fail_input(error)
     print_written(written)
+    print_notes(notes)
     print_cautions(console)
     if all(o.outcome is None for o in options):
         raise typer.Exit(EXIT_SOLVER)

@@ -7,7 +7,7 @@ TOML's nan and inf are refused.
 
 from __future__ import annotations
 
-from typing import Any, Literal
+from typing import Annotated, Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
@@ -100,6 +100,17 @@ class CostsTable(_Table):
     zone_factor: dict[str, float] = Field(default_factory=dict)
 
 
+class QuantitiesTable(_Table):
+    """The bill of quantities: standard pipe length and rates of items along the route."""
+
+    pipe_length_m: float = Field(6.0, gt=0.0)
+    pipe_length_by_material_m: dict[str, Annotated[float, Field(gt=0.0)]] = Field(
+        default_factory=dict)
+    air_valve_each: float | None = Field(None, ge=0.0)
+    washout_each: float | None = Field(None, ge=0.0)
+    fitting_each: float | None = Field(None, ge=0.0)
+
+
 class SolverTable(_Table):
     name: Literal["highs", "cbc"] = "highs"
     time_limit_s: float = Field(120.0, gt=0.0)
@@ -120,6 +131,7 @@ class StudyFile(_Table):
     costs: CostsTable = Field(default_factory=CostsTable)
     solver: SolverTable = Field(default_factory=SolverTable)
     surge: SurgeTable = Field(default_factory=SurgeTable)
+    quantities: QuantitiesTable = Field(default_factory=QuantitiesTable)
 
 
 _ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting"}

@@ -31,6 +31,7 @@ from optimiser.model import (
     Friction,
     Offtake,
     Outlet,
+    QuantityRules,
     Route,
     Scenario,
     SolverSettings,
@@ -83,6 +84,7 @@ def load_study(path: str | Path) -> Study:
         profile_path=(path.parent / spec.route.profile).resolve(),
         surge=surge_settings(spec),
         hazen_williams_coefficient=spec.catalogue.hazen_williams_coefficient,
+        quantities=QuantityRules(**spec.quantities.model_dump()),
     )
 
 

@@ -62,6 +62,21 @@ def atomic_write_text(path: Path, text: str) -> None:
         raise
 
 
+def atomic_write_bytes(path: Path, data: bytes) -> None:
+    """Write a binary file whole or not at all (temporary file, then rename)."""
+    path = Path(path)
+    folder = path.parent if str(path.parent) else Path(".")
+    descriptor, temporary = tempfile.mkstemp(dir=folder, prefix=f".{path.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(descriptor, "wb") as handle:
+            handle.write(data)
+        os.chmod(temporary, _umask_mode())
+        os.replace(temporary, path)
+    except BaseException:
+        Path(temporary).unlink(missing_ok=True)
+        raise
+
+
 def write_json(path: Path, payload: dict) -> None:
     atomic_write_text(path, json.dumps(json_safe(payload), indent=2) + "\n")
 

@@ -67,6 +67,22 @@ class SurgeSettings:
 
 
 @dataclass(frozen=True)
+class QuantityRules:
+    """How the bill of quantities counts: pipes come in whole standard lengths [m]
+    (``pipe_length_m``, or the material's own), and the rates of air valves, washouts
+    and fittings (None: not priced in the study)."""
+
+    pipe_length_m: float = 6.0
+    pipe_length_by_material_m: dict[str, float] = field(default_factory=dict)
+    air_valve_each: float | None = None
+    washout_each: float | None = None
+    fitting_each: float | None = None
+
+    def standard_length_m(self, material: str) -> float:
+        return self.pipe_length_by_material_m.get(material, self.pipe_length_m)
+
+
+@dataclass(frozen=True)
 class SolverSettings:
     name: str = "highs"
     time_limit_s: float = 120.0
@@ -103,6 +119,7 @@ class Study:
     surge: SurgeSettings = field(default_factory=SurgeSettings)
     hazen_williams_coefficient: float = 10.67
     """The constant of the SI Hazen--Williams formula (contract section 12)."""
+    quantities: QuantityRules = field(default_factory=QuantityRules)
 
     def scenario(self, name: str) -> Scenario:
         for scenario in self.scenarios:

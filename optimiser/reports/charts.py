@@ -12,7 +12,9 @@ import pandas as pd
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
+from optimiser.analysis.appurtenances import Appurtenance
 from optimiser.analysis.check import CheckResult
+from optimiser.reports.colours import MARKERS, OPTION_PALETTE
 from optimiser.reports.terminal import chainage_label
 
 SCENARIO_COLOURS = ["#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9"]
@@ -50,7 +52,8 @@ def _piece_label(row: pd.Series) -> str:
     return f"DN{row['dn_mm']:g} {row['material']} {row['pressure_class']}"
 
 
-def _add_class_envelope(fig: go.Figure, result: CheckResult) -> None:
+def _add_class_envelope(fig: go.Figure, result: CheckResult) -> float:
+    """Draw the class envelope; return its highest level [m]."""
     study = result.study
     route = study.route
     # Class envelope: pipe level + allowable head of the piece's class, minus the surge
@@ -68,6 +71,7 @@ def _add_class_envelope(fig: go.Figure, result: CheckResult) -> None:
         x=envelope_x, y=envelope_y, name="class envelope (allowable − surge)", mode="lines",
         line={"color": CLASS_COLOUR, "width": 1, "dash": "dashdot"}, hoverinfo="skip",
         connectgaps=False), row=1, col=1)
+    return max((y for y in envelope_y if y is not None), default=-np.inf)
 
 
 def _add_scenario_lines(fig: go.Figure, result: CheckResult) -> None:
@@ -108,8 +112,86 @@ def _add_piece_bars(fig: go.Figure, result: CheckResult) -> None:
                            f" mm, {piece.length_m:.0f} m<extra></extra>")), row=2, col=1)
 
 
-def profile_figure(result: CheckResult, title: str = "Longitudinal profile") -> go.Figure:
-    """Ground, pipe, energy line and HGL per scenario, static line, envelopes, pieces."""
+def _point_rows(result: CheckResult, appurtenances: list[Appurtenance]
+                ) -> dict[str, list[tuple[float, str]]]:
+    """Chainage and label of each offtake, fitting, air valve and washout."""
+    study = result.study
+    points: dict[str, list[tuple[float, str]]] = {
+        "offtake": [(o.chainage_m, o.label or "offtake") for o in study.offtakes],
+        "fitting": [(f.chainage_m, f.label or f"K {f.k:g}") for f in study.fittings],
+        "air valve": [], "washout": []}
+    for number, item in enumerate(appurtenances, start=1):
+        short = "AV" if item.kind == "air valve" else "WO"
+        if item.kind in points:
+            points[item.kind].append((item.chainage_m, f"{short}{number}"))
+    return points
+
+
+def _add_points(fig: go.Figure, result: CheckResult,
+                appurtenances: list[Appurtenance]) -> None:
+    """Markers at pipe level for every point along the route, and a label on a short
+    leader above each; labels of close points are stacked so that none overlap."""
+    route = result.study.route
+    labels: list[tuple[float, str, str]] = []
+    for kind, rows in _point_rows(result, appurtenances).items():
+        if not rows:
+            continue
+        symbol, colour, size = MARKERS[kind]
+        x = np.array([c for c, _ in rows])
+        fig.add_trace(go.Scatter(
+            x=x, y=route.pipe_level_at(x), mode="markers", name=kind,
+            text=[label for _, label in rows],
+            marker={"symbol": symbol, "color": colour, "size": size * 0.8,
+                    "line": {"width": 1.5, "color": colour}},
+            customdata=[chainage_label(c) for c in x],
+            hovertemplate=f"{kind}<br>%{{text}}<br>%{{customdata}}<extra></extra>"),
+            row=1, col=1)
+        labels += [(c, label, colour) for c, label in rows]
+    _add_labels(fig, result, sorted(labels))
+
+
+def _add_labels(fig: go.Figure, result: CheckResult,
+                labels: list[tuple[float, str, str]]) -> None:
+    """Each label on a leader above its point; labels of points close along the route
+    form a cluster and are stacked above the cluster's highest point, so none overlap."""
+    route = result.study.route
+    near_m = 0.06 * route.total_chainage_m
+    step_m = 0.045 * float(route.ground_m.max() - route.pipe_level_m.min())
+    clusters: list[list[tuple[float, str, str]]] = []
+    for item in labels:
+        if clusters and item[0] - clusters[-1][-1][0] < near_m:
+            clusters[-1].append(item)
+        else:
+            clusters.append([item])
+    for cluster in clusters:
+        levels = route.pipe_level_at(np.array([c for c, _, _ in cluster]))
+        top = float(levels.max())
+        for tier, ((chainage, text, colour), level) in enumerate(
+                zip(cluster, levels, strict=True)):
+            fig.add_annotation(
+                x=chainage, y=float(level), ax=chainage, ay=top + step_m * (1.3 + tier),
+                axref="x", ayref="y", xref="x", yref="y", text=text, showarrow=True,
+                arrowhead=0, arrowwidth=0.8, arrowcolor=colour,
+                font={"size": 9, "color": colour}, bgcolor="rgba(255,255,255,0.8)")
+
+
+def _legend_rows(fig: go.Figure, width_px: int = 680) -> int:
+    """Rows a horizontal legend takes at ``width_px`` (about 7 px a character)."""
+    names = [t.name for t in fig.data if t.showlegend is not False and t.name]
+    rows, used = 1, 0
+    for name in names:
+        item = 45 + 6 * len(name)
+        if used + item > width_px:
+            rows, used = rows + 1, 0
+        used += item
+    return rows
+
+
+def profile_figure(result: CheckResult, title: str = "Longitudinal profile",
+                   colour: str = OPTION_PALETTE[0],
+                   appurtenances: list[Appurtenance] | None = None) -> go.Figure:
+    """Ground, pipe (in the option's colour), HGL per scenario, static line, envelopes,
+    labelled points along the route and the pieces."""
     study = result.study
     route = study.route
     end = route.total_chainage_m
@@ -121,8 +203,8 @@ def profile_figure(result: CheckResult, title: str = "Longitudinal profile") -> 
         line={"color": GROUND_COLOUR, "width": 1.5}, customdata=ground_text,
         hovertemplate="%{customdata}<br>ground %{y:.2f} m<extra></extra>"), row=1, col=1)
     fig.add_trace(go.Scatter(
-        x=route.chainage_m, y=route.pipe_level_m, name="pipe level", mode="lines",
-        line={"color": PIPE_COLOUR, "width": 1}, customdata=ground_text,
+        x=route.chainage_m, y=route.pipe_level_m, name="pipe", mode="lines",
+        line={"color": colour, "width": 2}, customdata=ground_text,
         hovertemplate="%{customdata}<br>pipe %{y:.2f} m<extra></extra>"), row=1, col=1)
     fig.add_trace(go.Scatter(
         x=[0, end], y=[study.source.top_water_level_m] * 2, name="static line (top water)",
@@ -134,20 +216,25 @@ def profile_figure(result: CheckResult, title: str = "Longitudinal profile") -> 
         name="minimum-pressure envelope", mode="lines",
         line={"color": MIN_PRESSURE_COLOUR, "width": 1, "dash": "dot"},
         hoverinfo="skip"), row=1, col=1)
-    _add_class_envelope(fig, result)
+    envelope_top = _add_class_envelope(fig, result)
     _add_scenario_lines(fig, result)
+    _add_points(fig, result, appurtenances or [])
     _add_piece_bars(fig, result)
-    # Keep the view on the hydraulics: the class envelope may run far above the static line.
+    # The whole class envelope stays inside the chart, and so does the whole route.
     low = float(route.pipe_level_m.min())
-    high = max(study.source.top_water_level_m, float(route.ground_m.max()))
-    pad = 0.08 * (high - low)
+    high = max(study.source.top_water_level_m, float(route.ground_m.max()), envelope_top)
+    pad = 0.05 * (high - low)
     fig.update_yaxes(title_text="level (m)", row=1, col=1, gridcolor="#E5E5E5",
-                     range=[low - pad, high + 3 * pad])
+                     range=[low - 2 * pad, high + pad], tickformat=",.0f")
     fig.update_yaxes(showticklabels=False, row=2, col=1)
     _axis(fig, end, 2)
-    fig.update_layout(title=title, template="plotly_white", height=620, barmode="overlay",
-                      hovermode="closest", legend={"orientation": "h", "y": -0.18},
-                      margin={"l": 60, "r": 20, "t": 50, "b": 40})
+    legend_rows = _legend_rows(fig)
+    fig.update_layout(title=title or None, template="plotly_white",
+                      height=600 + 22 * legend_rows, barmode="overlay",
+                      hovermode="closest", legend={"orientation": "h", "x": 0, "y": -0.1,
+                                                   "yanchor": "top", "font": {"size": 10}},
+                      margin={"l": 60, "r": 15, "t": 40 if title else 15,
+                              "b": 60 + 22 * legend_rows})
     return fig
 
 
@@ -204,18 +291,19 @@ def pressure_velocity_figure(result: CheckResult) -> go.Figure:
     return fig
 
 
-def cost_figure(result: CheckResult) -> go.Figure:
+def cost_figure(result: CheckResult, colour: str = OPTION_PALETTE[0]) -> go.Figure:
     """Cost by option (material, DN, class) as horizontal bars."""
     pieces = result.pieces.copy()
     pieces["option"] = pieces.apply(_piece_label, axis=1)
     table = pieces.groupby("option", sort=False).agg(cost=("cost", "sum"),
                                                      length_m=("length_m", "sum"))
     fig = go.Figure(go.Bar(
-        x=table["cost"], y=table.index, orientation="h", marker={"color": "#4C8DB5"},
+        x=table["cost"], y=table.index, orientation="h", marker={"color": colour},
         customdata=table["length_m"],
         hovertemplate="%{y}<br>cost %{x:,.0f}<br>length %{customdata:,.0f} m<extra></extra>"))
     currency = result.study.currency
     fig.update_layout(template="plotly_white", height=120 + 28 * len(table),
                       xaxis_title=f"cost ({currency})" if currency else "cost",
+                      xaxis_tickformat=",.0f",
                       margin={"l": 200, "r": 20, "t": 20, "b": 40})
     return fig

@@ -1,21 +1,17 @@
-"""Side-by-side comparison of design options (one study each): table, workbook, HTML."""
+"""Side-by-side comparison of design options (one study each): the table and its
+terminal view; the page and workbook are in :mod:`optimiser.reports.compare_report`."""
 
 from __future__ import annotations
 
-import html
-
 import pandas as pd
-from plotly.offline import get_plotlyjs
 from rich.console import Console
 from rich.table import Table
 
 from optimiser.model import Status
-from optimiser.reports.cautions import CAUTIONS
-from optimiser.reports.charts import profile_figure
 from optimiser.reports.text import short_title
 from optimiser.sweeps.options import OptionResult, option_name
 
-__all__ = ["comparison_html", "comparison_row", "comparison_table", "option_name",
+__all__ = ["comparison_row", "comparison_table", "option_name",
            "print_comparison"]
 
 COMPARISON_COLUMNS = [
@@ -82,47 +78,6 @@ def comparison_table(options: list[OptionResult]) -> pd.DataFrame:
              enumerate(table["total_cost"], start=1)]
     table["rank"] = ranks
     return table[COMPARISON_COLUMNS].reset_index(drop=True)
-
-
-def _cell(value: object) -> str:
-    if value is None or (isinstance(value, float) and pd.isna(value)):
-        return ""
-    if isinstance(value, float):
-        return f"{value:,.2f}"
-    return str(value)
-
-
-def comparison_html(table: pd.DataFrame, options: list[OptionResult]) -> str:
-    """An offline page: the table and each option's longitudinal profile, two per row."""
-    header = "".join(f"<th>{html.escape(c)}</th>" for c in table.columns)
-    body = "".join("<tr>" + "".join(f"<td>{html.escape(_cell(v))}</td>" for v in row)
-                   + "</tr>" for row in table.itertuples(index=False))
-    plots = []
-    for index, option in enumerate(options):
-        outcome = option.outcome
-        if outcome is None or outcome.check is None:
-            reason = option.error or " | ".join(outcome.diagnosis if outcome else [])
-            plots.append(f"<div class='cell'><h3>{html.escape(option.label)}</h3>"
-                         f"<p>No design: {html.escape(reason)}</p></div>")
-            continue
-        figure = profile_figure(outcome.check, title=option.label)
-        figure.update_layout(height=520, legend={"font": {"size": 9}})
-        plots.append("<div class='cell'>" + figure.to_html(
-            full_html=False, include_plotlyjs=False, div_id=f"plot-{index}") + "</div>")
-    cautions = "".join(f"<li>{html.escape(c)}</li>" for c in CAUTIONS)
-    return f"""<!DOCTYPE html><html lang="en"><head><meta charset="utf-8">
-<title>Comparison of options</title><script>{get_plotlyjs()}</script>
-<style>body{{font-family:Helvetica,Arial,sans-serif;margin:1.5em}}
-table{{border-collapse:collapse;font-size:.85em}}td,th{{border:1px solid #ccc;padding:.2em .5em}}
-th{{background:#f0f0f0}}.grid{{display:grid;grid-template-columns:1fr 1fr;gap:1em}}
-.cautions{{border:2px solid #b8860b;background:#fff8e1;padding:.5em 1em}}
-@media print{{.grid{{grid-template-columns:1fr}}}}</style></head><body>
-<h1>Comparison of options</h1>
-<div class="cautions"><strong>Cautions.</strong><ul>{cautions}</ul></div>
-<h2>Options ranked by capital cost</h2><table><thead><tr>{header}</tr></thead>
-<tbody>{body}</tbody></table>
-<h2>Longitudinal profiles</h2><div class="grid">{''.join(plots)}</div>
-</body></html>"""
 
 
 def print_comparison(console: Console, table: pd.DataFrame) -> None:

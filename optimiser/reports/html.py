@@ -1,183 +1,141 @@
-"""A self-contained HTML report (plotly.js embedded, works offline) for a design or check."""
+"""The design report as a self-contained HTML page (plotly.js embedded once, works
+offline), rendered from ``templates/design_report.html.j2``; the same page laid out for
+print is what :mod:`optimiser.reports.pdf` turns into ``report.pdf``."""
 
 from __future__ import annotations
 
-import html
-from datetime import UTC, datetime
+from dataclasses import dataclass
 
-import pandas as pd
-from plotly.offline import get_plotlyjs
-
-from optimiser import __version__
 from optimiser.analysis.appurtenances import Appurtenance
 from optimiser.analysis.check import CheckResult
-from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports import numbers as fmt
 from optimiser.reports.charts import cost_figure, pressure_velocity_figure, profile_figure
-from optimiser.reports.plan_view import plan_section
-from optimiser.reports.results import assumptions
+from optimiser.reports.colours import option_colour
+from optimiser.reports.inputs import input_tables
+from optimiser.reports.pages import TitleBlock, chart, render
+from optimiser.reports.pdf import PRINTABLE_WIDTH_PX
+from optimiser.reports.plan_view import plan_figure, plan_notes
 from optimiser.reports.run_summary import RunSummary
 from optimiser.reports.terminal import chainage_label
-from optimiser.reports.text import short_title
 
-_STYLE = """
-body { font-family: "Segoe UI", Helvetica, Arial, sans-serif; color: #222; margin: 2em auto;
-       max-width: 1100px; padding: 0 1em; line-height: 1.4; }
-h1 { font-size: 1.6em; margin-bottom: 0.2em; } h2 { font-size: 1.25em; margin-top: 1.6em;
-     border-bottom: 1px solid #bbb; padding-bottom: 0.2em; }
-table { border-collapse: collapse; margin: 0.6em 0; font-size: 0.92em; }
-th, td { border: 1px solid #ccc; padding: 0.25em 0.6em; text-align: right; }
-th { background: #f0f0f0; } td.text, th.text { text-align: left; }
-.cautions { border: 2px solid #b8860b; background: #fff8e1; padding: 0.6em 1em; }
-.status-ok { color: #1a7f37; font-weight: bold; } .status-bad { color: #b2182b;
-    font-weight: bold; }
-.meta { color: #555; font-size: 0.9em; }
-@media print { .plot { page-break-inside: avoid; } body { margin: 0; max-width: none; } }
-"""
+DOCUMENT = "Pipeline sizing report"
 
 
-def _table(frame: pd.DataFrame, text_columns: set[str] | None = None) -> str:
-    text_columns = text_columns or set()
-    head = "".join(f"<th class='{'text' if c in text_columns else ''}'>{html.escape(str(c))}"
-                   "</th>" for c in frame.columns)
-    body = []
-    for row in frame.itertuples(index=False):
-        cells = []
-        for column, value in zip(frame.columns, row, strict=True):
-            css = "text" if column in text_columns else ""
-            if isinstance(value, float):
-                value = f"{value:,.2f}"
-            cells.append(f"<td class='{css}'>{html.escape(str(value))}</td>")
-        body.append("<tr>" + "".join(cells) + "</tr>")
-    return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>"
+@dataclass(frozen=True)
+class Grid:
+    """A table of the page: column headings (units in brackets) and rows of text."""
+
+    columns: tuple[str, ...]
+    rows: list[tuple[str, ...]]
 
 
-def _money(value: float | None, currency: str) -> str:
-    if value is None:
-        return "–"
-    return f"{value:,.0f} {currency}".strip()
+def default_option_name(result: CheckResult) -> str:
+    """The option's name when none is given: the study file's folder or stem."""
+    path = result.study.path
+    if path is None:
+        return "design"
+    return path.parent.name or path.stem if path.stem == "study" else path.stem
 
 
 def render_report(result: CheckResult, appurtenances: list[Appurtenance],
-                  summary: RunSummary | None = None) -> str:
+                  summary: RunSummary | None = None, *, option: str | None = None,
+                  colour: str | None = None, printing: bool = False) -> str:
     """The report as one HTML string; ``summary`` carries the optimiser's figures when
-    the design comes from a design run."""
+    the design comes from a design run; ``option`` names it (default: from the study
+    file), ``colour`` is its colour in a comparison; ``printing`` lays it out for paper."""
     study = result.study
-    figures = [("Longitudinal profile", profile_figure(result)),
-               ("Pressure head and velocity", pressure_velocity_figure(result)),
-               ("Cost by option", cost_figure(result))]
-    plots = []
-    for index, (heading, figure) in enumerate(figures):
-        div = figure.to_html(full_html=False, include_plotlyjs=False,
-                             div_id=f"plot-{index}", config={"displaylogo": False})
-        plots.append(f"<h2>{html.escape(heading)}</h2><div class='plot'>{div}</div>")
-        if index == 0:
-            plots.append(plan_section(result, appurtenances))  # "" without coordinates
-            plots.append(_schedule_section(result, study.currency))
-    basis = pd.DataFrame([{"assumption": k, "value": "" if v is None else str(v)}
-                          for k, v in assumptions(study).items()])
-    cautions = "".join(f"<li>{html.escape(c)}</li>" for c in CAUTIONS)
-    stamp = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
-    return f"""<!DOCTYPE html>
-<html lang="en"><head><meta charset="utf-8">
-<title>{html.escape(short_title(study.title))}</title>
-<style>{_STYLE}</style>
-<script type="text/javascript">{get_plotlyjs()}</script>
-</head><body>
-<h1>{html.escape(short_title(study.title))}</h1>
-<p class="meta">Pipeline sizing report, tool version {__version__}, made {stamp}.</p>
-<div class="cautions"><strong>Cautions.</strong><ul>{cautions}</ul></div>
-<h2>Summary</h2><table>{_summary_rows(result, summary)}</table>
-<h2>Scenarios</h2>{_table(_scenario_frame(result), {"scenario", "at"})}
-{''.join(plots)}
-<h2>Violations</h2>{_violations_section(result)}
-<h2>Air valves and washouts (preliminary)</h2>{_appurtenance_section(appurtenances)}
-<h2>Assumptions</h2>{_table(basis, {"assumption", "value"})}
-</body></html>
-"""
+    option = option or default_option_name(result)
+    colour = colour or option_colour(option)
+    width = PRINTABLE_WIDTH_PX if printing else None
+    charts = [
+        chart("Levels along the route", "plot-0",
+              profile_figure(result, title="", colour=colour,
+                             appurtenances=appurtenances), width),
+        chart("Pressure head and velocity", "plot-1", pressure_velocity_figure(result), width),
+        chart("Cost by pipe", "plot-2", cost_figure(result, colour=colour), width),
+    ]
+    if study.route.coordinates is not None:
+        charts.append(chart("Plan", "plot-plan", plan_figure(result, appurtenances), width))
+    title = TitleBlock.make(study.title, option, study.path, DOCUMENT)
+    return render(
+        "design_report.html.j2", title, printing, charts=charts, colour=colour,
+        summary=_summary_rows(result, summary), scenario_table=_scenario_grid(result),
+        plan_notes=plan_notes(result),
+        schedule=_schedule_grid(result), total_cost=fmt.money(result.total_cost, study.currency),
+        change_cost=(fmt.money(result.change_cost_total, study.currency)
+                     if result.change_cost_total else ""),
+        violations=_violations_grid(result), appurtenances=_appurtenance_grid(appurtenances),
+        inputs=input_tables(study, summary))
 
 
-def _summary_rows(result: CheckResult, summary: RunSummary | None) -> str:
+def _summary_rows(result: CheckResult, summary: RunSummary | None
+                  ) -> list[tuple[str, str, str]]:
     study = result.study
     currency = study.currency
-    status = ("<span class='status-ok'>every limit met in every scenario</span>"
-              if result.ok else
-              f"<span class='status-bad'>{len(result.violations)} violation(s)</span>")
-    rows = [
-        ("study", html.escape(short_title(study.title))),
-        ("route length", f"{study.route.total_chainage_m:,.0f} m (chainage)"),
-        ("check", status),
-        ("capital cost", html.escape(_money(result.total_cost, currency))),
-    ]
+    status = (("every limit met in every scenario", "status-ok") if result.ok else
+              (f"{len(result.violations)} violation(s)", "status-bad"))
+    rows = [("route length", f"{fmt.length(study.route.total_chainage_m)} m (chainage)", ""),
+            ("independent check", *status),
+            ("capital cost", fmt.money(result.total_cost, currency), "")]
     if summary is not None:
-        rows += [
-            ("optimiser status", html.escape(summary.status)),
-            ("solver", html.escape(f"{summary.solver or ''}, "
-                                   f"{summary.solve_time_s or 0:.1f} s")),
-            ("best bound", html.escape(_money(summary.lower_bound, currency))),
-            ("relative gap", html.escape(f"{summary.gap or 0:.2e}")),
-            ("LP bound (rules relaxed)", html.escape(_money(summary.lp_bound, currency))),
-        ]
+        rows += [("optimiser status", summary.status, ""),
+                 ("solver", f"{summary.solver or '–'}, {summary.solve_time_s or 0:.1f} s", ""),
+                 ("best bound (no design can cost less)",
+                  fmt.money(summary.lower_bound, currency), ""),
+                 ("gap between cost and bound", fmt.percent(summary.gap), ""),
+                 ("bound with the rules relaxed", fmt.money(summary.lp_bound, currency), "")]
         if summary.uniform_cost:
             saving = summary.uniform_cost - result.total_cost
-            rows.append((
-                "cheapest uniform design",
-                html.escape(f"{summary.uniform_label}: "
-                            f"{_money(summary.uniform_cost, currency)}; this design saves "
-                            f"{_money(saving, currency)} "
-                            f"({saving / summary.uniform_cost:.1%})")))
-    return "".join(f"<tr><th class='text'>{k}</th><td class='text'>{v}</td></tr>"
-                   for k, v in rows)
+            rows.append(("cheapest uniform design",
+                         f"{summary.uniform_label}: {fmt.money(summary.uniform_cost, currency)};"
+                         f" this design saves {fmt.money(saving, currency)} "
+                         f"({fmt.percent(saving / summary.uniform_cost, 1)})", ""))
+    return rows
 
 
-def _scenario_frame(result: CheckResult) -> pd.DataFrame:
-    return pd.DataFrame([{
-        "scenario": s.name, "inflow L/s": s.inflow_m3_s * 1000,
-        "outlet energy m": s.outlet_energy_m, "required m": s.required_head_m,
-        "outlet margin m": s.outlet_margin_m,
-        "least pressure margin m": float(s.least_pressure_margin["pressure_m"]
-                                         - s.least_pressure_margin["min_pressure_m"]),
-        "at": chainage_label(float(s.least_pressure_margin["chainage_m"])),
-        "max velocity m/s": float(s.segments["velocity_m_s"].max()),
-        "capacity L/s": (s.capacity_m3_s or 0.0) * 1000 if s.capacity_m3_s is not None
-        else "none",
-    } for s in result.scenarios])
+def _scenario_grid(result: CheckResult) -> Grid:
+    rows = []
+    for s in result.scenarios:
+        least = s.least_pressure_margin
+        rows.append((
+            s.name, fmt.flow_l_s(s.inflow_m3_s), fmt.head(s.outlet_energy_m),
+            fmt.head(s.required_head_m), fmt.head(s.outlet_margin_m),
+            fmt.head(float(least["pressure_m"] - least["min_pressure_m"])),
+            chainage_label(float(least["chainage_m"])),
+            fmt.velocity(float(s.segments["velocity_m_s"].max())),
+            "none" if s.capacity_m3_s is None else fmt.flow_l_s(s.capacity_m3_s)))
+    return Grid(("scenario", "inflow (L/s)", "outlet energy (m)", "required (m)",
+                 "outlet margin (m)", "least pressure margin (m)", "least margin at",
+                 "highest velocity (m/s)", "capacity (L/s)"), rows)
 
 
-def _violations_section(result: CheckResult) -> str:
+def _violations_grid(result: CheckResult) -> Grid | None:
     if result.ok:
-        return "<p>None.</p>"
-    return _table(pd.DataFrame([{
-        "kind": v.kind, "scenario": v.scenario or "(static)",
-        "chainage": chainage_label(v.chainage_m), "value": v.value, "limit": v.limit,
-        "detail": v.message} for v in result.violations[:200]]),
-        {"kind", "scenario", "chainage", "detail"})
+        return None
+    return Grid(("kind", "scenario", "chainage", "value", "limit", "detail"), [
+        (v.kind, v.scenario or "(static)", chainage_label(v.chainage_m), fmt.head(v.value),
+         fmt.head(v.limit), v.message) for v in result.violations[:200]])
 
 
-def _appurtenance_section(appurtenances: list[Appurtenance]) -> str:
+def _appurtenance_grid(appurtenances: list[Appurtenance]) -> Grid | None:
     if not appurtenances:
-        return "<p>None found.</p>"
-    return _table(pd.DataFrame([{
-        "kind": a.kind, "chainage": chainage_label(a.chainage_m),
-        "pipe level m": a.pipe_level_m, "ground m": a.ground_m, "reason": a.reason,
-        "label": a.label} for a in appurtenances]), {"kind", "chainage", "reason", "label"})
+        return None
+    return Grid(("kind", "chainage", "pipe level (m)", "ground (m)", "reason", "label"), [
+        (a.kind, chainage_label(a.chainage_m), fmt.head(a.pipe_level_m), fmt.head(a.ground_m),
+         a.reason, a.label) for a in appurtenances])
 
 
-def _schedule_section(result: CheckResult, currency: str) -> str:
-    pieces = result.pieces
-    frame = pd.DataFrame({
-        "from": [chainage_label(v) for v in pieces["from_m"]],
-        "to": [chainage_label(v) for v in pieces["to_m"]],
-        "length m": pieces["length_m"],
-        "material": pieces["material"], "DN": pieces["dn_mm"].map(lambda v: f"{v:g}"),
-        "ID mm": pieces["internal_diameter_mm"], "class": pieces["pressure_class"],
-        "surge m": pieces["surge_head_m"],
-        "static + surge m": pieces["static_head_m"] + pieces["surge_head_m"],
-        "allowable m": pieces["allowable_surge_head_m"],
-        "governs": pieces["class_governs"],
-        f"cost {currency}".strip(): pieces["cost"],
-    })
-    return ("<h2>Schedule of pieces</h2>"
-            + _table(frame, {"from", "to", "material", "DN", "class"})
-            + f"<p>Total {_money(result.total_cost, currency)}"
-            + (f", including {_money(result.change_cost_total, currency)} for changes of pipe"
-               if result.change_cost_total else "") + ".</p>")
+def _schedule_grid(result: CheckResult) -> Grid:
+    currency = result.study.currency
+    rows = []
+    for p in result.pieces.itertuples():
+        by_surge = p.class_governs == "static + surge"
+        rows.append((
+            chainage_label(p.from_m), chainage_label(p.to_m), fmt.length(p.length_m),
+            p.material, fmt.dn(p.dn_mm), fmt.head(p.internal_diameter_mm), p.pressure_class,
+            fmt.head(p.static_head_m), fmt.head(p.surge_head_m),
+            fmt.head(p.allowable_surge_head_m if by_surge else p.allowable_head_m),
+            "surge" if by_surge else "static", fmt.money(p.cost)))
+    return Grid(("from", "to", "length (m)", "material", "DN", "ID (mm)", "class",
+                 "static head (m)", "surge (m)", "limit (m)", "set by",
+                 f"cost ({currency})" if currency else "cost"), rows)

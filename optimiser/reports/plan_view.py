@@ -19,15 +19,9 @@ from plotly.colors import sample_colorscale
 from optimiser.analysis.appurtenances import Appurtenance
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.charts import chainage_ticks
+from optimiser.reports.colours import MARKERS
 from optimiser.reports.geojson import point_items
 from optimiser.reports.terminal import chainage_label
-
-MARKERS = {
-    "source": ("triangle-up", "#0072B2", 13), "outlet": ("square", "#0072B2", 12),
-    "offtake": ("diamond", "#D55E00", 11), "fitting": ("x", "#3A3A3A", 10),
-    "air valve": ("circle-open", "#009E73", 10), "washout": ("triangle-down-open",
-                                                           "#CC79A7", 10),
-}
 
 
 def _size_colours(dns: list[float]) -> dict[float, str]:
@@ -122,18 +116,7 @@ def plan_figure(result: CheckResult, appurtenances: list[Appurtenance]) -> go.Fi
     return fig
 
 
-def plan_section(result: CheckResult, appurtenances: list[Appurtenance]) -> str:
-    """The report's plan section (figure and survey notes), or "" without coordinates."""
+def plan_notes(result: CheckResult) -> tuple[str, ...]:
+    """The notes of the survey clean-up (empty without coordinates)."""
     coordinates = result.study.route.coordinates
-    if coordinates is None:
-        return ""
-    div = plan_figure(result, appurtenances).to_html(
-        full_html=False, include_plotlyjs=False, div_id="plot-plan",
-        config={"displaylogo": False})
-    warning = " style='color:#b2182b'"
-    notes = "".join(f"<li{warning if n.startswith('warning') else ''}>{html.escape(n)}</li>"
-                    for n in coordinates.notes)
-    return ("<h2>Plan</h2><p class='meta'>Drawn from the route's own coordinates (no "
-            "background map). Chainage labels match the long section's axis.</p>"
-            f"<div class='plot'>{div}</div><h2>Survey and route geometry</h2>"
-            f"<ul>{notes}</ul>")
+    return () if coordinates is None else tuple(coordinates.notes)
