@@ -111,6 +111,17 @@ class _ScenarioArrays:
     outlet_energy_m: float
 
 
+@dataclass(frozen=True)
+class _PointArrays:
+    """Check points in route order: node index, side, energy, velocity, pipe segment."""
+
+    node: np.ndarray
+    side: np.ndarray
+    energy_m: np.ndarray
+    velocity_m_s: np.ndarray
+    segment: np.ndarray
+
+
 class _DesignHydraulics:
     """Design data gathered per segment once; scenarios evaluated on demand."""
 
@@ -141,51 +152,64 @@ class _DesignHydraulics:
         return _ScenarioArrays(flow, velocity, gradient, start, end, float(after_fitting),
                                float(outlet))
 
+    def point_arrays(self, arrays: _ScenarioArrays) -> _PointArrays:
+        """Check points: both sides of every node where they differ (contract section 5).
+
+        Side "upstream" of node i is the end of segment i - 1, "downstream" its start
+        after the node's point loss (past the last node's fitting at the outlet). Where
+        the two agree in energy and velocity the node is one point (side ""), taken from
+        the downstream pipe, or from the last pipe at the outlet node."""
+        n = len(self.grid.segment_length_m)
+        node = np.arange(n + 1)
+        up_segment = np.maximum(node - 1, 0)
+        down_segment = np.minimum(node, n - 1)
+        up_energy = arrays.energy_end_m[up_segment]
+        down_energy = np.append(arrays.energy_start_m, arrays.after_final_fitting_m)
+        up_velocity = arrays.velocity_m_s[up_segment]
+        down_velocity = arrays.velocity_m_s[down_segment]
+        one = (np.abs(up_energy - down_energy) <= _SAME) & \
+            (np.abs(up_velocity - down_velocity) <= _SAME)
+        one[0] = True  # nothing upstream of the source
+        keep_up = one.copy()
+        keep_up[:-1] = False  # a single point is the downstream side, but at the outlet
+        # Two slots per node, upstream then downstream; a single point takes the second.
+        energy = np.column_stack([up_energy, np.where(keep_up, up_energy, down_energy)])
+        velocity = np.column_stack([up_velocity,
+                                    np.where(keep_up, up_velocity, down_velocity)])
+        segment = np.column_stack([up_segment, np.where(keep_up, up_segment, down_segment)])
+        side = np.column_stack([np.full(n + 1, "upstream", dtype=object),
+                                np.where(one, "", "downstream").astype(object)])
+        used = np.column_stack([~one, np.ones(n + 1, dtype=bool)])
+        return _PointArrays(np.repeat(node, 2)[used.ravel()], side[used], energy[used],
+                            velocity[used], segment[used])
+
+    def pressure_m(self, points: _PointArrays) -> np.ndarray:
+        """Pressure head [m] at each check point: HGL - pipe level."""
+        hgl = hydraulic_grade_m(points.energy_m, points.velocity_m_s)
+        return hgl - self.grid.node_pipe_level_m[points.node]
+
     def points(self, arrays: _ScenarioArrays) -> pd.DataFrame:
-        """Check points: both sides of every node where they differ."""
+        """The check points of :meth:`point_arrays` as a table."""
         grid = self.grid
-        n = len(grid.segment_length_m)
-        limits = self.node_min_pressure_m
-        rows: list[tuple] = []
-        for node in range(n + 1):
-            sides: list[tuple[str, float, float, int]] = []
-            if node > 0:
-                sides.append(("upstream", arrays.energy_end_m[node - 1],
-                              arrays.velocity_m_s[node - 1], node - 1))
-            if node < n:
-                sides.append(("downstream", arrays.energy_start_m[node],
-                              arrays.velocity_m_s[node], node))
-            else:
-                sides.append(("downstream", arrays.after_final_fitting_m,
-                              arrays.velocity_m_s[-1], n - 1))
-            if len(sides) == 2 and abs(sides[0][1] - sides[1][1]) <= _SAME and \
-                    abs(sides[0][2] - sides[1][2]) <= _SAME:
-                sides = [sides[1]] if node < n else [sides[0]]
-            if len(sides) == 1:
-                sides = [("", *sides[0][1:])]
-            for side, energy, velocity, segment in sides:
-                rows.append((node, side, energy, velocity, segment))
-        node_index = np.array([r[0] for r in rows])
-        energy = np.array([r[2] for r in rows])
-        velocity = np.array([r[3] for r in rows])
-        segment = np.array([r[4] for r in rows])
-        hgl = hydraulic_grade_m(energy, velocity)
-        pipe = grid.node_pipe_level_m[node_index]
+        at = self.point_arrays(arrays)
+        node = at.node
+        hgl = hydraulic_grade_m(at.energy_m, at.velocity_m_s)
+        pipe = grid.node_pipe_level_m[node]
         top_water = self.study.source.top_water_level_m
         return pd.DataFrame({
-            "chainage_m": grid.node_chainage_m[node_index],
-            "side": [r[1] for r in rows],
-            "label": [grid.node_label[i] for i in node_index],
-            "ground_m": grid.node_ground_m[node_index],
+            "chainage_m": grid.node_chainage_m[node],
+            "side": at.side,
+            "label": np.asarray(grid.node_label, dtype=object)[node],
+            "ground_m": grid.node_ground_m[node],
             "pipe_level_m": pipe,
-            "energy_m": energy,
+            "energy_m": at.energy_m,
             "hgl_m": hgl,
             "pressure_m": hgl - pipe,
             "static_pressure_m": static_head_m(top_water, pipe),
-            "min_pressure_m": limits[node_index],
-            "velocity_m_s": velocity,
-            "flow_m3_s": arrays.flow_m3_s[segment],
-            "piece": grid.segment_piece[segment],
+            "min_pressure_m": self.node_min_pressure_m[node],
+            "velocity_m_s": at.velocity_m_s,
+            "flow_m3_s": arrays.flow_m3_s[at.segment],
+            "piece": grid.segment_piece[at.segment],
         })
 
     def segments(self, arrays: _ScenarioArrays) -> pd.DataFrame:
@@ -204,8 +228,9 @@ class _DesignHydraulics:
         margin = arrays.outlet_energy_m - self.study.outlet.required_head_m
         if outlet_only:
             return margin
-        points = self.points(arrays)
-        return min(margin, float((points["pressure_m"] - points["min_pressure_m"]).min()))
+        points = self.point_arrays(arrays)
+        pressure_margin = self.pressure_m(points) - self.node_min_pressure_m[points.node]
+        return min(margin, float(pressure_margin.min()))
 
     def capacity_m3_s(self, scenario: Scenario, outlet_only: bool) -> float | None:
         """Largest outlet flow meeting the outlet head (and pressure minima), by Brent's
