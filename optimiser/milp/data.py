@@ -81,7 +81,7 @@ class ProblemData:
         """Admissible (and allowed) options of section s, in the order pieces are laid
         inside a section: descending internal diameter (ascending velocity head)."""
         mask = self.admissible[s] if allowed is None else self.admissible[s] & allowed[s]
-        return [int(j) for j in self.order if mask[j]]
+        return self.order[mask[self.order]].tolist()
 
 
 def prepare(study: Study) -> ProblemData:
