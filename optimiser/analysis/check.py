@@ -42,6 +42,8 @@ from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.model import Design, DesignRules, Scenario, Study, SurgeMethod
 
 _SAME = 1e-12
+_ONE, _UPSTREAM, _DOWNSTREAM = 0, 1, 2
+_SIDE_NAMES = np.array(["", "upstream", "downstream"], dtype=object)
 
 
 @dataclass(frozen=True)
@@ -113,7 +115,8 @@ class _ScenarioArrays:
 
 @dataclass(frozen=True)
 class _PointArrays:
-    """Check points in route order: node index, side, energy, velocity, pipe segment."""
+    """Check points in route order: node index, side (index of ``_SIDE_NAMES``), energy,
+    velocity, pipe segment."""
 
     node: np.ndarray
     side: np.ndarray
@@ -177,8 +180,7 @@ class _DesignHydraulics:
         velocity = np.column_stack([up_velocity,
                                     np.where(keep_up, up_velocity, down_velocity)])
         segment = np.column_stack([up_segment, np.where(keep_up, up_segment, down_segment)])
-        side = np.column_stack([np.full(n + 1, "upstream", dtype=object),
-                                np.where(one, "", "downstream").astype(object)])
+        side = np.column_stack([np.full(n + 1, _UPSTREAM), np.where(one, _ONE, _DOWNSTREAM)])
         used = np.column_stack([~one, np.ones(n + 1, dtype=bool)])
         return _PointArrays(np.repeat(node, 2)[used.ravel()], side[used], energy[used],
                             velocity[used], segment[used])
@@ -198,7 +200,7 @@ class _DesignHydraulics:
         top_water = self.study.source.top_water_level_m
         return pd.DataFrame({
             "chainage_m": grid.node_chainage_m[node],
-            "side": at.side,
+            "side": _SIDE_NAMES[at.side],
             "label": np.asarray(grid.node_label, dtype=object)[node],
             "ground_m": grid.node_ground_m[node],
             "pipe_level_m": pipe,
