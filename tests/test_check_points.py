@@ -16,13 +16,13 @@ import pandas as pd
 import pytest
 
 import optimiser
-from optimiser.analysis.check import _DesignHydraulics
+from optimiser.analysis.design_hydraulics import DesignHydraulics
 from optimiser.hydraulics.local_losses import velocity_head_m
 
 _SAME = 1e-12
 
 
-def reference_points(hydraulics: _DesignHydraulics, scenario) -> pd.DataFrame:
+def reference_points(hydraulics: DesignHydraulics, scenario) -> pd.DataFrame:
     """Section 5 node by node: the upstream side of node i is the end of segment i - 1,
     the downstream side the start of segment i after the node's point loss (past the
     last fitting at the outlet node); one point (side "") where both agree."""
@@ -81,7 +81,7 @@ def test_points_match_the_node_by_node_rule(make_study, case):
     study = optimiser.load_study(files.study)
     design = optimiser.load_design(files.design, study)
     result = optimiser.check_design(study, design, capacity=False)
-    hydraulics = _DesignHydraulics(study, design)
+    hydraulics = DesignHydraulics(study, design)
     for scenario, scenario_result in zip(study.scenarios, result.scenarios, strict=True):
         expected = reference_points(hydraulics, scenario)
         got = scenario_result.points[list(expected.columns)]
@@ -101,7 +101,7 @@ def test_capacity_margin_is_the_least_margin_of_the_points_table(make_study):
     check's table of points at the same outlet flow."""
     study = optimiser.load_study(make_study().study)
     design = optimiser.load_design(make_study().design, study)
-    hydraulics = _DesignHydraulics(study, design)
+    hydraulics = DesignHydraulics(study, design)
     scenario = study.scenarios[0]
     for flow in (0.0, 0.01, 0.025, 0.04):
         arrays = hydraulics.evaluate(scenario, flow)
