@@ -108,8 +108,11 @@ def prepare(study: Study) -> ProblemData:
         q = flow_below_m3_s(study, scenario, chainage[:-1])
         v = velocity_m_s(q[:, None], diameter[None, :])
         h = velocity_head_m(v)
-        j = friction_gradient(study, scenario, q[:, None], diameter[None, :],
-                              roughness[None, :], c_value[None, :])
+        # A chain carries few distinct flows (the outlet's plus the offtakes downstream):
+        # friction once per distinct flow and option, then spread over the sections.
+        distinct, which = np.unique(q, return_inverse=True)
+        j = friction_gradient(study, scenario, distinct[:, None], diameter[None, :],
+                              roughness[None, :], c_value[None, :])[which]
         flows.append(q)
         velocities.append(v)
         heads.append(h)
