@@ -126,7 +126,7 @@ def _new_pieces(table: _Table, nodes: np.ndarray, ends: np.ndarray, total: np.nd
         came_from[0] = -1
     groups = np.flatnonzero(np.concatenate([[True], ends[1:] != ends[:-1]]))
     lowest = np.minimum.reduceat(candidate, groups, axis=0)
-    group_of = np.cumsum(np.isin(np.arange(len(nodes)), groups)) - 1
+    group_of = np.repeat(np.arange(len(groups)), np.diff(np.append(groups, len(nodes))))
     position = np.where(candidate == lowest[group_of],
                         np.arange(len(nodes))[:, None, None], len(nodes))
     winner = np.minimum.reduceat(position, groups, axis=0)  # first of the cheapest
