@@ -59,9 +59,14 @@ class _Table:
 
     @classmethod
     def empty(cls, n: int, layers: int, m: int) -> _Table:
-        return cls(np.full((n + 1, layers, m), np.inf), np.full((n + 2, layers, m), np.inf),
-                   np.full((n + 2, layers, m), -1, dtype=np.int32),
-                   np.full((n + 2, layers, m), -1, dtype=np.int32))
+        # Every value past node 0 is written before it is read, and a pending start and
+        # option are read only where a pending piece was written (left unfilled: the
+        # tables are large on long routes).
+        value = np.empty((n + 1, layers, m))
+        value[0] = np.inf
+        return cls(value, np.full((n + 2, layers, m), np.inf),
+                   np.empty((n + 2, layers, m), dtype=np.int32),
+                   np.empty((n + 2, layers, m), dtype=np.int32))
 
 
 def cheapest_sequence(rate: np.ndarray, chainage_length_m: np.ndarray, *,
