@@ -3,8 +3,9 @@
 This is the independent check that every design goes through, whoever made it. It
 follows contract section 5 literally on the analysis grid (survey points plus piece
 boundaries), evaluating both sides of every node where the velocity or a point loss
-makes them differ. Each rule comes from its one home, shared with the optimiser's data:
-flows and fittings from :mod:`optimiser.analysis.flows`, the energy line from
+makes them differ (energy line, points and capacity: :mod:`.design_hydraulics`). Each
+rule comes from its one home, shared with the optimiser's data: flows and fittings from
+:mod:`optimiser.analysis.flows`, the energy line from
 :mod:`optimiser.hydraulics.gradeline`, the limits from :mod:`optimiser.analysis.limits`.
 It reads only the study and the design, never the optimiser's structures.
 """
@@ -15,34 +16,19 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
-from scipy.optimize import brentq
 
 from optimiser.analysis import violation_text as text
-from optimiser.analysis.flows import (
-    flow_below_m3_s,
-    friction_gradient,
-    inflow_m3_s,
-    node_point_k,
-)
-from optimiser.analysis.grid import Grid, design_grid
+from optimiser.analysis.design_hydraulics import DesignHydraulics, ScenarioArrays
+from optimiser.analysis.flows import inflow_m3_s
 from optimiser.analysis.limits import (
     CHECK_TOLERANCE,
     above_velocity_max,
     below_velocity_min,
     class_holds,
-    node_min_pressure_m,
 )
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
-from optimiser.hydraulics.gradeline import (
-    energy_along_chain,
-    hydraulic_grade_m,
-    outlet_energy_m,
-    static_head_m,
-)
-from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
+from optimiser.hydraulics.gradeline import static_head_m
 from optimiser.model import Design, DesignRules, Scenario, Study, SurgeMethod
-
-_SAME = 1e-12
 
 
 @dataclass(frozen=True)
@@ -101,133 +87,8 @@ class CheckResult:
         return not self.violations
 
 
-@dataclass(frozen=True)
-class _ScenarioArrays:
-    flow_m3_s: np.ndarray
-    velocity_m_s: np.ndarray
-    gradient: np.ndarray
-    energy_start_m: np.ndarray
-    energy_end_m: np.ndarray
-    after_final_fitting_m: float
-    outlet_energy_m: float
-
-
-class _DesignHydraulics:
-    """Design data gathered per segment once; scenarios evaluated on demand."""
-
-    def __init__(self, study: Study, design: Design) -> None:
-        self.study = study
-        self.design = design
-        self.grid: Grid = design_grid(study, design)
-        options = [design.pieces[p].option for p in self.grid.segment_piece]
-        self.diameter_m = np.array([o.internal_diameter_m for o in options])
-        self.roughness_mm = np.array([o.roughness_mm for o in options])
-        self.hazen_williams_c = np.array(
-            [np.nan if o.hazen_williams_c is None else o.hazen_williams_c for o in options])
-        self.node_point_k = node_point_k(study, self.grid.node_chainage_m)
-        self.node_min_pressure_m = node_min_pressure_m(study, self.grid.node_chainage_m)
-
-    def evaluate(self, scenario: Scenario, outlet_flow_m3_s: float | None = None
-                 ) -> _ScenarioArrays:
-        study = self.study
-        flow = flow_below_m3_s(study, scenario, self.grid.start_m, outlet_flow_m3_s)
-        velocity = velocity_m_s(flow, self.diameter_m)
-        gradient = friction_gradient(study, scenario, flow, self.diameter_m,
-                                     self.roughness_mm, self.hazen_williams_c)
-        start, end = energy_along_chain(
-            scenario.source_level_m, study.source.entrance_k, self.grid.segment_length_m,
-            gradient, study.local_k_per_km, velocity, self.node_point_k)
-        after_fitting, outlet = outlet_energy_m(end[-1], velocity_head_m(velocity[-1]),
-                                                self.node_point_k[-1], study.outlet.exit_k)
-        return _ScenarioArrays(flow, velocity, gradient, start, end, float(after_fitting),
-                               float(outlet))
-
-    def points(self, arrays: _ScenarioArrays) -> pd.DataFrame:
-        """Check points: both sides of every node where they differ."""
-        grid = self.grid
-        n = len(grid.segment_length_m)
-        limits = self.node_min_pressure_m
-        rows: list[tuple] = []
-        for node in range(n + 1):
-            sides: list[tuple[str, float, float, int]] = []
-            if node > 0:
-                sides.append(("upstream", arrays.energy_end_m[node - 1],
-                              arrays.velocity_m_s[node - 1], node - 1))
-            if node < n:
-                sides.append(("downstream", arrays.energy_start_m[node],
-                              arrays.velocity_m_s[node], node))
-            else:
-                sides.append(("downstream", arrays.after_final_fitting_m,
-                              arrays.velocity_m_s[-1], n - 1))
-            if len(sides) == 2 and abs(sides[0][1] - sides[1][1]) <= _SAME and \
-                    abs(sides[0][2] - sides[1][2]) <= _SAME:
-                sides = [sides[1]] if node < n else [sides[0]]
-            if len(sides) == 1:
-                sides = [("", *sides[0][1:])]
-            for side, energy, velocity, segment in sides:
-                rows.append((node, side, energy, velocity, segment))
-        node_index = np.array([r[0] for r in rows])
-        energy = np.array([r[2] for r in rows])
-        velocity = np.array([r[3] for r in rows])
-        segment = np.array([r[4] for r in rows])
-        hgl = hydraulic_grade_m(energy, velocity)
-        pipe = grid.node_pipe_level_m[node_index]
-        top_water = self.study.source.top_water_level_m
-        return pd.DataFrame({
-            "chainage_m": grid.node_chainage_m[node_index],
-            "side": [r[1] for r in rows],
-            "label": [grid.node_label[i] for i in node_index],
-            "ground_m": grid.node_ground_m[node_index],
-            "pipe_level_m": pipe,
-            "energy_m": energy,
-            "hgl_m": hgl,
-            "pressure_m": hgl - pipe,
-            "static_pressure_m": static_head_m(top_water, pipe),
-            "min_pressure_m": limits[node_index],
-            "velocity_m_s": velocity,
-            "flow_m3_s": arrays.flow_m3_s[segment],
-            "piece": grid.segment_piece[segment],
-        })
-
-    def segments(self, arrays: _ScenarioArrays) -> pd.DataFrame:
-        grid = self.grid
-        return pd.DataFrame({
-            "from_m": grid.start_m, "to_m": grid.end_m, "length_m": grid.segment_length_m,
-            "piece": grid.segment_piece, "flow_m3_s": arrays.flow_m3_s,
-            "velocity_m_s": arrays.velocity_m_s, "gradient_m_per_km": arrays.gradient * 1000,
-            "friction_loss_m": arrays.gradient * grid.segment_length_m,
-        })
-
-    def least_margin_m(self, scenario: Scenario, outlet_flow_m3_s: float,
-                       outlet_only: bool) -> float:
-        """Smallest of outlet margin and (unless outlet_only) pressure margins [m]."""
-        arrays = self.evaluate(scenario, outlet_flow_m3_s)
-        margin = arrays.outlet_energy_m - self.study.outlet.required_head_m
-        if outlet_only:
-            return margin
-        points = self.points(arrays)
-        return min(margin, float((points["pressure_m"] - points["min_pressure_m"]).min()))
-
-    def capacity_m3_s(self, scenario: Scenario, outlet_only: bool) -> float | None:
-        """Largest outlet flow meeting the outlet head (and pressure minima), by Brent's
-        method on a margin that falls monotonically with flow. None if even zero outlet
-        flow fails; offtakes stay at their scenario flows."""
-        def margin(q: float) -> float:
-            return self.least_margin_m(scenario, q, outlet_only)
-        if margin(0.0) < 0.0:
-            return None
-        high = max(scenario.outlet_flow_m3_s, 1e-3)
-        for _ in range(60):
-            if margin(high) < 0.0:
-                break
-            high *= 2.0
-        else:
-            return float("inf")
-        return float(brentq(margin, 0.0, high, xtol=1e-13, rtol=4 * np.finfo(float).eps))
-
-
-def _piece_table(study: Study, design: Design, hydraulics: _DesignHydraulics,
-                 evaluated: list[_ScenarioArrays]) -> pd.DataFrame:
+def _piece_table(study: Study, design: Design, hydraulics: DesignHydraulics,
+                 evaluated: list[ScenarioArrays]) -> pd.DataFrame:
     grid = hydraulics.grid
     zone_factor = np.array([study.costs.factor(z) for z in grid.segment_zone])
     rows = []
@@ -352,7 +213,7 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     Returns points, segments, violations, costs and (unless ``capacity=False``) the
     gravity capacity of the design in each scenario.
     """
-    hydraulics = _DesignHydraulics(study, design)
+    hydraulics = DesignHydraulics(study, design)
     evaluated = [hydraulics.evaluate(scenario) for scenario in study.scenarios]
     pieces = _piece_table(study, design, hydraulics, evaluated)
     violations = _class_violations(study, pieces)

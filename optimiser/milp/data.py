@@ -81,7 +81,7 @@ class ProblemData:
         """Admissible (and allowed) options of section s, in the order pieces are laid
         inside a section: descending internal diameter (ascending velocity head)."""
         mask = self.admissible[s] if allowed is None else self.admissible[s] & allowed[s]
-        return [int(j) for j in self.order if mask[j]]
+        return self.order[mask[self.order]].tolist()
 
 
 def prepare(study: Study) -> ProblemData:
@@ -108,8 +108,11 @@ def prepare(study: Study) -> ProblemData:
         q = flow_below_m3_s(study, scenario, chainage[:-1])
         v = velocity_m_s(q[:, None], diameter[None, :])
         h = velocity_head_m(v)
-        j = friction_gradient(study, scenario, q[:, None], diameter[None, :],
-                              roughness[None, :], c_value[None, :])
+        # A chain carries few distinct flows (the outlet's plus the offtakes downstream):
+        # friction once per distinct flow and option, then spread over the sections.
+        distinct, which = np.unique(q, return_inverse=True)
+        j = friction_gradient(study, scenario, distinct[:, None], diameter[None, :],
+                              roughness[None, :], c_value[None, :])[which]
         flows.append(q)
         velocities.append(v)
         heads.append(h)

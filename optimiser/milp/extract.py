@@ -17,30 +17,55 @@ model's safety margin)."""
 
 def design_from_fractions(data: ProblemData, fractions: np.ndarray) -> Design:
     """Pieces in section order (descending internal diameter) inside every section,
-    boundaries at start + cumulative fraction x chainage length; merged."""
+    boundaries at start + cumulative fraction x chainage length; merged.
+
+    A section with one option only (most of them) is that option's whole; runs of such
+    sections in one option become one piece here already, as merging would make them."""
     catalogue = data.study.catalogue
     chainage = data.node_chainage_m
+    positive = data.admissible & (fractions > 0.0)
+    count = positive.sum(axis=1)
+    if not count.all():
+        raise ValueError(f"section {int(np.argmin(count))}: the solution lays no pipe")
+    # Option of each one-option section; -1 where a section is split between options.
+    whole = np.where(count == 1, np.argmax(positive, axis=1), -1)
+    starts = np.flatnonzero(np.concatenate([[True], (whole[1:] != whole[:-1])
+                                            | (whole[1:] < 0)]))
+    ends = np.append(starts[1:], data.n_sections)
     pieces: list[Piece] = []
-    for s in range(data.n_sections):
-        order = data.section_order(s)
-        share = np.clip(fractions[s, order], 0.0, None)
-        if share.sum() <= 0:
-            raise ValueError(f"section {s}: the solution lays no pipe")
-        share = share / share.sum()
-        width = chainage[s + 1] - chainage[s]
-        tiny = share * width < SLIVER_M
-        if tiny.all():
-            tiny[int(np.argmax(share))] = False
-        keep = int(np.argmax(np.where(tiny, -1.0, share)))
-        share[keep] += share[tiny].sum()
-        share[tiny] = 0.0
-        start = float(chainage[s])
-        used = [(j, f) for j, f in zip(order, share, strict=True) if f > 0]
-        for index, (j, f) in enumerate(used):
-            stop = float(chainage[s + 1]) if index == len(used) - 1 else start + f * width
-            pieces.append(Piece(start, stop, catalogue[j]))
-            start = stop
+    for first, end in zip(starts.tolist(), ends.tolist(), strict=True):
+        option = int(whole[first])
+        if option < 0:
+            pieces.extend(_split_section(data, first, fractions[first]))
+        else:
+            pieces.append(Piece(float(chainage[first]), float(chainage[end]),
+                                catalogue[option]))
     return Design(tuple(pieces)).merged()
+
+
+def _split_section(data: ProblemData, s: int, fractions: np.ndarray) -> list[Piece]:
+    """Pieces of section s shared between options (``fractions``: (m,) of its chainage),
+    in section order; slivers go to the longest piece."""
+    catalogue = data.study.catalogue
+    chainage = data.node_chainage_m
+    order = data.section_order(s)
+    share = np.clip(fractions[order], 0.0, None)
+    share = share / share.sum()
+    width = chainage[s + 1] - chainage[s]
+    tiny = share * width < SLIVER_M
+    if tiny.all():
+        tiny[int(np.argmax(share))] = False
+    keep = int(np.argmax(np.where(tiny, -1.0, share)))
+    share[keep] += share[tiny].sum()
+    share[tiny] = 0.0
+    start = float(chainage[s])
+    used = [(j, f) for j, f in zip(order, share, strict=True) if f > 0]
+    pieces = []
+    for index, (j, f) in enumerate(used):
+        stop = float(chainage[s + 1]) if index == len(used) - 1 else start + f * width
+        pieces.append(Piece(start, stop, catalogue[j]))
+        start = stop
+    return pieces
 
 
 def design_from_choice(data: ProblemData, choice: np.ndarray) -> Design:

@@ -21,6 +21,8 @@ check and the rules judge whatever it returns.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 MAX_LAYERS = 61
@@ -40,11 +42,44 @@ def piece_cost_table(rate: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return total, blocked
 
 
+BLOCK_NODES = 256
+"""Nodes whose new pieces are priced together (bounds the memory of one step)."""
+
+
+@dataclass
+class _Table:
+    """The programme's states: ``value[i, l, j]`` the cheapest complete piece of option j
+    ending at node i after l changes; ``pending[i]`` the cheapest new piece first complete
+    at node i, its start node and the option before it (-1: none)."""
+
+    value: np.ndarray
+    pending: np.ndarray
+    pending_start: np.ndarray
+    pending_before: np.ndarray
+
+    @classmethod
+    def empty(cls, n: int, layers: int, m: int) -> _Table:
+        # Every value past node 0 is written before it is read, and a pending start and
+        # option are read only where a pending piece was written (left unfilled: the
+        # tables are large on long routes).
+        value = np.empty((n + 1, layers, m))
+        value[0] = np.inf
+        return cls(value, np.full((n + 2, layers, m), np.inf),
+                   np.empty((n + 2, layers, m), dtype=np.int32),
+                   np.empty((n + 2, layers, m), dtype=np.int32))
+
+
 def cheapest_sequence(rate: np.ndarray, chainage_length_m: np.ndarray, *,
                       max_changes: int | None, min_length_m: float, change_cost: float,
                       diameter_mm: np.ndarray | None = None) -> np.ndarray | None:
     """Option index per section of the cheapest rule-abiding whole-section design, or
-    None when there is none. ``diameter_mm`` (m,) switches on "non-increasing"."""
+    None when there is none. ``diameter_mm`` (m,) switches on "non-increasing".
+
+    Nodes go in blocks: a piece starting at node a is first complete at ``complete[a]``,
+    which never falls as a grows, so no new piece starting in [a, complete[a]) completes
+    inside that range. The states of a block are final once those before it are done:
+    they are grown section by section, then the new pieces starting in it are priced at
+    once."""
     n, m = rate.shape
     chainage = np.concatenate([[0.0], np.cumsum(chainage_length_m)])
     shortest = min(float(min_length_m), float(chainage[-1]))
@@ -57,75 +92,83 @@ def cheapest_sequence(rate: np.ndarray, chainage_length_m: np.ndarray, *,
     previous_ok = ~np.eye(m, dtype=bool)  # previous[j, j']: j' may come before j
     if diameter_mm is not None:
         previous_ok &= diameter_mm[None, :] >= diameter_mm[:, None] - 1e-9
+    table = _Table.empty(n, layers, m)
+    first = 0
+    while first <= n:
+        stop = min(int(complete[first]), first + BLOCK_NODES, n + 1)
+        for node in range(max(first, 1), stop):
+            # grow the piece ending at the node before, or take the new piece, if cheaper
+            grown = table.value[node - 1] + rate[node - 1][None, :]
+            np.minimum(table.pending[node], grown, out=table.value[node])
+        nodes = np.arange(first, stop)
+        nodes = nodes[(nodes < n) & (complete[nodes] <= n)]
+        if len(nodes):
+            _new_pieces(table, nodes, complete[nodes], total, blocked, previous_ok,
+                        diameter_mm is None, counted, change_cost)
+        first = stop
+    return _trace_back(table, rate, counted)
 
+
+def _new_pieces(table: _Table, nodes: np.ndarray, ends: np.ndarray, total: np.ndarray,
+                blocked: np.ndarray, previous_ok: np.ndarray, any_order: bool,
+                counted: bool, change_cost: float) -> None:
+    """Price the new pieces starting at ``nodes`` (complete at ``ends``, non-decreasing)
+    and keep each where it beats the pending piece at its end (the first one on ties)."""
     inf = np.inf
-    value = np.full((n + 1, layers, m), inf)
-    start_node = np.full((n + 1, layers, m), -2, dtype=np.int32)  # -1: grown from b-1
-    before = np.full((n + 1, layers, m), -1, dtype=np.int32)  # option of the piece before
-    pending = np.full((n + 2, layers, m), inf)
-    pending_start = np.full((n + 2, layers, m), -1, dtype=np.int32)
-    pending_before = np.full((n + 2, layers, m), -1, dtype=np.int32)
-    for node in range(n + 1):
-        if node > 0:
-            grown = value[node - 1] + rate[node - 1][None, :]
-            take = pending[node] < grown
-            value[node] = np.where(take, pending[node], grown)
-            start_node[node] = np.where(take, pending_start[node], -1)
-            before[node] = np.where(take, pending_before[node], -1)
-        end = complete[node]
-        if node == n or end > n:
-            continue
-        cost = np.where(blocked[end] == blocked[node], total[end] - total[node], inf)
-        if node == 0:
-            candidate = np.full((layers, m), inf)
-            candidate[0] = cost
-            came_from = np.full((layers, m), -1, dtype=np.int32)
-        else:
-            # best piece before, per (layer, new option): previous layer if counted
-            best, pick = _best_before(value[node], previous_ok, diameter_mm is None)
-            candidate = np.full((layers, m), inf)
-            came_from = np.full((layers, m), -1, dtype=np.int32)
-            if counted:
-                candidate[1:] = best[:-1] + change_cost + cost[None, :]
-                came_from[1:] = pick[:-1]
-            else:
-                candidate[:] = best + change_cost + cost[None, :]
-                came_from[:] = pick
-        better = candidate < pending[end]
-        pending[end] = np.where(better, candidate, pending[end])
-        pending_start[end] = np.where(better, node, pending_start[end])
-        pending_before[end] = np.where(better, came_from, pending_before[end])
-    return _trace_back(value, start_node, before, counted)
+    cost = np.where(blocked[ends] == blocked[nodes], total[ends] - total[nodes], inf)
+    best, pick = _best_before(table.value[nodes], previous_ok, any_order)
+    candidate = np.full(best.shape, inf)
+    came_from = np.full(best.shape, -1, dtype=np.int32)
+    if counted:  # a change moves to the next layer
+        candidate[:, 1:] = best[:, :-1] + change_cost + cost[:, None, :]
+        came_from[:, 1:] = pick[:, :-1]
+    else:
+        candidate[:] = best + change_cost + cost[:, None, :]
+        came_from[:] = pick
+    if nodes[0] == 0:  # the first piece: nothing before it, no change
+        candidate[0] = inf
+        candidate[0, 0] = cost[0]
+        came_from[0] = -1
+    groups = np.flatnonzero(np.concatenate([[True], ends[1:] != ends[:-1]]))
+    lowest = np.minimum.reduceat(candidate, groups, axis=0)
+    group_of = np.repeat(np.arange(len(groups)), np.diff(np.append(groups, len(nodes))))
+    position = np.where(candidate == lowest[group_of],
+                        np.arange(len(nodes))[:, None, None], len(nodes))
+    winner = np.minimum.reduceat(position, groups, axis=0)  # first of the cheapest
+    end = ends[groups]
+    better = lowest < table.pending[end]
+    table.pending[end] = np.where(better, lowest, table.pending[end])
+    table.pending_start[end] = np.where(better, nodes[winner], table.pending_start[end])
+    table.pending_before[end] = np.where(better, np.take_along_axis(came_from, winner, axis=0),
+                                         table.pending_before[end])
 
 
 def _best_before(source: np.ndarray, previous_ok: np.ndarray, any_order: bool
                  ) -> tuple[np.ndarray, np.ndarray]:
-    """Per (layer, new option): the cheapest complete piece that may come before it at
-    this node (``source``: (L, m) values) and its option."""
-    layers, m = source.shape
+    """Per (node, layer, new option): the cheapest complete piece that may come before it
+    at that node (``source``: (B, L, m) values) and its option."""
+    m = source.shape[-1]
     inf = np.inf
     if not any_order:
-        masked = np.where(previous_ok[None, :, :], source[:, None, :], inf)
-        pick = np.argmin(masked, axis=2)  # (L, m)
-        return np.take_along_axis(masked, pick[:, :, None], axis=2)[:, :, 0], pick
+        masked = np.where(previous_ok, source[:, :, None, :], inf)  # (B, L, m, m)
+        pick = np.argmin(masked, axis=3)  # (B, L, m)
+        return np.take_along_axis(masked, pick[..., None], axis=3)[..., 0], pick
+    if m == 1:
+        return np.full(source.shape, inf), np.full(source.shape, -1, dtype=np.int64)
     # any other option may come before: the best, or the second best where the best is
     # the new option itself
-    top = np.argpartition(source, 1, axis=1)[:, :2] if m > 1 else \
-        np.zeros((layers, 2), dtype=np.int64)
-    first = np.take_along_axis(source, top, axis=1)
-    swap = first[:, 1] < first[:, 0]
+    top = np.argpartition(source, 1, axis=2)[:, :, :2]
+    first = np.take_along_axis(source, top, axis=2)
+    swap = first[:, :, 1] < first[:, :, 0]
     top[swap] = top[swap][:, ::-1]
-    pick = np.broadcast_to(top[:, :1], (layers, m)).copy()
-    pick[np.arange(layers), top[:, 0]] = top[:, 1] if m > 1 else -1
-    best = np.take_along_axis(source, np.maximum(pick, 0), axis=1)
-    if m == 1:
-        best = np.full((layers, m), inf)
-    return best, pick
+    pick = np.broadcast_to(top[:, :, :1], source.shape).copy()
+    np.put_along_axis(pick, top[:, :, :1], top[:, :, 1:], axis=2)
+    return np.take_along_axis(source, pick, axis=2), pick
 
 
-def _trace_back(value: np.ndarray, start_node: np.ndarray, before: np.ndarray,
-                counted: bool) -> np.ndarray | None:
+def _trace_back(table: _Table, rate: np.ndarray, counted: bool) -> np.ndarray | None:
     """The option per section of the cheapest complete state at the last node."""
+    value = table.value
     n = value.shape[0] - 1
     final = value[n]
     if not np.isfinite(final).any():
@@ -134,13 +177,15 @@ def _trace_back(value: np.ndarray, start_node: np.ndarray, before: np.ndarray,
     choice = np.full(n, -1, dtype=np.int64)
     node = n
     while node > 0:
-        origin = int(start_node[node, layer, option])
-        if origin == -1:
+        # the state came from the new piece exactly where that was cheaper than growing
+        grown = value[node - 1, layer, option] + rate[node - 1, option]
+        if not table.pending[node, layer, option] < grown:
             choice[node - 1] = option
             node -= 1
             continue
+        origin = int(table.pending_start[node, layer, option])
         choice[origin:node] = option
-        previous = int(before[node, layer, option])
+        previous = int(table.pending_before[node, layer, option])
         node = origin
         if counted:
             layer -= 1
