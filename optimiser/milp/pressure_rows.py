@@ -51,7 +51,10 @@ def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
     order = columns.orders[s]
     last_frac = columns.last_frac[s]
     k_start = data.node_point_k[s] + (data.study.source.entrance_k if s == 0 else 0.0)
-    head_first = _head_of(form, k, s, last_frac) if last_frac else None
+    # The start of a section takes the velocity head of its smallest pipe (its last
+    # piece in the section order), or with pieces in any order that of its first piece.
+    start_frac = columns.first_frac[s] if form.any_order else last_frac
+    head_first = _head_of(form, k, s, start_frac) if start_frac else None
     if k_start > 0:
         assert head_first is not None
         running.add_in_place(head_first, -float(k_start))
