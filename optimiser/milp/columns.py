@@ -88,6 +88,8 @@ def _needs(form: Formulation, orders: list[list[int]]
     if form.any_order:  # no row inside a section; the first pick serves its start
         need_interior[:] = False
         need_first |= need_last
+    elif data.surge_m is not None:  # down-surge rows take the first piece's surge
+        need_first |= need_last | need_interior
     need_last |= need_interior
     return need_first, need_last, need_interior
 

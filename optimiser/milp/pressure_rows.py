@@ -34,12 +34,31 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
         _outlet_rows(form, columns, k, running)
 
 
-def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine]) -> Affine:
-    """Velocity head of the piece the indicators ``fractions`` pick, scenario k."""
+def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine],
+             surge: np.ndarray | None = None) -> Affine:
+    """Velocity head of the piece the indicators ``fractions`` pick, scenario k (plus
+    its surge head from ``surge`` (n, m), for a down-surge row)."""
     expr = Affine()
     for j, frac in fractions.items():
-        expr.add_in_place(frac, float(form.data.velocity_head_m[k, s, j]))
+        extra = 0.0 if surge is None else float(surge[s, j])
+        expr.add_in_place(frac, float(form.data.velocity_head_m[k, s, j]) + extra)
     return expr
+
+
+def _surges(form: Formulation) -> np.ndarray | None:
+    """(n, m) surge heads of the down-surge rows (None: the study has no such limit): a
+    lower bound of the check's in the any-order relaxation, else an upper bound."""
+    data = form.data
+    return data.surge_own_m if form.any_order else data.surge_m
+
+
+def _transient_row(form: Formulation, energy: Affine, deduct: Affine, level_m: float,
+                   side: str, k: int, index: int) -> None:
+    """Down-surge row (contract section 10): energy - (velocity + surge head) - pipe
+    level >= min_transient_pressure_m."""
+    limit = form.data.study.surge.min_transient_pressure_m
+    row = form.model.at_least(energy - deduct, float(level_m + limit + MARGIN_M))
+    form.pressure_rows.append((row, side, k, index))
 
 
 def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
@@ -65,6 +84,7 @@ def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
             row = model.at_least(start - head_first, float(
                 pipe[s] + data.node_min_pressure_m[s] + MARGIN_M))
             form.pressure_rows.append((row, "down", k, s))
+            _start_transient_row(form, columns, k, s, start, head_first)
         if columns.need_interior[s]:
             _boundary_rows(form, columns, k, s, start)
     running.terms.extend((form.x[s, j], -float(data.section_loss_m[k, s, j])) for j in order)
@@ -76,7 +96,28 @@ def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
         row = model.at_least(running - _head_of(form, k, s, last_frac), float(
             pipe[s + 1] + data.node_min_pressure_m[s + 1] + MARGIN_M))
         form.pressure_rows.append((row, "up", k, s + 1))
+        surge = _surges(form)
+        if surge is not None:
+            _transient_row(form, running, _head_of(form, k, s, last_frac, surge),
+                           pipe[s + 1], "up", k, s + 1)
     return running
+
+
+def _start_transient_row(form: Formulation, columns: SectionColumns, k: int, s: int,
+                         start: Affine, head_first: Affine) -> None:
+    """Down-surge row at the start of section s: the first piece's velocity head (any
+    order) or the smallest pipe's (as the pressure row), plus the first piece's surge
+    (the first-piece staircase or pick)."""
+    surge = _surges(form)
+    if surge is None:
+        return
+    if form.any_order:
+        deduct = _head_of(form, k, s, columns.first_frac[s], surge)
+    else:
+        deduct = Affine(list(head_first.terms), head_first.constant)
+        for j, frac in columns.first_frac[s].items():
+            deduct.add_in_place(frac, float(surge[s, j]))
+    _transient_row(form, start, deduct, form.data.node_pipe_level_m[s], "down", k, s)
 
 
 def _boundary_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
@@ -89,11 +130,17 @@ def _boundary_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
     drop = pipe[s + 1] - pipe[s]
     cumulative: list[Term] = []
     cl = columns.cl_cols[s]
+    surge = _surges(form)
+    deduct = -np.inf  # velocity + surge head, largest up to position t (either side)
     for t, j in enumerate(columns.orders[s]):
         row = form.model.at_least(
             start + Affine([*cumulative, (cl[t], -float(data.velocity_head_m[k, s, j]))]),
             float(pipe[s] + data.study.min_pressure_m + MARGIN_M))
         form.pressure_rows.append((row, "inside", k, s))
+        if surge is not None:
+            deduct = max(deduct, float(data.velocity_head_m[k, s, j] + surge[s, j]))
+            _transient_row(form, start + Affine(list(cumulative)),
+                           Affine([(cl[t], deduct)]), pipe[s], "inside", k, s)
         cumulative.append((form.x[s, j], -float(data.section_loss_m[k, s, j] + drop)))
 
 
@@ -119,3 +166,8 @@ def _outlet_rows(form: Formulation, columns: SectionColumns, k: int,
         row = form.model.at_least(running - head_last.scaled(float(k_last + 1.0)), float(
             data.node_pipe_level_m[n] + data.node_min_pressure_m[n] + MARGIN_M))
         form.pressure_rows.append((row, "down", k, n))
+        surge = _surges(form)
+        if surge is not None:
+            deduct = head_last.scaled(float(k_last))
+            deduct.add_in_place(_head_of(form, k, last, columns.last_frac[last], surge), 1.0)
+            _transient_row(form, running, deduct, data.node_pipe_level_m[n], "down", k, n)
