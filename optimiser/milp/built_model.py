@@ -37,8 +37,6 @@ class Formulation:
     """Pieces in any order inside every section (the relaxation of every arrangement the
     check accepts, :func:`optimiser.milp.formulation.build`)."""
     least_piece_m: float = 0.0
-    """With ``any_order``: a first or last piece is at least this long [m of chainage]
-    (0: a piece of any length, down to nothing; the relaxation)."""
     x: dict[tuple[int, int], int] = field(default_factory=dict)
     y: dict[tuple[int, int], int] = field(default_factory=dict)
     picks: dict[tuple[str, int, int], int] = field(default_factory=dict)

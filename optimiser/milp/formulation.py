@@ -72,20 +72,21 @@ Conservative (may exclude a design the check would pass, never the reverse):
   the returned chainages never make the verified design fail the check.
 
 Any order (``build(any_order=True)``, run by :mod:`optimiser.milp.search.any_order`):
-the relaxation of every design the check accepts. In every section the first and the
-last piece are picked freely among the options used (down to a piece of no length), the
-start of a section takes the first piece's velocity head, and no row is written inside
-a section; every accepted design satisfies its rows at the same cost, so its bound is a
-bound over all of them, and the run reports the smaller of it and the bound of the
-models above. With ``least_piece_m`` each picked end piece is at least that long: a model
-of designs (a size increase before the outlet, a short larger piece after a fitting)
-that the section order excludes, offered to the check like any other.
+the first and the last piece of every section are picked freely among the options
+used, the start of a section takes the first piece's velocity head, no row is written
+inside a section, and the pressure where each option first starts and last ends is held
+in any arrangement. With ``least_piece_m`` (each picked end piece at least that long) it
+supplies designs the section order excludes (a size increase inside a section), which
+the check judges like any other; it supplies no bound (without rows inside sections it
+is not a model of designs; with its least length not a relaxation of all of them).
 
 The returned design is therefore the cheapest, within the reported gap, of all designs
-that the check accepts; the designs searched follow the section order or come from the
-any-order model, and every one passes the check, which judges it exactly. When
-the run stops on the time limit the status is ``feasible`` and the gap says how far from
-proven it is.
+that follow the section order, take classes per part of the split route and are judged
+with the conservative velocity heads above, or cheaper still (a design of the any-order
+model); it passes the check, which judges it exactly. The bound is over the former set:
+a design with a size increase inside a section, or a short larger piece after a fitting
+(the check judges a point loss with the velocity head of the piece after it, however
+short), may cost less than it.
 
 Reach models (:mod:`optimiser.milp.reaches`) use the same code on merged sections:
 ``free_order`` reaches replace the staircases by binaries that pick the first and the

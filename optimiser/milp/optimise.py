@@ -117,16 +117,14 @@ def _finish(state: SearchState, uniform: UniformDesign | None) -> DesignOutcome:
         raise VerificationError("the returned design fails the final check (a bug)")
     # A valid bound cannot exceed the cost of a design the model admits; a solver's
     # reported dual bound can, within its feasibility tolerances. Cap it there.
-    bound = min(state.valid_bound(), best.cost)
+    bound = min(state.bound, best.cost)
     gap = relative_gap(best.cost, bound)
     status = Status.OPTIMAL if gap is not None and gap <= state.settings.gap_target \
         else Status.FEASIBLE
     full = state.full_report
     if full is not None and full.status == Status.OPTIMAL and \
-            state.valid_bound() >= state.bound and \
             best.cost <= (full.objective or math.inf) + 1e-9 * abs(best.cost):
         status = Status.OPTIMAL  # the solver's own proof (its gap is measured as it defines it)
-    lp_bound = state.lp_bound if state.lp_bound is None else min(state.lp_bound, bound)
     return state.outcome(status, design=best.design, check=final, total_cost=best.cost,
-                         lower_bound=bound, gap=gap, lp_bound=lp_bound,
+                         lower_bound=bound, gap=gap, lp_bound=state.lp_bound,
                          uniform=uniform, binding=binding_points(final))

@@ -87,11 +87,15 @@ def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
             _start_transient_row(form, columns, k, s, start, head_first)
         if columns.need_interior[s]:
             _boundary_rows(form, columns, k, s, start)
+    if form.any_order and (not data.screened_down[s] or not data.screened_interior[s]):
+        _any_order_rows(form, k, s, start=running, at_start=True)
     running.terms.extend((form.x[s, j], -float(data.section_loss_m[k, s, j])) for j in order)
     if need_end:
         column = model.add_column(-np.inf, np.inf)
         model.equal(var(column) - running, 0.0)
         running = var(column)
+    if form.any_order and (not data.screened_up[s + 1] or not data.screened_interior[s]):
+        _any_order_rows(form, k, s, start=running, at_start=False)
     if not data.screened_up[s + 1]:
         row = model.at_least(running - _head_of(form, k, s, last_frac), float(
             pipe[s + 1] + data.node_min_pressure_m[s + 1] + MARGIN_M))
@@ -171,3 +175,35 @@ def _outlet_rows(form: Formulation, columns: SectionColumns, k: int,
             deduct = head_last.scaled(float(k_last))
             deduct.add_in_place(_head_of(form, k, last, columns.last_frac[last], surge), 1.0)
             _transient_row(form, running, deduct, data.node_pipe_level_m[n], "down", k, n)
+
+
+def _any_order_rows(form: Formulation, k: int, s: int, start: Affine, at_start: bool) -> None:
+    """Pressure where each option used in section s first starts (``at_start``) or
+    last ends, in any arrangement (the any-order relaxation).
+
+    Let c be where the first piece of option j starts; pieces laid before it lose
+    ``loss_u`` per whole section and the pipe falls ``-drop`` per whole section, so
+    energy - pipe level at c is at most its value at the start plus the sum over options
+    u other than j of ``max(0, -drop - loss_u) x[s, u]``; the check holds the downstream side of c
+    (velocity head of j) to the minimum. Likewise at the end of j's last piece, with
+    ``max(0, loss_u + drop)``. With ``y[s, j] = 0`` the row is implied by the one at the
+    section's end. Valid for every arrangement, so the relaxation stays one; it stops
+    the relaxation from hiding a small pipe's velocity head behind a piece of no length.
+    """
+    data = form.data
+    pipe = data.node_pipe_level_m
+    drop = float(pipe[s + 1] - pipe[s])
+    loss = data.section_loss_m[k, s]
+    node = s if at_start else s + 1
+    minimum = min(float(data.node_min_pressure_m[node]), float(data.study.min_pressure_m))
+    slack = {u: (form.x[s, u], max(0.0, (-drop - float(loss[u])) if at_start
+                                   else (float(loss[u]) + drop)))
+             for u in form.data.order if (s, u) in form.x}
+    for j in form.data.order:
+        if (s, j) not in form.y:
+            continue
+        # only other options lie before j's first piece (after its last)
+        terms = [(c, v) for u, (c, v) in slack.items() if v > 0 and u != j]
+        terms.append((form.y[s, j], -float(data.velocity_head_m[k, s, j])))
+        row = form.model.at_least(start + Affine(terms), float(pipe[node] + minimum + MARGIN_M))
+        form.pressure_rows.append((row, "inside", k, s))

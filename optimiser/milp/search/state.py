@@ -114,9 +114,6 @@ class SearchState:
     unfinished: list[Design] = field(default_factory=list)
     """Designs of the reach model not yet re-optimised on the full model."""
     full_report: SolveReport | None = None
-    any_order_bound: float | None = None
-    """Bound of the relaxation with pieces in any order (over every design the check
-    accepts; :mod:`optimiser.milp.search.any_order`)."""
     build_rate: dict[bool, float] = field(default_factory=dict)
     """Seconds of model building per (section, option) pair, measured separately for
     models with and without the rules (the rules add variables per pair)."""
@@ -158,14 +155,6 @@ class SearchState:
     def proven(self) -> bool:
         """The best design is within the gap target of the bound."""
         return self.best is not None and self.best_gap() <= self.settings.gap_target
-
-    def valid_bound(self) -> float:
-        """The bound the run may report: over every design the check accepts, so the
-        smaller of the search's bound (over the designs of its models) and the bound of
-        the any-order relaxation; minus infinity without the latter."""
-        if self.any_order_bound is None:
-            return -math.inf
-        return min(self.bound, self.any_order_bound)
 
     def raise_bound(self, value: float | None) -> None:
         """Take a relaxation's bound (only relaxations may call this)."""
