@@ -37,6 +37,10 @@ SHARE = 0.3
 LEAST_PIECE_M = 1.0
 """Shortest end piece the any-order model lays [m] (or the minimum piece length, if
 longer)."""
+LONG_WITH_RULES = 500
+"""With the rules, routes of more survey sections than this skip the stage: there its
+integer programme costs as much as the search (the 2,000-section benchmark: 7 s of
+15), and on random routes with the rules the section order lost nothing."""
 ROUNDS = 4
 """Rounds of row generation at most (each adds the points its design missed)."""
 
@@ -44,6 +48,8 @@ ROUNDS = 4
 def run_any_order(state: SearchState) -> None:
     """Offer the designs of the any-order model, round by round."""
     assert state.active is not None and state.best is not None
+    if state.with_rules and state.study.route.n_sections > LONG_WITH_RULES:
+        return
     kind = StageKind.ANY_ORDER
     least = max(state.study.rules.min_piece_length_m, LEAST_PIECE_M)
     active = state.active
