@@ -67,6 +67,11 @@ Conservative (may exclude a design the check would pass, never the reverse):
   so an increase of size downstream happens only at a survey node;
 - inside a section, boundary points are held to the route's ``min_pressure_m`` even
   where a boundary falls on a survey node whose offtake has a lower minimum of its own;
+- with ``[surge] min_transient_pressure_m``, every pressure row has a down-surge twin
+  (:mod:`optimiser.milp.pressure_rows`: velocity head plus the pipe's surge head, the
+  transient limit instead of the minimum); by wave speed the surge of an option is taken
+  at its largest velocity over its run of admissible sections, at a section's start
+  from the first piece, inside a section the largest of the pieces up to the boundary;
 - every pressure, the outlet head and the minimum piece length carry a small safety
   margin (``MARGIN_M``, ``LENGTH_MARGIN_M``) so that solver tolerances and rounding of
   the returned chainages never make the verified design fail the check.
