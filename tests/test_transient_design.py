@@ -106,3 +106,23 @@ def test_design_by_wave_speed_passes_the_check(make_study, limit):
     result = check_design(study, outcome.design, capacity=False)
     assert result.ok, [v.message for v in result.violations]
     assert outcome.lower_bound <= outcome.total_cost
+
+
+def test_no_class_by_wave_speed_names_each_options_own_surge(make_study):
+    """Contract section 10: with surge by wave speed, a reach where no class takes the
+    static head plus the option's own surge is named with each option's surge, a V / g
+    (Joukowsky 1898, as given in Wylie & Streeter 1993), V its largest velocity there.
+    Invented wave speed of 1,200 m/s for the PE options only (the DI options left out)."""
+    from optimiser.milp import diagnose_study
+
+    rows = [r for r in _catalogue({"PE": {"wave_speed_m_s": 1200.0}}) if r["material"] == "PE"]
+    files = make_study(study={**DEFAULT_STUDY, "surge": {"method": "joukowsky"}}, catalogue=rows)
+    findings = diagnose_study(load_study(files.study))
+    assert findings and all("own surge exceeds its class" in f for f in findings)
+    # Below the offtake at 2,200 m the main carries 25 L/s; PE DN250 (bore 220.4 mm).
+    velocity = 0.025 / (3.141592653589793 * 0.2204 ** 2 / 4)
+    surge = 1200.0 * velocity / 9.80665
+    last = findings[-1]
+    assert f"PE DN250 PN10: surge {surge:.1f} m (wave speed 1200 m/s, {velocity:.2f} m/s)" \
+        in last
+    assert "break-pressure tank" in last
