@@ -198,18 +198,6 @@ def test_design_uses_each_options_own_surge(make_study, method, material):
     assert check_design(study, outcome.design, capacity=False).ok
 
 
-def test_design_refuses_the_down_surge_limit_plainly(make_study, runner):
-    """`design` has no rows for [surge] min_transient_pressure_m yet: a usage error naming
-    the key (exit 2), never a design the check would reject (common practice, no source)."""
-    files = make_study(study={**DEFAULT_STUDY, "surge": {"method": "joukowsky",
-                                                         "min_transient_pressure_m": -5.0}},
-                       catalogue=_catalogue({"PE": {"wave_speed_m_s": 300.0},
-                                             "DI": {"wave_speed_m_s": 1100.0}}))
-    outcome = runner.invoke(app, ["design", str(files.study)])
-    assert outcome.exit_code == 2, outcome.output
-    assert "min_transient_pressure_m" in " ".join(outcome.output.split())
-
-
 def _random_study(make_study, seed: int):
     """An invented falling route with a valley, two large offtakes (so one option's
     velocity differs along the route) and two scenarios; a catalogue of stiff and

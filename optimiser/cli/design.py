@@ -78,12 +78,6 @@ def design(
         if problems:
             raise InputError(problems)
         study = load_study(study_path)
-        if study.surge.min_transient_pressure_m is not None:
-            # The optimiser has no rows for the down-surge limit yet: refuse plainly
-            # rather than return designs the check would reject.
-            raise InputError(f"{study_path}: [surge] min_transient_pressure_m: `design` "
-                             "does not yet optimise against the down-surge limit; remove "
-                             "the key to design, then `check` the design with it")
     except InputError as error:
         fail_input(error)
     try:

@@ -11,6 +11,7 @@ conservatively, and over which designs the answer is proven cheapest, and
 :mod:`optimiser.milp.optimise` for the run, stage by stage (:mod:`optimiser.milp.search`).
 """
 
+from optimiser.milp.class_limits import split_at_class_limits
 from optimiser.milp.data import ProblemData, prepare
 from optimiser.milp.diagnose import diagnose
 from optimiser.milp.extract import rule_problems
@@ -30,7 +31,7 @@ from optimiser.model.status import Status
 
 def diagnose_study(study) -> list[str]:
     """Findings that prove no design of ``study`` exists, found without a solver."""
-    return diagnose(prepare(study))
+    return diagnose(prepare(split_at_class_limits(study)))
 
 
 __all__ = [

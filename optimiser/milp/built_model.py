@@ -33,6 +33,10 @@ class Formulation:
     allowed: np.ndarray
     with_rules: bool
     relaxed: bool
+    any_order: bool = False
+    """Pieces in any order inside every section (the relaxation of every arrangement the
+    check accepts, :func:`optimiser.milp.formulation.build`)."""
+    least_piece_m: float = 0.0
     x: dict[tuple[int, int], int] = field(default_factory=dict)
     y: dict[tuple[int, int], int] = field(default_factory=dict)
     picks: dict[tuple[str, int, int], int] = field(default_factory=dict)
@@ -81,6 +85,9 @@ class Formulation:
         middle = [(j, float(share[j])) for j in order if j not in (first, last)]
         if last != first:
             return [(first, float(share[first])), *middle, (last, float(share[last]))]
+        if self.any_order and middle:  # its energies count A at both ends: lay it so
+            half = 0.5 * float(share[first])
+            return [(first, half), *middle, (first, half)]
         # Laid A B A: the model does not say how A's share splits between its parts;
         # A goes first (the check and the rules judge the result, and a design that
         # misses them is re-optimised on the full model).

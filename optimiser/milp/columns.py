@@ -52,7 +52,7 @@ def add_section_columns(form: Formulation, tiebreak: float) -> SectionColumns:
         if not (need_first[s] or need_last[s]):
             continue
         ys = _uses(form, s, order, xs)
-        if form.with_rules and free[s]:
+        if form.any_order or (form.with_rules and free[s]):
             _free_order_picks(form, columns, s, ys)
             continue
         if need_first[s]:
@@ -85,6 +85,11 @@ def _needs(form: Formulation, orders: list[list[int]]
     if form.with_rules:
         need_first[:] = True
         need_last[:] = True
+    if form.any_order:  # no row inside a section; the first pick serves its start
+        need_interior[:] = False
+        need_first |= need_last
+    elif data.surge_m is not None:  # down-surge rows take the first piece's surge
+        need_first |= need_last | need_interior
     need_last |= need_interior
     return need_first, need_last, need_interior
 
@@ -136,7 +141,12 @@ def _free_order_picks(form: Formulation, columns: SectionColumns, s: int,
             model.add_row([(pick, 1.0), (yc, -1.0)], upper=0.0)
         ends.append({j: var(c) for j, c in zip(order, picks, strict=True)})
     columns.first_frac[s], columns.last_frac[s] = ends
-    if len(order) > 1:
+    if form.least_piece_m > 0:  # each picked end piece has a length (twice if A...A)
+        share = min(0.5, form.least_piece_m / float(form.data.chainage_length_m[s]))
+        for j in order:
+            model.add_row([(form.x[s, j], 1.0), (form.picks["first", s, j], -share),
+                           (form.picks["last", s, j], -share)], lower=0.0)
+    if len(order) > 1 and form.with_rules:
         _laid_twice(form, s, order, ys)
 
 

@@ -22,7 +22,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, node_point_k
-from optimiser.analysis.limits import class_holds, node_min_pressure_m, within_velocity_window
+from optimiser.analysis.limits import (
+    CHECK_TOLERANCE,
+    class_holds,
+    node_min_pressure_m,
+    within_velocity_window,
+)
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.gradeline import section_loss_m, static_head_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
@@ -72,6 +77,13 @@ class ProblemData:
     chainage_per_share_m: np.ndarray | None = None
     """(n,) largest chainage a whole section's worth of one option can cover (merged
     reaches: slopes differ along a reach); None: the chainage length."""
+    surge_m: np.ndarray | None = None
+    """(n, m) surge head of option j in section s for the down-surge rows, at least the
+    check's for any piece of j laid there (its largest velocity over the run of sections
+    where j is admissible); None: the study sets no ``min_transient_pressure_m``."""
+    surge_own_m: np.ndarray | None = None
+    """(n, m) surge head of option j at section s's own largest velocity: at most the
+    check's for a piece of j there (for the any-order relaxation)."""
 
     @property
     def n_scenarios(self) -> int:
@@ -139,6 +151,7 @@ def prepare(study: Study) -> ProblemData:
     rank[order] = np.arange(m)
 
     head = np.array(heads)
+    surge, surge_own = _transient_surges(study, np.array(velocities), admissible)
     data = ProblemData(
         study=study, n_sections=n, n_options=m, node_chainage_m=chainage.copy(),
         node_pipe_level_m=pipe, node_min_pressure_m=node_min, node_point_k=node_k,
@@ -150,8 +163,24 @@ def prepare(study: Study) -> ProblemData:
         class_ok=class_ok, velocity_ok=velocity_ok, admissible=admissible, order=order,
         rank=rank, screened_up=np.zeros(n + 1, dtype=bool),
         screened_down=np.zeros(n + 1, dtype=bool),
-        screened_interior=np.zeros(n, dtype=bool))
+        screened_interior=np.zeros(n, dtype=bool), surge_m=surge, surge_own_m=surge_own)
     return screened(data)
+
+
+def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.ndarray
+                      ) -> tuple[np.ndarray | None, np.ndarray | None]:
+    """Surge heads of the down-surge rows (contract section 10), or (None, None) when
+    the study sets no ``min_transient_pressure_m``: (n, m) conservative (the largest
+    velocity of each option over its run of admissible sections, as the check takes a
+    piece's largest velocity) and (n, m) the section's own."""
+    if study.surge.min_transient_pressure_m is None:
+        return None, None
+    fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
+    wave_speed = wave_speeds_m_s(study, study.catalogue)
+    run = np.column_stack([_run_max(fastest[:, j], admissible[:, j])
+                           for j in range(fastest.shape[1])]) if fastest.size else fastest
+    return (surge_head_m(study, wave_speed[None, :], run),
+            surge_head_m(study, wave_speed[None, :], fastest))
 
 
 def _surge_limit_m(study: Study) -> np.ndarray:
@@ -177,8 +206,11 @@ def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
     sections passes the check's class test.
     """
     catalogue = study.catalogue
-    operating = class_holds(static_head_m[:, None], catalogue.allowable_head_m[None, :])
-    limit = _surge_limit_m(study)
+    # The check's tolerance: a part of the route split exactly at a class limit has its
+    # lowest point on the limit, up to the rounding of the interpolated level.
+    tol = CHECK_TOLERANCE
+    operating = class_holds(static_head_m[:, None], catalogue.allowable_head_m[None, :], tol)
+    limit = _surge_limit_m(study) + tol
     if study.surge.method is SurgeMethod.ALLOWANCE:
         return operating & class_holds(static_head_m[:, None] + study.surge_allowance_m,
                                        limit[None, :])
@@ -227,6 +259,7 @@ def screened(data: ProblemData) -> ProblemData:
     study = data.study
     n = data.n_sections
     pipe = data.node_pipe_level_m
+    node_min, route_min = _screening_minimum(data)
     need = pipe + data.node_min_pressure_m
     suffix = np.maximum.accumulate(need[::-1])[::-1]  # max over nodes >= i
     floor_end = np.maximum(study.outlet.required_head_m, suffix[1:])  # (n,) end of s
@@ -236,11 +269,28 @@ def screened(data: ProblemData) -> ProblemData:
     up = np.zeros(n + 1, dtype=bool)
     down = np.zeros(n + 1, dtype=bool)
     up[0] = True  # no upstream side at the source
-    up[1:] = floor_end - head_max - pipe[1:] - data.node_min_pressure_m[1:] >= tol
-    down[:-1] = floor_end - head_max - pipe[:-1] - data.node_min_pressure_m[:-1] >= tol
+    up[1:] = floor_end - head_max - pipe[1:] - node_min[1:] >= tol
+    down[:-1] = floor_end - head_max - pipe[:-1] - node_min[:-1] >= tol
     down[-1] = (study.outlet.required_head_m - head_max[-1] - pipe[-1]
-                - data.node_min_pressure_m[-1] >= tol)
+                - node_min[-1] >= tol)
     interior = (floor_end - head_max - np.maximum(pipe[:-1], pipe[1:])
-                - study.min_pressure_m >= tol)
+                - route_min >= tol)
     return dataclasses.replace(data, screened_up=up, screened_down=down,
                                screened_interior=interior)
+
+
+def _screening_minimum(data: ProblemData) -> tuple[np.ndarray, np.ndarray | float]:
+    """Least pressure head a point must keep above its pipe besides the velocity head:
+    its minimum, or with the down-surge limit the larger of it and the limit plus the
+    largest surge head of an admissible option there (node sides take both sections).
+    Returns (n+1,) at the nodes and (n,) (or the route's scalar) inside sections."""
+    study = data.study
+    limit = study.surge.min_transient_pressure_m
+    if limit is None or data.surge_m is None:
+        return data.node_min_pressure_m, study.min_pressure_m
+    surge = np.where(data.admissible, data.surge_m, 0.0).max(axis=1)  # (n,)
+    around = np.zeros(data.n_sections + 1)
+    around[:-1] = surge
+    around[1:] = np.maximum(around[1:], surge)
+    return (np.maximum(data.node_min_pressure_m, limit + around),
+            np.maximum(study.min_pressure_m, limit + surge))

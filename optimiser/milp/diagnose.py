@@ -20,7 +20,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.milp.data import ProblemData
+from optimiser.model import SurgeMethod
 
 _TOLERANCE_M = 1e-9
 
@@ -53,6 +55,9 @@ def diagnose(data: ProblemData) -> list[str]:
     highest = float(allowable.max()) if allowable.size else 0.0
     for first, last in _ranges(~data.class_ok.any(axis=1)):
         demand = float(data.static_demand_m[first:last + 1].max())
+        if study.surge.method is SurgeMethod.JOUKOWSKY:
+            findings.append(_own_surge_finding(data, first, last))
+            continue
         findings.append(
             f"chainage {chainage_label(chainage[first])} to {chainage_label(chainage[last + 1])}:"
             f" static head {demand - study.surge_allowance_m:.1f} m + surge allowance "
@@ -78,6 +83,30 @@ def diagnose(data: ProblemData) -> list[str]:
         return findings
     findings.extend(_energy_shortfalls(data))
     return findings
+
+
+def _own_surge_finding(data: ProblemData, first: int, last: int) -> str:
+    """No class fits by wave speed: name, for the options whose class takes the static
+    head, the surge of each (its wave speed, its largest velocity there) against its
+    limit (contract section 10)."""
+    study = data.study
+    catalogue = study.catalogue
+    static = float(data.static_demand_m[first:last + 1].max()) - study.surge_allowance_m
+    fastest = data.velocity_m_s[:, first:last + 1].max(axis=(0, 1))  # (m,)
+    surge = surge_head_m(study, wave_speeds_m_s(study, catalogue), fastest)
+    limit = catalogue.surge_limit_head_m
+    chainage = data.node_chainage_m
+    parts = [f"{catalogue[j].label}: surge {surge[j]:.1f} m (wave speed "
+             f"{wave_speeds_m_s(study, [catalogue[j]])[0]:.0f} m/s, {fastest[j]:.2f} m/s), "
+             f"{static + surge[j]:.1f} m against {limit[j]:g} m"
+             for j in range(len(catalogue)) if static <= catalogue[j].allowable_head_m]
+    return (f"chainage {chainage_label(chainage[first])} to "
+            f"{chainage_label(chainage[last + 1])}: static head {static:.1f} m plus each "
+            "option's own surge exceeds its class"
+            + (f" ({'; '.join(parts[:6])}{'; ...' if len(parts) > 6 else ''})" if parts
+               else " (no class takes even the static head)")
+            + ". Use a higher class or a more flexible pipe, slow the closure, or a "
+            "pressure-reducing valve or a break-pressure tank upstream of this reach.")
 
 
 def _energy_shortfalls(data: ProblemData) -> list[str]:

@@ -17,8 +17,14 @@ internal diameter (the *section order*), so boundaries sit at the start of the s
 plus the cumulative fractions times its chainage length. Cost and head loss are linear
 in ``x`` because each section's flow is known (Karmeli, Gadish & Meyers 1968). The
 model admits an option in a section only if its pressure class takes the static head at
-the section's lowest pipe level (plus the surge allowance) and, in every scenario with
-velocity limits, its velocity lies in the window.
+the section's lowest pipe level (plus its surge) and, in every scenario with velocity
+limits, its velocity lies in the window. The sections are those of the route split at
+every chainage where an option's class limit is crossed
+(:func:`optimiser.milp.class_limits.split_at_class_limits`, applied before
+:func:`~optimiser.milp.data.prepare`), so this admissibility is exact: on each part an
+option's class holds at every metre or at none. The extra nodes carry no fitting and the
+route's minimum pressure; pressure along one pipe inside a survey section is linear in
+chainage, so they add no constraint the check does not imply.
 
 Exact, in every scenario:
 
@@ -57,21 +63,35 @@ Conservative (may exclude a design the check would pass, never the reverse):
   (its first piece is its largest). An exact first-piece indicator would let the
   optimiser lay millimetre slivers of a larger pipe after every fitting to shave the
   loss, which the formulas allow but nobody would build;
-- admissibility of an option is decided for the whole survey section at its lowest
-  pipe level, so a class change never falls strictly inside a section;
 - within a section the pieces follow the section order (descending internal diameter),
   so an increase of size downstream happens only at a survey node;
 - inside a section, boundary points are held to the route's ``min_pressure_m`` even
   where a boundary falls on a survey node whose offtake has a lower minimum of its own;
+- with ``[surge] min_transient_pressure_m``, every pressure row has a down-surge twin
+  (:mod:`optimiser.milp.pressure_rows`: velocity head plus the pipe's surge head, the
+  transient limit instead of the minimum); by wave speed the surge of an option is taken
+  at its largest velocity over its run of admissible sections, at a section's start
+  from the first piece, inside a section the largest of the pieces up to the boundary;
 - every pressure, the outlet head and the minimum piece length carry a small safety
   margin (``MARGIN_M``, ``LENGTH_MARGIN_M``) so that solver tolerances and rounding of
   the returned chainages never make the verified design fail the check.
 
+Any order (``build(any_order=True)``, run by :mod:`optimiser.milp.search.any_order`):
+the first and the last piece of every section are picked freely among the options
+used, the start of a section takes the first piece's velocity head, no row is written
+inside a section, and the pressure where each option first starts and last ends is held
+in any arrangement. With ``least_piece_m`` (each picked end piece at least that long) it
+supplies designs the section order excludes (a size increase inside a section), which
+the check judges like any other; it supplies no bound (without rows inside sections it
+is not a model of designs; with its least length not a relaxation of all of them).
+
 The returned design is therefore the cheapest, within the reported gap, of all designs
-that follow the section order, take classes per survey section and are judged with the
-conservative velocity heads above; it passes the check, which judges it exactly. When
-the run stops on the time limit the status is ``feasible`` and the gap says how far from
-proven it is.
+that follow the section order, take classes per part of the split route and are judged
+with the conservative velocity heads above, or cheaper still (a design of the any-order
+model); it passes the check, which judges it exactly. The bound is over the former set:
+a design with a size increase inside a section, or a short larger piece after a fitting
+(the check judges a point loss with the velocity head of the piece after it, however
+short), may cost less than it.
 
 Reach models (:mod:`optimiser.milp.reaches`) use the same code on merged sections:
 ``free_order`` reaches replace the staircases by binaries that pick the first and the
@@ -116,7 +136,8 @@ def rules_active(data: ProblemData) -> bool:
 
 
 def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: bool = True,
-          relaxed: bool = False, tiebreak: float = 0.0) -> Formulation:
+          relaxed: bool = False, tiebreak: float = 0.0, any_order: bool = False,
+          least_piece_m: float = 0.0) -> Formulation:
     """Build the model.
 
     ``allowed`` (n, m) restricts options further than admissibility (a reduced model
@@ -125,9 +146,16 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
     ``relaxed=True`` makes the binaries continuous. ``tiebreak > 0`` adds a tiny cost
     that prefers larger diameters upstream; it only breaks ties between designs of equal
     cost (the LP is highly degenerate) and is accounted for in ``tiebreak_max``.
+    ``any_order=True`` builds the relaxation of every design the check accepts: in every
+    section the first and the last piece are picked freely among the options used (the
+    start of a section, its point loss and its downstream-side pressure take the first
+    piece's velocity head) and no row is written inside a section (see "Any order" in
+    the module docstring). ``least_piece_m > 0`` (with ``any_order``) makes a picked
+    first or last piece at least that long: no longer a relaxation, a model of designs.
     """
     mask = data.admissible if allowed is None else data.admissible & allowed
-    form = Formulation(LinearModel(), data, mask, with_rules, relaxed)
+    form = Formulation(LinearModel(), data, mask, with_rules, relaxed, any_order,
+                       least_piece_m)
     columns = add_section_columns(form, tiebreak)
     add_pressure_rows(form, columns)
     change_terms: list[Term] = add_rule_rows(form, columns) if with_rules else []

@@ -4,6 +4,9 @@ The run, top to bottom (each stage is one module of :mod:`optimiser.milp.search`
 one entry point; each keeps what the last one proved in the
 :class:`~optimiser.milp.search.state.SearchState`):
 
+0. The problem data of the route split wherever an option's pressure class stops being
+   admissible (:mod:`optimiser.milp.class_limits`); designs are pieces by chainage, so
+   they are designs of the study as given, and the check judges that study.
 1. Diagnosis without a solver (:mod:`optimiser.milp.diagnose`); a finding ends the run
    as ``infeasible``.
 2. Presolve: options dominated wherever they are admissible set aside
@@ -36,6 +39,7 @@ import math
 import time
 
 from optimiser.analysis import check_design
+from optimiser.milp.class_limits import split_at_class_limits
 from optimiser.milp.data import prepare
 from optimiser.milp.diagnose import diagnose
 from optimiser.milp.formulation import rules_active
@@ -47,6 +51,7 @@ from optimiser.milp.outcome import (
     VerificationError,
     binding_points,
 )
+from optimiser.milp.search.any_order import run_any_order
 from optimiser.milp.search.dominance import run_dominance
 from optimiser.milp.search.first_designs import run_first_designs
 from optimiser.milp.search.lp_relaxation import run_lp_relaxation
@@ -77,7 +82,9 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     time_limit_s = float(study.solver.time_limit_s if time_limit_s is None else time_limit_s)
     settings = Settings(solver_name, time_limit_s,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
-    data = prepare(study)
+    # The model works on the route split at every class limit (exact class admissibility,
+    # :mod:`optimiser.milp.class_limits`); every check judges the study as given.
+    data = prepare(split_at_class_limits(study))
     state = SearchState(study, data, settings, Clock(started, started + time_limit_s),
                         with_rules=rules_active(data))
     findings = diagnose(data)
@@ -92,6 +99,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
         finished = run_plan(state, initial_plan(state))
         if finished is not None:
             return finished
+    if state.best is not None:
+        run_any_order(state)
     return _finish(state, uniform)
 
 

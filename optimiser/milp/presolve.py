@@ -68,7 +68,8 @@ def dominated_options(data: ProblemData) -> np.ndarray:
                     and (data.section_loss_m[:, where, b]
                          <= data.section_loss_m[:, where, a] + tolerance).all() \
                     and (data.velocity_head_m[:, where, b]
-                         <= data.velocity_head_m[:, where, a] + tolerance).all():
+                         <= data.velocity_head_m[:, where, a] + tolerance).all() \
+                    and _surge_no_larger(data, where, a, b, tolerance):
                 pairs.append((a, b))
     remaining = admissible.any(axis=0)
     gone = np.zeros(m, dtype=bool)
@@ -86,3 +87,13 @@ def dominated_options(data: ProblemData) -> np.ndarray:
                 remaining[a] = False
                 changed = True
     return gone
+
+
+def _surge_no_larger(data: ProblemData, where: np.ndarray, a: int, b: int,
+                     tolerance: float) -> bool:
+    """With the down-surge limit, b's surge head is nowhere above a's."""
+    if data.surge_m is None:
+        return True
+    return bool((data.surge_m[where, b] <= data.surge_m[where, a] + tolerance).all()
+                and (data.surge_own_m[where, b] <= data.surge_own_m[where, a]
+                     + tolerance).all())

@@ -34,12 +34,31 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
         _outlet_rows(form, columns, k, running)
 
 
-def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine]) -> Affine:
-    """Velocity head of the piece the indicators ``fractions`` pick, scenario k."""
+def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine],
+             surge: np.ndarray | None = None) -> Affine:
+    """Velocity head of the piece the indicators ``fractions`` pick, scenario k (plus
+    its surge head from ``surge`` (n, m), for a down-surge row)."""
     expr = Affine()
     for j, frac in fractions.items():
-        expr.add_in_place(frac, float(form.data.velocity_head_m[k, s, j]))
+        extra = 0.0 if surge is None else float(surge[s, j])
+        expr.add_in_place(frac, float(form.data.velocity_head_m[k, s, j]) + extra)
     return expr
+
+
+def _surges(form: Formulation) -> np.ndarray | None:
+    """(n, m) surge heads of the down-surge rows (None: the study has no such limit): a
+    lower bound of the check's in the any-order relaxation, else an upper bound."""
+    data = form.data
+    return data.surge_own_m if form.any_order else data.surge_m
+
+
+def _transient_row(form: Formulation, energy: Affine, deduct: Affine, level_m: float,
+                   side: str, k: int, index: int) -> None:
+    """Down-surge row (contract section 10): energy - (velocity + surge head) - pipe
+    level >= min_transient_pressure_m."""
+    limit = form.data.study.surge.min_transient_pressure_m
+    row = form.model.at_least(energy - deduct, float(level_m + limit + MARGIN_M))
+    form.pressure_rows.append((row, side, k, index))
 
 
 def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
@@ -51,7 +70,10 @@ def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
     order = columns.orders[s]
     last_frac = columns.last_frac[s]
     k_start = data.node_point_k[s] + (data.study.source.entrance_k if s == 0 else 0.0)
-    head_first = _head_of(form, k, s, last_frac) if last_frac else None
+    # The start of a section takes the velocity head of its smallest pipe (its last
+    # piece in the section order), or with pieces in any order that of its first piece.
+    start_frac = columns.first_frac[s] if form.any_order else last_frac
+    head_first = _head_of(form, k, s, start_frac) if start_frac else None
     if k_start > 0:
         assert head_first is not None
         running.add_in_place(head_first, -float(k_start))
@@ -62,18 +84,44 @@ def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
             row = model.at_least(start - head_first, float(
                 pipe[s] + data.node_min_pressure_m[s] + MARGIN_M))
             form.pressure_rows.append((row, "down", k, s))
+            _start_transient_row(form, columns, k, s, start, head_first)
         if columns.need_interior[s]:
             _boundary_rows(form, columns, k, s, start)
+    if form.any_order and (not data.screened_down[s] or not data.screened_interior[s]):
+        _any_order_rows(form, k, s, start=running, at_start=True)
     running.terms.extend((form.x[s, j], -float(data.section_loss_m[k, s, j])) for j in order)
     if need_end:
         column = model.add_column(-np.inf, np.inf)
         model.equal(var(column) - running, 0.0)
         running = var(column)
+    if form.any_order and (not data.screened_up[s + 1] or not data.screened_interior[s]):
+        _any_order_rows(form, k, s, start=running, at_start=False)
     if not data.screened_up[s + 1]:
         row = model.at_least(running - _head_of(form, k, s, last_frac), float(
             pipe[s + 1] + data.node_min_pressure_m[s + 1] + MARGIN_M))
         form.pressure_rows.append((row, "up", k, s + 1))
+        surge = _surges(form)
+        if surge is not None:
+            _transient_row(form, running, _head_of(form, k, s, last_frac, surge),
+                           pipe[s + 1], "up", k, s + 1)
     return running
+
+
+def _start_transient_row(form: Formulation, columns: SectionColumns, k: int, s: int,
+                         start: Affine, head_first: Affine) -> None:
+    """Down-surge row at the start of section s: the first piece's velocity head (any
+    order) or the smallest pipe's (as the pressure row), plus the first piece's surge
+    (the first-piece staircase or pick)."""
+    surge = _surges(form)
+    if surge is None:
+        return
+    if form.any_order:
+        deduct = _head_of(form, k, s, columns.first_frac[s], surge)
+    else:
+        deduct = Affine(list(head_first.terms), head_first.constant)
+        for j, frac in columns.first_frac[s].items():
+            deduct.add_in_place(frac, float(surge[s, j]))
+    _transient_row(form, start, deduct, form.data.node_pipe_level_m[s], "down", k, s)
 
 
 def _boundary_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
@@ -86,11 +134,17 @@ def _boundary_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
     drop = pipe[s + 1] - pipe[s]
     cumulative: list[Term] = []
     cl = columns.cl_cols[s]
+    surge = _surges(form)
+    deduct = -np.inf  # velocity + surge head, largest up to position t (either side)
     for t, j in enumerate(columns.orders[s]):
         row = form.model.at_least(
             start + Affine([*cumulative, (cl[t], -float(data.velocity_head_m[k, s, j]))]),
             float(pipe[s] + data.study.min_pressure_m + MARGIN_M))
         form.pressure_rows.append((row, "inside", k, s))
+        if surge is not None:
+            deduct = max(deduct, float(data.velocity_head_m[k, s, j] + surge[s, j]))
+            _transient_row(form, start + Affine(list(cumulative)),
+                           Affine([(cl[t], deduct)]), pipe[s], "inside", k, s)
         cumulative.append((form.x[s, j], -float(data.section_loss_m[k, s, j] + drop)))
 
 
@@ -116,3 +170,40 @@ def _outlet_rows(form: Formulation, columns: SectionColumns, k: int,
         row = form.model.at_least(running - head_last.scaled(float(k_last + 1.0)), float(
             data.node_pipe_level_m[n] + data.node_min_pressure_m[n] + MARGIN_M))
         form.pressure_rows.append((row, "down", k, n))
+        surge = _surges(form)
+        if surge is not None:
+            deduct = head_last.scaled(float(k_last))
+            deduct.add_in_place(_head_of(form, k, last, columns.last_frac[last], surge), 1.0)
+            _transient_row(form, running, deduct, data.node_pipe_level_m[n], "down", k, n)
+
+
+def _any_order_rows(form: Formulation, k: int, s: int, start: Affine, at_start: bool) -> None:
+    """Pressure where each option used in section s first starts (``at_start``) or
+    last ends, in any arrangement (the any-order relaxation).
+
+    Let c be where the first piece of option j starts; pieces laid before it lose
+    ``loss_u`` per whole section and the pipe falls ``-drop`` per whole section, so
+    energy - pipe level at c is at most its value at the start plus the sum over options
+    u other than j of ``max(0, -drop - loss_u) x[s, u]``; the check holds the downstream side of c
+    (velocity head of j) to the minimum. Likewise at the end of j's last piece, with
+    ``max(0, loss_u + drop)``. With ``y[s, j] = 0`` the row is implied by the one at the
+    section's end. Valid for every arrangement, so the relaxation stays one; it stops
+    the relaxation from hiding a small pipe's velocity head behind a piece of no length.
+    """
+    data = form.data
+    pipe = data.node_pipe_level_m
+    drop = float(pipe[s + 1] - pipe[s])
+    loss = data.section_loss_m[k, s]
+    node = s if at_start else s + 1
+    minimum = min(float(data.node_min_pressure_m[node]), float(data.study.min_pressure_m))
+    slack = {u: (form.x[s, u], max(0.0, (-drop - float(loss[u])) if at_start
+                                   else (float(loss[u]) + drop)))
+             for u in form.data.order if (s, u) in form.x}
+    for j in form.data.order:
+        if (s, j) not in form.y:
+            continue
+        # only other options lie before j's first piece (after its last)
+        terms = [(c, v) for u, (c, v) in slack.items() if v > 0 and u != j]
+        terms.append((form.y[s, j], -float(data.velocity_head_m[k, s, j])))
+        row = form.model.at_least(start + Affine(terms), float(pipe[node] + minimum + MARGIN_M))
+        form.pressure_rows.append((row, "inside", k, s))

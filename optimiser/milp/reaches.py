@@ -146,7 +146,10 @@ def merge(data: ProblemData) -> Reaches:
         # equal internal diameter may come in either order): a relaxation either way.
         free_order=ends > starts,
         chainage_per_share_m=total(data.length_m) * np.maximum.reduceat(
-            data.chainage_length_m / data.length_m, starts))
+            data.chainage_length_m / data.length_m, starts),
+        surge_m=None if data.surge_m is None else np.maximum.reduceat(data.surge_m, starts),
+        surge_own_m=None if data.surge_own_m is None
+        else np.minimum.reduceat(data.surge_own_m, starts))
     return Reaches(merged, starts, ends)
 
 
@@ -243,8 +246,8 @@ def points_near(data: ProblemData, result: CheckResult) -> ActivePoints:
     violated, every point within NEAR_M of its minimum is added. A node adds both its
     sides, a point inside a section adds the inside of that section and its end nodes.
     """
-    margins = [(scenario.points["chainage_m"].to_numpy(),
-                (scenario.points["pressure_m"] - scenario.points["min_pressure_m"]).to_numpy())
+    limit = data.study.surge.min_transient_pressure_m
+    margins = [(scenario.points["chainage_m"].to_numpy(), _margin_m(scenario.points, limit))
                for scenario in result.scenarios]
     violated = any((margin < -VIOLATION_M).any() for _, margin in margins)
     wanted = ActivePoints.none(data)
@@ -254,6 +257,15 @@ def points_near(data: ProblemData, result: CheckResult) -> ActivePoints:
             _mark(data, wanted, close)
     return ActivePoints(wanted.up & ~data.screened_up, wanted.down & ~data.screened_down,
                         wanted.interior & ~data.screened_interior)
+
+
+def _margin_m(points, limit: float | None) -> np.ndarray:
+    """Pressure head above its minimum at every check point, or above the down-surge
+    limit after the surge head where that is less."""
+    margin = (points["pressure_m"] - points["min_pressure_m"]).to_numpy()
+    if limit is not None and "transient_pressure_m" in points:
+        margin = np.minimum(margin, points["transient_pressure_m"].to_numpy() - limit)
+    return margin
 
 
 def _deepest_violations(along: np.ndarray, margin: np.ndarray) -> np.ndarray:

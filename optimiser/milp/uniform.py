@@ -14,7 +14,7 @@ import numpy as np
 
 from optimiser.analysis import check_design
 from optimiser.milp.data import ProblemData
-from optimiser.model import Design, Piece, PipeOption
+from optimiser.model import Design, Piece, PipeOption, Study
 
 _TOLERANCE_M = 1e-9
 
@@ -53,9 +53,12 @@ def uniform_feasible(data: ProblemData) -> np.ndarray:
     return ok
 
 
-def cheapest_uniform(data: ProblemData) -> UniformDesign | None:
-    """Cheapest single option that passes the check along the whole route, or None."""
-    study = data.study
+def cheapest_uniform(data: ProblemData, study: Study | None = None) -> UniformDesign | None:
+    """Cheapest single option that passes the check along the whole route, or None.
+
+    ``study``: the study the check judges (default ``data.study``; the optimiser passes
+    the study as given when ``data`` is of its route split at the class limits)."""
+    study = data.study if study is None else study
     total = data.section_cost.sum(axis=0)
     feasible = uniform_feasible(data)
     end = study.route.total_chainage_m

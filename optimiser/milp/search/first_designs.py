@@ -20,7 +20,7 @@ def run_first_designs(state: SearchState) -> UniformDesign | None:
     assert state.lp is not None
     state.consider(design_from_fractions(state.data, state.lp.fractions), "LP relaxation",
                    must_pass=False)
-    uniform = cheapest_uniform(state.data)
+    uniform = cheapest_uniform(state.data, state.study)
     if uniform is not None:
         end = state.study.route.total_chainage_m
         state.consider(Design((Piece(0.0, end, uniform.option),)), "cheapest uniform design",

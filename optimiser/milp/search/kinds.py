@@ -40,6 +40,8 @@ class StageKind(Enum):
     """MILP restricted to the options the LP used anywhere and their neighbours."""
     FULL_MODEL = "full_model"
     """The full model (with the rules if any): bound and design."""
+    ANY_ORDER = "any_order"
+    """Reach model with the pieces of a section in any order (designs, no bound)."""
 
     @property
     def label(self) -> str:
@@ -62,4 +64,5 @@ _LABELS = {
     StageKind.NEIGHBOURHOOD: "MILP, neighbourhood of the best design",
     StageKind.LP_ANYWHERE: "MILP, options the LP used anywhere and their neighbours",
     StageKind.FULL_MODEL: "MILP, full model",
+    StageKind.ANY_ORDER: "MILP, pieces of a section in any order",
 }
