@@ -117,7 +117,10 @@ def _finish(state: SearchState, uniform: UniformDesign | None) -> DesignOutcome:
         raise VerificationError("the returned design fails the final check (a bug)")
     # A valid bound cannot exceed the cost of a design the model admits; a solver's
     # reported dual bound can, within its feasibility tolerances. Cap it there.
+    # The bounds are over the section-ordered designs of the model; a design of the
+    # any-order stage may lie below them (see docs/method.md), so they are capped there too.
     bound = min(state.bound, best.cost)
+    lp_bound = None if state.lp_bound is None else min(state.lp_bound, best.cost)
     gap = relative_gap(best.cost, bound)
     status = Status.OPTIMAL if gap is not None and gap <= state.settings.gap_target \
         else Status.FEASIBLE
@@ -126,5 +129,5 @@ def _finish(state: SearchState, uniform: UniformDesign | None) -> DesignOutcome:
             best.cost <= (full.objective or math.inf) + 1e-9 * abs(best.cost):
         status = Status.OPTIMAL  # the solver's own proof (its gap is measured as it defines it)
     return state.outcome(status, design=best.design, check=final, total_cost=best.cost,
-                         lower_bound=bound, gap=gap, lp_bound=state.lp_bound,
+                         lower_bound=bound, gap=gap, lp_bound=lp_bound,
                          uniform=uniform, binding=binding_points(final))

@@ -34,9 +34,11 @@ from optimiser.milp.search.state import SearchState
 
 SHARE = 0.3
 """Share of the time left each round may take."""
-LEAST_PIECE_M = 1.0
+LEAST_PIECE_M = 12.0
 """Shortest end piece the any-order model lays [m] (or the minimum piece length, if
-longer)."""
+longer): two standard 6 m pipe lengths. Shorter, the model lays slivers of a larger pipe
+after the entrance or a fitting only to shave its point loss, which the check accepts
+but nobody would build (common practice, no source)."""
 LONG_WITH_RULES = 500
 """With the rules, routes of more survey sections than this skip the stage: there its
 integer programme costs as much as the search (the 2,000-section benchmark: 7 s of
