@@ -246,3 +246,20 @@ def test_each_option_keeps_its_colour_in_every_report(runner, make_study, tmp_pa
     assert colours[("one", "north")] != colours[("one", "south")]
     assert colours[("one", "north")] == colours[("two", "north")]  # order does not matter
     assert colours[("one", "south")] == colours[("two", "south")]
+
+
+def test_the_report_states_its_inputs_in_words(study_files):
+    """Issue 16, item 2: flows per scenario, offtakes, levels, roughness and its basis,
+    fittings and local losses, rules, the catalogue and the solver, in plain words rather
+    than key names (common practice, no source: a reviewer checks the inputs first)."""
+    study = optimiser.load_study(study_files.study)
+    result = optimiser.check_design(study, optimiser.load_design(study_files.design, study))
+    page = render_report(result, schedule(result))
+    inputs = page.split("Flows per scenario", 1)[1]
+    for heading in ("Offtakes", "Levels and route", "Friction and roughness",
+                    "Fittings and local losses", "Design rules", "Pipe catalogue",
+                    "Surge and solver"):
+        assert heading in inputs, heading
+    assert "peak day" in inputs and "25" in inputs  # the scenario and its flow (L/s)
+    assert "village" in inputs and "valve chamber" in inputs  # offtake and fitting
+    assert "top_water_level_m" not in inputs and "local_k_per_km" not in inputs
