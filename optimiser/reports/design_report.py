@@ -12,6 +12,7 @@ from rich.table import Table
 
 from optimiser.model import Status, Study
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.outlet_control import print_outlet_control
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.surge_table import print_class_table
 from optimiser.reports.sweep_tables import gap_text
@@ -164,6 +165,7 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
         console.print("Cheapest uniform design: none (no single option meets every limit)")
     console.print(_binding_table(outcome))
     console.print(f"Why cheapest: {MODEL_STATEMENT}", markup=False, highlight=False)
+    print_outlet_control(console, outcome.check)
     print_violations(console, outcome.check)
 
 

@@ -8,6 +8,7 @@ from optimiser import __version__
 from optimiser.analysis.check import CheckResult, ScenarioResult
 from optimiser.model import Friction, Study
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.outlet_control import outlets
 
 POINT_FIELDS = ["chainage_m", "side", "label", "ground_m", "pipe_level_m", "energy_m",
                 "hgl_m", "pressure_m", "static_pressure_m", "min_pressure_m",
@@ -54,6 +55,7 @@ def scenario_dict(result: ScenarioResult) -> dict[str, Any]:
         "outlet_margin_m": result.outlet_margin_m,
         "capacity_m3_s": result.capacity_m3_s,
         "capacity_outlet_only_m3_s": result.capacity_outlet_only_m3_s,
+        "outlets": outlets(result),
         "least_pressure_margin": {
             "chainage_m": float(least["chainage_m"]),
             "pressure_m": float(least["pressure_m"]),
