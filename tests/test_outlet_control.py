@@ -76,3 +76,15 @@ def test_outlets_in_the_json_of_check(single_pipe, runner, tmp_path):
     text = " ".join(result.output.split())
     assert "without flow control the line would carry" in text
     assert "Caution: fit flow control" in text
+
+
+def test_the_report_states_the_outlet_flow_control(single_pipe):
+    from optimiser.analysis.appurtenances import schedule
+    from optimiser.reports.html import render_report
+
+    study = optimiser.load_study(single_pipe.study)
+    result = optimiser.check_design(study, optimiser.load_design(single_pipe.design, study))
+    page = render_report(result, schedule(result))
+    section = page.split("Outlet flow control", 1)[1]
+    assert "without flow control the line would carry" in section
+    assert "Caution: fit flow control" in section

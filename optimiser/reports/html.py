@@ -12,6 +12,7 @@ from optimiser.reports import numbers as fmt
 from optimiser.reports.charts import cost_figure, pressure_velocity_figure, profile_figure
 from optimiser.reports.colours import option_colour
 from optimiser.reports.inputs import input_tables
+from optimiser.reports.outlet_control import control_sentence
 from optimiser.reports.pages import TitleBlock, chart, render
 from optimiser.reports.pdf import PRINTABLE_WIDTH_PX
 from optimiser.reports.plan_view import plan_figure, plan_notes
@@ -61,6 +62,8 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
         "design_report.html.j2", title, printing, charts=charts, colour=colour,
         summary=_summary_rows(result, summary), scenario_table=_scenario_grid(result),
         plan_notes=plan_notes(result),
+        outlet_control=[control_sentence(s) for s in result.scenarios
+                        if s.capacity_outlet_only_m3_s is not None or s.outlet_margin_m < 0],
         schedule=_schedule_grid(result), total_cost=fmt.money(result.total_cost, study.currency),
         change_cost=(fmt.money(result.change_cost_total, study.currency)
                      if result.change_cost_total else ""),
