@@ -22,7 +22,7 @@ from optimiser.cli.common import (
     print_notes,
     print_written,
 )
-from optimiser.cli.interrupt import committing, writing
+from optimiser.cli.interrupt import staged_outputs
 
 if TYPE_CHECKING:
     from optimiser.reports.run_summary import RunSummary
@@ -41,11 +41,11 @@ def check(study_path: StudyArgument, design_path: DesignFileOption,
         study = load_study(study_path)
         design = load_design(design_path, study)
         result = check_design(study, design)
-        with writing(), StagedOutput() as output:
+        def write(output: StagedOutput) -> None:
             if json_path is not None:
                 write_json(output.file(json_path), check_dict(result))
-            with committing():
-                written = output.commit()
+
+        written = staged_outputs(write)
     except InputError as error:
         fail_input(error)
     print_check(console, result)
@@ -70,7 +70,6 @@ def report(
     """Write the report (HTML, PDF), workbook and appurtenance schedule of a design."""
     from optimiser.analysis import check_design
     from optimiser.io import InputError, load_design, load_study
-    from optimiser.io.writers import StagedOutput
     from optimiser.reports.files import REPORT_FILES, write_report_files
     from optimiser.reports.terminal import print_cautions, print_check
 
@@ -80,11 +79,9 @@ def report(
         summary = None if result_path is None else read_run_summary(result_path)
         result = check_design(study, design)
         notes: list[str] = []
-        with writing(), StagedOutput() as output:
-            write_report_files(output.folder(out_dir, REPORT_FILES), result, summary,
-                               paper=paper.value, notes=notes)
-            with committing():
-                written = output.commit()
+        written = staged_outputs(lambda output: write_report_files(
+            output.folder(out_dir, REPORT_FILES), result, summary, paper=paper.value,
+            notes=notes))
     except InputError as error:
         fail_input(error)
     print_check(console, result)

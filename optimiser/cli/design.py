@@ -26,7 +26,7 @@ from optimiser.cli.common import (
     print_notes,
     print_written,
 )
-from optimiser.cli.interrupt import committing, writing
+from optimiser.cli.interrupt import staged_outputs
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -67,7 +67,7 @@ def design(
 ) -> None:
     """Cheapest verified telescoping design (MILP): schedule, cost, bound and gap."""
     from optimiser.io import InputError, load_study
-    from optimiser.io.writers import StagedOutput, write_json
+    from optimiser.io.writers import write_json
     from optimiser.milp import SolverError, VerificationError, optimise_design
     from optimiser.reports.design_report import design_dict, print_design
     from optimiser.reports.files import DESIGN_FILES, write_design_files
@@ -87,14 +87,14 @@ def design(
         fail_solver(str(error))
     notes: list[str] = []
     try:
-        with writing(), StagedOutput() as output:
+        def write(output: StagedOutput) -> None:
             if json_path is not None:
                 write_json(output.file(json_path), design_dict(outcome, study))
             if out_dir is not None:
                 write_design_files(output.folder(out_dir, DESIGN_FILES), outcome, study,
                                    paper=paper.value, notes=notes)
-            with committing():
-                written = output.commit()
+
+        written = staged_outputs(write)
     except InputError as error:
         fail_input(error)
     print_design(console, outcome, study)
@@ -135,7 +135,6 @@ def compare(
 ) -> None:
     """Design every option and compare them side by side, ranked by capital cost."""
     from optimiser.io import InputError, load_study
-    from optimiser.io.writers import StagedOutput
     from optimiser.reports.compare import comparison_table, print_comparison
     from optimiser.reports.terminal import print_cautions
     from optimiser.sweeps.options import design_options
@@ -157,10 +156,8 @@ def compare(
     notes: list[str] = []
     if out_dir is not None:
         try:
-            with writing(), StagedOutput() as output:
-                _write_comparison(output, out_dir, table, options, paper.value, notes)
-                with committing():
-                    written = output.commit()
+            written = staged_outputs(lambda output: _write_comparison(
+                output, out_dir, table, options, paper.value, notes))
         except InputError as error:
             fail_input(error)
     print_written(written)

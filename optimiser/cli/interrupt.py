@@ -24,9 +24,14 @@ import multiprocessing
 import os
 import signal
 import threading
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from contextlib import contextmanager
+from pathlib import Path
 from types import FrameType
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from optimiser.io.writers import StagedOutput
 
 MESSAGE = "interrupted, nothing written"
 MESSAGE_AFTER_WRITING = "interrupted after every output file was written"
@@ -124,3 +129,14 @@ def committing() -> Iterator[None]:
     if _state["pending"]:
         _state["pending"] = False
         raise Interrupted
+
+
+def staged_outputs(write: Callable[[StagedOutput], None]) -> list[Path]:
+    """Run ``write(output)`` on a staged output set, then move it into place whole (an
+    interrupt while writing leaves nothing; one while moving waits for the move)."""
+    from optimiser.io.writers import StagedOutput
+
+    with writing(), StagedOutput() as output:
+        write(output)
+        with committing():
+            return output.commit()

@@ -24,7 +24,7 @@ from optimiser.cli.common import (
     fail_input,
     print_written,
 )
-from optimiser.cli.interrupt import committing, writing
+from optimiser.cli.interrupt import staged_outputs
 from optimiser.cli.sweep_options import (
     monte_carlo_problems,
     out_problems,
@@ -100,13 +100,9 @@ def _solver_options(solver: str | None, time_limit_s: float | None,
 def _write(out_dir: Path, names: frozenset[str], write: Callable[[Path], Any]) -> list[Path]:
     """Stage the files ``write(folder)`` writes, then move them into ``out_dir``."""
     from optimiser.io import InputError
-    from optimiser.io.writers import StagedOutput
 
     try:
-        with writing(), StagedOutput() as output:
-            write(output.folder(out_dir, names))
-            with committing():
-                return output.commit()
+        return staged_outputs(lambda output: write(output.folder(out_dir, names)))
     except InputError as error:
         fail_input(error)
 
