@@ -2,8 +2,10 @@
 
 from optimiser.model.catalogue import Catalogue, PipeOption
 from optimiser.model.design import Design, Piece
+from optimiser.model.pump import PumpStation
 from optimiser.model.route import Fitting, Offtake, Route
 from optimiser.model.scenario import Scenario
+from optimiser.model.scheme import TRUNK, Branch
 from optimiser.model.status import Status
 from optimiser.model.study import (
     CostRules,
@@ -17,8 +19,12 @@ from optimiser.model.study import (
     SurgeMethod,
     SurgeSettings,
 )
+from optimiser.model.tanks import BreakPressureTank, TankRules, TankSites
 
 __all__ = [
+    "TRUNK",
+    "Branch",
+    "BreakPressureTank",
     "Catalogue",
     "CostRules",
     "Design",
@@ -29,6 +35,7 @@ __all__ = [
     "Outlet",
     "Piece",
     "PipeOption",
+    "PumpStation",
     "QuantityRules",
     "Route",
     "Scenario",
@@ -38,4 +45,6 @@ __all__ = [
     "Study",
     "SurgeMethod",
     "SurgeSettings",
+    "TankRules",
+    "TankSites",
 ]

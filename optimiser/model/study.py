@@ -7,8 +7,11 @@ from enum import StrEnum
 from pathlib import Path
 
 from optimiser.model.catalogue import Catalogue
+from optimiser.model.pump import PumpStation
 from optimiser.model.route import Fitting, Offtake, Route
 from optimiser.model.scenario import Scenario
+from optimiser.model.scheme import TRUNK, Branch
+from optimiser.model.tanks import BreakPressureTank, TankRules
 
 
 class Friction(StrEnum):
@@ -120,6 +123,30 @@ class Study:
     hazen_williams_coefficient: float = 10.67
     """The constant of the SI Hazen--Williams formula (contract section 12)."""
     quantities: QuantityRules = field(default_factory=QuantityRules)
+    branches: tuple[Branch, ...] = ()
+    """Branches of a scheme (contract section 7), parents before children; empty for a
+    single route."""
+    tanks: tuple[BreakPressureTank, ...] = ()
+    """Break-pressure tanks the study always has (section 8)."""
+    tank_rules: TankRules = field(default_factory=TankRules)
+    pump: PumpStation | None = None
+    """A pump station at the source (section 9); None: gravity."""
+
+    @property
+    def is_scheme(self) -> bool:
+        """True when the study has branches besides the trunk."""
+        return bool(self.branches)
+
+    @property
+    def branch_names(self) -> tuple[str, ...]:
+        """The trunk's name, then every branch's, parents before children."""
+        return (TRUNK, *(b.name for b in self.branches))
+
+    def branch(self, name: str) -> Branch:
+        for branch in self.branches:
+            if branch.name == name:
+                return branch
+        raise KeyError(name)
 
     def scenario(self, name: str) -> Scenario:
         for scenario in self.scenarios:
