@@ -8,6 +8,15 @@ friction method is dispatched and where the flow rule of contract section 5 is w
     Q_section = Q_outlet + offtake_factor * sum(offtakes downstream of the section start)
 
 An offtake at chainage c is upstream of every section starting at c or later.
+
+On a branched scheme (contract section 7) the same rule holds on every line (the trunk
+or a branch), with the line's delivery flow for the outlet's and one more term:
+
+    Q_section = Q_delivery + offtake_factor * sum(offtakes of the line downstream)
+                + sum(inflow of every branch leaving the line downstream)
+
+where a branch leaving at chainage c is downstream of every section starting before c,
+and a branch's inflow is the flow of its first section.
 """
 
 from __future__ import annotations
@@ -15,7 +24,8 @@ from __future__ import annotations
 import numpy as np
 
 from optimiser.hydraulics.friction import darcy_weisbach_gradient, hazen_williams_gradient
-from optimiser.model import Friction, Scenario, Study
+from optimiser.model import TRUNK, Friction, Scenario, Study
+from optimiser.model.lines import Line, children_of, line_of
 
 _OFFTAKE_TOLERANCE_M = 1e-6
 
@@ -26,11 +36,12 @@ def nearest_node(node_chainage_m: np.ndarray, chainage_m: float) -> int:
     return int(np.argmin(np.abs(np.asarray(node_chainage_m, dtype=float) - chainage_m)))
 
 
-def node_point_k(study: Study, node_chainage_m: np.ndarray) -> np.ndarray:
-    """Fitting loss coefficient K [-] at each node (fittings at one node add up); the
-    entrance and exit are not included."""
+def node_point_k(study: Study, node_chainage_m: np.ndarray,
+                 line: Line | None = None) -> np.ndarray:
+    """Fitting loss coefficient K [-] at each node of the trunk (or of ``line``); fittings
+    at one node add up; the entrance, junction and exit are not included."""
     node_k = np.zeros(len(node_chainage_m))
-    for fitting in study.fittings:
+    for fitting in (study.fittings if line is None else line.fittings):
         node_k[nearest_node(node_chainage_m, fitting.chainage_m)] += fitting.k
     return node_k
 
@@ -58,20 +69,50 @@ def carried_flow_m3_s(outlet_flow_m3_s: float | np.ndarray, offtake_factor: floa
 
 def flow_below_m3_s(study: Study, scenario: Scenario, start_chainage_m: np.ndarray,
                     outlet_flow_m3_s: float | None = None) -> np.ndarray:
-    """Flow [m^3/s] in pipe starting at each chainage: outlet flow plus the scenario's
-    share of every offtake strictly downstream of that start (contract section 5)."""
+    """Flow [m^3/s] in the trunk's pipe starting at each chainage: outlet flow plus the
+    scenario's share of every offtake strictly downstream of that start (contract
+    section 5), plus the inflow of every branch leaving downstream (section 7)."""
+    return line_flows_m3_s(study, scenario, TRUNK, start_chainage_m, outlet_flow_m3_s)
+
+
+def line_flows_m3_s(study: Study, scenario: Scenario, line: str | Line,
+                    start_chainage_m: np.ndarray,
+                    delivery_flow_m3_s: float | None = None) -> np.ndarray:
+    """Flow [m^3/s] in the pipe of line ``line`` (the trunk ``"main"`` or a branch)
+    starting at each chainage of that line: its delivery flow (``delivery_flow_m3_s``
+    replaces it, e.g. to search a capacity), the scenario's share of each of its
+    offtakes strictly downstream, and the inflow of each branch leaving it strictly
+    downstream (contract sections 5 and 7)."""
+    line = line if isinstance(line, Line) else line_of(study, line)
     start = np.asarray(start_chainage_m, dtype=float)
-    outlet = scenario.outlet_flow_m3_s if outlet_flow_m3_s is None else outlet_flow_m3_s
-    flows = carried_flow_m3_s(outlet, scenario.offtake_factor,
-                              offtakes_downstream(study, start),
-                              np.array([o.flow_m3_s for o in study.offtakes], dtype=float))
+    delivery = line.delivery_flow_m3_s(scenario) if delivery_flow_m3_s is None \
+        else delivery_flow_m3_s
+    flat = start.reshape(-1)
+    ends = np.array([o.chainage_m for o in line.offtakes], dtype=float)
+    carried = ends[None, :] > flat[:, None] + _OFFTAKE_TOLERANCE_M
+    flows = carried_flow_m3_s(delivery, scenario.offtake_factor, carried,
+                              np.array([o.flow_m3_s for o in line.offtakes], dtype=float))
+    for child in children_of(study, line.name):
+        below = child.at_chainage_m > flat + _OFFTAKE_TOLERANCE_M
+        flows = flows + np.where(below, branch_inflow_m3_s(study, scenario, child), 0.0)
     return flows.reshape(start.shape)
 
 
+def branch_inflow_m3_s(study: Study, scenario: Scenario, line: str | Line) -> float:
+    """Flow [m^3/s] entering line ``line`` at its start (a branch at its junction, the
+    trunk at the source): its delivery, its offtakes' share and every branch below it."""
+    line = line if isinstance(line, Line) else line_of(study, line)
+    return float(line_flows_m3_s(study, scenario, line, np.array([-1.0]))[0])
+
+
 def inflow_m3_s(study: Study, scenario: Scenario, outlet_flow_m3_s: float | None = None) -> float:
-    """Flow [m^3/s] drawn from the source: outlet flow plus every offtake."""
+    """Flow [m^3/s] drawn from the source: outlet flow plus every offtake (and, on a
+    scheme, every branch's inflow)."""
     outlet = scenario.outlet_flow_m3_s if outlet_flow_m3_s is None else outlet_flow_m3_s
-    return outlet + scenario.offtake_factor * sum(o.flow_m3_s for o in study.offtakes)
+    total = outlet + scenario.offtake_factor * sum(o.flow_m3_s for o in study.offtakes)
+    for child in children_of(study, TRUNK):
+        total += branch_inflow_m3_s(study, scenario, child)
+    return total
 
 
 def friction_gradient(study: Study, scenario: Scenario, flow_m3_s: np.ndarray,

@@ -20,17 +20,21 @@ from numpy.typing import ArrayLike
 
 from optimiser.analysis.flows import nearest_node
 from optimiser.model import DesignRules, Study
+from optimiser.model.lines import Line
 
 CHECK_TOLERANCE = 1e-9
 """Round-off the check accepts on every limit [m or m/s]."""
 
 
-def node_min_pressure_m(study: Study, node_chainage_m: np.ndarray) -> np.ndarray:
-    """Minimum pressure head [m] at each node: the route's, overridden at an offtake's
-    node by that offtake's own minimum (the strictest, if several share a node)."""
-    limits = np.full(len(node_chainage_m), study.min_pressure_m)
+def node_min_pressure_m(study: Study, node_chainage_m: np.ndarray,
+                        line: Line | None = None) -> np.ndarray:
+    """Minimum pressure head [m] at each node of the trunk (or of ``line``): the route's
+    (the line's), overridden at an offtake's node by that offtake's own minimum (the
+    strictest, if several share a node)."""
+    own = study.min_pressure_m if line is None else line.min_pressure_m
+    limits = np.full(len(node_chainage_m), own)
     overrides: dict[int, float] = {}
-    for offtake in study.offtakes:
+    for offtake in (study.offtakes if line is None else line.offtakes):
         if offtake.min_pressure_m is not None:
             index = nearest_node(node_chainage_m, offtake.chainage_m)
             overrides[index] = max(overrides.get(index, -np.inf), offtake.min_pressure_m)
