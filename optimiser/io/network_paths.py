@@ -102,7 +102,8 @@ def paths(tree: NetworkTree) -> list[NetworkPath]:
     while index < len(found):
         path = found[index]
         name = TRUNK if index == 0 else path.end
-        for node, chainage in path.node_chainages()[:-1]:
+        first = 0 if index == 0 else 1  # a branch's first node is its parent's
+        for node, chainage in path.node_chainages()[first:-1]:
             for link in tree.leaving[node]:
                 if all(link is not own for own in path.links):
                     found.append(NetworkPath(node, follow(node, link), name, chainage))
