@@ -48,6 +48,8 @@ class BranchDraft:
     local_k_per_km: float = 0.0
     fittings: list[Fitting] = field(default_factory=list)
     offtakes: list[Offtake] = field(default_factory=list)
+    flow_given: bool = True
+    """False when ``flow`` is not written (a bad flow is written, and reported once)."""
 
     def branch(self, route: Route) -> Branch:
         return Branch(self.name, self.parent, self.at_chainage_m, route,
@@ -91,8 +93,10 @@ def branch_drafts(path: Path, spec: StudyFile, problems: ProblemList) -> list[Br
         where = f"{path}: [[branch]] #{index} ({table.name!r})"
         if table.name == TRUNK:
             problems.add(f"{where} name: {TRUNK!r} is the trunk's name; choose another")
-        elif table.name in names:
+            continue
+        if table.name in names:
             problems.add(f"{where} name: another branch already has this name")
+            continue
         names.add(table.name)
         draft = _draft(path, spec, table, where, problems)
         if draft is not None:
@@ -104,7 +108,8 @@ def branch_drafts(path: Path, spec: StudyFile, problems: ProblemList) -> list[Br
 def _draft(path: Path, spec: StudyFile, table: BranchTable, where: str,
            problems: ProblemList) -> BranchDraft | None:
     flow = None
-    if table.flow is not None:
+    flow_given = table.flow is not None
+    if flow_given:
         try:
             flow = parse_flow_m3_s(table.flow)
         except ValueError as error:
@@ -128,7 +133,7 @@ def _draft(path: Path, spec: StudyFile, table: BranchTable, where: str,
         where, profile_path.name, table.exit_k, table.junction_k,
         spec.route.min_pressure_m if table.min_pressure_m is None else table.min_pressure_m,
         spec.route.local_k_per_km if table.local_k_per_km is None else table.local_k_per_km,
-        fittings)
+        fittings, flow_given=flow_given)
 
 
 def _branch_profile(path: Path, spec: StudyFile, profile_path: Path, cover_m: float) -> Route:
@@ -195,9 +200,11 @@ def resolve_branches(drafts: list[BranchDraft], trunk: Route, trunk_label: str,
         junctions.setdefault(draft.parent, []).append(draft.at_chainage_m)
     branches = []
     for draft in ordered:
-        route = draft.route.with_nodes([f.chainage_m for f in draft.fittings] +
-                                       [o.chainage_m for o in draft.offtakes] +
-                                       junctions.get(draft.name, []))
+        end = draft.route.total_chainage_m
+        points = [f.chainage_m for f in draft.fittings] + \
+            [o.chainage_m for o in draft.offtakes] + junctions.get(draft.name, [])
+        # chainages off the branch are reported elsewhere; the rest become nodes
+        route = draft.route.with_nodes([c for c in points if 0.0 <= c <= end])
         branches.append(draft.branch(route))
     return tuple(branches), junctions.get(TRUNK, [])
 
@@ -288,15 +295,19 @@ def scenario_branch_flows(path: Path, spec: StudyFile, scenarios: list[Scenario]
 
 def _flow_problems(drafts: list[BranchDraft], branches: tuple[Branch, ...],
                    scenarios: list[Scenario], problems: ProblemList) -> None:
+    unknown_flow = {d.name for d in drafts if d.flow_m3_s is None}
     for draft in drafts:
         given_in_all = all(any(n == draft.name for n, _ in s.branch_flows_m3_s)
                            for s in scenarios)
-        if draft.flow_m3_s is None and not given_in_all:
+        if not draft.flow_given and not given_in_all:
             problems.add(f"{draft.where} flow: required key is missing (give it, or "
                          "branch_flow for this branch in every scenario)")
     if not scenarios:
         return
     for branch in branches:
+        if branch.name in unknown_flow and not all(
+                any(n == branch.name for n, _ in s.branch_flows_m3_s) for s in scenarios):
+            continue  # its flow is missing or unreadable: reported once, above or earlier
         carried = [_throughput_m3_s(branch.name, branches, s) for s in scenarios]
         if max(carried) <= 0.0:
             where = next(d.where for d in drafts if d.name == branch.name)

@@ -137,8 +137,10 @@ def _read_nodes(path: Path, problems: ProblemList) -> dict[str, Node]:
             problems.add(f"{path}: line {row.line}: node {name!r} is already given on line "
                          f"{nodes[name].line}")
             continue
-        if ground is not None and demand is not None:
-            nodes[name] = Node(row.line, name, ground, demand, minimum, required, x, y)
+        # A node with a bad cell is kept (its problem is reported) so that its links
+        # are not also reported as naming an unknown node.
+        nodes[name] = Node(row.line, name, math.nan if ground is None else ground,
+                           demand or 0.0, minimum, required, x, y)
     return nodes
 
 
