@@ -27,8 +27,16 @@ from optimiser.analysis.limits import (
     class_holds,
 )
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
+from optimiser.analysis.tanks import piece_static_heads, tank_cost, tanks_short
 from optimiser.hydraulics.gradeline import static_head_m
-from optimiser.model import Design, DesignRules, Scenario, Study, SurgeMethod
+from optimiser.model import (
+    BreakPressureTank,
+    Design,
+    DesignRules,
+    Scenario,
+    Study,
+    SurgeMethod,
+)
 
 
 @dataclass(frozen=True)
@@ -60,6 +68,8 @@ class ScenarioResult:
     segments: pd.DataFrame
     capacity_m3_s: float | None = None
     capacity_outlet_only_m3_s: float | None = None
+    tank_inflow_energy_m: np.ndarray | None = None
+    """Energy left to fill each tank of ``CheckResult.tanks`` [m]; None: no tank."""
 
     @property
     def outlet_margin_m(self) -> float:
@@ -81,6 +91,9 @@ class CheckResult:
     total_cost: float
     change_cost_total: float = 0.0
     notes: list[str] = field(default_factory=list)
+    tanks: tuple[BreakPressureTank, ...] = ()
+    """Every tank on the route (the study's and the design's new ones), by chainage."""
+    tank_cost_total: float = 0.0
 
     @property
     def ok(self) -> bool:
@@ -125,6 +138,12 @@ def _piece_table(study: Study, design: Design, hydraulics: DesignHydraulics,
                                        else option.surge_limit_head_m),
         })
     table = pd.DataFrame(rows)
+    if hydraulics.tanks.any:  # the static line restarts at every tank (section 8)
+        heads, levels, where = piece_static_heads(
+            grid.segment_piece, len(design.pieces), hydraulics.static_level_m,
+            grid.node_pipe_level_m[:-1], grid.node_pipe_level_m[1:], grid.start_m, grid.end_m)
+        table["static_head_m"], table["lowest_pipe_level_m"] = heads, levels
+        table["lowest_chainage_m"] = where
     surge_margin = (table["allowable_surge_head_m"] - table["static_head_m"]
                     - table["surge_head_m"])
     static_margin = table["allowable_head_m"] - table["static_head_m"]
@@ -242,9 +261,16 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
                 arrays.outlet_energy_m, study.outlet.required_head_m,
                 text.outlet_short(scenario.name, arrays.outlet_energy_m,
                                   study.outlet.required_head_m, study.route.total_chainage_m)))
+        for tank, energy in tanks_short(hydraulics.tanks, arrays.tank_inflow_energy_m,
+                                        CHECK_TOLERANCE):
+            violations.append(Violation(
+                "tank_inflow", scenario.name, tank.chainage_m, energy, tank.water_level_m,
+                text.tank_cannot_fill(scenario.name, energy, tank.water_level_m,
+                                      tank.chainage_m)))
         result = ScenarioResult(scenario.name, inflow_m3_s(study, scenario),
                                 scenario.outlet_flow_m3_s, arrays.outlet_energy_m,
-                                study.outlet.required_head_m, points, segments)
+                                study.outlet.required_head_m, points, segments,
+                                tank_inflow_energy_m=arrays.tank_inflow_energy_m)
         if capacity:
             result.capacity_m3_s = hydraulics.capacity_m3_s(scenario, outlet_only=False)
             result.capacity_outlet_only_m3_s = hydraulics.capacity_m3_s(scenario,
@@ -257,4 +283,9 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
         results.append(result)
     change_total = study.costs.change_cost * design.n_changes
     total = float(pieces["cost"].sum()) + change_total
-    return CheckResult(study, design, results, violations, pieces, total, change_total)
+    tanks = hydraulics.tanks.tanks
+    tank_total = sum(tank_cost(study, t) for t in tanks)
+    if tank_total:
+        total += tank_total
+    return CheckResult(study, design, results, violations, pieces, total, change_total,
+                       tanks=tanks, tank_cost_total=float(tank_total))

@@ -9,6 +9,7 @@ structures.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -18,6 +19,13 @@ from scipy.optimize import brentq
 from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, node_point_k
 from optimiser.analysis.grid import Grid, design_grid
 from optimiser.analysis.limits import node_min_pressure_m
+from optimiser.analysis.tanks import (
+    energy_with_tanks,
+    inflow_energy_m,
+    static_levels_m,
+    tank_nodes,
+    tanks_of,
+)
 from optimiser.hydraulics.gradeline import (
     energy_along_chain,
     hydraulic_grade_m,
@@ -41,6 +49,8 @@ class ScenarioArrays:
     energy_end_m: np.ndarray
     after_final_fitting_m: float
     outlet_energy_m: float
+    tank_inflow_energy_m: np.ndarray | None = None
+    """Energy left to fill each tank (arriving energy - inlet loss) [m]; None: no tank."""
 
 
 @dataclass(frozen=True)
@@ -61,7 +71,15 @@ class DesignHydraulics:
     def __init__(self, study: Study, design: Design) -> None:
         self.study = study
         self.design = design
-        self.grid: Grid = design_grid(study, design)
+        tanks = tanks_of(study, design)
+        # Every tank stands at a node of the grid (a tank of a --tanks file may not be a
+        # survey point).
+        on_route = study if not tanks else dataclasses.replace(
+            study, route=study.route.with_nodes([t.chainage_m for t in tanks]))
+        self.grid: Grid = design_grid(on_route, design)
+        self.tanks = tank_nodes(tanks, self.grid.node_chainage_m)
+        self.static_level_m = static_levels_m(study.source.top_water_level_m,
+                                              len(self.grid.segment_length_m), self.tanks)
         options = [design.pieces[p].option for p in self.grid.segment_piece]
         self.diameter_m = np.array([o.internal_diameter_m for o in options])
         self.roughness_mm = np.array([o.roughness_mm for o in options])
@@ -77,13 +95,22 @@ class DesignHydraulics:
         velocity = velocity_m_s(flow, self.diameter_m)
         gradient = friction_gradient(study, scenario, flow, self.diameter_m,
                                      self.roughness_mm, self.hazen_williams_c)
-        start, end = energy_along_chain(
-            scenario.source_level_m, study.source.entrance_k, self.grid.segment_length_m,
-            gradient, study.local_k_per_km, velocity, self.node_point_k)
+        inflow = None
+        if self.tanks.any:
+            rules = study.tank_rules
+            start, end = energy_with_tanks(
+                scenario.source_level_m, study.source.entrance_k, rules.outlet_k,
+                self.grid.segment_length_m, gradient, study.local_k_per_km, velocity,
+                self.node_point_k, self.tanks)
+            inflow = inflow_energy_m(end, velocity, rules.inlet_k, self.tanks)
+        else:
+            start, end = energy_along_chain(
+                scenario.source_level_m, study.source.entrance_k, self.grid.segment_length_m,
+                gradient, study.local_k_per_km, velocity, self.node_point_k)
         after_fitting, outlet = outlet_energy_m(end[-1], velocity_head_m(velocity[-1]),
                                                 self.node_point_k[-1], study.outlet.exit_k)
         return ScenarioArrays(flow, velocity, gradient, start, end, float(after_fitting),
-                               float(outlet))
+                               float(outlet), inflow)
 
     def point_arrays(self, arrays: ScenarioArrays) -> PointArrays:
         """Check points: both sides of every node where they differ (contract section 5).
@@ -128,6 +155,8 @@ class DesignHydraulics:
         hgl = hydraulic_grade_m(at.energy_m, at.velocity_m_s)
         pipe = grid.node_pipe_level_m[node]
         top_water = self.study.source.top_water_level_m
+        if self.tanks.any:  # the static line restarts at every tank
+            top_water = self.static_level_m[at.segment]
         return pd.DataFrame({
             "chainage_m": grid.node_chainage_m[node],
             "side": _SIDE_NAMES[at.side],
@@ -162,12 +191,20 @@ class DesignHydraulics:
             return margin
         points = self.point_arrays(arrays)
         pressure_margin = self.pressure_m(points) - self.node_min_pressure_m[points.node]
+        if arrays.tank_inflow_energy_m is not None:  # every tank must still fill
+            margin = min(margin, float((arrays.tank_inflow_energy_m
+                                        - self.tanks.level_m).min()))
         return min(margin, float(pressure_margin.min()))
 
     def capacity_m3_s(self, scenario: Scenario, outlet_only: bool) -> float | None:
         """Largest outlet flow meeting the outlet head (and pressure minima), by Brent's
         method on a margin that falls monotonically with flow. None if even zero outlet
-        flow fails; offtakes stay at their scenario flows."""
+        flow fails; offtakes stay at their scenario flows.
+
+        With break-pressure tanks the energy line restarts at each, so the outlet-only
+        capacity (the uncontrolled flow of contract section 8) is the flow the pipe below
+        the last tank passes from that tank's water level, the tanks above assumed to
+        keep it full; the full capacity also holds every tank's inflow."""
         def margin(q: float) -> float:
             return self.least_margin_m(scenario, q, outlet_only)
         if margin(0.0) < 0.0:

@@ -22,6 +22,7 @@ from optimiser.io.profile_file import load_catalogue, load_profile
 from optimiser.io.schema import StudyFile, describe_location
 from optimiser.io.surge_inputs import surge_problems, surge_settings
 from optimiser.io.tables import decode_text
+from optimiser.io.tank_inputs import study_tanks, tank_rules
 from optimiser.io.units import parse_flow_m3_s
 from optimiser.model import (
     Catalogue,
@@ -61,9 +62,12 @@ def load_study(path: str | Path) -> Study:
     fittings = tuple(Fitting(f.chainage_m, f.k, f.label) for f in spec.route.fitting)
     _placement_problems(path, spec, route, offtakes, fittings, problems)
     chosen = _chosen_catalogue(path, spec, catalogue, problems)
+    tanks = study_tanks(path, spec, route, offtakes, problems)
+    rules_of_tanks = tank_rules(path, spec, (path.parent / spec.route.profile).resolve(),
+                                problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
-                             [f.chainage_m for f in fittings])
+                             [f.chainage_m for f in fittings] + [t.chainage_m for t in tanks])
     viscosity, temperature = _water(spec)
     return Study(
         title=spec.title, currency=spec.currency,
@@ -85,6 +89,7 @@ def load_study(path: str | Path) -> Study:
         surge=surge_settings(spec),
         hazen_williams_coefficient=spec.catalogue.hazen_williams_coefficient,
         quantities=QuantityRules(**spec.quantities.model_dump()),
+        tanks=tanks, tank_rules=rules_of_tanks,
     )
 
 
