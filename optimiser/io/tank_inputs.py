@@ -15,8 +15,16 @@ from pathlib import Path
 
 from optimiser.io.errors import InputError, ProblemList
 from optimiser.io.schema import StudyFile
-from optimiser.io.tables import read_rows
-from optimiser.model import TRUNK, BreakPressureTank, Offtake, Route, TankRules, TankSites
+from optimiser.io.tables import number, read_rows
+from optimiser.model import (
+    TRUNK,
+    BreakPressureTank,
+    Offtake,
+    Route,
+    Study,
+    TankRules,
+    TankSites,
+)
 
 SITE_COLUMN = "tank_site"
 _YES = {"yes", "true", "1", "y"}
@@ -31,6 +39,10 @@ def tank_rules(path: Path, spec: StudyFile, profile_path: Path,
     table = spec.break_pressure_tanks
     sites = TankSites(table.sites)
     marked: tuple[float, ...] = ()
+    if table.cost is not None and spec.surge.method != "allowance":
+        problems.add(f"{path}: [break_pressure_tanks] cost: new tanks chosen by design are "
+                     "not yet supported with [surge] method = \"joukowsky\"; give the tanks "
+                     "as [[break_pressure_tank]], or use the allowance method")
     if sites is TankSites.MARKED:
         marked = marked_sites(path, profile_path, problems)
     return TankRules(table.cost, sites, table.height_m, table.inlet_k, table.outlet_k,
@@ -107,3 +119,43 @@ def placement_problems(where: str, branch: str, chainage_m: float, route: Route,
             return [f"{where}: chainage_m {chainage_m:g} is at an offtake{name}; a tank may "
                     "not stand at an offtake (move it up or down the route)"]
     return []
+
+
+TANK_FILE_COLUMNS = ["branch", "chainage_m", "water_level_m", "new", "cost", "label"]
+
+
+def load_tank_file(path: Path, study: Study) -> tuple[BreakPressureTank, ...]:
+    """Tanks of a ``break_pressure_tanks.csv`` (as ``design`` writes it), for
+    ``check --tanks``: rows that repeat one of the study's own tanks are skipped, the
+    others are checked as the design's tanks (``new`` as the file says; a new tank costs
+    the study's ``[break_pressure_tanks] cost``, the file's ``cost`` column is
+    informative)."""
+    rows, _ = read_rows(path, ["chainage_m", "water_level_m"],
+                        [c for c in TANK_FILE_COLUMNS if c not in ("chainage_m",
+                                                                  "water_level_m")],
+                        what="tank file")
+    problems = ProblemList()
+    own = {(t.branch, round(t.chainage_m, 6)) for t in study.tanks}
+    tanks: list[BreakPressureTank] = []
+    for row in rows:
+        where = f"{path}: line {row.line}"
+        chainage = number(path, row, "chainage_m", problems)
+        level = number(path, row, "water_level_m", problems)
+        branch = row.cells.get("branch", "") or TRUNK
+        new = row.cells.get("new", "").strip().lower()
+        if new not in _YES | _NO:
+            problems.add(f"{where}: column new: '{row.cells['new']}' is not yes/true/1 or "
+                         "no/false/0")
+        if chainage is None or level is None:
+            continue
+        found = placement_problems(where, branch, chainage, study.route, study.offtakes)
+        problems.items.extend(found)
+        if found or (branch, round(chainage, 6)) in own:
+            continue
+        tanks.append(BreakPressureTank(chainage, level, branch, row.cells.get("label", ""),
+                                       new in _YES))
+    chainages = [t.chainage_m for t in tanks]
+    if len(set(chainages)) != len(chainages):
+        problems.add(f"{path}: two rows give a tank at the same chainage")
+    problems.raise_if_any()
+    return tuple(tanks)
