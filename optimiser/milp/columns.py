@@ -17,7 +17,6 @@ import numpy as np
 
 from optimiser.milp.built_model import Formulation
 from optimiser.milp.matrix import Affine, Term, var
-from optimiser.milp.tank_rows import tank_needs
 
 
 @dataclass
@@ -83,7 +82,6 @@ def _needs(form: Formulation, orders: list[list[int]]
                         or (s == 0 and study.source.entrance_k > 0))
         need_interior[s] = not data.screened_interior[s] and len(orders[s]) > 1
     need_last[n - 1] |= (study.outlet.exit_k + k_node[n] > 0) or not data.screened_down[n]
-    need_last |= tank_needs(form)
     if form.with_rules:
         need_first[:] = True
         need_last[:] = True

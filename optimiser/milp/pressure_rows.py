@@ -35,18 +35,9 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
         running = Affine([], float(data.source_level_m[k]))
         for s in range(n):
             if tanks is not None and s > 0 and tanks.at_node[s]:
-                running = _tank_restart(form, columns, k, s, running)
+                running = restart_at_tank(form, k, s, running)  # milp/tank_rows.py
             running = _section_rows(form, columns, k, s, running, bool(need_end[s]))
         _outlet_rows(form, columns, k, running)
-
-
-def _tank_restart(form: Formulation, columns: SectionColumns, k: int, s: int,
-                  running: Affine) -> Affine:
-    """A tank stands or may stand at node s: its inflow row and the energy leaving it
-    (:mod:`optimiser.milp.tank_rows`)."""
-    head_in = _head_of(form, k, s - 1, columns.last_frac[s - 1])
-    start_frac = columns.first_frac[s] if form.any_order else columns.last_frac[s]
-    return restart_at_tank(form, k, s, running, head_in, _head_of(form, k, s, start_frac))
 
 
 def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine],

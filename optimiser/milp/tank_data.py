@@ -25,7 +25,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.analysis.tanks import SAME_POINT_M
-from optimiser.milp.class_limits import crossing_chainages_m, limit_levels_m
 from optimiser.model import TRUNK, Study, TankSites
 
 
@@ -127,21 +126,16 @@ def static_lines_m(top_water_level_m: float, fixed: np.ndarray, candidate: np.nd
     return high, low
 
 
-def split_with_tanks(study: Study) -> Study:
-    """``study`` with its route split wherever an option's class limit is crossed under
-    the static line with the study's own tanks (exact for them; below a new tank the
-    class of a section is judged at its lowest pipe level, which is conservative)."""
+def with_sites_named(study: Study) -> Study:
+    """``study`` with its sites named as marked chainages, so that nodes a later step
+    inserts are never sites. The route is not split at class limits here: below a tank
+    the limits move with its level, so the class of an option in a section is judged at
+    the section's lowest pipe level (conservative, exact at the survey's resolution)."""
     route = study.route
-    fixed, candidate, level = tank_nodes(study, route.chainage_m)
-    high, _ = static_lines_m(study.source.top_water_level_m, fixed, candidate, level)
-    # Every limit level is the top water level minus a constant: shift it per section.
-    levels = limit_levels_m(study) - study.source.top_water_level_m + high[:, None]
-    found = crossing_chainages_m(route, levels)
-    # The sites are the loader's nodes: name them, so the new nodes never become sites.
+    _, candidate, _ = tank_nodes(study, route.chainage_m)
     rules = dataclasses.replace(study.tank_rules, sites=TankSites.MARKED,
                                 marked_chainages_m=tuple(route.chainage_m[candidate].tolist()))
-    return dataclasses.replace(study, route=route.with_nodes(found, tolerance_m=0.0),
-                               tank_rules=rules)
+    return dataclasses.replace(study, tank_rules=rules)
 
 
 def tank_data(study: Study, lowest_m: np.ndarray, class_ok_at) -> TankData:

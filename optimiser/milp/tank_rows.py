@@ -3,10 +3,14 @@
 Part of :mod:`optimiser.milp.formulation`. At a node i where the study's own tank
 stands, in every scenario k:
 
-- inflow: E_up - K_in h_in >= WL (h_in the velocity head of the last piece arriving, as
-  the staircase ``CL`` picks it exactly);
-- restart: the energy leaving is WL - K_out h_out, h_out the velocity head the section's
-  start takes (its smallest pipe: conservative, as at a fitting).
+- inflow: E_up - K_in h_in >= WL;
+- restart: the energy leaving is WL - K_out h_out;
+
+with h_in and h_out the largest velocity heads of the options the model may lay in the
+sections arriving and leaving (conservative: the check takes the pipes laid, and a
+model with a site at every point would otherwise need a last-piece indicator in every
+section; the overstatement is K V^2/2g of the fastest admissible pipe less that of the
+pipe laid, a few decimetres at most under the velocity limit).
 
 Where ``design`` may add a tank, a binary ``t[i]`` (cost: the price of a tank) chooses
 it, and the rows become, with a free column ``e`` for the energy leaving:
@@ -14,7 +18,7 @@ it, and the rows become, with a free column ``e`` for the energy leaving:
 - e <= E_up (always valid: a tank never raises the energy, since it only fills when
   E_up - K_in h_in >= WL);
 - e <= WL - K_out h_out + M_e (1 - t), M_e = highest source level - WL + 1;
-- E_up - K_in h_in >= WL - M_in (1 - t), M_in = WL + K_in h_max - required head + 1
+- E_up - K_in h_in >= WL - M_in (1 - t), M_in = WL - required head + 1
   (every energy of a feasible design is at least the outlet's required head).
 
 Only lower bounds on energy appear elsewhere in the model (pressures, the outlet, the
@@ -44,22 +48,29 @@ def tank_column(form: Formulation, node: int) -> int:
     return column
 
 
-def restart_at_tank(form: Formulation, k: int, node: int, arriving: Affine,
-                    head_in: Affine, head_out: Affine) -> Affine:
+def largest_head_m(form: Formulation, k: int, s: int) -> float:
+    """Largest velocity head [m] of an option the model may lay in section s, scenario k
+    (the conservative velocity head of a tank's inlet and outlet losses)."""
+    heads = np.where(form.allowed[s], form.data.velocity_head_m[k, s], 0.0)
+    return float(heads.max())
+
+
+def restart_at_tank(form: Formulation, k: int, node: int, arriving: Affine) -> Affine:
     """Inflow row at ``node`` in scenario k and the energy leaving it (before the
     node's own fitting loss, which the section's rows add)."""
     data = form.data
     tanks = data.tanks
     assert tanks is not None
     level = float(tanks.level_m[node])
+    head_in = Affine([], largest_head_m(form, k, node - 1))
+    head_out = Affine([], largest_head_m(form, k, node))
     filled = arriving - head_in.scaled(tanks.inlet_k)
     if tanks.fixed[node]:
         form.model.at_least(filled, level + MARGIN_M)
         return Affine([], level) - head_out.scaled(tanks.outlet_k)
     t = tank_column(form, node)
     study = data.study
-    largest_head = float(data.velocity_head_m[k, node - 1].max())
-    big_in = level + tanks.inlet_k * largest_head - study.outlet.required_head_m + 1.0
+    big_in = level - study.outlet.required_head_m + 1.0
     form.model.at_least(filled - var(t, big_in), level - big_in + MARGIN_M)
     big_e = max(float(data.source_level_m.max()) - level, 0.0) + 1.0
     leaving = form.model.add_column(-np.inf, np.inf)
@@ -105,15 +116,3 @@ def chosen_nodes(form: Formulation) -> list[int]:
         return []
     return sorted(node for node, column in form.tank_columns.items()
                   if form.values[column] > 0.5)
-
-
-def tank_needs(form: Formulation) -> np.ndarray:
-    """(n,) sections whose last piece must be known exactly: the pipes arriving at and
-    leaving a tank (their velocity heads take its losses)."""
-    data = form.data
-    tanks = data.tanks
-    n = data.n_sections
-    if tanks is None:
-        return np.zeros(n, dtype=bool)
-    at = tanks.at_node
-    return at[:-1] | at[1:]

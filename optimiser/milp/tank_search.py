@@ -5,8 +5,9 @@ the source to the outlet (reaches merge sections across nodes, the priced dynami
 programme and the uniform design follow one energy line), so a study with tanks runs its
 own, shorter plan on the full model of :mod:`optimiser.milp.tank_rows`:
 
-1. the data of the route split at the class limits under the study's own tanks, and the
-   diagnosis without a solver (the lowest static line any choice of tanks gives; tanks
+1. the data of the route (not split at class limits: see
+   :func:`~optimiser.milp.tank_data.with_sites_named`), and the diagnosis without a
+   solver (the lowest static line any choice of tanks gives; tanks
    only lower the energy line, so its energy findings stand);
 2. the LP relaxation of the model with tanks, rules relaxed: a bound;
 3. with new tanks allowed and no tank of the study's own, the best design without new
@@ -34,7 +35,7 @@ from optimiser.milp.formulation import build, rules_active
 from optimiser.milp.outcome import DesignOutcome, Stage
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, SearchState, Settings
-from optimiser.milp.tank_data import split_with_tanks
+from optimiser.milp.tank_data import with_sites_named
 from optimiser.milp.tank_rows import chosen_nodes
 from optimiser.model import TRUNK, BreakPressureTank, Design, Study, TankRules
 from optimiser.model.status import Status
@@ -58,7 +59,7 @@ def search_with_tanks(study: Study, settings: Settings, clock: Clock,
                       plain: Callable[..., DesignOutcome]) -> TankRun:
     """Run the plan above; ``plain`` is :func:`optimise_design` (the plan without
     tanks, passed in to keep the modules free of an import circle)."""
-    data = prepare(split_with_tanks(study))
+    data = prepare(with_sites_named(study))
     state = SearchState(study, data, settings, clock, with_rules=rules_active(data))
     run = TankRun(state)
     findings = diagnose(data)

@@ -3,7 +3,7 @@ lines and the rows of ``break_pressure_tanks.csv``."""
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from rich.console import Console
 
@@ -11,10 +11,14 @@ from optimiser.analysis.check import CheckResult
 from optimiser.analysis.tanks import tank_table_rows
 from optimiser.analysis.violation_text import at
 
+if TYPE_CHECKING:
+    from optimiser.milp.outcome import DesignOutcome
+
 TANK_COLUMNS = ["branch", "chainage_m", "water_level_m", "new", "cost", "label"]
 """Columns of ``break_pressure_tanks.csv`` (contract section 8)."""
 
-__all__ = ["TANK_COLUMNS", "print_tanks", "tank_dicts", "tank_table_rows"]
+__all__ = ["TANK_COLUMNS", "print_tank_totals", "print_tanks", "tank_dicts",
+           "tank_table_rows"]
 
 
 def tank_dicts(result: CheckResult) -> list[dict[str, Any]]:
@@ -45,3 +49,22 @@ def print_tanks(console: Console, result: CheckResult) -> None:
         console.print(f"- {at(row['chainage_m'])}{label}: water level "
                       f"{row['water_level_m']:.2f} m, {kind}{least}",
                       markup=False, highlight=False)
+
+
+def print_tank_totals(console: Console, outcome: DesignOutcome, currency: str) -> None:
+    """The new tanks in the total, and the design without new tanks it is set against."""
+    check = outcome.check
+    if check is None or (not check.tank_cost_total and outcome.no_new_tank_status is None):
+        return
+    new = sum(1 for t in check.tanks if t.new)
+    console.print(f"New break-pressure tanks: {new}, "
+                  f"{check.tank_cost_total:,.0f} {currency} (in the total)".rstrip())
+    if outcome.no_new_tank_status is None:
+        return
+    if outcome.no_new_tank_cost is None or outcome.total_cost is None:
+        console.print("Without new tanks: no design meets every limit "
+                      f"({outcome.no_new_tank_status}).")
+        return
+    saving = outcome.no_new_tank_cost - outcome.total_cost
+    console.print(f"Best design without new tanks: {outcome.no_new_tank_cost:,.0f} {currency} "
+                  f"({outcome.no_new_tank_status}); saving {saving:,.0f} {currency}")
