@@ -14,7 +14,11 @@ own, shorter plan on the full model of :mod:`optimiser.milp.tank_rows`:
    tanks from the plan without tanks (the whole search of :func:`optimise_design` on the
    study with new tanks not allowed): a first design, the warm start of the next stage,
    and the figure the saving is stated against;
-4. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
+4. with the rules: the model with tanks and the rules relaxed (a relaxation: its bound
+   counts; its design is offered, and kept if it happens to meet the rules), then its
+   tanks fixed and the rules on, restricted to the options near its design: a first
+   design with the rules (HiGHS alone seldom finds one on the full model);
+5. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
    started from the best design so far, for the rest of the time: its bound is the
    run's bound, its design is checked with its tanks.
 
@@ -28,13 +32,18 @@ import dataclasses
 import time
 from collections.abc import Callable
 
+import numpy as np
+
+from optimiser.milp.built_model import Formulation, WarmStart
 from optimiser.milp.data import prepare
 from optimiser.milp.diagnose import diagnose, diagnose_after
 from optimiser.milp.extract import design_from_fractions, section_use
 from optimiser.milp.formulation import build, rules_active
 from optimiser.milp.outcome import DesignOutcome, Stage
 from optimiser.milp.search.kinds import StageKind
+from optimiser.milp.search.masks import widened, window_mask
 from optimiser.milp.search.state import Clock, SearchState, Settings
+from optimiser.milp.solvers import SolveReport
 from optimiser.milp.tank_data import with_sites_named
 from optimiser.milp.tank_rows import chosen_nodes
 from optimiser.model import TRUNK, BreakPressureTank, Design, Study, TankRules
@@ -78,6 +87,8 @@ def search_with_tanks(study: Study, settings: Settings, clock: Clock,
         state.raise_bound(report.bound)
     if data.tanks is not None and data.tanks.any_candidate and not study.tanks:
         _without_new_tanks(run, plain)
+    if state.with_rules:
+        _rules_relaxed(run)
     _full_model(run)
     return run
 
@@ -100,32 +111,69 @@ def _without_new_tanks(run: TankRun, plain: Callable[..., DesignOutcome]) -> Non
         state.consider(outcome.design, StageKind.NO_NEW_TANKS.label, must_pass=True)
 
 
+def _rules_relaxed(run: TankRun) -> None:
+    """With the rules: the model with tanks, rules relaxed (a relaxation: its bound
+    counts), then its tanks fixed and the rules on, options near its design: a first
+    design with the rules (a restricted model: its design counts, its bound not)."""
+    state = run.state
+    data = state.data
+    relaxed = _solve(run, StageKind.TANK_RULES_RELAXED, with_rules=False, share=0.3)
+    if relaxed is None:
+        return
+    form, report = relaxed
+    state.raise_bound(report.bound)
+    used = form.fractions() > 1e-6
+    mask = widened(data, window_mask(data, used, state.width_m), 1)
+    _solve(run, StageKind.TANK_FIXED_NEARBY, with_rules=True, share=0.4, allowed=mask,
+           fixed=set(chosen_nodes(form)))
+
+
 def _full_model(run: TankRun) -> None:
     """The full model with the tanks, warm-started from the best design so far."""
+    solved = _solve(run, StageKind.TANK_MODEL, with_rules=run.state.with_rules, share=0.95)
+    if solved is None:
+        return
+    run.state.full_report = solved[1]
+    run.state.raise_bound(solved[1].bound)
+
+
+def _solve(run: TankRun, kind: StageKind, *, with_rules: bool, share: float,
+           allowed: np.ndarray | None = None, fixed: set[int] | None = None
+           ) -> tuple[Formulation, SolveReport] | None:
+    """Build and solve a model with tanks (``fixed``: the tank binaries fixed to these
+    nodes), offer its design, return the model and its report (None: no solution)."""
     state = run.state
     data = state.data
     begun = time.perf_counter()
-    form = build(data, with_rules=state.with_rules)
-    warm = None
-    if state.best is not None:
-        warm = section_use(data, state.best.design)
-        warm.update({("tank", node, 0): 0.0 for node in form.tank_columns})
-        for tank in state.best.design.tanks:
-            node = int(abs(data.node_chainage_m - tank.chainage_m).argmin())
-            warm["tank", node, 0] = 1.0
-    report = state.run_solver(StageKind.TANK_MODEL, StageKind.TANK_MODEL.label, form, warm,
-                              0.95, time.perf_counter() - begun)
-    state.full_report = report
-    if report.status == Status.INFEASIBLE and state.best is None:
+    form = build(data, allowed=allowed, with_rules=with_rules)
+    if fixed is not None:
+        for node, column in form.tank_columns.items():
+            form.model.lower[column] = form.model.upper[column] = float(node in fixed)
+    report = state.run_solver(kind, kind.label, form, _warm(state, form), share,
+                              time.perf_counter() - begun)
+    if report.status == Status.INFEASIBLE and state.best is None and kind is StageKind.TANK_MODEL:
         run.finished = state.infeasible(diagnose_after(data, rules_relaxed_feasible=True))
-        return
-    if report.has_solution and form.values is not None:
-        design = design_from_fractions(data, form.fractions())
-        tanks = data.tanks
-        assert tanks is not None
-        new = tuple(BreakPressureTank(float(data.node_chainage_m[i]), float(tanks.level_m[i]),
-                                      TRUNK, NEW_TANK_LABEL, True)
-                    for i in chosen_nodes(form))
-        state.consider(Design(design.pieces, new), StageKind.TANK_MODEL.label,
-                       must_pass=True)
-        state.raise_bound(report.bound)
+        return None
+    if not report.has_solution or form.values is None:
+        return None
+    design = design_from_fractions(data, form.fractions())
+    tanks = data.tanks
+    assert tanks is not None
+    new = tuple(BreakPressureTank(float(data.node_chainage_m[i]), float(tanks.level_m[i]),
+                                  TRUNK, NEW_TANK_LABEL, True) for i in chosen_nodes(form))
+    state.consider(Design(design.pieces, new), kind.label,
+                   must_pass=with_rules or not state.with_rules)
+    return form, report
+
+
+def _warm(state: SearchState, form: Formulation) -> WarmStart | None:
+    """The best design so far as a warm start, with its tanks."""
+    if state.best is None:
+        return None
+    data = state.data
+    warm = section_use(data, state.best.design)
+    warm.update({("tank", node, 0): 0.0 for node in form.tank_columns})
+    for tank in state.best.design.tanks:
+        node = int(abs(data.node_chainage_m - tank.chainage_m).argmin())
+        warm["tank", node, 0] = 1.0
+    return warm
