@@ -133,6 +133,8 @@ def report(result: dict, n_sections: int, seed: int, gap: float) -> str:
                        in result["stages"])
     gap_text = "n/a" if result["gap"] is None else f"{result['gap']:.2e}"
     cost = "n/a" if result["cost"] is None else f"{result['cost']:,.0f} USD"
+    bound = f"{result['bound'] or 0:,.0f} USD"
+    where = ", ".join(map(str, result["tanks"]))
     return f"""## Break-pressure tanks chosen with the pipes (bench_tanks.py)
 
 Seeded invented route (seed {seed}): 100 km, {n_sections} sections, falling about 850 m,
@@ -143,7 +145,7 @@ Target gap {gap:g}. One run on a shared 2-core machine (load average
 
 | status | gap | wall time | cost | bound | new tanks at (m) |
 | --- | --- | --- | --- | --- | --- |
-| {result['status']} | {gap_text} | {result['wall_s']:.1f} s | {cost} | {result['bound'] or 0:,.0f} USD | {', '.join(map(str, result['tanks']))} |
+| {result['status']} | {gap_text} | {result['wall_s']:.1f} s | {cost} | {bound} | {where} |
 
 Saving: {saving}.
 
