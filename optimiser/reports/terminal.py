@@ -13,6 +13,7 @@ from rich.table import Table
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.outlet_control import print_outlet_control
+from optimiser.reports.tank_tables import print_tanks
 from optimiser.reports.text import console_title
 
 
@@ -112,6 +113,7 @@ def print_check(console: Console, result: CheckResult) -> None:
                                  worst_static["lowest_chainage_m"]),
                      f"{limit - spare_m:.1f} m", f"{limit:.1f} m", f"{spare_m:+.1f} m")
     console.print(critical)
+    print_tanks(console, result)
     print_outlet_control(console, result)
     print_violations(console, result)
 
