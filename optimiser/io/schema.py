@@ -71,6 +71,7 @@ class ScenarioTable(_Table):
     roughness_mm: float | None = Field(None, ge=0.0)
     roughness_factor: float | None = Field(None, gt=0.0)
     velocity_limits: bool = True
+    hours_per_year: float = Field(0.0, ge=0.0, le=8784.0)
 
 
 class CatalogueTable(_Table):
@@ -117,6 +118,17 @@ class SolverTable(_Table):
     mip_gap: float = Field(1e-4, ge=0.0, lt=1.0)
 
 
+class PumpTable(_Table):
+    """A pump station at the source (contract section 9)."""
+
+    efficiency: float = Field(gt=0.0, le=1.0)
+    energy_price: float = Field(ge=0.0)
+    life_years: float = Field(30.0, gt=0.0)
+    discount_rate: float = Field(0.05, ge=0.0)
+    station_cost_per_kw: float = Field(0.0, ge=0.0)
+    max_head_m: float | None = Field(None, ge=0.0)
+
+
 class StudyFile(_Table):
     title: str = Field(min_length=1)
     currency: str = ""
@@ -132,6 +144,7 @@ class StudyFile(_Table):
     solver: SolverTable = Field(default_factory=SolverTable)
     surge: SurgeTable = Field(default_factory=SurgeTable)
     quantities: QuantitiesTable = Field(default_factory=QuantitiesTable)
+    pump: PumpTable | None = None
 
 
 _ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting"}

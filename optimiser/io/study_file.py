@@ -31,6 +31,7 @@ from optimiser.model import (
     Friction,
     Offtake,
     Outlet,
+    PumpStation,
     QuantityRules,
     Route,
     Scenario,
@@ -85,6 +86,7 @@ def load_study(path: str | Path) -> Study:
         surge=surge_settings(spec),
         hazen_williams_coefficient=spec.catalogue.hazen_williams_coefficient,
         quantities=QuantityRules(**spec.quantities.model_dump()),
+        pump=None if spec.pump is None else PumpStation(**spec.pump.model_dump()),
     )
 
 
@@ -145,7 +147,7 @@ def _scenarios(path: Path, spec: StudyFile, friction: Friction,
             else spec.source.level_m
         scenarios.append(Scenario(item.name, flow, level, item.offtake_factor,
                                   item.roughness_mm, item.roughness_factor,
-                                  item.velocity_limits))
+                                  item.velocity_limits, hours_per_year=item.hours_per_year))
     return scenarios
 
 
