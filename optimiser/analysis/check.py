@@ -26,6 +26,13 @@ from optimiser.analysis.limits import (
     below_velocity_min,
     class_holds,
 )
+from optimiser.analysis.pumping import (
+    StationResult,
+    run_station,
+    station_notes,
+    with_pumping_heads,
+)
+from optimiser.analysis.static_line import static_line_m
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.gradeline import static_head_m
 from optimiser.model import Design, DesignRules, Scenario, Study, SurgeMethod
@@ -81,10 +88,19 @@ class CheckResult:
     total_cost: float
     change_cost_total: float = 0.0
     notes: list[str] = field(default_factory=list)
+    station: StationResult | None = None
+    """The pump station (contract section 9); None without ``[pump]``."""
 
     @property
     def ok(self) -> bool:
         return not self.violations
+
+    @property
+    def life_cycle_cost(self) -> float | None:
+        """total_cost + station cost + energy present value (with a pump), else None."""
+        if self.station is None:
+            return None
+        return self.total_cost + self.station.capital_and_energy
 
 
 def _piece_table(study: Study, design: Design, hydraulics: DesignHydraulics,
@@ -92,7 +108,7 @@ def _piece_table(study: Study, design: Design, hydraulics: DesignHydraulics,
     grid = hydraulics.grid
     zone_factor = np.array([study.costs.factor(z) for z in grid.segment_zone])
     rows = []
-    top_water = study.source.top_water_level_m
+    top_water = static_line_m(study)
     # Largest velocity of each grid segment in any scenario (contract section 10).
     fastest = np.max([arrays.velocity_m_s for arrays in evaluated], axis=0)
     options = [piece.option for piece in design.pieces]
@@ -150,6 +166,7 @@ def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
         if class_holds(demand, row.allowable_surge_head_m, CHECK_TOLERANCE) and \
                 class_holds(row.static_head_m, row.allowable_head_m, CHECK_TOLERANCE):
             continue
+        head = getattr(row, "class_head", "static head")
         if surge_excess >= static_excess:
             what = (f"surge head {row.surge_head_m:.1f} m (wave speed "
                     f"{row.wave_speed_m_s:.0f} m/s, velocity {row.max_velocity_m_s:.2f} m/s)"
@@ -157,14 +174,14 @@ def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
             violations.append(Violation(
                 "max_pressure", None, row.lowest_chainage_m, demand,
                 row.allowable_surge_head_m,
-                text.class_exceeded(name, demand, f"static head {row.static_head_m:.1f} m + "
+                text.class_exceeded(name, demand, f"{head} {row.static_head_m:.1f} m + "
                                     f"{what}", row.allowable_surge_head_m,
                                     row.lowest_chainage_m)))
         else:
             violations.append(Violation(
                 "max_pressure", None, row.lowest_chainage_m, row.static_head_m,
                 row.allowable_head_m,
-                text.class_exceeded(name, row.static_head_m, "static head",
+                text.class_exceeded(name, row.static_head_m, head,
                                     row.allowable_head_m, row.lowest_chainage_m)))
     return violations
 
@@ -216,11 +233,16 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     hydraulics = DesignHydraulics(study, design)
     evaluated = [hydraulics.evaluate(scenario) for scenario in study.scenarios]
     pieces = _piece_table(study, design, hydraulics, evaluated)
-    violations = _class_violations(study, pieces)
     surge_by_piece = pieces["surge_head_m"].to_numpy()
+    scenarios, station = list(study.scenarios), None
+    if study.pump is not None:  # the least station head per scenario (section 9)
+        station, scenarios, evaluated = run_station(hydraulics, evaluated,
+                                                            surge_by_piece)
+        pieces = with_pumping_heads(pieces, hydraulics, evaluated)
+    violations = _class_violations(study, pieces)
 
     results: list[ScenarioResult] = []
-    for scenario, arrays in zip(study.scenarios, evaluated, strict=True):
+    for scenario, arrays in zip(scenarios, evaluated, strict=True):
         points = hydraulics.points(arrays)
         points["surge_head_m"] = surge_by_piece[points["piece"].to_numpy()]
         points["transient_pressure_m"] = points["pressure_m"] - points["surge_head_m"]
@@ -257,4 +279,6 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
         results.append(result)
     change_total = study.costs.change_cost * design.n_changes
     total = float(pieces["cost"].sum()) + change_total
-    return CheckResult(study, design, results, violations, pieces, total, change_total)
+    notes = [] if station is None else station_notes(station, study)
+    return CheckResult(study, design, results, violations, pieces, total, change_total,
+                       notes, station)

@@ -18,6 +18,7 @@ from scipy.optimize import brentq
 from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, node_point_k
 from optimiser.analysis.grid import Grid, design_grid
 from optimiser.analysis.limits import node_min_pressure_m
+from optimiser.analysis.static_line import static_line_m
 from optimiser.hydraulics.gradeline import (
     energy_along_chain,
     hydraulic_grade_m,
@@ -127,7 +128,7 @@ class DesignHydraulics:
         node = at.node
         hgl = hydraulic_grade_m(at.energy_m, at.velocity_m_s)
         pipe = grid.node_pipe_level_m[node]
-        top_water = self.study.source.top_water_level_m
+        top_water = static_line_m(self.study)
         return pd.DataFrame({
             "chainage_m": grid.node_chainage_m[node],
             "side": _SIDE_NAMES[at.side],

@@ -8,6 +8,7 @@ from optimiser import __version__
 from optimiser.analysis.check import CheckResult, ScenarioResult
 from optimiser.model import Friction, Study
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.life_cycle import life_cycle_fields
 from optimiser.reports.outlet_control import outlets
 
 POINT_FIELDS = ["chainage_m", "side", "label", "ground_m", "pipe_level_m", "energy_m",
@@ -83,4 +84,5 @@ def check_dict(result: CheckResult, command: str = "check") -> dict[str, Any]:
         "change_cost_total": result.change_cost_total,
         "assumptions": assumptions(study),
         "cautions": list(CAUTIONS),
+        **life_cycle_fields(result),
     }

@@ -1,0 +1,102 @@
+"""Life-cycle cost of a pumped main (contract section 9): JSON fields, terminal lines,
+a table for the workbook and the HTML report.
+
+Every function returns or prints nothing for a gravity study, so the outputs of a study
+without ``[pump]`` are exactly what they were.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import pandas as pd
+from rich.console import Console
+from rich.table import Table
+
+from optimiser.analysis.check import CheckResult
+
+STATION_CAUTION = (
+    "The station head is the least that meets the limits at the design flows; pump "
+    "selection (duty point, NPSH, number of units, standby), the non-return valve and "
+    "surge protection against a pump trip need a specialist's design.")
+
+
+def life_cycle_fields(result: CheckResult) -> dict[str, Any]:
+    """``pump`` and ``life_cycle_cost`` for the JSON (empty without a pump)."""
+    if result.station is None:
+        return {}
+    return {"pump": result.station.as_dict(), "life_cycle_cost": result.life_cycle_cost}
+
+
+def breakdown(result: CheckResult) -> list[tuple[str, float]]:
+    """(part, amount) of the life-cycle cost: pipes (with changes), station, energy
+    present value and the total (empty without a pump)."""
+    station = result.station
+    if station is None:
+        return []
+    total = result.life_cycle_cost
+    assert total is not None
+    return [("pipes and changes (capital)", result.total_cost),
+            ("pump station (capital)", station.station_cost),
+            ("energy, present value", station.energy_present_value),
+            ("life-cycle cost", total)]
+
+
+def station_table(result: CheckResult) -> pd.DataFrame:
+    """Head, power and energy per scenario (empty without a pump)."""
+    station = result.station
+    if station is None:
+        return pd.DataFrame()
+    study = result.study
+    rows = [{"scenario": s.name, "inflow_m3_s": r.inflow_m3_s,
+             "head_m": station.head_m[s.name], "power_kw": station.power_kw[s.name],
+             "hours_per_year": s.hours_per_year,
+             "energy_kwh_per_year": station.energy_kwh_per_year[s.name],
+             "energy_cost_per_year": station.energy_kwh_per_year[s.name]
+             * (study.pump.energy_price if study.pump else 0.0)}
+            for s, r in zip(study.scenarios, result.scenarios, strict=True)]
+    return pd.DataFrame(rows)
+
+
+def cost_table(result: CheckResult) -> pd.DataFrame:
+    """The breakdown and the economic settings as rows (empty without a pump)."""
+    station = result.station
+    pump = result.study.pump
+    if station is None or pump is None:
+        return pd.DataFrame()
+    rows = [{"item": part, "value": amount} for part, amount in breakdown(result)]
+    rows += [{"item": "installed power kW", "value": station.installed_kw},
+             {"item": "energy cost a year", "value": station.energy_cost_per_year},
+             {"item": "present worth factor", "value": station.present_worth_factor},
+             {"item": "energy price per kWh", "value": pump.energy_price},
+             {"item": "discount rate", "value": pump.discount_rate},
+             {"item": "life years", "value": pump.life_years},
+             {"item": "wire-to-water efficiency", "value": pump.efficiency}]
+    return pd.DataFrame(rows)
+
+
+def print_station(console: Console, result: CheckResult) -> None:
+    """The station per scenario and the life-cycle cost breakdown (nothing without a
+    pump)."""
+    station = result.station
+    if station is None:
+        return
+    currency = result.study.currency
+    table = Table(title="Pump station (least head meeting every limit)",
+                  title_justify="left")
+    for column in ("scenario", "head m", "power kW", "hours a year", "energy kWh a year"):
+        table.add_column(column, justify="left" if column == "scenario" else "right")
+    for row in station_table(result).itertuples():
+        table.add_row(row.scenario, f"{row.head_m:.2f}", f"{row.power_kw:.2f}",
+                      f"{row.hours_per_year:,.0f}", f"{row.energy_kwh_per_year:,.0f}")
+    console.print(table)
+    console.print(f"Installed power {station.installed_kw:,.2f} kW; energy "
+                  f"{station.energy_cost_per_year:,.0f} {currency} a year; present worth "
+                  f"factor {station.present_worth_factor:.4f}".replace("  ", " "),
+                  markup=False, highlight=False)
+    for part, amount in breakdown(result):
+        console.print(f"{part + ':':30s} {amount:>16,.0f} {currency}".rstrip(),
+                      markup=False, highlight=False)
+    for note in result.notes:
+        console.print(f"Note: {note}", markup=False, highlight=False)
+    console.print(STATION_CAUTION, markup=False, highlight=False)
