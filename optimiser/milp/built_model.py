@@ -59,6 +59,9 @@ class Formulation:
     """Row duals of the last solution of a linear programme (HiGHS only), else None."""
     column_duals: np.ndarray | None = None
     """Reduced costs of the last solution of a linear programme (HiGHS only)."""
+    pump_heads: list[int] = field(default_factory=list)
+    """Columns of the station head per scenario (contract section 9; empty without a
+    pump, :mod:`optimiser.milp.pump_columns`)."""
 
     def fractions(self) -> np.ndarray:
         """Solved fractions x[s, j] as an (n, m) array (clipped to [0, 1])."""

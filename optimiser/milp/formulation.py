@@ -121,6 +121,7 @@ from optimiser.milp.columns import add_section_columns
 from optimiser.milp.data import ProblemData
 from optimiser.milp.matrix import LinearModel, Term
 from optimiser.milp.pressure_rows import add_pressure_rows
+from optimiser.milp.pump_columns import add_pump_columns, add_pumping_class_rows
 from optimiser.milp.rule_rows import add_rule_rows
 
 __all__ = ["LENGTH_MARGIN_M", "MARGIN_M", "Formulation", "WarmStart", "build",
@@ -157,7 +158,9 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
     form = Formulation(LinearModel(), data, mask, with_rules, relaxed, any_order,
                        least_piece_m)
     columns = add_section_columns(form, tiebreak)
+    add_pump_columns(form)  # nothing without a pump
     add_pressure_rows(form, columns)
+    add_pumping_class_rows(form)
     change_terms: list[Term] = add_rule_rows(form, columns) if with_rules else []
     # changes = uses - continuations - 1: the constant stays outside the solver's
     # objective and is added back on reading.

@@ -28,7 +28,9 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
         need_end[s] = (not data.screened_up[s + 1] or not data.screened_down[s + 1]
                        or columns.need_interior[s + 1] or k_node[s + 1] > 0)
     for k in range(data.n_scenarios):
-        running = Affine([], float(data.source_level_m[k]))
+        # With a pump the energy starts at the source level + the station head.
+        pump = [(form.pump_heads[k], 1.0)] if form.pump_heads else []
+        running = Affine(pump, float(data.source_level_m[k]))
         for s in range(n):
             running = _section_rows(form, columns, k, s, running, bool(need_end[s]))
         _outlet_rows(form, columns, k, running)

@@ -21,6 +21,26 @@ STATION_CAUTION = (
     "surge protection against a pump trip need a specialist's design.")
 
 
+PUMP_STATEMENT = (
+    "With the pump: pipes and the station head of every scenario are chosen together "
+    "for the least life-cycle cost (pipes and changes + station cost per kW installed + "
+    "present worth of the energy), in one linear programme after Alperovits & Shamir "
+    "(1977). Lower bound, LP bound and gap are of the life-cycle cost. Pressure classes "
+    "under pumping are held conservatively in the model (the energy at the start of a "
+    "section with its lowest pipe level, no velocity head deducted); the check judges "
+    "them exactly.")
+
+
+def print_design_station(console: Console, result: CheckResult) -> None:
+    """The station and the life-cycle cost under the design's totals (nothing without
+    a pump)."""
+    if result.station is None:
+        return
+    print_station(console, result)
+    console.print("Lower bound, LP bound and gap above are of the life-cycle cost.",
+                  markup=False, highlight=False)
+
+
 def life_cycle_fields(result: CheckResult) -> dict[str, Any]:
     """``pump`` and ``life_cycle_cost`` for the JSON (empty without a pump)."""
     if result.station is None:
