@@ -120,3 +120,47 @@ def print_station(console: Console, result: CheckResult) -> None:
     for note in result.notes:
         console.print(f"Note: {note}", markup=False, highlight=False)
     console.print(STATION_CAUTION, markup=False, highlight=False)
+
+
+def sheet_specs(result: CheckResult
+                ) -> list[tuple[str, list[tuple[str, str, float]], list[tuple]]]:
+    """Workbook sheets of the station: (title, columns as (header, number kind, width),
+    rows); none without a pump."""
+    if result.station is None:
+        return []
+    currency = result.study.currency or "currency"
+    per_scenario = station_table(result)
+    return [
+        ("Life-cycle cost", [("item", "text", 34), (f"value ({currency}, or as named)",
+                                                     "head", 20)],
+         [(row.item, row.value) for row in cost_table(result).itertuples()]),
+        ("Pump station", [("scenario", "text", 18), ("inflow (L/s)", "flow", 11),
+                          ("head (m)", "head", 10), ("power (kW)", "head", 11),
+                          ("hours a year", "length", 12), ("energy (kWh a year)", "money", 16),
+                          (f"energy cost a year ({currency})", "money", 18)],
+         [(r.scenario, r.inflow_m3_s * 1000, r.head_m, r.power_kw, r.hours_per_year,
+           r.energy_kwh_per_year, r.energy_cost_per_year) for r in per_scenario.itertuples()]),
+    ]
+
+
+def html_section(result: CheckResult) -> dict[str, Any] | None:
+    """The report's station section: breakdown rows and the per-scenario grid (None
+    without a pump)."""
+    if result.station is None:
+        return None
+    currency = result.study.currency
+    per_scenario = station_table(result)
+    return {
+        "breakdown": [(part, f"{amount:,.0f} {currency}".strip())
+                      for part, amount in breakdown(result)],
+        "columns": ("scenario", "head (m)", "power (kW)", "hours a year",
+                    "energy (kWh a year)"),
+        "rows": [(r.scenario, f"{r.head_m:.2f}", f"{r.power_kw:.2f}",
+                  f"{r.hours_per_year:,.0f}", f"{r.energy_kwh_per_year:,.0f}")
+                 for r in per_scenario.itertuples()],
+        "note": (f"Installed power {result.station.installed_kw:,.2f} kW; energy "
+                 f"{result.station.energy_cost_per_year:,.0f} {currency} a year; present "
+                 f"worth factor {result.station.present_worth_factor:.4f}. "
+                 "With a design run, the bound and the gap are of the life-cycle cost. "
+                 + STATION_CAUTION),
+    }
