@@ -37,6 +37,7 @@ from optimiser.milp.matrix import Affine
 from optimiser.model import SurgeMethod
 
 __all__ = ["PumpCosts", "add_pump_columns", "add_pumping_class_rows", "head_bounds_m",
+           "head_caps_m",
            "pump_costs", "working_limits_m"]
 
 
@@ -85,7 +86,29 @@ def head_bounds_m(form: Formulation) -> np.ndarray:
     bound = limit + data.node_pipe_level_m[0] - data.source_level_m + entrance + 1.0
     if study.pump.max_head_m is not None:
         bound = np.minimum(bound, study.pump.max_head_m)
+    if form.pump_head_cap_m is not None:
+        bound = np.minimum(bound, form.pump_head_cap_m)
     return np.maximum(bound, 0.0)
+
+
+def head_caps_m(data, incumbent_cost: float) -> np.ndarray:
+    """(K,) the most head each scenario can use in a design of life-cycle cost at most
+    ``incumbent_cost``: its energy present value plus its share of the station cost
+    (installed power >= its power) cannot exceed the incumbent's cost less the cheapest
+    pipes and the least energy of the other scenarios (each needs at least the head
+    that the largest pipes everywhere leave short at the outlet). Infinite where a
+    scenario's head costs nothing."""
+    costs = pump_costs(data.study)
+    least_loss = np.where(data.admissible[None], data.section_loss_m, np.inf).min(axis=2)
+    least_head = np.maximum(0.0, data.study.outlet.required_head_m - data.source_level_m
+                            + least_loss.sum(axis=1))
+    pipes = float(np.where(data.admissible, data.section_cost, np.inf).min(axis=1).sum())
+    energy = costs.energy_value_per_m * least_head
+    per_m = costs.energy_value_per_m + costs.station_cost_per_kw * costs.kw_per_m
+    spare = incumbent_cost - pipes - (energy.sum() - energy)
+    with np.errstate(divide="ignore"):
+        caps = np.where(per_m > 0, spare / np.where(per_m > 0, per_m, 1.0), np.inf)
+    return np.maximum(caps * (1.0 + 1e-9) + 1e-6, least_head)
 
 
 def add_pump_columns(form: Formulation) -> None:
@@ -141,23 +164,30 @@ def add_pumping_class_rows(form: Formulation) -> None:
 
 def _section_class_rows(form: Formulation, s: int, energy: list[Affine],
                         limits: np.ndarray, lowest_m: float, w_top: float) -> None:
-    """``w >= energy[k]`` for every scenario and the big-M class row of every option of
-    section s whose limit ``w`` could exceed."""
+    """``w >= energy[k]`` for every scenario; for every working limit L of the options of
+    section s that ``w`` could exceed, an indicator d (binary unless relaxed) with
+    ``w - lowest level <= L + M d`` and the options of limit <= L laid on at most
+    ``1 - d`` of the section; above the largest limit, ``w`` may not go."""
     model = form.model
+    options = [j for j in range(form.data.n_options) if (s, j) in form.x]
+    levels = sorted({float(limits[j]) for j in options})
     w = model.add_column(-np.inf, np.inf)
     for expr in energy:
         model.at_least(Affine([(w, 1.0)]) - expr, 0.0)
-    for j in range(form.data.n_options):
-        if (s, j) not in form.x:
-            continue
-        allowed = float(limits[j]) + lowest_m - MARGIN_M
-        if allowed >= w_top:
-            continue
-        use = form.y.get((s, j))
-        if use is None:
-            use = model.add_column(0.0, 1.0, integer=not form.relaxed)
-            form.y[s, j] = use
-            model.add_row([(form.x[s, j], 1.0), (use, -1.0)], upper=0.0)
-        big_m = w_top - allowed
-        # w <= allowed + M (1 - y)
-        model.at_most(Affine([(w, 1.0), (use, big_m)]), allowed + big_m)
+    top = w_top - lowest_m
+    if levels[-1] - MARGIN_M < top:  # no option takes more
+        model.at_most(Affine([(w, 1.0)]), levels[-1] + lowest_m - MARGIN_M)
+    previous = None
+    for level in levels[:-1]:
+        allowed = level - MARGIN_M
+        if allowed >= top:
+            break
+        over = model.add_column(0.0, 1.0, integer=not form.relaxed)
+        form.pump_indicators.append(over)
+        # w - lowest <= allowed + (top - allowed) d
+        model.at_most(Affine([(w, 1.0), (over, -(top - allowed))]), allowed + lowest_m)
+        weak = [(form.x[s, j], 1.0) for j in options if limits[j] <= level]
+        model.at_most(Affine([*weak, (over, 1.0)]), 1.0)
+        if previous is not None:  # a higher limit exceeded only if the lower one is
+            model.add_row([(previous, 1.0), (over, -1.0)], lower=0.0)
+        previous = over

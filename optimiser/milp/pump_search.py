@@ -42,6 +42,7 @@ from optimiser.milp.outcome import (
     VerificationError,
     binding_points,
 )
+from optimiser.milp.pump_columns import head_caps_m
 from optimiser.milp.repair import repair
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Candidate, Clock, SearchState, Settings
@@ -115,7 +116,8 @@ def _first_design(state: SearchState, design: Design) -> None:
 def _full_model(state: SearchState) -> None:
     """The full mixed-integer programme, warm-started from the best design."""
     begun = time.perf_counter()
-    form = build(state.data, with_rules=state.with_rules)
+    caps = None if state.best is None else head_caps_m(state.data, state.best.cost)
+    form = build(state.data, with_rules=state.with_rules, pump_head_cap_m=caps)
     warm = section_use(state.data, state.best.design) if state.best is not None else None
     report = state.run_solver(StageKind.FULL_MODEL, "MILP, full model (pipes and station "
                               "heads)", form, warm, 1.0, time.perf_counter() - begun)
