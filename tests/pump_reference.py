@@ -51,7 +51,7 @@ class RandomMain:
 
 
 def random_main(seed: int, *, sections: int | None = None, classes: bool = False,
-                rules: bool = False) -> tuple[RandomMain, dict]:
+                rules: bool = False, mip_gap: float = 1e-6) -> tuple[RandomMain, dict]:
     """A random rising main and its study as a dict (invented data)."""
     rng = np.random.default_rng(seed)
     n = int(sections if sections is not None else rng.integers(4, 14))
@@ -102,7 +102,7 @@ def random_main(seed: int, *, sections: int | None = None, classes: bool = False
         "scenario": scenarios,
         "catalogue": {"file": "catalogue.csv", "friction": "hazen-williams"},
         "pump": pump,
-        "solver": {"mip_gap": 1e-6, "time_limit_s": 60.0},
+        "solver": {"mip_gap": mip_gap, "time_limit_s": 60.0},
     }
     if rules:
         study["rules"] = {"min_piece_length_m": float(round(rng.uniform(50, 400))),
@@ -134,10 +134,10 @@ def write_main(folder: Path, seed: int, **options) -> tuple[RandomMain, Path]:
 
 
 def water_density_kg_m3(temperature_c: float) -> float:
-    """IAPWS-95 density at 1 atm (the ``iapws`` package)."""
-    from iapws import IAPWS95
+    """Kell (1975) density at the temperature (the check's source of rho)."""
+    from optimiser.hydraulics.water import density_kg_m3
 
-    return float(IAPWS95(T=temperature_c + 273.15, P=0.101325).rho)
+    return float(density_kg_m3(temperature_c))
 
 
 def _flow_m3_s(text: str) -> float:

@@ -29,7 +29,7 @@ import time
 
 import numpy as np
 
-from optimiser.analysis import check_design
+from optimiser.analysis import CheckResult, check_design
 from optimiser.analysis.static_line import static_line_m
 from optimiser.milp.class_limits import split_at_class_limits
 from optimiser.milp.data import prepare
@@ -104,13 +104,43 @@ def _consider(state: SearchState, design: Design, source: str, must_pass: bool) 
 
 
 def _first_design(state: SearchState, design: Design) -> None:
-    """The LP's design (repaired to the rules' piece structure when there are rules)."""
+    """The LP's design (repaired to the rules' piece structure when there are rules),
+    with the class of every piece the pumping pressure breaks raised within its size."""
     if state.with_rules:
         repaired = repair(state.data, design)
         if repaired is None:
             return
         design = repaired
-    _consider(state, design, "LP relaxation", must_pass=False)
+    for _ in range(4):
+        result = check_design(state.study, design, capacity=False)
+        if result.ok:
+            break
+        raised = _raise_classes(state.study, design, result)
+        if raised is None:
+            return
+        design = raised
+    _consider(state, design, "LP relaxation, classes raised", must_pass=False)
+
+
+def _raise_classes(study: Study, design: Design, result: CheckResult) -> Design | None:
+    """Every piece with a class violation in the next class of its material and size
+    (None if one has no higher class)."""
+    failing = {v.chainage_m for v in result.violations if v.kind == "max_pressure"}
+    if not failing:
+        return None  # something else fails: not a matter of classes
+    pieces = []
+    for index, piece in enumerate(design.pieces):
+        row = result.pieces.iloc[index]
+        option = piece.option
+        if row["lowest_chainage_m"] in failing:
+            higher = [o for o in study.catalogue if o.material == option.material
+                      and o.dn_mm == option.dn_mm
+                      and o.allowable_head_m > option.allowable_head_m]
+            if not higher:
+                return None
+            option = min(higher, key=lambda o: o.allowable_head_m)
+        pieces.append(dataclasses.replace(piece, option=option))
+    return Design(tuple(pieces))
 
 
 def _full_model(state: SearchState) -> None:
