@@ -19,6 +19,7 @@ import pandas as pd
 from optimiser.analysis.flows import friction_gradient, line_flows_m3_s, node_point_k
 from optimiser.analysis.grid import Grid, build_grid
 from optimiser.analysis.limits import node_min_pressure_m
+from optimiser.analysis.static_line import static_line_m
 from optimiser.analysis.tanks import (
     energy_with_tanks,
     inflow_energy_m,
@@ -100,8 +101,7 @@ class DesignHydraulics:
         nodes += [t.chainage_m for t in tanks]
         self.grid: Grid = build_grid(self.line.route.with_nodes(nodes), own.boundaries_m)
         self.tanks = tank_nodes(tanks, self.grid.node_chainage_m)
-        top = study.source.top_water_level_m if start_static_level_m is None \
-            else start_static_level_m
+        top = static_line_m(study) if start_static_level_m is None else start_static_level_m
         self.static_level_m = static_levels_m(top, len(self.grid.segment_length_m),
                                               self.tanks)
         options = [own.pieces[p].option for p in self.grid.segment_piece]
@@ -193,9 +193,7 @@ class DesignHydraulics:
         node = at.node
         hgl = hydraulic_grade_m(at.energy_m, at.velocity_m_s)
         pipe = grid.node_pipe_level_m[node]
-        top_water = self.study.source.top_water_level_m
-        if self.tanks.any:  # the static line restarts at every tank
-            top_water = self.static_level_m[at.segment]
+        top_water = self.static_level_m[at.segment]
         return pd.DataFrame({
             "chainage_m": grid.node_chainage_m[node],
             "side": _SIDE_NAMES[at.side],

@@ -23,7 +23,12 @@ def parse_level_m(option: str, text: str) -> float:
 
 
 def parse_sweep_value(option: str, variable: str, text: str) -> float:
-    """``--from``/``--to`` in SI units: a flow with its unit for ``flow``, else metres."""
+    """``--from``/``--to`` in SI units: a flow with its unit for ``flow``, a plain number
+    for a pump variable, else metres."""
+    from optimiser.sweeps.pump_variants import PUMP_VARIABLES, parse_pump_value
+
+    if variable in PUMP_VARIABLES:
+        return parse_pump_value(option, variable, text)
     if variable == "flow":
         from optimiser.io.units import parse_flow_m3_s
 

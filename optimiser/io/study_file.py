@@ -40,6 +40,7 @@ from optimiser.model import (
     Friction,
     Offtake,
     Outlet,
+    PumpStation,
     QuantityRules,
     Route,
     Scenario,
@@ -86,6 +87,10 @@ def load_study(path: str | Path) -> Study:
         Offtake(c, 0.0, label="a junction") for c in junctions], problems)
     rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
                                 problems)
+    if spec.pump is not None and (branches or tanks or rules_of_tanks.cost is not None):
+        problems.add(f"{path}: [pump] with branches or break-pressure tanks is not available "
+                     "in this version: design the rising main as a study of its own (its "
+                     "outlet the tank) and the gravity part as another (docs/user-guide.md)")
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
                              [f.chainage_m for f in fittings] + junctions +
@@ -114,6 +119,7 @@ def load_study(path: str | Path) -> Study:
         hazen_williams_coefficient=spec.catalogue.hazen_williams_coefficient,
         quantities=QuantityRules(**spec.quantities.model_dump()),
         branches=branches, tanks=tanks, tank_rules=rules_of_tanks,
+        pump=None if spec.pump is None else PumpStation(**spec.pump.model_dump()),
     )
 
 
@@ -185,7 +191,7 @@ def _scenarios(path: Path, spec: StudyFile, friction: Friction,
             else spec.source.level_m
         scenarios.append(Scenario(item.name, flow, level, item.offtake_factor,
                                   item.roughness_mm, item.roughness_factor,
-                                  item.velocity_limits))
+                                  item.velocity_limits, hours_per_year=item.hours_per_year))
     return scenarios
 
 

@@ -12,6 +12,7 @@ from rich.table import Table
 
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.life_cycle import print_station
 from optimiser.reports.outlet_control import print_outlet_control
 from optimiser.reports.tank_tables import print_tanks
 from optimiser.reports.text import console_title
@@ -75,6 +76,7 @@ def print_check(console: Console, result: CheckResult) -> None:
     if result.change_cost_total:
         cost += f" (including {result.change_cost_total:,.0f} for changes of pipe)"
     console.print(cost, markup=False, highlight=False)
+    print_station(console, result)
     summary = Table(title="Scenarios", title_justify="left")
     for column in ("scenario", "inflow", "outlet energy m", "required m", "margin m",
                    "capacity (all limits)", "capacity (outlet only)"):

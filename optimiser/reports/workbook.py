@@ -21,6 +21,7 @@ from optimiser.model import Study
 from optimiser.reports.bill import BillLine, bill_of_quantities
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.inputs import input_tables
+from optimiser.reports.life_cycle import sheet_specs
 from optimiser.reports.numbers import EXCEL_FORMATS
 from optimiser.reports.run_summary import RunSummary
 
@@ -155,6 +156,8 @@ def design_workbook(result: CheckResult, appurtenances: list[Appurtenance],
     bill_sheet(book, "Bill of quantities", bill_of_quantities(result, appurtenances),
                result.study.currency, taken, result.total_cost)
     _scenario_sheet(book, result, taken)
+    for title, columns, rows in sheet_specs(result):  # a pumped main's station (none else)
+        add_sheet(book, title, [Column(*spec) for spec in columns], rows, taken)
     add_sheet(book, "Air valves and washouts",
               [Column("kind", "text", 10), Column("chainage (m)", "length", 12),
                Column("pipe level (m)", "head", 12), Column("ground (m)", "head", 11),

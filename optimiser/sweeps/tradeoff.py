@@ -21,6 +21,7 @@ from rich.console import Console
 
 from optimiser.milp import DesignOutcome, SolverError, VerificationError, optimise_design
 from optimiser.model import Status, Study
+from optimiser.sweeps.pump_variants import LIFE_CYCLE_COLUMNS, life_cycle_row
 from optimiser.sweeps.runner import run_all
 from optimiser.sweeps.variants import VARIABLES, study_value, vary, with_roughness
 
@@ -46,6 +47,11 @@ class SolveTask:
     time_limit_s: float | None = None
     mip_gap: float | None = None
     keep_outcome: bool = False
+
+
+def table_columns(study: Study) -> list[str]:
+    """:data:`COLUMNS`, and the life-cycle columns for a pumped study."""
+    return COLUMNS + LIFE_CYCLE_COLUMNS if study.pump is not None else COLUMNS
 
 
 def variant(study: Study, variable: str, value: float) -> Study:
@@ -108,7 +114,8 @@ def outcome_row(value: float, outcome: DesignOutcome) -> dict[str, Any]:
             "lower_bound": outcome.lower_bound, "gap": outcome.gap,
             "lp_bound": outcome.lp_bound, "n_pieces": n_pieces, "pieces": summary,
             **binding_point(outcome), "verified": bool(outcome.verified), "note": note,
-            "target_gap": outcome.mip_gap, "time_limit_s": outcome.time_limit_s}
+            "target_gap": outcome.mip_gap, "time_limit_s": outcome.time_limit_s,
+            **life_cycle_row(outcome.check)}
 
 
 def time_limit_note(time_limit_s: float, gap: float | None, target_gap: float) -> str:
@@ -173,7 +180,7 @@ def sweep(study: Study, variable: str, values: Sequence[float], *, workers: int 
                        time_limit_s=time_limit_s, mip_gap=mip_gap)
     rows = run_all(solve_task, tasks, workers=workers, dask_address=dask_address,
                    console=console, label=label or f"re-optimising over {variable}")
-    return pd.DataFrame(rows, columns=COLUMNS)
+    return pd.DataFrame(rows, columns=table_columns(study))
 
 
 def tradeoff(study: Study, variable: str, values: Sequence[float], *, workers: int = 1,
@@ -241,6 +248,6 @@ def tradeoff_with_study_point(study: Study, variable: str, values: Sequence[floa
         tasks.append(SolveTask(study, own, solver_name))
     rows = run_all(solve_task, tasks, workers=workers, dask_address=dask_address,
                    console=console, label=f"trade-off over {variable}")
-    table = pd.DataFrame(rows[:len(steps)], columns=COLUMNS)
+    table = pd.DataFrame(rows[:len(steps)], columns=table_columns(study))
     own_row = rows[matches[0]] if reuse else rows[-1]
     return TradeoffResult(variable, table, own, own_row)

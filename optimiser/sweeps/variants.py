@@ -7,8 +7,9 @@ import dataclasses
 import numpy as np
 
 from optimiser.model import Scenario, Study
+from optimiser.sweeps.pump_variants import PUMP_VARIABLES, pump_value, vary_pump
 
-VARIABLES = ("source-level", "required-head", "flow")
+VARIABLES = ("source-level", "required-head", "flow", *PUMP_VARIABLES)
 
 
 def with_source_level(study: Study, level_m: float) -> Study:
@@ -84,6 +85,8 @@ def vary(study: Study, variable: str, value: float) -> Study:
         return with_required_head(study, value)
     if variable == "flow":
         return with_outlet_flow(study, value)
+    if variable in PUMP_VARIABLES:
+        return vary_pump(study, variable, value)
     raise ValueError(f"cannot vary {variable!r}; choose one of {', '.join(VARIABLES)}")
 
 
@@ -95,4 +98,6 @@ def study_value(study: Study, variable: str) -> float:
         return study.outlet.required_head_m
     if variable == "flow":
         return study.scenarios[0].outlet_flow_m3_s
+    if variable in PUMP_VARIABLES:
+        return pump_value(study, variable)
     raise ValueError(variable)
