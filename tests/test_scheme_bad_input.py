@@ -144,6 +144,11 @@ NETWORK_CASES: dict[str, Bad] = {
                                           "length_m": 10.0}],
                           file="links.csv", where=[f"line {len(LINKS) + 2}"],
                           words=["itself"], network=True),
+    "two-links-leave-the-source": Bad(
+        links=[*LINKS, {"from": "intake", "to": "hut", "length_m": 30.0}],
+        nodes=[*NODES, {"name": "hut", "ground_m": 195.0, "demand": "1 L/s"}],
+        file="links.csv", where=[f"lines 2, {len(LINKS) + 2}"],
+        words=["2 links leave the source"], network=True),
     "duplicate-node": Bad(nodes=[*NODES, {"name": "school", "ground_m": 1.0}],
                           file="nodes.csv", where=[f"line {len(NODES) + 2}", "line 12"],
                           words=["already given"], network=True),
