@@ -81,8 +81,10 @@ CSV_COLUMNS: dict[str, Limit] = {
     "dn_mm": DIAMETER, "internal_diameter_mm": DIAMETER,
     "allowable_head_m": HEAD_RATING, "roughness_mm": ROUGHNESS,
     "hazen_williams_c": C_VALUE, "cost_per_m": COST,
+    # the compact form's nodes and links (io/network_file.py)
+    "min_pressure_m": PRESSURE, "required_head_m": LEVEL, "length_m": CHAINAGE,
 }
-"""CSV columns by name (profile, catalogue, design)."""
+"""CSV columns by name (profile, catalogue, design, nodes and links)."""
 
 
 def study_key_limit(location: tuple[Any, ...]) -> Limit | None:

@@ -75,7 +75,7 @@ def load_study(path: str | Path) -> Study:
         offtakes = list(network.offtakes)
     drafts = network.drafts if network is not None else branch_drafts(path, spec, problems)
     fittings = tuple(Fitting(f.chainage_m, f.k, f.label) for f in spec.route.fitting)
-    _placement_problems(path, spec, route, offtakes, fittings, problems,
+    _placement_problems(path, spec, route, fittings, problems,
                         {zone for draft in drafts for zone in draft.route.zones})
     chosen = _chosen_catalogue(path, spec, catalogue, problems)
     branches, junctions = resolve_branches(drafts, route, _trunk_label(spec), problems)
@@ -224,16 +224,16 @@ def _route_and_catalogue(path: Path, spec: StudyFile, friction: Friction, proble
     return route, catalogue, network
 
 
-def _placement_problems(path: Path, spec: StudyFile, route: Route, offtakes: list[Offtake],
+def _placement_problems(path: Path, spec: StudyFile, route: Route,
                         fittings: tuple[Fitting, ...], problems: ProblemList,
                         branch_zones: set[str]) -> None:
     """Offtakes and fittings on the route; zone factors naming zones of the profile (or of
     a branch's)."""
     end = route.total_chainage_m
     profile = _trunk_label(spec)
-    for index, offtake in enumerate(offtakes, start=1):
-        if not 0.0 <= offtake.chainage_m <= end:
-            problems.add(f"{path}: [[offtake]] #{index} chainage_m {offtake.chainage_m:g} "
+    for index, item in enumerate(spec.offtake, start=1):  # numbered as in the file
+        if item.branch == TRUNK and not 0.0 <= item.chainage_m <= end:
+            problems.add(f"{path}: [[offtake]] #{index} chainage_m {item.chainage_m:g} "
                          f"is outside the route (0 to {end:g} m in {profile})")
     for index, fitting in enumerate(fittings, start=1):
         if not 0.0 <= fitting.chainage_m <= end:
