@@ -74,3 +74,25 @@ def test_terminal_lists_every_delivery_point_and_names_the_branch(tmp_path):
     assert len(delivery) >= 2
     assert "peak, branch 'north': energy at the outlet" in text
     assert "NOT OK" in text
+
+
+def test_sensitivity_refuses_a_scheme_with_a_clear_message(tmp_path, monkeypatch, runner):
+    """Its fast linear check covers one route: on a scheme it says so (exit 2, usage)
+    rather than give figures for the trunk alone."""
+    import typer
+
+    import optimiser.io
+    from optimiser.cli.sweeps import sensitivity
+    study, _ = two_branch_scheme(tmp_path)
+    monkeypatch.setattr(optimiser.io, "load_study", lambda path: study)
+    app = typer.Typer()
+    app.command()(sensitivity)
+    app.command()(lambda: None)  # two commands, so the name is given as with the tool
+    folder = tmp_path / "study"
+    result = runner.invoke(app, ["sensitivity", str(folder / "study.toml"),
+                                 "--roughness-from", "0.01", "--roughness-to", "0.1",
+                                 "--out", str(tmp_path / "out")])
+    assert result.exit_code == 2, result.output
+    assert "Traceback" not in result.output
+    assert "does not handle branched schemes" in " ".join(result.output.split())
+    assert not (tmp_path / "out").exists()
