@@ -97,14 +97,15 @@ def line_flows_m3_s(study: Study, scenario: Scenario, line: str | Line,
     carried = ends[None, :] > flat[:, None] + _OFFTAKE_TOLERANCE_M
     flows = carried_flow_m3_s(delivery, scenario.offtake_factor, carried,
                               np.array([o.flow_m3_s for o in line.offtakes], dtype=float))
-    known = inflows_m3_s or {}
-    for child in study.branches:  # the children of this line, in the study's order
-        if child.parent != line.name:
-            continue
-        below = child.at_chainage_m > flat + _OFFTAKE_TOLERANCE_M
-        inflow = known[child.name] if child.name in known else \
-            branch_inflow_m3_s(study, scenario, branch_line(child))
-        flows = flows + np.where(below, inflow, 0.0)
+    children = [child for child in study.branches if child.parent == line.name]
+    if children:
+        known = inflows_m3_s or {}
+        inflow = np.array([known[c.name] if c.name in known else
+                           branch_inflow_m3_s(study, scenario, branch_line(c))
+                           for c in children])
+        junction = np.array([c.at_chainage_m for c in children])
+        below = junction[None, :] > flat[:, None] + _OFFTAKE_TOLERANCE_M
+        flows = flows + below.astype(float) @ inflow
     return flows.reshape(start.shape)
 
 

@@ -166,8 +166,12 @@ class SchemeHydraulics:
         ``outlet_only``, every outlet head and pressure minimum of the tree), by Brent's
         method on a margin that falls monotonically with that flow. None if even zero
         delivery fails; every other flow stays at the scenario's."""
+        seen: dict[float, float] = {}  # Brent's method asks again for its bracket's ends
+
         def margin(q: float) -> float:
-            return self.least_margin_m(scenario, name, q, outlet_only)
+            if q not in seen:
+                seen[q] = self.least_margin_m(scenario, name, q, outlet_only)
+            return seen[q]
         at_zero = margin(0.0)
         if at_zero < 0.0:
             return None
