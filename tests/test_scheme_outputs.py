@@ -96,3 +96,21 @@ def test_sensitivity_refuses_a_scheme_with_a_clear_message(tmp_path, monkeypatch
     assert "Traceback" not in result.output
     assert "does not handle branched schemes" in " ".join(result.output.split())
     assert not (tmp_path / "out").exists()
+
+
+def test_limiting_point_of_a_design_names_its_branch(tmp_path):
+    """The least pressure margin of a scheme may lie on a branch: a hump on 'north'
+    whose pipe rises to within 2 m of the energy line (the trunk's least is 1.98 m)."""
+    import dataclasses
+
+    from scheme_builders import route_of
+
+    from optimiser.milp.outcome import binding_points
+    study, design = two_branch_scheme(tmp_path)
+    hump = dataclasses.replace(study.branches[0], route=route_of(
+        [(0.0, 190.0), (300.0, 199.2), (800.0, 180.0)]))
+    study = dataclasses.replace(study, branches=(hump, study.branches[1]))
+    result = check_design(study, design, capacity=False)
+    (point,) = binding_points(result)
+    assert point.branch == "north" and point.chainage_m == 300.0
+    assert point.outlet_margin_m == result.scenarios[0].outlets[0].margin_m
