@@ -11,6 +11,7 @@ structures.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -114,14 +115,17 @@ class DesignHydraulics:
                                                        self.line)
 
     def evaluate(self, scenario: Scenario, outlet_flow_m3_s: float | None = None,
-                 start_energy_m: float | None = None) -> ScenarioArrays:
+                 start_energy_m: float | None = None,
+                 inflows_m3_s: Mapping[str, float] | None = None) -> ScenarioArrays:
         """Flows, velocities and the energy line of the line in ``scenario``.
 
         ``outlet_flow_m3_s`` replaces the line's delivery flow; ``start_energy_m`` is the
         energy arriving at its start (the source level for the trunk; for a branch the
-        parent's energy arriving at the junction), before ``start_k`` x V^2/2g."""
+        parent's energy arriving at the junction), before ``start_k`` x V^2/2g;
+        ``inflows_m3_s`` the inflows of branches below, where known."""
         study, line = self.study, self.line
-        flow = line_flows_m3_s(study, scenario, line, self.grid.start_m, outlet_flow_m3_s)
+        flow = line_flows_m3_s(study, scenario, line, self.grid.start_m, outlet_flow_m3_s,
+                               inflows_m3_s)
         velocity = velocity_m_s(flow, self.diameter_m)
         gradient = friction_gradient(study, scenario, flow, self.diameter_m,
                                      self.roughness_mm, self.hazen_williams_c)

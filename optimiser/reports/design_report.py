@@ -217,7 +217,10 @@ def _binding_table(outcome: DesignOutcome) -> Table:
                    "outlet margin m"):
         binding.add_column(column, justify="left" if column in ("scenario", "label") else "right")
     for point in outcome.binding:
-        binding.add_row(point.scenario, chainage_label(point.chainage_m), point.label,
+        where = chainage_label(point.chainage_m)
+        if outcome.check is not None and outcome.check.study.is_scheme:
+            where = f"{point.branch} {where}"
+        binding.add_row(point.scenario, where, point.label,
                         f"{point.pressure_m:.2f}", f"{point.min_pressure_m:.2f}",
                         f"{point.margin_m:+.3f}", f"{point.outlet_margin_m:+.3f}")
     return binding
