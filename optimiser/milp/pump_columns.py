@@ -164,30 +164,37 @@ def add_pumping_class_rows(form: Formulation) -> None:
 
 def _section_class_rows(form: Formulation, s: int, energy: list[Affine],
                         limits: np.ndarray, lowest_m: float, w_top: float) -> None:
-    """``w >= energy[k]`` for every scenario; for every working limit L of the options of
-    section s that ``w`` could exceed, an indicator d (binary unless relaxed) with
-    ``w - lowest level <= L + M d`` and the options of limit <= L laid on at most
-    ``1 - d`` of the section; above the largest limit, ``w`` may not go."""
+    """``w >= energy[k]`` for every scenario, and the incremental (staircase) form of
+    the classes: with the working limits L1 < L2 < ... of the options of section s
+    that ``w`` could exceed and indicators d1 >= d2 >= ... (binary unless relaxed),
+    ``w - lowest level <= L1 + (L2 - L1) d1 + (L3 - L2) d2 + ...`` (the last step up to
+    the most ``w`` can be), and the options of limit <= Lt laid on at most ``1 - dt``
+    of the section. The convex hull of the choice of a class level for one section,
+    tighter than a big-M row per level."""
     model = form.model
     options = [j for j in range(form.data.n_options) if (s, j) in form.x]
-    levels = sorted({float(limits[j]) for j in options})
+    top = w_top - lowest_m
+    levels = sorted({float(limits[j]) - MARGIN_M for j in options})
+    below = [level for level in levels if level < top]
     w = model.add_column(-np.inf, np.inf)
     for expr in energy:
         model.at_least(Affine([(w, 1.0)]) - expr, 0.0)
-    top = w_top - lowest_m
-    if levels[-1] - MARGIN_M < top:  # no option takes more
-        model.at_most(Affine([(w, 1.0)]), levels[-1] + lowest_m - MARGIN_M)
+    ceiling = min(levels[-1], top)  # no option takes more than the largest limit
+    steps = [*below[1:], ceiling] if below and below[-1] < ceiling else below[1:]
+    if not below:
+        return
+    terms: list[tuple[int, float]] = [(w, 1.0)]
     previous = None
-    for level in levels[:-1]:
-        allowed = level - MARGIN_M
-        if allowed >= top:
+    for level, upper in zip(below, [*steps, ceiling][:len(below)], strict=True):
+        if upper <= level:
             break
         over = model.add_column(0.0, 1.0, integer=not form.relaxed)
         form.pump_indicators.append(over)
-        # w - lowest <= allowed + (top - allowed) d
-        model.at_most(Affine([(w, 1.0), (over, -(top - allowed))]), allowed + lowest_m)
-        weak = [(form.x[s, j], 1.0) for j in options if limits[j] <= level]
+        terms.append((over, -(upper - level)))
+        weak = [(form.x[s, j], 1.0) for j in options if limits[j] - MARGIN_M <= level]
         model.at_most(Affine([*weak, (over, 1.0)]), 1.0)
         if previous is not None:  # a higher limit exceeded only if the lower one is
             model.add_row([(previous, 1.0), (over, -1.0)], lower=0.0)
         previous = over
+    # w - lowest <= L1 + sum (next - this) d
+    model.at_most(Affine(terms), below[0] + lowest_m)

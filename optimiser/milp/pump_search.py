@@ -12,9 +12,14 @@ they are left out (recorded as skipped). The plan here, after Alperovits & Shami
 2. the LP relaxation of the full model with the station heads as columns
    (:mod:`optimiser.milp.pump_columns`): the first lower bound;
 3. a first design: the LP's fractions laid as pieces (with the rules, repaired to their
-   piece structure, :mod:`optimiser.milp.repair`), checked;
-4. the full mixed-integer programme, warm-started from that design: a design and a
-   bound. Every design is judged by the check (:func:`optimiser.analysis.check_design`)
+   piece structure, :mod:`optimiser.milp.repair`), classes raised where the pumping
+   pressure breaks them, checked;
+4. the mixed-integer programme without the rules (the full model when the study has
+   none; else a relaxation, so its bound counts), warm-started; with rules, its design
+   repaired, then the model with the rules on the options that design uses nearby
+   (designs only, like the restricted models of the gravity search);
+5. with rules, the full mixed-integer programme, warm-started from the best design: a
+   design and a bound. Every design is judged by the check (:func:`optimiser.analysis.check_design`)
    and priced at its life-cycle cost there, with the least station head per scenario.
 
 ``total_cost`` stays the capital of the pipes and changes (contract section 9);
@@ -43,7 +48,7 @@ from optimiser.milp.outcome import (
     binding_points,
 )
 from optimiser.milp.pump_columns import head_caps_m
-from optimiser.milp.repair import repair
+from optimiser.milp.repair import design_mask, repair
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Candidate, Clock, SearchState, Settings
 from optimiser.milp.solvers import relative_gap
@@ -81,8 +86,52 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
     if relaxed.values is not None:
         _first_design(state, design_from_fractions(data, relaxed.fractions()))
     if not state.proven() and not state.clock.nearly_out():
-        _full_model(state)
+        start = _without_rules(state)  # without rules, this is the full model
+        if state.with_rules and start is not None and not state.proven():
+            _near(state, start)
+        if state.with_rules and not state.proven() and not state.clock.nearly_out():
+            _full_model(state)
     return _finish(state)
+
+
+def _without_rules(state: SearchState) -> Design | None:
+    """The mixed-integer programme without the rules (the full model when the study has
+    none): a relaxation, so its bound counts; its design, repaired to the rules' piece
+    structure when there are rules, is offered. Returns its design (before repair)."""
+    begun = time.perf_counter()
+    form = build(state.data, with_rules=False)
+    warm = section_use(state.data, state.best.design) if state.best is not None else None
+    name = "MILP, rules relaxed (pipes and station heads)" if state.with_rules else \
+        "MILP, full model (pipes and station heads)"
+    report = state.run_solver(StageKind.FULL_MODEL, name, form, warm,
+                              0.3 if state.with_rules else 1.0, time.perf_counter() - begun)
+    if not state.with_rules:
+        state.full_report = report
+    state.raise_bound(report.bound)
+    if not report.has_solution or form.values is None:
+        return None
+    design = design_from_fractions(state.data, form.fractions())
+    if state.with_rules:
+        repaired = repair(state.data, design)
+        if repaired is not None:
+            _consider(state, repaired, "rules-relaxed MILP, repaired", must_pass=False)
+    else:
+        _consider(state, design, name, must_pass=True)
+    return design
+
+
+def _near(state: SearchState, design: Design) -> None:
+    """The model with the rules on the options ``design`` uses nearby (designs only)."""
+    begun = time.perf_counter()
+    mask = design_mask(state.data, design, state.reach_m)
+    form = build(state.data, allowed=mask, with_rules=True)
+    warm = section_use(state.data, state.best.design) if state.best is not None else None
+    report = state.run_solver(StageKind.REPAIRED_NEARBY, "MILP with the rules, options of "
+                              "the rules-relaxed design nearby", form, warm, 0.4,
+                              time.perf_counter() - begun, min(state.settings.mip_gap, 1e-4))
+    if report.has_solution and form.values is not None:
+        _consider(state, design_from_fractions(state.data, form.fractions()),
+                  "MILP with the rules, nearby", must_pass=True)
 
 
 def _consider(state: SearchState, design: Design, source: str, must_pass: bool) -> None:

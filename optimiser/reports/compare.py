@@ -8,6 +8,7 @@ from rich.console import Console
 from rich.table import Table
 
 from optimiser.model import Status
+from optimiser.reports.life_cycle import COMPARE_COLUMNS, compare_fields, is_pumped_table
 from optimiser.reports.text import short_title
 from optimiser.sweeps.options import OptionResult, option_name
 
@@ -45,6 +46,7 @@ def comparison_row(option: OptionResult) -> dict:
     if outcome.check is None or outcome.design is None:
         return row
     check = outcome.check
+    row.update(compare_fields(check))  # a pumped main's life-cycle figures
     pieces = check.pieces
     margins = [(s.least_pressure_margin, s) for s in check.scenarios]
     least, _ = min(margins, key=lambda item: item[0]["pressure_m"] - item[0]["min_pressure_m"])
@@ -70,22 +72,31 @@ def comparison_row(option: OptionResult) -> dict:
 def comparison_table(options: list[OptionResult]) -> pd.DataFrame:
     """One row per option, ranked by cost; options without a design rank last."""
     table = pd.DataFrame([comparison_row(o) for o in options])
-    for column in COMPARISON_COLUMNS:
+    # Pumped mains are ranked by life-cycle cost (contract section 9), gravity by capital.
+    pumped = is_pumped_table(table)
+    columns = COMPARISON_COLUMNS + COMPARE_COLUMNS if pumped else COMPARISON_COLUMNS
+    for column in columns:
         if column not in table:
             table[column] = None
-    table = table.sort_values("total_cost", na_position="last", kind="stable")
+    by = "life_cycle_cost" if pumped else "total_cost"
+    table = table.sort_values(by, na_position="last", kind="stable")
     ranks = [str(i) if pd.notna(cost) else "" for i, cost in
-             enumerate(table["total_cost"], start=1)]
+             enumerate(table[by], start=1)]
     table["rank"] = ranks
-    return table[COMPARISON_COLUMNS].reset_index(drop=True)
+    return table[columns].reset_index(drop=True)
 
 
 def print_comparison(console: Console, table: pd.DataFrame) -> None:
     """The deciding figures of each option, ranked; every column is in comparison.csv."""
-    view = Table(title="Options ranked by capital cost", title_justify="left")
+    pumped = is_pumped_table(table)
+    view = Table(title="Options ranked by " + ("life-cycle cost" if pumped else
+                                               "capital cost"), title_justify="left")
     columns = [("rank", "#"), ("option", "option"), ("status", "status"),
                ("total_cost", "cost"), ("n_changes", "changes"),
                ("least_pressure_margin_m", "least margin m"), ("verified", "verified")]
+    if pumped:
+        columns[4:4] = [("energy_present_value", "energy PV"),
+                        ("life_cycle_cost", "life-cycle")]
     for _, title in columns:
         view.add_column(title, justify="left" if title in ("option", "status") else "right")
     for row in table.itertuples(index=False):

@@ -164,3 +164,23 @@ def html_section(result: CheckResult) -> dict[str, Any] | None:
                  "With a design run, the bound and the gap are of the life-cycle cost. "
                  + STATION_CAUTION),
     }
+
+
+COMPARE_COLUMNS = ["life_cycle_cost", "station_cost", "energy_present_value",
+                   "installed_kw"]
+"""Columns a comparison adds when an option is a pumped main."""
+
+
+def compare_fields(result: CheckResult | None) -> dict[str, Any]:
+    """An option's life-cycle figures for the comparison table (empty without a pump)."""
+    if result is None or result.station is None:
+        return {}
+    station = result.station
+    return {"life_cycle_cost": result.life_cycle_cost, "station_cost": station.station_cost,
+            "energy_present_value": station.energy_present_value,
+            "installed_kw": station.installed_kw}
+
+
+def is_pumped_table(table: pd.DataFrame) -> bool:
+    """True when some option of a comparison table has a life-cycle cost."""
+    return "life_cycle_cost" in table.columns and bool(table["life_cycle_cost"].notna().any())

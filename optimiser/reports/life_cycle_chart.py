@@ -77,3 +77,21 @@ def print_life_cycle_steps(console: Console, table: pd.DataFrame, currency: str)
         console.print("The chosen pipes change at: " + ", ".join(f"{v:g}" for v in changes)
                       + f" (costs in {currency})".replace(" ()", ""), markup=False,
                       highlight=False)
+
+
+def life_cycle_bars(priced: pd.DataFrame, names: list[str], currency: str) -> go.Figure:
+    """Options of a comparison as horizontal stacked bars: pipes, station, energy."""
+    fig = go.Figure()
+    parts = (("pipes and changes (capital)", "total_cost", SCENARIO_COLOURS[0]),
+             ("pump station (capital)", "station_cost", SCENARIO_COLOURS[2]),
+             ("energy, present value", "energy_present_value", SCENARIO_COLOURS[1]))
+    for name, column, colour in parts:
+        fig.add_trace(go.Bar(x=priced[column].fillna(0.0), y=names, orientation="h",
+                             name=name, marker_color=colour,
+                             hovertemplate="%{y}<br>%{x:,.0f}<extra></extra>"))
+    fig.update_layout(template="plotly_white", height=160 + 34 * len(names), barmode="stack",
+                      xaxis={"title": f"life-cycle cost ({currency})".replace(" ()", ""),
+                             "tickformat": ",.0f"},
+                      yaxis={"autorange": "reversed"}, legend={"orientation": "h", "y": -0.3},
+                      margin={"l": 140, "r": 20, "t": 15, "b": 45})
+    return fig
