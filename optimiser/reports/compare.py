@@ -19,7 +19,7 @@ COMPARISON_COLUMNS = [
     "cost_per_l_s", "design_flow_l_s", "length_by_dn", "length_by_material", "n_changes",
     "highest_static_head_m", "least_pressure_margin_m", "least_margin_at_m",
     "highest_velocity_m_s", "uniform_option", "uniform_cost", "saving_vs_uniform",
-    "gap", "lower_bound", "diagnosis",
+    "gap", "lower_bound", "diagnosis", "new_tanks", "tank_cost",
 ]
 
 
@@ -59,6 +59,8 @@ def comparison_row(option: OptionResult) -> dict:
         least_margin_at_m=float(least["chainage_m"]),
         highest_velocity_m_s=max(float(s.segments["velocity_m_s"].max())
                                  for s in check.scenarios),
+        new_tanks=sum(1 for t in outcome.design.tanks if t.new),
+        tank_cost=check.tank_cost_total,
     )
     if outcome.uniform is not None:
         row.update(uniform_option=outcome.uniform.option.label,
@@ -84,7 +86,7 @@ def print_comparison(console: Console, table: pd.DataFrame) -> None:
     """The deciding figures of each option, ranked; every column is in comparison.csv."""
     view = Table(title="Options ranked by capital cost", title_justify="left")
     columns = [("rank", "#"), ("option", "option"), ("status", "status"),
-               ("total_cost", "cost"), ("n_changes", "changes"),
+               ("total_cost", "cost"), ("n_changes", "changes"), ("new_tanks", "tanks"),
                ("least_pressure_margin_m", "least margin m"), ("verified", "verified")]
     for _, title in columns:
         view.add_column(title, justify="left" if title in ("option", "status") else "right")

@@ -144,6 +144,8 @@ _COMPARISON_COLUMNS = {
     "saving_vs_uniform": Column("saving on one pipe", "money", 14),
     "gap": Column("gap", "percent", 9), "lower_bound": Column("best bound", "money", 14),
     "diagnosis": Column("notes", "text", 40),
+    "new_tanks": Column("new break-pressure tanks (no.)", "count", 9),
+    "tank_cost": Column("cost of new tanks", "money", 14),
 }
 
 
