@@ -118,3 +118,18 @@ def test_bad_tank_file_is_refused(make_study, runner, tmp_path):
     result = runner.invoke(app, ["check", str(study.path), "--design", str(files_design),
                                  "--tanks", str(bad)])
     assert result.exit_code == 2 and "strictly inside the route" in result.output
+
+
+def test_diagnosis_says_where_a_tank_would_help(make_study):
+    """Without tanks the route's 340 m fall exceeds the highest class (255 m): the
+    diagnosis names a water level and a span for a tank. By hand: the reach's lowest
+    pipe level plus 255 m (no surge allowance) bounds the tank's level (common
+    practice, no source)."""
+    study = _study(make_study, 5, 6)
+    outcome = optimise_design(study)
+    assert outcome.status == Status.INFEASIBLE
+    text = " ".join(outcome.diagnosis)
+    assert "A break-pressure tank with its water at most" in text
+    lowest = float(study.route.pipe_level_m.min())
+    level = float(text.split("water at most ")[1].split(" m")[0])
+    assert lowest < level <= lowest + 255.0 + 0.05
