@@ -9,6 +9,7 @@ both passes the check with its tanks. Routes and prices are invented test data.
 from __future__ import annotations
 
 import itertools
+import json
 
 import numpy as np
 import pytest
@@ -89,6 +90,13 @@ def test_design_writes_tanks_and_check_reads_them(make_study, runner, tmp_path):
     assert "Without new tanks: no design meets every limit" in result.output
     table = (out / "break_pressure_tanks.csv").read_text().splitlines()
     assert table[0] == "branch,chainage_m,water_level_m,new,cost,label" and len(table) > 1
+    payload = json.loads((out / "result.json").read_text())
+    rows = payload["break_pressure_tanks"]
+    assert rows and set(rows[0]) >= {"branch", "chainage_m", "water_level_m", "new", "cost",
+                                     "label"}
+    assert all(r["new"] and r["cost"] == TANK_COST for r in rows)
+    assert payload["tank_cost_total"] == pytest.approx(TANK_COST * len(rows))
+    assert payload["no_new_tank_status"] == "infeasible"
     design = out / "design.csv"
     ok = runner.invoke(app, ["check", str(study.path), "--design", str(design), "--tanks",
                              str(out / "break_pressure_tanks.csv")])
