@@ -25,7 +25,7 @@ from collections.abc import Callable
 import numpy as np
 
 from optimiser.milp.data import ProblemData
-from optimiser.milp.outcome import DesignOutcome
+from optimiser.milp.outcome import DesignOutcome, SolverError
 from optimiser.model import (
     TRUNK,
     BreakPressureTank,
@@ -125,9 +125,12 @@ def design_by_reaches(data: ProblemData, sites: list[int], time_limit_s: float,
         changes = None if budget is None else int((budget - len(ends) + 2) * share)
         if changes is not None and changes < 0:
             return None
-        outcome = plain(reach_study(with_tanks, first, last, changes),
-                        solver_name=solver_name, mip_gap=mip_gap,
-                        time_limit_s=max(time_limit_s * share, 1.0))
+        try:
+            outcome = plain(reach_study(with_tanks, first, last, changes),
+                            solver_name=solver_name, mip_gap=mip_gap,
+                            time_limit_s=max(time_limit_s * share, 1.0))
+        except SolverError:  # no design of this reach within its time
+            return None
         if outcome.design is None:
             return None
         start, end = float(route.chainage_m[first]), float(route.chainage_m[last])

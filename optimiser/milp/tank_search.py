@@ -14,12 +14,14 @@ own, shorter plan on the full model of :mod:`optimiser.milp.tank_rows`:
    tanks from the plan without tanks (the whole search of :func:`optimise_design` on the
    study with new tanks not allowed): a first design, the warm start of the next stage,
    and the figure the saving is stated against;
-4. without a design yet: tanks placed by rule and each reach between tanks designed by
-   the plan without tanks (:mod:`optimiser.milp.tank_reaches`): a first design;
+4. without a design yet: tanks placed by rule, each reach between tanks designed by the
+   plan without tanks (:mod:`optimiser.milp.tank_reaches`): a first design, and the
+   warm start of the next stages;
 5. with the rules: the model with tanks and the rules relaxed (a relaxation: its bound
-   counts; its design is offered, and kept if it happens to meet the rules), then its
-   tanks fixed and the rules on, restricted to the options near its design: a first
-   design with the rules (HiGHS alone seldom finds one on the full model);
+   counts; its design is offered, and kept if it happens to meet the rules); its tanks
+   fixed, each reach designed the same way; then its tanks fixed and the rules on,
+   restricted to the options near its design: designs with the rules (HiGHS alone
+   seldom finds one on the full model);
 6. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
    started from the best design so far, for the rest of the time: its bound is the
    run's bound, its design is checked with its tanks.
@@ -54,7 +56,7 @@ from optimiser.model import TRUNK, BreakPressureTank, Design, Study, TankRules
 from optimiser.model.status import Status
 
 PLAIN_SHARE = 0.3
-REACH_SHARE = 0.3
+REACH_SHARE = 0.5
 """Shares of the time left the plan without tanks may take (whole route; by reaches)."""
 NEW_TANK_LABEL = "new break-pressure tank"
 
