@@ -5,8 +5,8 @@ the source to the outlet (reaches merge sections across nodes, the priced dynami
 programme and the uniform design follow one energy line), so a study with tanks runs its
 own, shorter plan on the full model of :mod:`optimiser.milp.tank_rows`:
 
-1. the data of the route (not split at class limits: see
-   :func:`~optimiser.milp.tank_data.with_sites_named`), and the diagnosis without a
+1. the data of the route split at the class limits under every possible static line
+   (:func:`~optimiser.milp.tank_data.with_sites_named`), and the diagnosis without a
    solver (the lowest static line any choice of tanks gives; tanks
    only lower the energy line, so its energy findings stand);
 2. the LP relaxation of the model with tanks, rules relaxed: a bound;
