@@ -20,7 +20,7 @@ COMPARISON_COLUMNS = [
     "cost_per_l_s", "design_flow_l_s", "length_by_dn", "length_by_material", "n_changes",
     "highest_static_head_m", "least_pressure_margin_m", "least_margin_at_m",
     "highest_velocity_m_s", "uniform_option", "uniform_cost", "saving_vs_uniform",
-    "gap", "lower_bound", "diagnosis",
+    "gap", "lower_bound", "diagnosis", "new_tanks", "tank_cost",
 ]
 
 
@@ -61,6 +61,8 @@ def comparison_row(option: OptionResult) -> dict:
         least_margin_at_m=float(least["chainage_m"]),
         highest_velocity_m_s=max(float(s.segments["velocity_m_s"].max())
                                  for s in check.scenarios),
+        new_tanks=sum(1 for t in outcome.design.tanks if t.new),
+        tank_cost=check.tank_cost_total,
     )
     if outcome.uniform is not None:
         row.update(uniform_option=outcome.uniform.option.label,
@@ -92,7 +94,7 @@ def print_comparison(console: Console, table: pd.DataFrame) -> None:
     view = Table(title="Options ranked by " + ("life-cycle cost" if pumped else
                                                "capital cost"), title_justify="left")
     columns = [("rank", "#"), ("option", "option"), ("status", "status"),
-               ("total_cost", "cost"), ("n_changes", "changes"),
+               ("total_cost", "cost"), ("n_changes", "changes"), ("new_tanks", "tanks"),
                ("least_pressure_margin_m", "least margin m"), ("verified", "verified")]
     if pumped:
         columns[4:4] = [("energy_present_value", "energy PV"),

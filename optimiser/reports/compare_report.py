@@ -153,6 +153,8 @@ _COMPARISON_COLUMNS = {
     "station_cost": Column("pump station", "money", 13),
     "energy_present_value": Column("energy, present value", "money", 14),
     "installed_kw": Column("installed power (kW)", "head", 11),
+    "new_tanks": Column("new break-pressure tanks (no.)", "count", 9),
+    "tank_cost": Column("cost of new tanks", "money", 14),
 }
 
 

@@ -136,6 +136,12 @@ def tradeoff_chart(result: TradeoffResult, study: Study) -> go.Figure:
             customdata=stopped["gap"].astype(float) * 100,
             hovertemplate="%{x:.3f}<br>cost %{y:,.0f}<br>stopped at the time limit, "
                           "gap %{customdata:.2f} %<extra></extra>"))
+    tanked = table[table["new_tanks"].fillna(0).astype(float) > 0]
+    if len(tanked):  # how many new break-pressure tanks each step's design has
+        figure.add_trace(go.Scatter(
+            x=tanked["value"], y=tanked["cost"], mode="text", name="new break-pressure tanks",
+            text=[f"{int(n)} tank{'s' if n > 1 else ''}" for n in tanked["new_tanks"]],
+            textposition="bottom center", textfont={"size": 10}, hoverinfo="skip"))
     figure.update_layout(title={"text": curve_gap_text(result), "font": {"size": 13}})
     return figure
 

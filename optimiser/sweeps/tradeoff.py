@@ -30,7 +30,8 @@ ROUGHNESS = "roughness"
 
 COLUMNS = ["value", "status", "cost", "lower_bound", "gap", "lp_bound", "n_pieces",
            "pieces", "binding_scenario", "binding_what", "binding_chainage_m",
-           "binding_margin_m", "verified", "note", "target_gap", "time_limit_s"]
+           "binding_margin_m", "verified", "note", "target_gap", "time_limit_s",
+           "new_tanks"]
 """Columns of a sweep table, in order. ``value`` is in SI units (m, m^3/s or mm);
 ``target_gap`` and ``time_limit_s`` are the settings the step was solved with."""
 
@@ -115,6 +116,8 @@ def outcome_row(value: float, outcome: DesignOutcome) -> dict[str, Any]:
             "lp_bound": outcome.lp_bound, "n_pieces": n_pieces, "pieces": summary,
             **binding_point(outcome), "verified": bool(outcome.verified), "note": note,
             "target_gap": outcome.mip_gap, "time_limit_s": outcome.time_limit_s,
+            "new_tanks": (None if outcome.design is None
+                          else sum(1 for t in outcome.design.tanks if t.new)),
             **life_cycle_row(outcome.check)}
 
 
