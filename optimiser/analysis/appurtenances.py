@@ -18,6 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.analysis.check import CheckResult
+from optimiser.model.scheme import TRUNK
 
 
 @dataclass(frozen=True)
@@ -28,6 +29,9 @@ class Appurtenance:
     ground_m: float
     reason: str
     label: str = ""
+    branch: str = TRUNK
+    """The line it is on (chainage along that line); not in :meth:`as_dict`, whose keys
+    are those of a single route's schedule."""
 
     def as_dict(self) -> dict:
         return {"kind": self.kind, "chainage_m": self.chainage_m,
