@@ -55,6 +55,8 @@ def schedule(outcome: DesignOutcome) -> pd.DataFrame:
                           "internal_diameter_mm", "cost", "static_head_m", "allowable_head_m",
                           "wave_speed_m_s", "surge_head_m", "allowable_surge_head_m",
                           "class_governs"]].copy()
+    if check.study.is_scheme:
+        table.insert(0, "branch", check.pieces["branch"])
     segments = check.scenarios[governing_scenario(outcome)].segments
     grouped = segments.groupby("piece")
     table["velocity_m_s"] = grouped["velocity_m_s"].max().to_numpy()
@@ -116,7 +118,11 @@ def design_dict(outcome: DesignOutcome, study: Study, command: str = "design") -
 
 
 def design_table(outcome: DesignOutcome) -> pd.DataFrame:
-    """design.csv: contract section 4 columns first, then length, ID, cost, hydraulics."""
+    """design.csv: contract section 4 columns first, then length, ID, cost, hydraulics;
+    a scheme's has ``branch`` first (contract section 7)."""
+    assert outcome.check is not None
+    if outcome.check.study.is_scheme:
+        return schedule(outcome)[["branch", *DESIGN_CSV_COLUMNS]]
     return schedule(outcome)[DESIGN_CSV_COLUMNS]
 
 
