@@ -18,7 +18,7 @@ from optimiser.model import Study
 from optimiser.model.lines import study_lines
 from optimiser.model.scheme import TRUNK
 from optimiser.reports import numbers as fmt
-from optimiser.reports.terminal import chainage_label
+from optimiser.reports.numbers import chainage_label
 
 BRANCH_TOTAL_COLUMNS = ["branch", "leaves", "at_chainage_m", "chainage_m", "length_m",
                         "pieces", "cost"]
