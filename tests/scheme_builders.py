@@ -17,6 +17,7 @@ from builders import write_study
 
 from optimiser import load_study
 from optimiser.model import Branch, Design, Offtake, Piece, Route, Study
+from optimiser.model.route import RouteCoordinates
 
 
 def _route(start_ground_m: float, length_m: float, fall_m: float, end_label: str) -> Route:
@@ -59,3 +60,27 @@ def scheme_design(study: Study) -> Design:
         Piece(0.0, 500.0, option(200), "east"), Piece(500.0, 800.0, option(160), "east"),
         Piece(0.0, 500.0, option(160), "east spur"),
         Piece(0.0, 600.0, option(160), "west")))
+
+
+def _straight(route: Route, origin: tuple[float, float], heading_deg: float,
+              crs: str | None) -> Route:
+    angle = np.radians(heading_deg)
+    chainage = np.array([0.0, route.total_chainage_m])
+    return dataclasses.replace(route, coordinates=RouteCoordinates(
+        crs=crs, chainage_m=chainage, x_m=origin[0] + chainage * np.cos(angle),
+        y_m=origin[1] + chainage * np.sin(angle)))
+
+
+def with_plan(study: Study, crs: str | None = None,
+              origin: tuple[float, float] = (0.0, 0.0)) -> Study:
+    """``study`` with straight lines in plan: the trunk east from ``origin``, each branch
+    south from its junction (the position of its parent there)."""
+    trunk = _straight(study.route, origin, 0.0, crs)
+    placed = {"main": trunk}
+    branches = []
+    for branch in study.branches:
+        x, y = placed[branch.parent].coordinates.xy_at(np.array([branch.at_chainage_m]))
+        route = _straight(branch.route, (float(x[0]), float(y[0])), -90.0, crs)
+        placed[branch.name] = route
+        branches.append(dataclasses.replace(branch, route=route))
+    return dataclasses.replace(study, route=trunk, branches=tuple(branches))

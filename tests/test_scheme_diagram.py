@@ -10,15 +10,12 @@ The scheme and its design are invented test data (``scheme_builders.py``).
 
 from __future__ import annotations
 
-import dataclasses
-
 import numpy as np
 import pandas as pd
 import pytest
-from scheme_builders import scheme_design, scheme_study
+from scheme_builders import scheme_design, scheme_study, with_plan
 
 from optimiser.model.lines import study_lines
-from optimiser.model.route import RouteCoordinates
 from optimiser.reports.scheme_diagram import (
     delivery_label,
     in_plan,
@@ -103,26 +100,9 @@ def test_offtakes_of_every_line_are_marked(scheme):
     assert any("school" in text and "east" in text for text in offtakes.text)
 
 
-def _with_coordinates(route, origin, heading_deg):
-    angle = np.radians(heading_deg)
-    chainage = np.array([0.0, route.total_chainage_m])
-    return dataclasses.replace(route, coordinates=RouteCoordinates(
-        crs=None, chainage_m=chainage, x_m=origin[0] + chainage * np.cos(angle),
-        y_m=origin[1] + chainage * np.sin(angle)))
-
-
 def test_in_plan_when_every_line_has_coordinates(scheme):
     assert not in_plan(scheme)
-    trunk = _with_coordinates(scheme.route, (0.0, 0.0), 0.0)
-    branches = []
-    for branch in scheme.branches:
-        # each branch starts where its parent is at the junction (trunk along x here;
-        # the spur off "east" is placed from east's own line)
-        parent = trunk if branch.parent == "main" else branches[0].route
-        x, y = parent.coordinates.xy_at(np.array([branch.at_chainage_m]))
-        branches.append(dataclasses.replace(
-            branch, route=_with_coordinates(branch.route, (x[0], y[0]), -90.0)))
-    planned = dataclasses.replace(scheme, route=trunk, branches=tuple(branches))
+    planned = with_plan(scheme)
     assert in_plan(planned)
     fig = scheme_figure(planned, scheme_design(planned))
     (delivery,) = _traces(fig, "delivery")
@@ -131,6 +111,7 @@ def test_in_plan_when_every_line_has_coordinates(scheme):
         ex, ey = line.route.coordinates.xy_at(np.array([line.route.total_chainage_m]))
         assert (x, y) == pytest.approx((ex[0], ey[0]))
     assert fig.layout.yaxis.scaleanchor == "x"
+    assert len(_traces(fig, "branch")) == len(lines)
 
 
 def _pieces_table(design) -> pd.DataFrame:

@@ -10,12 +10,13 @@ invented test data (``scheme_builders.py``).
 from __future__ import annotations
 
 import io
+import json
 
 import pandas as pd
 import pytest
 from openpyxl import load_workbook
 from rich.console import Console
-from scheme_builders import scheme_design, scheme_study
+from scheme_builders import scheme_design, scheme_study, with_plan
 
 from optimiser.analysis import check_design
 from optimiser.milp import DesignOutcome
@@ -26,6 +27,7 @@ from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.design_report import design_table, print_design
 from optimiser.reports.files import write_design_files
 from optimiser.reports.html import render_report
+from optimiser.reports.scheme_geometry import write_scheme_geometry_files
 from optimiser.reports.scheme_sections import MARGIN_COLUMNS, margin_rows
 from optimiser.reports.terminal import print_check
 from optimiser.reports.workbook import design_workbook
@@ -136,3 +138,29 @@ def test_terminal_summary_per_branch(checked):
     console = Console(width=100, record=True)
     print_design(console, _outcome(checked), checked.study)
     assert "east spur" in console.export_text()
+
+
+def test_geometry_files_of_a_scheme_in_plan(tmp_path):
+    # UTM zone 33 north (EPSG:32633), an arbitrary projected grid for invented lines
+    study = with_plan(scheme_study(tmp_path / "study"), "EPSG:32633", (500_000.0, 4_000_000.0))
+    result = check_design(study, scheme_design(study))
+    out = tmp_path / "out"
+    out.mkdir()
+    written = write_scheme_geometry_files(out, result, scheme_appurtenances(result))
+    assert {p.name for p in written} == {"design.geojson", "profile_points.csv"}
+    collection = json.loads((out / "design.geojson").read_text())
+    pipes = [f["properties"] for f in collection["features"]
+             if f["properties"]["kind"] == "pipe piece"]
+    assert [p["branch"] for p in pipes] == [p.branch for p in result.design.pieces]
+    kinds = {(f["properties"]["branch"], f["properties"]["kind"])
+             for f in collection["features"]}
+    assert ("main", "source") in kinds and ("east", "junction") in kinds
+    assert {b for b, k in kinds if k == "outlet"} == set(study.branch_names)
+    assert collection["cautions"] == list(CAUTIONS)
+    points = pd.read_csv(out / "profile_points.csv")
+    assert points.columns[0] == "branch"
+    assert set(points["branch"]) == set(study.branch_names)
+
+
+def test_no_geometry_files_when_a_line_has_no_coordinates(checked, tmp_path):
+    assert write_scheme_geometry_files(tmp_path, checked, []) == []

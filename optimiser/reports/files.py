@@ -20,6 +20,7 @@ from optimiser.reports.html import default_option_name, render_report
 from optimiser.reports.pages import TitleBlock
 from optimiser.reports.pdf import PageFooter, PdfUnavailableError, html_to_pdf
 from optimiser.reports.run_summary import RunSummary
+from optimiser.reports.scheme_geometry import write_scheme_geometry_files
 from optimiser.reports.workbook import design_workbook
 
 if TYPE_CHECKING:
@@ -90,8 +91,8 @@ def write_report_files(out_dir: Path, result: CheckResult,
     frame = pd.DataFrame([a.as_dict() | {"branch": a.branch} for a in items],
                          columns=(["branch"] if scheme else []) + APPURTENANCE_COLUMNS)
     write_csv(table, rounded_csv(frame))
-    return [report, *pdf, workbook, table,
-            *write_geometry_files(out_dir, result, items)]  # with coordinates
+    geometry = write_scheme_geometry_files if scheme else write_geometry_files
+    return [report, *pdf, workbook, table, *geometry(out_dir, result, items)]  # coordinates
 
 
 def write_design_files(folder: Path, outcome: DesignOutcome, study: Study,
