@@ -5,7 +5,7 @@ What is checked is geometry and arithmetic, not hydraulics: the diagram draws ev
 junction chainage, and is as long as its route), no junction tick crosses another
 line's bar, every delivery point is labelled at its line's end, and a branch's totals
 are the sums of its pieces (common practice, no source: a schedule's totals add up).
-The scheme and its design are invented test data (``scheme_builders.py``).
+The scheme and its design are invented test data (``report_schemes.py``).
 """
 
 from __future__ import annotations
@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-from scheme_builders import scheme_design, scheme_study, with_plan
+from report_schemes import scheme_design, scheme_study, with_plan
 
 from optimiser.model.lines import study_lines
 from optimiser.reports.scheme_diagram import (

@@ -4,7 +4,7 @@ belong to a branch, and the cautions kept.
 
 Check values are the check's own figures re-read (a report must show what the check
 found: common practice, no source) and sums of pieces. The scheme and its design are
-invented test data (``scheme_builders.py``).
+invented test data (``report_schemes.py``).
 """
 
 from __future__ import annotations
@@ -15,8 +15,8 @@ import json
 import pandas as pd
 import pytest
 from openpyxl import load_workbook
+from report_schemes import scheme_design, scheme_study, with_plan
 from rich.console import Console
-from scheme_builders import scheme_design, scheme_study, with_plan
 
 from optimiser.analysis import check_design
 from optimiser.milp import DesignOutcome
