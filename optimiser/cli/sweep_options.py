@@ -23,8 +23,11 @@ def parse_level_m(option: str, text: str) -> float:
 
 
 def parse_sweep_value(option: str, variable: str, text: str) -> float:
-    """``--from``/``--to`` in SI units: a flow with its unit for ``flow``, else metres."""
-    if variable == "flow":
+    """``--from``/``--to`` in SI units: a flow with its unit for ``flow`` (or a branch's
+    flow), else metres."""
+    from optimiser.sweeps.branch_variants import is_flow
+
+    if is_flow(variable):
         from optimiser.io.units import parse_flow_m3_s
 
         try:
@@ -38,12 +41,13 @@ def parse_range(vary: str, from_text: str, to_text: str
                 ) -> tuple[str, float | None, float | None, list[str]]:
     """The variable of ``--vary`` and the ``--from``/``--to`` values in SI units (None
     where unreadable), with the problems found."""
-    from optimiser.sweeps.variants import VARIABLES
+    from optimiser.sweeps.branch_variants import normalised
+    from optimiser.sweeps.variants import known_variable, variable_names
 
-    variable = vary.strip().lower()
-    if variable not in VARIABLES:
+    variable = normalised(vary)
+    if not known_variable(variable):
         return variable, None, None, [f"--vary: cannot vary {vary!r}; choose one of "
-                                      f"{', '.join(VARIABLES)}"]
+                                      f"{variable_names()}"]
     problems: list[str] = []
     values: list[float | None] = []
     for option, text in (("--from", from_text), ("--to", to_text)):

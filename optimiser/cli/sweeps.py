@@ -119,7 +119,9 @@ def tradeoff(
     study_path: StudyArgument,
     vary: Annotated[str, typer.Option(
         "--vary", help="What to vary: source-level (m), required-head (m) or flow (with a "
-        "unit, e.g. \"40 L/s\"; the first scenario's outlet flow, the others in proportion).",
+        "unit, e.g. \"40 L/s\"; the first scenario's outlet flow, the others in proportion);"
+        " on a scheme also branch-head:NAME (m) or branch-flow:NAME (with a unit) of one "
+        "branch.",
         show_default=False, metavar="QUANTITY")],
     from_text: Annotated[str, typer.Option("--from", help="First value.", show_default=False,
                                            metavar="VALUE")],
@@ -147,6 +149,10 @@ def tradeoff(
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
+    if study is not None:
+        from optimiser.sweeps.branch_variants import branch_problems
+
+        problems += branch_problems(study, variable)
     if problems:
         fail_input(InputError(problems))
     assert study is not None and low is not None and high is not None

@@ -22,7 +22,13 @@ from rich.console import Console
 from optimiser.milp import DesignOutcome, SolverError, VerificationError, optimise_design
 from optimiser.model import Status, Study
 from optimiser.sweeps.runner import run_all
-from optimiser.sweeps.variants import VARIABLES, study_value, vary, with_roughness
+from optimiser.sweeps.variants import (
+    known_variable,
+    study_value,
+    variable_names,
+    vary,
+    with_roughness,
+)
 
 ROUGHNESS = "roughness"
 """The variable of a re-optimised roughness sweep (every option's roughness, mm)."""
@@ -157,9 +163,9 @@ def step_tasks(study: Study, variable: str, values: Sequence[float], *,
                solver_name: str | None = None, time_limit_s: float | None = None,
                mip_gap: float | None = None) -> list[SolveTask]:
     """One task per value: the study's variant at that value."""
-    if variable not in (*VARIABLES, ROUGHNESS):
+    if not known_variable(variable) and variable != ROUGHNESS:
         raise ValueError(f"cannot vary {variable!r}; choose one of "
-                         f"{', '.join((*VARIABLES, ROUGHNESS))}")
+                         f"{variable_names()}, {ROUGHNESS}")
     return [SolveTask(variant(study, variable, float(v)), float(v), solver_name,
                       time_limit_s, mip_gap) for v in values]
 
@@ -187,8 +193,8 @@ def tradeoff(study: Study, variable: str, values: Sequence[float], *, workers: i
     set of feasible designs, so the least cost is non-increasing in it; the table shows
     that up to the solver's relative gap.
     """
-    if variable not in VARIABLES:
-        raise ValueError(f"cannot vary {variable!r}; choose one of {', '.join(VARIABLES)}")
+    if not known_variable(variable):
+        raise ValueError(f"cannot vary {variable!r}; choose one of {variable_names()}")
     return sweep(study, variable, values, workers=workers, dask_address=dask_address,
                  console=console, solver_name=solver_name, time_limit_s=time_limit_s,
                  mip_gap=mip_gap, label=f"trade-off over {variable}")
@@ -226,8 +232,8 @@ def tradeoff_with_study_point(study: Study, variable: str, values: Sequence[floa
     limit, in the same batch. A step at the study's value is reused for it only when the
     steps run at the study's own settings (no ``time_limit_s`` or ``mip_gap`` given).
     """
-    if variable not in VARIABLES:
-        raise ValueError(f"cannot vary {variable!r}; choose one of {', '.join(VARIABLES)}")
+    if not known_variable(variable):
+        raise ValueError(f"cannot vary {variable!r}; choose one of {variable_names()}")
     own = float(study_value(study, variable))
     steps = [float(v) for v in values]
     matches = [i for i, v in enumerate(steps) if math.isclose(v, own, rel_tol=1e-12,
