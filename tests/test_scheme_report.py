@@ -19,10 +19,11 @@ from report_schemes import scheme_design, scheme_study, with_plan
 from rich.console import Console
 
 from optimiser.analysis import check_design
+from optimiser.analysis.appurtenances import schedule
 from optimiser.milp import DesignOutcome
 from optimiser.model import Status
 from optimiser.model.lines import study_lines
-from optimiser.reports.branch_view import branch_view, scheme_appurtenances
+from optimiser.reports.branch_view import branch_view
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.design_report import design_table, print_design
 from optimiser.reports.files import write_design_files
@@ -81,7 +82,7 @@ def test_margins_table_has_every_delivery_point_in_every_scenario(checked):
 
 
 def test_report_shows_every_branch_and_the_cautions(checked):
-    page = render_report(checked, scheme_appurtenances(checked))
+    page = render_report(checked, schedule(checked))
     for line in study_lines(checked.study):
         assert f"Long section: {'branch ' + line.name if line.parent else 'the trunk'}" in page
     for div in ("plot-scheme", *(f"plot-line-{n}" for n in range(len(study_lines(
@@ -96,10 +97,10 @@ def test_report_shows_every_branch_and_the_cautions(checked):
 
 def test_workbook_carries_branch_everywhere_rows_belong_to_one(checked):
     book = load_workbook(io.BytesIO(design_workbook(
-        checked, scheme_appurtenances(checked), None, "scheme")))
-    schedule = list(book["Schedule"].values)
-    assert schedule[0][0] == "branch"
-    assert [r[0] for r in schedule[1:]] == ["main", "main", "east", "east", "east spur",
+        checked, schedule(checked), None, "scheme")))
+    sheet = list(book["Schedule"].values)
+    assert sheet[0][0] == "branch"
+    assert [r[0] for r in sheet[1:]] == ["main", "main", "east", "east", "east spur",
                                             "west"]
     branches = list(book["Branches"].values)
     costs = {r[0]: r[-1] for r in branches[1:]}
@@ -146,7 +147,7 @@ def test_geometry_files_of_a_scheme_in_plan(tmp_path):
     result = check_design(study, scheme_design(study))
     out = tmp_path / "out"
     out.mkdir()
-    written = write_scheme_geometry_files(out, result, scheme_appurtenances(result))
+    written = write_scheme_geometry_files(out, result, schedule(result))
     assert {p.name for p in written} == {"design.geojson", "profile_points.csv"}
     collection = json.loads((out / "design.geojson").read_text())
     pipes = [f["properties"] for f in collection["features"]

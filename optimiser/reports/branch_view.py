@@ -17,10 +17,9 @@ import dataclasses
 import numpy as np
 import pandas as pd
 
-from optimiser.analysis.appurtenances import Appurtenance, schedule
 from optimiser.analysis.check import CheckResult, ScenarioResult
 from optimiser.model import TRUNK, Outlet, Study
-from optimiser.model.lines import line_of, study_lines
+from optimiser.model.lines import line_of
 
 
 def line_study(study: Study, name: str) -> Study:
@@ -70,12 +69,3 @@ def branch_view(result: CheckResult, name: str) -> CheckResult:
         [v for v in result.violations if v.branch == name], pieces,
         float(pieces["cost"].sum()) + change_total, change_total)
 
-
-def scheme_appurtenances(result: CheckResult) -> list[Appurtenance]:
-    """Air valves and washouts of every line of a scheme, line after line, each found on
-    the line's own profile and pressures and marked with its ``branch``."""
-    items: list[Appurtenance] = []
-    for line in study_lines(result.study):
-        items += [dataclasses.replace(item, branch=line.name)
-                  for item in schedule(branch_view(result, line.name))]
-    return items

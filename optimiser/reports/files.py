@@ -13,7 +13,6 @@ from optimiser.analysis.appurtenances import schedule
 from optimiser.analysis.check import CheckResult
 from optimiser.io.writers import atomic_write_bytes, atomic_write_text, write_csv, write_json
 from optimiser.model import Study
-from optimiser.reports.branch_view import scheme_appurtenances
 from optimiser.reports.design_report import design_dict, design_table
 from optimiser.reports.geojson import write_geometry_files
 from optimiser.reports.html import default_option_name, render_report
@@ -75,7 +74,7 @@ def write_report_files(out_dir: Path, result: CheckResult,
     notes = [] if notes is None else notes
     out_dir = Path(out_dir)
     scheme = result.study.is_scheme
-    items = scheme_appurtenances(result) if scheme else schedule(result)
+    items = schedule(result)
     option = option or default_option_name(result)
     report = out_dir / "report.html"
     atomic_write_text(report, render_report(result, items, summary, option=option,
@@ -88,7 +87,7 @@ def write_report_files(out_dir: Path, result: CheckResult,
     workbook = out_dir / "design.xlsx"
     atomic_write_bytes(workbook, design_workbook(result, items, summary, option))
     table = out_dir / "appurtenances.csv"
-    frame = pd.DataFrame([a.as_dict() | {"branch": a.branch} for a in items],
+    frame = pd.DataFrame([a.as_dict() for a in items],
                          columns=(["branch"] if scheme else []) + APPURTENANCE_COLUMNS)
     write_csv(table, rounded_csv(frame))
     geometry = write_scheme_geometry_files if scheme else write_geometry_files
