@@ -17,9 +17,12 @@ import pytest
 from openpyxl import load_workbook
 from report_schemes import scheme_design, scheme_study, with_plan
 from rich.console import Console
+from scheme_builders import write_branch_scheme
+from typer.testing import CliRunner
 
 from optimiser.analysis import check_design
 from optimiser.analysis.appurtenances import schedule
+from optimiser.cli import app
 from optimiser.milp import DesignOutcome
 from optimiser.model import Status
 from optimiser.model.lines import study_lines
@@ -165,3 +168,25 @@ def test_geometry_files_of_a_scheme_in_plan(tmp_path):
 
 def test_no_geometry_files_when_a_line_has_no_coordinates(checked, tmp_path):
     assert write_scheme_geometry_files(tmp_path, checked, []) == []
+
+
+def test_report_command_on_a_scheme_file(tmp_path):
+    files = write_branch_scheme(tmp_path)
+    design = files.folder / "scheme_design.csv"
+    design.write_text("branch,from_m,to_m,material,dn_mm,pressure_class\n"
+                      "main,0,1200,PE,250,PN10\nmain,1200,3000,PE,200,PN10\n"
+                      "north end,0,1000,PE,160,PN10\nschool,0,400,PE,160,PN10\n",
+                      encoding="utf-8")
+    out = tmp_path / "out"
+    result = CliRunner().invoke(app, ["report", str(files.study), "--design", str(design),
+                                      "--out", str(out)])
+    assert result.exit_code in (0, 1), result.output
+    assert "Branches (least margins over every scenario)" in result.output
+    page = (out / "report.html").read_text(encoding="utf-8")
+    for name in ("north end", "school"):
+        assert f"Long section: branch {name}" in page
+    assert "Offtakes on branches" in page and "north tap" in page
+    table = pd.read_csv(out / "appurtenances.csv")
+    assert list(table.columns)[:2] == ["branch", "kind"]
+    book = load_workbook(out / "design.xlsx")
+    assert {"Branches", "Delivery margins"} <= set(book.sheetnames)
