@@ -35,6 +35,7 @@ from optimiser.reports.scheme_geometry import write_scheme_geometry_files
 from optimiser.reports.scheme_sections import MARGIN_COLUMNS, margin_rows
 from optimiser.reports.terminal import print_check
 from optimiser.reports.workbook import design_workbook
+from optimiser.sweeps.tradeoff import pieces_summary
 
 
 @pytest.fixture(scope="module")
@@ -190,3 +191,11 @@ def test_report_command_on_a_scheme_file(tmp_path):
     assert list(table.columns)[:2] == ["branch", "kind"]
     book = load_workbook(out / "design.xlsx")
     assert {"Branches", "Delivery margins"} <= set(book.sheetnames)
+
+
+def test_sweep_summary_of_a_scheme_names_each_branch(checked):
+    n_runs, text = pieces_summary(_outcome(checked))
+    assert n_runs == len(checked.design.merged().pieces)
+    assert text.startswith("main: DN250 PE PN10")
+    for name in ("east", "east spur", "west"):
+        assert f"; {name}: DN" in text

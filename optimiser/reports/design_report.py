@@ -11,6 +11,7 @@ from rich.console import Console
 from rich.table import Table
 
 from optimiser.model import Status, Study
+from optimiser.model.lines import study_lines
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.outlet_control import print_outlet_control
 from optimiser.reports.results import assumptions, check_dict
@@ -146,7 +147,11 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     table = schedule(outcome)
     governing = outcome.check.scenarios[governing_scenario(outcome)].name
     length_km = study.route.total_chainage_m / 1000
-    console.print(f"[bold]{console_title(study.title)}[/bold]  (design of {length_km:.3f} km, "
+    extent = f"{length_km:.3f} km"
+    if study.is_scheme:
+        total_km = sum(line.route.total_chainage_m for line in study_lines(study)) / 1000
+        extent = f"a trunk and {len(study.branches)} branches, {total_km:.3f} km"
+    console.print(f"[bold]{console_title(study.title)}[/bold]  (design of {extent}, "
                   f"{len(table)} pieces)")
     console.print(_schedule_table(table, governing, currency))
     if study.is_scheme:

@@ -67,19 +67,25 @@ def _length_text(length_m: float) -> str:
 
 def pieces_summary(outcome: DesignOutcome) -> tuple[int, str]:
     """Number of pieces and a one-line schedule, adjacent runs of one option joined:
-    ``"DN300 DI PN16 ×7.6 km; DN250 PE PN10 ×420 m"`` (pipe length)."""
+    ``"DN300 DI PN16 ×7.6 km; DN250 PE PN10 ×420 m"`` (pipe length). On a scheme each
+    branch's runs follow its name: ``"main: DN300 ...; east: DN160 ..."``."""
     if outcome.check is None:
         return 0, ""
+    scheme = outcome.check.study.is_scheme
     runs: list[list[Any]] = []
     for row in outcome.check.pieces.itertuples():
-        key = (row.material, float(row.dn_mm), row.pressure_class)
+        key = (row.branch if scheme else "", row.material, float(row.dn_mm),
+               row.pressure_class)
         if runs and runs[-1][0] == key:
             runs[-1][1] += float(row.length_m)
         else:
             runs.append([key, float(row.length_m)])
-    text = "; ".join(f"DN{dn:g} {material} {pressure_class} ×{_length_text(length)}"
-                     for (material, dn, pressure_class), length in runs)
-    return len(runs), text
+    parts = []
+    for index, ((branch, material, dn, pressure_class), length) in enumerate(runs):
+        first = index == 0 or runs[index - 1][0][0] != branch
+        parts.append(f"{branch + ': ' if branch and first else ''}DN{dn:g} {material} "
+                     f"{pressure_class} ×{_length_text(length)}")
+    return len(runs), "; ".join(parts)
 
 
 def binding_point(outcome: DesignOutcome) -> dict[str, Any]:
