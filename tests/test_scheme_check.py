@@ -17,53 +17,19 @@ import math
 
 import numpy as np
 import pytest
-from builders import DELETE, write_study
+from builders import write_study
 from reference import G, colebrook_f, water_nu_m2_s
+from scheme_api_builders import route_of, two_branch_scheme
 
 from optimiser import check_design, load_design, load_study
-from optimiser.model import Branch, Design, Piece, Route
+from optimiser.model import Branch, Design, Piece
 
-TRUNK_PROFILE = [(0.0, 200.0, "intake", ""), (1000.0, 190.0, "", ""),
-                 (2000.0, 180.0, "", ""), (3000.0, 170.0, "tank", "")]
 NU = water_nu_m2_s(15.0)
 EPS_M = 0.02e-3  # roughness of the test catalogue's PE rows
 BORE = {"PE250": 0.2204, "PE160": 0.141}
 TOL_M = 1e-4
 """The tool takes its viscosity from IAPWS 2008, the hand calculation from the ``iapws``
 package's IAPWS-95 value: they differ in the last digits, worth well under 0.1 mm here."""
-
-
-def _route(points: list[tuple[float, float]]) -> Route:
-    return Route(chainage_m=np.array([c for c, _ in points]),
-                 ground_m=np.array([g for _, g in points]), cover_m=1.0,
-                 labels=[""] * len(points), zones=[""] * (len(points) - 1))
-
-
-def _scheme(tmp_path, north_required_m: float = 180.0):
-    """Trunk 0-3000 m (10 L/s delivered, a valve K = 2 at 1000 m); 'north' leaves at
-    1000 m (5 L/s, junction K 0.8); 'south' leaves at 2300 m, between survey points
-    (4 L/s, junction K 0)."""
-    files = write_study(tmp_path, profile=TRUNK_PROFILE, study={
-        "route": {"fitting": [{"chainage_m": 1000.0, "k": 2.0}], "min_pressure_m": 0.0},
-        "offtake": DELETE,
-        "scenario": [{"name": "peak", "flow": "10 L/s"}],
-        "outlet": {"required_head_m": 170.0, "exit_k": 1.0}},
-        design=[(0.0, 3000.0, "PE", 250, "PN10")])
-    study = load_study(files.study)
-    trunk_design = load_design(files.design, study)
-    north = Branch(name="north", parent="main", at_chainage_m=1000.0,
-                   route=_route([(0.0, 190.0), (500.0, 185.0), (800.0, 180.0)]),
-                   flow_m3_s=0.005, required_head_m=north_required_m, junction_k=0.8)
-    south = Branch(name="south", parent="main", at_chainage_m=2300.0,
-                   route=_route([(0.0, 177.0), (600.0, 165.0)]),
-                   flow_m3_s=0.004, required_head_m=160.0)
-    # The loader puts a node of the parent at each junction.
-    scheme = dataclasses.replace(study, route=study.route.with_nodes([2300.0]),
-                                 branches=(north, south))
-    pe160 = next(o for o in study.catalogue.options if o.dn_mm == 160)
-    design = Design((*trunk_design.pieces, Piece(0.0, 800.0, pe160, "north"),
-                     Piece(0.0, 600.0, pe160, "south")))
-    return scheme, design
 
 
 def _head(velocity_m_s: float) -> float:
@@ -82,7 +48,7 @@ def _friction_m(flow_m3_s: float, bore_m: float, length_m: float) -> float:
 
 
 def _hand(north_required_m: float = 180.0) -> dict[str, float]:
-    """The scheme of :func:`_scheme` worked by hand."""
+    """The scheme of :func:`two_branch_scheme` worked by hand."""
     trunk_d, branch_d = BORE["PE250"], BORE["PE160"]
     q_north, q_south, q_out = 0.005, 0.004, 0.010
     slope = math.hypot(1000.0, 10.0)  # every trunk kilometre falls 10 m
@@ -110,7 +76,7 @@ def _hand(north_required_m: float = 180.0) -> dict[str, float]:
 
 
 def test_two_branch_scheme_by_hand(tmp_path):
-    study, design = _scheme(tmp_path)
+    study, design = two_branch_scheme(tmp_path)
     hand = _hand()
     result = check_design(study, design)
     scenario = result.scenarios[0]
@@ -143,7 +109,7 @@ def test_two_branch_scheme_by_hand(tmp_path):
 
 
 def test_pieces_and_segments_carry_their_branch(tmp_path):
-    study, design = _scheme(tmp_path)
+    study, design = two_branch_scheme(tmp_path)
     result = check_design(study, design, capacity=False)
     assert list(result.pieces["branch"]) == ["main", "north", "south"]
     north = result.pieces.iloc[1]
@@ -160,7 +126,7 @@ def test_pieces_and_segments_carry_their_branch(tmp_path):
 def test_a_branch_short_of_head_is_named(tmp_path):
     hand = _hand()
     required = hand["north_outlet"] + 1.5
-    study, design = _scheme(tmp_path, north_required_m=required)
+    study, design = two_branch_scheme(tmp_path, north_required_m=required)
     result = check_design(study, design)
     assert not result.ok
     short = [v for v in result.violations if v.kind == "outlet_head"]
@@ -178,7 +144,7 @@ def test_trunk_energy_line_equals_the_branches_as_offtakes(tmp_path):
     leaves the trunk like an offtake at its junction, so the trunk's energy line is the
     same as that of the single route with each branch replaced by an offtake of its
     inflow, when the junction K and the branch are on the branch side only."""
-    study, design = _scheme(tmp_path)
+    study, design = two_branch_scheme(tmp_path)
     from optimiser.model import Offtake
     single = dataclasses.replace(
         study, branches=(), offtakes=(Offtake(1000.0, 0.005), Offtake(2300.0, 0.004)))
@@ -194,7 +160,7 @@ def test_uncontrolled_flow_of_a_branch_runs_through_the_trunk(tmp_path):
     required head (contract section 8, the definition), with the trunk above the
     junction carrying the extra flow too: holding the junction's energy fixed would
     overstate it."""
-    study, design = _scheme(tmp_path)
+    study, design = two_branch_scheme(tmp_path)
     outlets = check_design(study, design).scenarios[0].outlets
     north = outlets[1]
     assert north.branch == "north" and north.uncontrolled_flow_m3_s > north.flow_m3_s
@@ -223,3 +189,73 @@ def test_a_single_route_names_the_trunk(tmp_path):
     assert set(result.pieces["branch"]) == {"main"}
     assert [o.branch for o in scenario.outlets] == ["main"]
     assert scenario.outlets[0].uncontrolled_flow_m3_s == scenario.capacity_outlet_only_m3_s
+
+
+def test_a_sub_branch_starts_from_its_parent_branch(tmp_path):
+    """A branch of a branch: 'spur' leaves 'north' at its survey point 500 m (2 L/s,
+    junction K 1.5); the trunk and 'north' carry its flow above their junctions
+    (continuity, common practice, no source)."""
+    study, design = two_branch_scheme(tmp_path)
+    spur = Branch(name="spur", parent="north", at_chainage_m=500.0,
+                  route=route_of([(0.0, 185.0), (400.0, 175.0)]), flow_m3_s=0.002,
+                  required_head_m=150.0, junction_k=1.5)
+    study = dataclasses.replace(study, branches=(*study.branches, spur))
+    pe160 = design.pieces[1].option
+    design = Design((*design.pieces, Piece(0.0, 400.0, pe160, "spur")))
+    result = check_design(study, design, capacity=False)
+    points = result.scenarios[0].points
+    trunk_d, branch_d = BORE["PE250"], BORE["PE160"]
+    q0 = 0.010 + 0.007 + 0.004
+    e_1000_up = 201.0 - 0.5 * _head(_velocity(q0, trunk_d)) \
+        - _friction_m(q0, trunk_d, math.hypot(1000.0, 10.0))
+    v_north_up = _velocity(0.007, branch_d)
+    e_500_up = e_1000_up - 0.8 * _head(v_north_up) \
+        - _friction_m(0.007, branch_d, math.hypot(500.0, 5.0))
+    v_spur = _velocity(0.002, branch_d)
+    spur_points = points[points["branch"] == "spur"]
+    assert spur_points.iloc[0]["energy_m"] == pytest.approx(e_500_up - 1.5 * _head(v_spur),
+                                                            abs=TOL_M)
+    spur_outlet = e_500_up - 1.5 * _head(v_spur) \
+        - _friction_m(0.002, branch_d, math.hypot(400.0, 10.0)) - _head(v_spur)
+    assert result.scenarios[0].outlets[3].branch == "spur"
+    assert result.scenarios[0].outlets[3].energy_m == pytest.approx(spur_outlet, abs=TOL_M)
+    north = points[(points["branch"] == "north") & (points["chainage_m"] == 500.0)]
+    assert list(north["side"]) == ["upstream", "downstream"]  # the flow drops there
+    assert north.iloc[0]["flow_m3_s"] == pytest.approx(0.007)
+    assert north.iloc[1]["flow_m3_s"] == pytest.approx(0.005)
+
+
+def test_reflection_length_of_a_branch_runs_from_the_source(tmp_path):
+    """Slow-closure surge on a branch (contract section 10): L from the source through
+    the junction to the end of the branch."""
+    from optimiser.analysis.surge import reflection_length_m
+    from optimiser.model.lines import line_of
+    study, _ = two_branch_scheme(tmp_path)
+    north = line_of(study, "north")
+    expected = math.hypot(1000.0, 10.0) + math.hypot(500.0, 5.0) + math.hypot(300.0, 5.0)
+    assert reflection_length_m(study, north) == pytest.approx(expected, rel=1e-12)
+    south = line_of(study, "south")
+    assert reflection_length_m(study, south) == pytest.approx(
+        2.3 * math.hypot(1000.0, 10.0) + math.hypot(600.0, 12.0), rel=1e-12)
+    assert reflection_length_m(study) == pytest.approx(3 * math.hypot(1000.0, 10.0))
+
+
+def test_the_linear_check_refuses_atwo_branch_scheme(tmp_path):
+    from optimiser.analysis.linear_check import linear_check
+    study, design = two_branch_scheme(tmp_path)
+    with pytest.raises(ValueError, match="single route"):
+        linear_check(study, design)
+
+
+def test_appurtenances_on_each_branch(tmp_path):
+    """An air valve at a local high point and a washout at a local low point of a
+    branch's own profile (common practice, no source; e.g. AWWA Manual M51)."""
+    from optimiser.analysis.appurtenances import schedule
+    study, design = two_branch_scheme(tmp_path)
+    hump = dataclasses.replace(study.branches[0], route=route_of(
+        [(0.0, 190.0), (200.0, 184.0), (500.0, 187.0), (800.0, 180.0)]))
+    study = dataclasses.replace(study, branches=(hump, study.branches[1]))
+    items = schedule(check_design(study, design, capacity=False))
+    on_north = {(a.kind, a.chainage_m) for a in items if a.branch == "north"}
+    assert ("washout", 200.0) in on_north and ("air valve", 500.0) in on_north
+    assert all(a.branch in ("main", "north", "south") for a in items)

@@ -7,6 +7,7 @@ and facts named beside them, never figures of a demo.
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -24,6 +25,7 @@ from optimiser.io import load_design, load_study
 from optimiser.model import Study
 from optimiser.model.scheme import TRUNK, Branch
 
+ROOT = Path(__file__).resolve().parent.parent
 LITRE_M3 = 1e-3  # 1 L = 1e-3 m^3 (SI Brochure, BIPM 2019, table 8)
 
 
@@ -238,3 +240,54 @@ def test_design_csv_columns_add_branch_only_for_a_scheme(tmp_path, study_files):
     assert design_csv_columns(load_study(study_files.study), columns) == columns
     scheme = load_study(write_branch_scheme(tmp_path).study)
     assert design_csv_columns(scheme, columns) == ["branch", "from_m", "to_m"]
+
+
+# ----------------------------------------------------------------- the compact form's rule
+
+
+def _fork(tmp_path, folder: str, east_first: bool, east_demand: str):
+    nodes = [{"name": "intake", "ground_m": 199.0}, {"name": "fork", "ground_m": 180.0},
+             {"name": "east", "ground_m": 170.0, "demand": east_demand},
+             {"name": "west", "ground_m": 170.0, "demand": "2 L/s"}]
+    links = [{"from": "intake", "to": "fork", "length_m": 500.0},
+             {"from": "fork", "to": "east", "length_m": 300.0},
+             {"from": "fork", "to": "west", "length_m": 300.0}]
+    if not east_first:
+        links[1], links[2] = links[2], links[1]
+    return load_study(write_network_scheme(tmp_path, folder=folder, nodes=nodes,
+                                           links=links).study)
+
+
+@pytest.mark.parametrize(("east_first", "east_demand", "trunk_end"), [
+    (True, "3 L/s", "east"), (False, "3 L/s", "east"),   # the larger demand wins
+    (True, "1 L/s", "west"), (False, "1 L/s", "west"),
+    (True, "2 L/s", "east"), (False, "2 L/s", "west"),   # a tie: the link given first
+])
+def test_the_trunk_follows_the_largest_downstream_demand(tmp_path, east_first, east_demand,
+                                                         trunk_end):
+    """The compact form's rule (docs/file-formats.md): at each node the path follows the
+    link whose end carries the largest downstream demand, ties by file order; the other
+    subtree is a branch named after its end node, leaving at the fork's chainage."""
+    study = _fork(tmp_path, "fork", east_first, east_demand)
+    assert study.route.labels[-1] == trunk_end
+    other = "west" if trunk_end == "east" else "east"
+    assert study.branch_names == (TRUNK, other)
+    assert study.branch(other).at_chainage_m == 500.0
+
+
+def test_every_node_of_the_demo_network_is_on_exactly_one_path():
+    """The demo village (invented; checked for structure only): each of its nodes is a
+    point of one path, junction nodes also start their branches."""
+    study = load_study(ROOT / "studies/demo-village-network/study.toml")
+    labels = [label for label in study.route.labels if label]
+    for branch in study.branches:
+        labels.extend(label for label in branch.route.labels[1:] if label)
+    nodes = ((ROOT / "studies/demo-village-network/nodes.csv").read_text().splitlines())[1:]
+    assert sorted(labels) == sorted(line.split(",")[0] for line in nodes)
+
+
+def test_the_demo_scheme_loads_with_its_branches_and_sub_branch():
+    study = load_study(ROOT / "studies/demo-branched-scheme/study.toml")
+    assert len(study.branches) >= 6
+    assert any(b.parent != TRUNK for b in study.branches)
+    assert any(b.offtakes for b in study.branches) and any(b.fittings for b in study.branches)

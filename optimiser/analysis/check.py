@@ -30,8 +30,17 @@ from optimiser.analysis.limits import (
 )
 from optimiser.analysis.scheme_check import DeliveryPoint, SchemeHydraulics
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
+from optimiser.analysis.tanks import piece_static_heads, tank_cost, tanks_short
 from optimiser.hydraulics.gradeline import static_head_m
-from optimiser.model import TRUNK, Design, DesignRules, Scenario, Study, SurgeMethod
+from optimiser.model import (
+    TRUNK,
+    BreakPressureTank,
+    Design,
+    DesignRules,
+    Scenario,
+    Study,
+    SurgeMethod,
+)
 
 
 @dataclass(frozen=True)
@@ -68,6 +77,8 @@ class ScenarioResult:
     capacity_outlet_only_m3_s: float | None = None
     outlets: list[DeliveryPoint] = field(default_factory=list)
     """One per delivery point: the trunk's, then every branch's (contract section 7)."""
+    tank_inflow_energy_m: np.ndarray | None = None
+    """Energy left to fill each tank of ``CheckResult.tanks`` [m]; None: no tank."""
 
     @property
     def outlet_margin_m(self) -> float:
@@ -89,6 +100,9 @@ class CheckResult:
     total_cost: float
     change_cost_total: float = 0.0
     notes: list[str] = field(default_factory=list)
+    tanks: tuple[BreakPressureTank, ...] = ()
+    """Every tank on the route (the study's and the design's new ones), by chainage."""
+    tank_cost_total: float = 0.0
 
     @property
     def ok(self) -> bool:
@@ -135,6 +149,14 @@ def _line_piece_rows(study: Study, part: DesignHydraulics,
                                        else option.surge_limit_head_m),
             "branch": part.line.name,
         })
+    if part.tanks.any or np.any(part.static_level_m != top_water):
+        # The static line restarts at every tank (section 8), also above this line.
+        heads, levels, where = piece_static_heads(
+            grid.segment_piece, len(pieces), part.static_level_m,
+            grid.node_pipe_level_m[:-1], grid.node_pipe_level_m[1:], grid.start_m, grid.end_m)
+        for row, head, level, at in zip(rows, heads, levels, where, strict=True):
+            row["static_head_m"], row["lowest_pipe_level_m"] = float(head), float(level)
+            row["lowest_chainage_m"] = float(at)
     return rows
 
 
@@ -304,7 +326,34 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
             violations.extend(_velocity_violations(study, scenario.name, result.segments,
                                                    len(design.pieces), study.rules))
         violations.extend(_outlet_violations(study, scenario, result.outlets))
+        violations.extend(_tank_violations(study, scheme, scenario, arrays, result))
         results.append(result)
     change_total = study.costs.change_cost * design.n_changes
     total = float(pieces["cost"].sum()) + change_total
-    return CheckResult(study, design, results, violations, pieces, total, change_total)
+    tanks = tuple(t for part in scheme.parts.values() for t in part.tanks.tanks)
+    tank_total = sum(tank_cost(study, t) for t in tanks)
+    if tank_total:
+        total += tank_total
+    return CheckResult(study, design, results, violations, pieces, total, change_total,
+                       tanks=tanks, tank_cost_total=float(tank_total))
+
+
+def _tank_violations(study: Study, scheme: SchemeHydraulics, scenario: Scenario,
+                     arrays: dict[str, ScenarioArrays], result: ScenarioResult
+                     ) -> list[Violation]:
+    """``tank_inflow`` where a tank cannot fill at the scenario's flows (section 8);
+    records every tank's energy left to fill it on ``result`` (lines in order)."""
+    violations, energies = [], []
+    for name, part in scheme.parts.items():
+        inflow = arrays[name].tank_inflow_energy_m
+        if inflow is None:
+            continue
+        energies.append(inflow)
+        for tank, energy in tanks_short(part.tanks, inflow, CHECK_TOLERANCE):
+            violations.append(Violation(
+                "tank_inflow", scenario.name, tank.chainage_m, energy, tank.water_level_m,
+                text.tank_cannot_fill(_who(study, scenario.name, name), energy,
+                                      tank.water_level_m, tank.chainage_m), name))
+    if energies:
+        result.tank_inflow_energy_m = np.concatenate(energies)
+    return violations

@@ -19,6 +19,13 @@ import pandas as pd
 from optimiser.analysis.flows import friction_gradient, line_flows_m3_s, node_point_k
 from optimiser.analysis.grid import Grid, build_grid
 from optimiser.analysis.limits import node_min_pressure_m
+from optimiser.analysis.tanks import (
+    energy_with_tanks,
+    inflow_energy_m,
+    static_levels_m,
+    tank_nodes,
+    tanks_of,
+)
 from optimiser.hydraulics.gradeline import (
     energy_along_chain,
     hydraulic_grade_m,
@@ -43,6 +50,8 @@ class ScenarioArrays:
     energy_end_m: np.ndarray
     after_final_fitting_m: float
     outlet_energy_m: float
+    tank_inflow_energy_m: np.ndarray | None = None
+    """Energy left to fill each tank (arriving energy - inlet loss) [m]; None: no tank."""
 
 
 @dataclass(frozen=True)
@@ -75,7 +84,8 @@ class DesignHydraulics:
     ``piece_index`` maps the line's own pieces to their index in ``design.pieces``.
     """
 
-    def __init__(self, study: Study, design: Design, line: Line | None = None) -> None:
+    def __init__(self, study: Study, design: Design, line: Line | None = None,
+                 start_static_level_m: float | None = None) -> None:
         self.study = study
         self.design = design
         self.line = trunk_line(study) if line is None else line
@@ -83,8 +93,17 @@ class DesignHydraulics:
         if not len(self.piece_index):
             raise ValueError(f"the design has no pieces on branch '{self.line.name}'")
         own = Design(tuple(design.pieces[i] for i in self.piece_index))
-        junctions = [child.at_chainage_m for child in children_of(study, self.line.name)]
-        self.grid: Grid = build_grid(self.line.route.with_nodes(junctions), own.boundaries_m)
+        tanks = tanks_of(study, design, self.line.name)
+        # Every junction and tank stands at a node of the grid (a tank of a --tanks file
+        # may not be a survey point).
+        nodes = [child.at_chainage_m for child in children_of(study, self.line.name)]
+        nodes += [t.chainage_m for t in tanks]
+        self.grid: Grid = build_grid(self.line.route.with_nodes(nodes), own.boundaries_m)
+        self.tanks = tank_nodes(tanks, self.grid.node_chainage_m)
+        top = study.source.top_water_level_m if start_static_level_m is None \
+            else start_static_level_m
+        self.static_level_m = static_levels_m(top, len(self.grid.segment_length_m),
+                                              self.tanks)
         options = [own.pieces[p].option for p in self.grid.segment_piece]
         self.diameter_m = np.array([o.internal_diameter_m for o in options])
         self.roughness_mm = np.array([o.roughness_mm for o in options])
@@ -107,13 +126,21 @@ class DesignHydraulics:
         gradient = friction_gradient(study, scenario, flow, self.diameter_m,
                                      self.roughness_mm, self.hazen_williams_c)
         start_level = scenario.source_level_m if start_energy_m is None else start_energy_m
-        start, end = energy_along_chain(
-            start_level, line.start_k, self.grid.segment_length_m,
-            gradient, line.local_k_per_km, velocity, self.node_point_k)
+        inflow = None
+        if self.tanks.any:
+            rules = study.tank_rules
+            start, end = energy_with_tanks(
+                start_level, line.start_k, rules.outlet_k, self.grid.segment_length_m,
+                gradient, line.local_k_per_km, velocity, self.node_point_k, self.tanks)
+            inflow = inflow_energy_m(end, velocity, rules.inlet_k, self.tanks)
+        else:
+            start, end = energy_along_chain(
+                start_level, line.start_k, self.grid.segment_length_m,
+                gradient, line.local_k_per_km, velocity, self.node_point_k)
         after_fitting, outlet = outlet_energy_m(end[-1], velocity_head_m(velocity[-1]),
                                                 self.node_point_k[-1], line.exit_k)
         return ScenarioArrays(flow, velocity, gradient, start, end, float(after_fitting),
-                               float(outlet))
+                               float(outlet), inflow)
 
     def energy_arriving_m(self, arrays: ScenarioArrays, chainage_m: float) -> float:
         """Energy [m] arriving at the node at ``chainage_m`` (its upstream side, before a
@@ -167,6 +194,8 @@ class DesignHydraulics:
         hgl = hydraulic_grade_m(at.energy_m, at.velocity_m_s)
         pipe = grid.node_pipe_level_m[node]
         top_water = self.study.source.top_water_level_m
+        if self.tanks.any:  # the static line restarts at every tank
+            top_water = self.static_level_m[at.segment]
         return pd.DataFrame({
             "chainage_m": grid.node_chainage_m[node],
             "side": _SIDE_NAMES[at.side],
@@ -197,4 +226,13 @@ class DesignHydraulics:
     def least_pressure_margin_m(self, arrays: ScenarioArrays) -> float:
         """Smallest pressure head less its minimum [m] over the line's check points."""
         points = self.point_arrays(arrays)
-        return float((self.pressure_m(points) - self.node_min_pressure_m[points.node]).min())
+        margin = float((self.pressure_m(points) - self.node_min_pressure_m[points.node]).min())
+        if arrays.tank_inflow_energy_m is not None:  # every tank must still fill
+            margin = min(margin, float((arrays.tank_inflow_energy_m
+                                        - self.tanks.level_m).min()))
+        return margin
+
+    def static_level_at_m(self, chainage_m: float) -> float:
+        """Static line [m] at a node of the line (a junction: no tank stands there)."""
+        node = int(np.argmin(np.abs(self.grid.node_chainage_m - chainage_m)))
+        return float(self.static_level_m[min(node, len(self.static_level_m) - 1)])

@@ -70,7 +70,13 @@ class SchemeHydraulics:
         if study.is_scheme and unknown:
             raise ValueError(f"the design has pieces on branches the study does not have: "
                              f"{', '.join(unknown)}")
-        self.parts = {line.name: DesignHydraulics(study, design, line) for line in self.lines}
+        # A branch's static line starts at its parent's at the junction: the source's top
+        # water level, or the water level of the last break-pressure tank above it.
+        self.parts: dict[str, DesignHydraulics] = {}
+        for line in self.lines:
+            static = None if line.parent is None else \
+                self.parts[line.parent].static_level_at_m(line.at_chainage_m)
+            self.parts[line.name] = DesignHydraulics(study, design, line, static)
         self._by_name = {line.name: line for line in self.lines}
 
     @property

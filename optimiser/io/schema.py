@@ -146,6 +146,27 @@ class SolverTable(_Table):
     mip_gap: float = Field(1e-4, ge=0.0, lt=1.0)
 
 
+class TankTable(_Table):
+    """``[[break_pressure_tank]]`` (contract section 8): a tank the study always has."""
+
+    chainage_m: float
+    branch: str = "main"
+    water_level_m: float | None = None
+    label: str = ""
+
+
+class TanksTable(_Table):
+    """``[break_pressure_tanks]`` (contract section 8): losses of every tank and what
+    ``design`` may add."""
+
+    cost: float | None = Field(None, gt=0.0)
+    sites: Literal["every point", "marked"] = "every point"
+    height_m: float = Field(1.0, ge=0.0)
+    inlet_k: float = Field(1.0, ge=0.0)
+    outlet_k: float = Field(0.5, ge=0.0)
+    max_count: int | None = Field(None, ge=0)
+
+
 class StudyFile(_Table):
     title: str = Field(min_length=1)
     currency: str = ""
@@ -163,9 +184,11 @@ class StudyFile(_Table):
     solver: SolverTable = Field(default_factory=SolverTable)
     surge: SurgeTable = Field(default_factory=SurgeTable)
     quantities: QuantitiesTable = Field(default_factory=QuantitiesTable)
+    break_pressure_tank: list[TankTable] = Field(default_factory=list)
+    break_pressure_tanks: TanksTable = Field(default_factory=TanksTable)
 
 
-_ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting", "branch"}
+_ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting", "branch", "break_pressure_tank"}
 
 
 def describe_location(location: tuple[Any, ...]) -> str:

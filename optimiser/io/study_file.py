@@ -30,6 +30,7 @@ from optimiser.io.profile_file import load_catalogue, load_profile
 from optimiser.io.schema import StudyFile, describe_location
 from optimiser.io.surge_inputs import surge_problems, surge_settings
 from optimiser.io.tables import decode_text
+from optimiser.io.tank_inputs import study_tanks, tank_rules
 from optimiser.io.units import parse_flow_m3_s
 from optimiser.model import (
     Catalogue,
@@ -80,9 +81,15 @@ def load_study(path: str | Path) -> Study:
     scenarios = scenario_branch_flows(path, spec, scenarios, drafts, branches, problems)
     if network is not None:
         scenarios = network.with_trunk_flow(scenarios)
+    # A tank may stand neither at an offtake nor at a junction (contract section 8).
+    tanks = study_tanks(path, spec, route, offtakes + [
+        Offtake(c, 0.0, label="a junction") for c in junctions], problems)
+    rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
+                                problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
-                             [f.chainage_m for f in fittings] + junctions)
+                             [f.chainage_m for f in fittings] + junctions +
+                             [t.chainage_m for t in tanks])
     outlet = network.outlet if network is not None else \
         Outlet(spec.outlet.required_head_m, spec.outlet.exit_k)
     viscosity, temperature = _water(spec)
@@ -106,7 +113,7 @@ def load_study(path: str | Path) -> Study:
         surge=surge_settings(spec),
         hazen_williams_coefficient=spec.catalogue.hazen_williams_coefficient,
         quantities=QuantityRules(**spec.quantities.model_dump()),
-        branches=branches,
+        branches=branches, tanks=tanks, tank_rules=rules_of_tanks,
     )
 
 

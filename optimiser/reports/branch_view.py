@@ -18,6 +18,7 @@ import numpy as np
 import pandas as pd
 
 from optimiser.analysis.check import CheckResult, ScenarioResult
+from optimiser.analysis.tanks import tank_cost as tank_cost_of
 from optimiser.model import TRUNK, Outlet, Study
 from optimiser.model.lines import line_of
 
@@ -56,16 +57,32 @@ def _scenario_on(scenario: ScenarioResult, name: str, renumber: dict[int, int]
         outlets=[outlet])
 
 
+def _static_level_m(result: CheckResult, name: str) -> float:
+    """The static line's level at the start of line ``name`` as the check found it (the
+    source's top water level, or a break-pressure tank's upstream of the junction)."""
+    points = result.scenarios[0].points
+    first = points[points["branch"] == name].iloc[0]
+    return float(first["pipe_level_m"] + first["static_pressure_m"])
+
+
 def branch_view(result: CheckResult, name: str) -> CheckResult:
     """The part of ``result`` on line ``name`` (the trunk is ``"main"``), as the check
-    result of a single route."""
+    result of a single route. Tanks stand on the trunk only; a branch's static line is
+    level at its start's (the line it leaves, at the junction)."""
     indices = [i for i, piece in enumerate(result.design.pieces) if piece.branch == name]
     renumber = {index: position for position, index in enumerate(indices)}
     pieces = result.pieces.iloc[indices].reset_index(drop=True)
     change_total = result.study.costs.change_cost * result.design.on(name).n_changes
+    study = line_study(result.study, name)
+    if name != TRUNK:
+        study = dataclasses.replace(study, source=dataclasses.replace(
+            study.source, top_water_level_m=_static_level_m(result, name)))
+    tanks = tuple(t for t in result.tanks if t.branch == name)
+    tank_cost = float(sum(tank_cost_of(result.study, t) for t in tanks))
     return CheckResult(
-        line_study(result.study, name), result.design.on(name),
+        study, result.design.on(name),
         [_scenario_on(s, name, renumber) for s in result.scenarios],
         [v for v in result.violations if v.branch == name], pieces,
-        float(pieces["cost"].sum()) + change_total, change_total)
+        float(pieces["cost"].sum()) + change_total + tank_cost, change_total,
+        tanks=tanks, tank_cost_total=tank_cost)
 

@@ -9,6 +9,7 @@ from optimiser.analysis.check import CheckResult, ScenarioResult
 from optimiser.model import Friction, Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.outlet_control import outlets
+from optimiser.reports.tank_tables import tank_dicts
 
 POINT_FIELDS = ["branch", "chainage_m", "side", "label", "ground_m", "pipe_level_m",
                 "energy_m", "hgl_m", "pressure_m", "static_pressure_m", "min_pressure_m",
@@ -83,6 +84,8 @@ def check_dict(result: CheckResult, command: str = "check") -> dict[str, Any]:
         "pieces": result.pieces[PIECE_FIELDS].to_dict(orient="records"),
         "total_cost": result.total_cost,
         "change_cost_total": result.change_cost_total,
+        "break_pressure_tanks": tank_dicts(result),
+        "tank_cost_total": result.tank_cost_total,
         "assumptions": assumptions(study),
         "cautions": list(CAUTIONS),
     }

@@ -11,6 +11,7 @@ branches that leave it are marked.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -95,8 +96,7 @@ def long_section(result: CheckResult, name: str, appurtenances: list[Appurtenanc
     view = branch_view(result, name)
     index = governing_index(view)
     scenario = view.scenarios[index]
-    one = CheckResult(view.study, view.design, [scenario], view.violations, view.pieces,
-                      view.total_cost, view.change_cost_total)
+    one = dataclasses.replace(view, scenarios=[scenario])
     fig = profile_figure(one, title="", colour=colour,
                          appurtenances=[a for a in appurtenances if a.branch == name])
     fig.for_each_trace(lambda t: t.update(visible=True),

@@ -18,6 +18,7 @@ from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.numbers import chainage_label
 from optimiser.reports.outlet_control import print_outlet_control
 from optimiser.reports.scheme_terminal import print_scheme_summary
+from optimiser.reports.tank_tables import print_tanks
 from optimiser.reports.text import console_title
 
 
@@ -112,6 +113,7 @@ def print_check(console: Console, result: CheckResult) -> None:
     console.print(critical)
     if study.is_scheme:
         print_scheme_summary(console, result)
+    print_tanks(console, result)
     print_outlet_control(console, result)
     print_violations(console, result)
 
