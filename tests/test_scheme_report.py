@@ -66,6 +66,9 @@ def test_branch_view_is_the_check_on_that_line(checked):
             assert set(part.points["branch"]) == {name}
             assert len(part.points) == int((whole.points["branch"] == name).sum())
             assert part.segments["piece"].max() == len(view.pieces) - 1
+        # no tanks: every line's static line is the source's top water level
+        assert view.study.source.top_water_level_m == pytest.approx(
+            checked.study.source.top_water_level_m)
         assert view.study.route.total_chainage_m == pytest.approx(
             float(checked.study.route.total_chainage_m if name == "main"
                   else checked.study.branch(name).route.total_chainage_m))
