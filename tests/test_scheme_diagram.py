@@ -112,6 +112,9 @@ def test_in_plan_when_every_line_has_coordinates(scheme):
         assert (x, y) == pytest.approx((ex[0], ey[0]))
     assert fig.layout.yaxis.scaleanchor == "x"
     assert len(_traces(fig, "branch")) == len(lines)
+    # in plan no row names the lines: every delivery label starts with its line's name
+    for line, text in zip(lines, delivery.text, strict=True):
+        assert text.startswith(line.name)
 
 
 def _pieces_table(design) -> pd.DataFrame:

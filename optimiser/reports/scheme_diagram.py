@@ -154,9 +154,12 @@ def _piece_chainages(drawing: _Drawing, name: str, from_m: float, to_m: float) -
     return np.concatenate([[from_m], inside, [to_m]])
 
 
-def delivery_label(line: Line) -> str:
-    """The name shown at a line's delivery point: its last survey label, else its name."""
+def delivery_label(line: Line, plan: bool = False) -> str:
+    """The name shown at a line's delivery point: its last survey label, else its name;
+    in plan (no row names beside the lines) the line's name and the label."""
     label = line.route.labels[-1] if line.route.labels else ""
+    if plan and label and label != line.name:
+        return f"{line.name}: {label}"
     return label or line.name
 
 
@@ -168,7 +171,7 @@ def _point_traces(fig: go.Figure, drawing: _Drawing) -> None:
     symbol, colour, size = MARKERS["outlet"]
     fig.add_trace(go.Scatter(
         x=[x[0] for x, _ in ends], y=[y[0] for _, y in ends], mode="markers+text",
-        name="delivery point", text=[delivery_label(p.line) for p in placements],
+        name="delivery point", text=[delivery_label(p.line, drawing.plan) for p in placements],
         textposition="middle right", textfont={"size": 10, "color": "#222222"},
         marker={"symbol": symbol, "color": colour, "size": size * 0.8},
         customdata=[f"{p.line.name}: required head {p.line.required_head_m:,.2f} m"
