@@ -23,13 +23,14 @@ def parse_level_m(option: str, text: str) -> float:
 
 
 def parse_sweep_value(option: str, variable: str, text: str) -> float:
-    """``--from``/``--to`` in SI units: a flow with its unit for ``flow``, a plain number
-    for a pump variable, else metres."""
+    """``--from``/``--to`` in SI units: a flow with its unit for ``flow`` (or a branch's
+    flow), a plain number for a pump variable, else metres."""
+    from optimiser.sweeps.branch_variants import is_flow
     from optimiser.sweeps.pump_variants import PUMP_VARIABLES, parse_pump_value
 
     if variable in PUMP_VARIABLES:
         return parse_pump_value(option, variable, text)
-    if variable == "flow":
+    if is_flow(variable):
         from optimiser.io.units import parse_flow_m3_s
 
         try:
@@ -43,12 +44,13 @@ def parse_range(vary: str, from_text: str, to_text: str
                 ) -> tuple[str, float | None, float | None, list[str]]:
     """The variable of ``--vary`` and the ``--from``/``--to`` values in SI units (None
     where unreadable), with the problems found."""
-    from optimiser.sweeps.variants import VARIABLES
+    from optimiser.sweeps.branch_variants import normalised
+    from optimiser.sweeps.variants import known_variable, variable_names
 
-    variable = vary.strip().lower()
-    if variable not in VARIABLES:
+    variable = normalised(vary)
+    if not known_variable(variable):
         return variable, None, None, [f"--vary: cannot vary {vary!r}; choose one of "
-                                      f"{', '.join(VARIABLES)}"]
+                                      f"{variable_names()}"]
     problems: list[str] = []
     values: list[float | None] = []
     for option, text in (("--from", from_text), ("--to", to_text)):

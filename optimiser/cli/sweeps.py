@@ -121,7 +121,8 @@ def tradeoff(
         "--vary", help="What to vary: source-level (m), required-head (m) or flow (with a "
         "unit, e.g. \"40 L/s\"; the first scenario's outlet flow, the others in proportion); "
         "with a [pump]: energy-price (per kWh), discount-rate (0.05 or 5 %) or hours (a "
-        "year, all scenarios).",
+        "year, all scenarios); on a scheme also branch-head:NAME (m) or branch-flow:NAME "
+        "(with a unit) of one branch.",
         show_default=False, metavar="QUANTITY")],
     from_text: Annotated[str, typer.Option("--from", help="First value.", show_default=False,
                                            metavar="VALUE")],
@@ -152,6 +153,10 @@ def tradeoff(
     study = _load(study_path, problems)
     if study is not None and study.pump is None and variable in PUMP_VARIABLES:
         problems.append(f"--vary {variable}: the study has no [pump] (contract section 9)")
+    if study is not None:
+        from optimiser.sweeps.branch_variants import branch_problems
+
+        problems += branch_problems(study, variable)
     if problems:
         fail_input(InputError(problems))
     assert study is not None and low is not None and high is not None
@@ -295,10 +300,10 @@ def sensitivity(
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
-    if study is not None and study.is_scheme:
-        problems.append(f"{study_path}: sensitivity does not handle branched schemes yet "
-                        "(its fast linear check covers a single route); check the design "
-                        "at each roughness with `check` instead")
+    if study is not None and study.is_scheme and samples is not None:
+        problems.append(f"{study_path}: the Monte Carlo (--samples) does not handle "
+                        "branched schemes yet (its fast linear check covers a single "
+                        "route); the roughness sweep and --robust do: leave out --samples")
     given = _given_design(study, design_path, rates, problems)
     if problems:
         fail_input(InputError(problems))

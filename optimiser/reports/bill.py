@@ -15,8 +15,11 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+import pandas as pd
+
 from optimiser.analysis.appurtenances import Appurtenance
 from optimiser.analysis.check import CheckResult
+from optimiser.reports.scheme_tables import by_branch
 
 _EPS = 1e-6
 
@@ -33,12 +36,23 @@ class BillLine:
     laid_length_m: float | None = None
     standard_length_m: float | None = None
     pipes: int | None = None
+    branch: str | None = None
+    """The branch of a scheme's pipe line (None on a single route and for other items)."""
 
 
 def _pipe_lines(result: CheckResult) -> list[BillLine]:
+    """Pipe by material, size and class; on a scheme per branch as well (each branch is
+    laid, and its whole pipes counted, on its own), branches in the study's order."""
+    if not result.study.is_scheme:
+        return _option_lines(result, result.pieces, None)
+    return [line for branch, part in by_branch(result.study, result.pieces)
+            for line in _option_lines(result, part, branch)]
+
+
+def _option_lines(result: CheckResult, pieces: pd.DataFrame,
+                  branch: str | None) -> list[BillLine]:
     study = result.study
     rules = study.quantities
-    pieces = result.pieces
     lines = []
     for (material, dn_mm, pressure_class), group in pieces.groupby(
             ["material", "dn_mm", "pressure_class"], sort=False):
@@ -50,13 +64,14 @@ def _pipe_lines(result: CheckResult) -> list[BillLine]:
         rate = None if option is None else option.cost_per_m
         label = f"{material} DN{dn_mm:g} {pressure_class} pipe, supplied and laid"
         lines.append(BillLine(label, "m", supplied, rate,
-                              None if rate is None else supplied * rate, laid, standard, count))
+                              None if rate is None else supplied * rate, laid, standard, count,
+                              branch))
         if rate is not None:
             extra = float(group["cost"].sum()) - laid * rate
             if abs(extra) >= 0.5:
                 lines.append(BillLine(
                     f"extra over {material} DN{dn_mm:g} {pressure_class} for zone cost "
-                    "factors", "sum", 1.0, extra, extra))
+                    "factors", "sum", 1.0, extra, extra, branch=branch))
     return lines
 
 

@@ -15,6 +15,8 @@ from __future__ import annotations
 
 import hashlib
 
+from plotly.colors import sample_colorscale
+
 OPTION_PALETTE = ("#8C2449", "#1D6E73", "#7A5A0A", "#5E2F73", "#1F3A68", "#9C3D1B",
                   "#2E6B34", "#4A4A4A")
 """Option colours, in the order they are given out."""
@@ -50,3 +52,14 @@ def option_colours(keys: list[str]) -> dict[str, str]:
         colours[key] = next(c for c in ring if c in free)
         free.remove(colours[key])
     return colours
+
+
+def size_colours(dns: list[float]) -> dict[float, str]:
+    """A colour per nominal size, darker for larger DN: a sequential scale (Cividis:
+    Nuñez, Anderton & Renslow 2018, optimised for colour-vision deficiency), shared by
+    the plan view and the scheme diagram."""
+    sizes = sorted(set(dns))
+    if len(sizes) == 1:
+        return {sizes[0]: sample_colorscale("Cividis", [0.35])[0]}
+    positions = [0.85 - 0.75 * i / (len(sizes) - 1) for i in range(len(sizes))]
+    return dict(zip(sizes, sample_colorscale("Cividis", positions), strict=True))

@@ -8,6 +8,7 @@ from rich.console import Console
 from rich.table import Table
 
 from optimiser.model import Status
+from optimiser.model.lines import study_lines
 from optimiser.reports.life_cycle import COMPARE_COLUMNS, compare_fields, is_pumped_table
 from optimiser.reports.text import short_title
 from optimiser.sweeps.options import OptionResult, option_name
@@ -33,7 +34,9 @@ def _lengths(pieces: pd.DataFrame, column: str, fmt: str) -> str:
 def comparison_row(option: OptionResult) -> dict:
     study = option.study
     outcome = option.outcome
-    design_flow = max(s.outlet_flow_m3_s for s in study.scenarios) * 1000.0
+    # Flow delivered at every delivery point (the outlet alone on a single route).
+    design_flow = max(sum(line.delivery_flow_m3_s(s) for line in study_lines(study))
+                      for s in study.scenarios) * 1000.0
     row = {"option": option.label, "title": short_title(study.title),
            "study": str(option.path), "currency": study.currency,
            "design_flow_l_s": design_flow}

@@ -24,6 +24,7 @@ from optimiser.reports.life_cycle_chart import life_cycle_bars
 from optimiser.reports.pages import TitleBlock, chart, render
 from optimiser.reports.pdf import PRINTABLE_WIDTH_PX
 from optimiser.reports.run_summary import RunSummary
+from optimiser.reports.scheme_diagram import scheme_figure
 from optimiser.reports.workbook import (
     Column,
     add_sheet,
@@ -114,8 +115,11 @@ def comparison_html(table: pd.DataFrame, options: list[OptionResult], keys: list
             sections.append({"key": key, "colour": colours[key], "chart": None,
                              "reason": reason or "no design", "inputs": []})
             continue
-        figure = profile_figure(outcome.check, title="", colour=colours[key],
-                                appurtenances=schedule(outcome.check))
+        check = outcome.check
+        # A scheme is shown by its diagram: one long section could show only the trunk.
+        figure = (scheme_figure(check.study, check.design) if check.study.is_scheme else
+                  profile_figure(check, title="", colour=colours[key],
+                                 appurtenances=schedule(check)))
         charts.append(chart(key, f"plot-{index}", figure, width))
         sections.append({"key": key, "colour": colours[key], "chart": charts[-1],
                          "reason": "", "inputs": input_tables(

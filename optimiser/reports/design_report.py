@@ -11,10 +11,12 @@ from rich.console import Console
 from rich.table import Table
 
 from optimiser.model import Status, Study
+from optimiser.model.lines import study_lines
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.life_cycle import PUMP_STATEMENT, print_design_station
 from optimiser.reports.outlet_control import print_outlet_control
 from optimiser.reports.results import assumptions, check_dict
+from optimiser.reports.scheme_terminal import print_scheme_summary
 from optimiser.reports.surge_table import print_class_table
 from optimiser.reports.sweep_tables import gap_text
 from optimiser.reports.tank_tables import print_tank_totals, print_tanks
@@ -57,6 +59,8 @@ def schedule(outcome: DesignOutcome) -> pd.DataFrame:
                           "internal_diameter_mm", "cost", "static_head_m", "allowable_head_m",
                           "wave_speed_m_s", "surge_head_m", "allowable_surge_head_m",
                           "class_governs"]].copy()
+    if check.study.is_scheme:
+        table.insert(0, "branch", check.pieces["branch"])
     segments = check.scenarios[governing_scenario(outcome)].segments
     grouped = segments.groupby("piece")
     table["velocity_m_s"] = grouped["velocity_m_s"].max().to_numpy()
@@ -120,7 +124,11 @@ def design_dict(outcome: DesignOutcome, study: Study, command: str = "design") -
 
 
 def design_table(outcome: DesignOutcome) -> pd.DataFrame:
-    """design.csv: contract section 4 columns first, then length, ID, cost, hydraulics."""
+    """design.csv: contract section 4 columns first, then length, ID, cost, hydraulics;
+    a scheme's has ``branch`` first (contract section 7)."""
+    assert outcome.check is not None
+    if outcome.check.study.is_scheme:
+        return schedule(outcome)[["branch", *DESIGN_CSV_COLUMNS]]
     return schedule(outcome)[DESIGN_CSV_COLUMNS]
 
 
@@ -143,9 +151,15 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     table = schedule(outcome)
     governing = outcome.check.scenarios[governing_scenario(outcome)].name
     length_km = study.route.total_chainage_m / 1000
-    console.print(f"[bold]{console_title(study.title)}[/bold]  (design of {length_km:.3f} km, "
+    extent = f"{length_km:.3f} km"
+    if study.is_scheme:
+        total_km = sum(line.route.total_chainage_m for line in study_lines(study)) / 1000
+        extent = f"a trunk and {len(study.branches)} branches, {total_km:.3f} km"
+    console.print(f"[bold]{console_title(study.title)}[/bold]  (design of {extent}, "
                   f"{len(table)} pieces)")
     console.print(_schedule_table(table, governing, currency))
+    if study.is_scheme:
+        print_scheme_summary(console, outcome.check)
     print_class_table(console, outcome.check)
     status = {Status.OPTIMAL: "[bold green]optimal[/bold green] (proven within the gap)",
               Status.FEASIBLE: "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
@@ -189,7 +203,9 @@ column and every number is shown whole."""
 def _schedule_table(table: pd.DataFrame, governing: str, currency: str) -> Table:
     """The schedule of pieces for the terminal. Numbers are never cut: each number column
     is at least as wide as its widest value; only the material's name may wrap."""
-    rows = [(chainage_label(row.from_m), chainage_label(row.to_m), f"{row.length_m:,.1f}",
+    scheme = "branch" in table
+    rows = [((row.branch,) if scheme else ()) + (
+             chainage_label(row.from_m), chainage_label(row.to_m), f"{row.length_m:,.1f}",
              row.material, f"{row.dn_mm:g}", f"{row.internal_diameter_mm:g}",
              row.pressure_class, f"{row.velocity_m_s:.2f}",
              f"{row.unit_head_loss_m_per_km:.2f}", f"{row.cost:,.0f}")
@@ -197,11 +213,13 @@ def _schedule_table(table: pd.DataFrame, governing: str, currency: str) -> Table
     view = Table(title=f"Schedule (velocity and unit head loss in scenario {governing!r})",
                  title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False,
                  padding=(0, 0, 0, 0))  # the box puts a space between columns
-    headers = (*SCHEDULE_HEADERS, f"cost\n{currency}".strip())
+    headers = (*(("branch",) if scheme else ()), *SCHEDULE_HEADERS,
+               f"cost\n{currency}".strip())
     for index, header in enumerate(headers):
-        wraps = header == "material"
+        wraps = header in ("material", "branch")
         widest = max((len(row[index]) for row in rows), default=1)
-        view.add_column(header, justify="left" if header in ("material", "class") else "right",
+        view.add_column(header, justify="left" if header in ("branch", "material", "class")
+                        else "right",
                         no_wrap=not wraps, overflow="fold",
                         min_width=8 if wraps else widest)
     for row in rows:

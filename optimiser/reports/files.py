@@ -19,6 +19,7 @@ from optimiser.reports.html import default_option_name, render_report
 from optimiser.reports.pages import TitleBlock
 from optimiser.reports.pdf import PageFooter, PdfUnavailableError, html_to_pdf
 from optimiser.reports.run_summary import RunSummary
+from optimiser.reports.scheme_geometry import write_scheme_geometry_files
 from optimiser.reports.tank_tables import TANK_COLUMNS, tank_table_rows
 from optimiser.reports.workbook import design_workbook
 
@@ -74,6 +75,7 @@ def write_report_files(out_dir: Path, result: CheckResult,
     into ``out_dir``; return the paths. A PDF that cannot be made is a line in ``notes``."""
     notes = [] if notes is None else notes
     out_dir = Path(out_dir)
+    scheme = result.study.is_scheme
     items = schedule(result)
     option = option or default_option_name(result)
     report = out_dir / "report.html"
@@ -87,10 +89,11 @@ def write_report_files(out_dir: Path, result: CheckResult,
     workbook = out_dir / "design.xlsx"
     atomic_write_bytes(workbook, design_workbook(result, items, summary, option))
     table = out_dir / "appurtenances.csv"
-    frame = pd.DataFrame([a.as_dict() for a in items], columns=APPURTENANCE_COLUMNS)
+    frame = pd.DataFrame([a.as_dict() for a in items],
+                         columns=(["branch"] if scheme else []) + APPURTENANCE_COLUMNS)
     write_csv(table, rounded_csv(frame))
-    return [report, *pdf, workbook, table,
-            *write_geometry_files(out_dir, result, items)]  # with coordinates
+    geometry = write_scheme_geometry_files if scheme else write_geometry_files
+    return [report, *pdf, workbook, table, *geometry(out_dir, result, items)]  # coordinates
 
 
 def write_design_files(folder: Path, outcome: DesignOutcome, study: Study,

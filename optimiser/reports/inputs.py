@@ -62,6 +62,30 @@ def _offtakes(study: Study) -> InputTable:
                       text=("chainage (km+m)", "name"))
 
 
+def _branches(study: Study) -> list[InputTable]:
+    """A scheme's branches (contract section 7) and the offtakes on them."""
+    rows = tuple((b.name, b.parent, chainage_label(b.at_chainage_m),
+                  fmt.length(b.route.total_chainage_m), b.profile_label or "–",
+                  fmt.flow_l_s(b.flow_m3_s), fmt.head(b.required_head_m), f"{b.exit_k:g}",
+                  f"{b.junction_k:g}", fmt.head(b.min_pressure_m), f"{b.local_k_per_km:g}")
+                 for b in study.branches)
+    offtakes = tuple((b.name, chainage_label(o.chainage_m), o.label or "–",
+                      fmt.flow_l_s(o.flow_m3_s),
+                      fmt.head(b.min_pressure_m if o.min_pressure_m is None
+                               else o.min_pressure_m))
+                     for b in study.branches for o in b.offtakes)
+    return [InputTable("Branches", (
+        "branch", "leaves", "at (km+m)", "chainage (m)", "profile", "flow (L/s)",
+        "required head (m)", "exit K", "junction K", "least pressure (m)", "K per km"), rows,
+        "A branch's flow is delivered at its end in every scenario, times the scenario's "
+        "branch factor unless the scenario gives its own; its chainage starts at 0 at its "
+        "junction.", text=("branch", "leaves", "at (km+m)", "profile")),
+        InputTable("Offtakes on branches", ("branch", "chainage (km+m)", "name",
+                                            "base flow (L/s)", "least pressure (m)"),
+                   offtakes, "" if offtakes else "No offtakes on the branches.",
+                   text=("branch", "chainage (km+m)", "name"))]
+
+
 def _levels(study: Study) -> InputTable:
     route = study.route
     rows = (
@@ -186,7 +210,8 @@ def _solver(study: Study, summary: RunSummary | None) -> InputTable:
 
 def input_tables(study: Study, summary: RunSummary | None = None) -> list[InputTable]:
     """Every input table of the report, in reading order."""
-    return [_scenarios(study), _offtakes(study), _levels(study), _hydraulics(study),
+    scheme = _branches(study) if study.is_scheme else []
+    return [_scenarios(study), _offtakes(study), *scheme, _levels(study), _hydraulics(study),
             _losses(study), _rules(study), _zones(study), _catalogue(study),
             _solver(study, summary)]
 

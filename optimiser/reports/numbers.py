@@ -60,3 +60,10 @@ def percent(fraction: float | None, digits: int = 3) -> str:
 def dn(value: float) -> str:
     """A nominal size without a needless decimal: 150.0 -> ``150``."""
     return f"{value:g}"
+
+
+def chainage_label(chainage_m: float) -> str:
+    """Chainage in the trade's km+m notation: 12345.6 -> '12+345.6'."""
+    kilometres = int(chainage_m // 1000)
+    metres = chainage_m - 1000 * kilometres
+    return f"{kilometres}+{metres:05.1f}"

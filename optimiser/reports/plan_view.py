@@ -14,29 +14,20 @@ import html
 
 import numpy as np
 import plotly.graph_objects as go
-from plotly.colors import sample_colorscale
 
 from optimiser.analysis.appurtenances import Appurtenance
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.charts import chainage_ticks
-from optimiser.reports.colours import MARKERS
+from optimiser.reports.colours import MARKERS, size_colours
 from optimiser.reports.geojson import point_items
 from optimiser.reports.terminal import chainage_label
-
-
-def _size_colours(dns: list[float]) -> dict[float, str]:
-    sizes = sorted(set(dns))
-    if len(sizes) == 1:
-        return {sizes[0]: sample_colorscale("Cividis", [0.35])[0]}
-    positions = [0.85 - 0.75 * i / (len(sizes) - 1) for i in range(len(sizes))]
-    return dict(zip(sizes, sample_colorscale("Cividis", positions), strict=True))
 
 
 def _piece_traces(fig: go.Figure, result: CheckResult) -> None:
     coordinates = result.study.route.coordinates
     assert coordinates is not None
     pieces = result.pieces
-    colours = _size_colours(list(pieces["dn_mm"]))
+    colours = size_colours(list(pieces["dn_mm"]))
     for label, group in pieces.groupby(
             pieces.apply(lambda r: f"DN{r.dn_mm:g} {r.material} {r.pressure_class}", axis=1),
             sort=False):

@@ -10,19 +10,17 @@ from rich.console import Console
 from rich.panel import Panel
 from rich.table import Table
 
+__all__ = ["chainage_label", "flow_text", "print_cautions", "print_check",
+           "print_violations"]
+
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.life_cycle import print_station
+from optimiser.reports.numbers import chainage_label
 from optimiser.reports.outlet_control import print_outlet_control
+from optimiser.reports.scheme_terminal import print_scheme_summary
 from optimiser.reports.tank_tables import print_tanks
 from optimiser.reports.text import console_title
-
-
-def chainage_label(chainage_m: float) -> str:
-    """Chainage in the trade's km+m notation: 12345.6 -> '12+345.6'."""
-    kilometres = int(chainage_m // 1000)
-    metres = chainage_m - 1000 * kilometres
-    return f"{kilometres}+{metres:05.1f}"
 
 
 def flow_text(flow_m3_s: float | None) -> str:
@@ -115,6 +113,8 @@ def print_check(console: Console, result: CheckResult) -> None:
                                  worst_static["lowest_chainage_m"]),
                      f"{limit - spare_m:.1f} m", f"{limit:.1f} m", f"{spare_m:+.1f} m")
     console.print(critical)
+    if study.is_scheme:
+        print_scheme_summary(console, result)
     print_tanks(console, result)
     print_outlet_control(console, result)
     print_violations(console, result)

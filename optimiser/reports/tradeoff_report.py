@@ -34,6 +34,9 @@ from optimiser.reports.sweep_tables import (
 )
 from optimiser.reports.terminal import chainage_label
 from optimiser.reports.text import console_title, short_title
+from optimiser.sweeps.branch_variants import axis_title as branch_axis_title
+from optimiser.sweeps.branch_variants import is_flow
+from optimiser.sweeps.branch_variants import value_column as branch_value_column
 from optimiser.sweeps.tradeoff import TradeoffResult
 
 TRADEOFF_FILES = frozenset({"tradeoff.csv", "tradeoff.json", "tradeoff.html"})
@@ -48,20 +51,30 @@ AXIS_TITLE = {"source-level": "source design level (m)",
 
 def _display_value(variable: str, value_si: float) -> float:
     """Values as shown to the engineer: flows in L/s, levels in m."""
-    return value_si * 1000.0 if variable == "flow" else value_si
+    return value_si * 1000.0 if is_flow(variable) else value_si
+
+
+def value_column(variable: str) -> str:
+    """The CSV column of the varied values (a branch's head or flow included)."""
+    return branch_value_column(variable) or VALUE_COLUMN[variable]
+
+
+def axis_title(variable: str) -> str:
+    """The words for the varied quantity (a branch's head or flow included)."""
+    return branch_axis_title(variable) or AXIS_TITLE[variable]
 
 
 def tradeoff_table(result: TradeoffResult) -> pd.DataFrame:
     """The CSV table: the varied value under its own name with unit, then the columns,
     then the change in least cost per unit of the varied quantity between steps."""
-    table = result.table.rename(columns={"value": VALUE_COLUMN[result.variable]})
+    table = result.table.rename(columns={"value": value_column(result.variable)})
     values = np.array([_display_value(result.variable, v) for v in result.table["value"]])
     cost = result.table["cost"].astype(float).to_numpy()
     marginal = np.full(len(values), np.nan)
     if len(values) > 1:
         with np.errstate(invalid="ignore", divide="ignore"):
             marginal[1:] = np.diff(cost) / np.diff(values)
-    unit = "l_s" if result.variable == "flow" else \
+    unit = "l_s" if is_flow(result.variable) else \
         PUMP_VALUE_COLUMN.get(result.variable, "m")
     table[f"cost_change_per_{unit}"] = marginal
     return table
@@ -101,7 +114,7 @@ def tradeoff_dict(result: TradeoffResult, study: Study) -> dict[str, Any]:
     return {
         "command": "tradeoff", "tool_version": __version__, "title": study.title,
         "study": str(study.path) if study.path else None, "currency": study.currency,
-        "variable": result.variable, "value_column": VALUE_COLUMN[result.variable],
+        "variable": result.variable, "value_column": value_column(result.variable),
         "study_point": {"value": result.own_value, "status": own["status"],
                         "cost": own["cost"], "pieces": own["pieces"],
                         "lower_bound": own["lower_bound"], "gap": own["gap"],
@@ -122,7 +135,7 @@ def tradeoff_chart(result: TradeoffResult, study: Study) -> go.Figure:
     table["value"] = [_display_value(result.variable, v) for v in table["value"]]
     table["cost"] = table["cost"].astype(float)
     own_cost = result.own_row["cost"]
-    figure = tradeoff_figure(table, AXIS_TITLE[result.variable],
+    figure = tradeoff_figure(table, axis_title(result.variable),
                              _display_value(result.variable, result.own_value),
                              None if own_cost is None or math.isnan(own_cost) else own_cost,
                              study.currency)
@@ -155,7 +168,7 @@ def write_tradeoff_files(out_dir: Path, result: TradeoffResult, study: Study) ->
         figures.insert(0, ("Life-cycle cost", life_cycle_figure(
             result.table, result.variable, result.own_value, study.currency)))
     page = figures_page(
-        f"{short_title(study.title)}: least cost against {AXIS_TITLE[result.variable]}",
+        f"{short_title(study.title)}: least cost against {axis_title(result.variable)}",
         figures,
         [INFEASIBLE_NOTE, TIME_LIMIT_NOTE, curve_gap_text(result),
          "Each step is re-optimised on its own; the diamond (or dashed line) is the "
@@ -172,12 +185,12 @@ def print_tradeoff(console: Console, result: TradeoffResult, study: Study) -> No
     def text(value: float) -> str:
         if variable in PUMP_AXIS:
             return f"{value:g}"
-        return flow(value) if variable == "flow" else f"{value:.2f} m"
+        return flow(value) if is_flow(variable) else f"{value:.2f} m"
 
     console.print(f"[bold]{console_title(study.title)}[/bold]  (trade-off over {variable}, "
                   f"{len(result.table)} steps)")
     print_sweep(console, *sweep_terminal_table(
-        "Least cost at each step", result.table, AXIS_TITLE[variable].split(" (")[0], text,
+        "Least cost at each step", result.table, axis_title(variable).split(" (")[0], text,
         study.currency))
     own = result.own_row
     limiting = ""

@@ -9,6 +9,7 @@ import io
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
+import pandas as pd
 from openpyxl import Workbook
 from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
@@ -24,6 +25,7 @@ from optimiser.reports.inputs import input_tables
 from optimiser.reports.life_cycle import sheet_specs
 from optimiser.reports.numbers import EXCEL_FORMATS
 from optimiser.reports.run_summary import RunSummary
+from optimiser.reports.scheme_tables import branch_totals, by_branch, scheme_total
 
 _HEADER_FILL = PatternFill("solid", fgColor="E8E8E8")
 
@@ -68,11 +70,16 @@ def schedule_sheet(book: Workbook, title: str, result: CheckResult, taken: set[s
                Column("class", "text", 8), Column("static head (m)", "head", 11),
                Column("surge head (m)", "head", 11), Column("allowable head (m)", "head", 12),
                Column("class set by", "text", 14), Column(f"cost ({currency})", "money", 14)]
-    rows = [(p.from_m, p.to_m, p.length_m, p.material, round(p.dn_mm),
-             p.internal_diameter_mm, p.pressure_class, p.static_head_m, p.surge_head_m,
-             p.allowable_surge_head_m if p.class_governs == "static + surge"
-             else p.allowable_head_m, p.class_governs, p.cost)
-            for p in result.pieces.itertuples()]
+    pieces = result.pieces
+    if result.study.is_scheme:
+        # A scheme's pieces grouped by branch, the branch named first on every row.
+        pieces = pd.concat([part for _, part in by_branch(result.study, pieces)])
+        columns = [Column("branch", "text", 16), *columns]
+    rows = [((p.branch,) if result.study.is_scheme else ()) + (
+        p.from_m, p.to_m, p.length_m, p.material, round(p.dn_mm), p.internal_diameter_mm,
+        p.pressure_class, p.static_head_m, p.surge_head_m,
+        p.allowable_surge_head_m if p.class_governs == "static + surge"
+        else p.allowable_head_m, p.class_governs, p.cost) for p in pieces.itertuples()]
     add_sheet(book, title, columns, rows, taken)
 
 
@@ -92,6 +99,41 @@ def _scenario_sheet(book: Workbook, result: CheckResult, taken: set[str]) -> Non
     add_sheet(book, "Scenarios", columns, rows, taken)
 
 
+def _branch_sheets(book: Workbook, result: CheckResult, taken: set[str]) -> None:
+    """A scheme's branches with their totals, and its delivery margins."""
+    study = result.study
+    currency = study.currency or "cost units"
+    totals = branch_totals(study, result.pieces)
+    whole = scheme_total(totals)
+    rows: list[tuple[object, ...]] = [
+        (r.branch, r.leaves, None if r.leaves == "source" else r.at_chainage_m, r.chainage_m,
+         r.length_m, r.pieces, r.cost) for r in totals.itertuples()]
+    rows.append(("scheme total (pipes)", None, None, whole["chainage_m"], whole["length_m"],
+                 whole["pieces"], whole["cost"]))
+    sheet = add_sheet(book, "Branches", [
+        Column("branch", "text", 22), Column("leaves", "text", 16),
+        Column("at chainage (m)", "length", 12), Column("chainage (m)", "length", 12),
+        Column("laid length (m)", "length", 12), Column("pieces", "count", 8),
+        Column(f"cost ({currency})", "money", 14)], rows, taken)
+    for cell in sheet[sheet.max_row]:
+        cell.font = Font(bold=True)
+    add_sheet(book, "Delivery margins", [
+        Column("scenario", "text", 18), Column("branch", "text", 22),
+        Column("delivery flow (L/s)", "flow", 11), Column("energy (m)", "head", 11),
+        Column("required head (m)", "head", 11), Column("margin (m)", "head", 11),
+        Column("spare head (m)", "head", 11), Column("uncontrolled flow (L/s)", "flow", 12)],
+        [(s.name, o.branch, o.flow_m3_s * 1000, o.energy_m, o.required_head_m, o.margin_m,
+          max(o.margin_m, 0.0), _l_s(o.uncontrolled_flow_m3_s))
+         for s in result.scenarios for o in s.outlets], taken)
+
+
+def _l_s(flow_m3_s: float | None) -> float | None:
+    """A flow in L/s for a cell; None (blank) when there is none or it is unbounded."""
+    if flow_m3_s is None or flow_m3_s == float("inf"):
+        return None
+    return flow_m3_s * 1000
+
+
 def bill_sheet(book: Workbook, title: str, lines: list[BillLine], currency: str,
                taken: set[str], design_cost: float | None = None) -> None:
     """The bill of quantities, with a total of the priced lines (and, below it, the
@@ -109,14 +151,19 @@ def bill_sheet(book: Workbook, title: str, lines: list[BillLine], currency: str,
         for number, line in enumerate(lines, start=1)]
     total = sum(line.amount for line in lines if line.amount is not None)
     rows.append((None, "total of the priced items", None, None, None, None, None, None, total))
+    by_branch = any(line.branch is not None for line in lines)
+    if by_branch:  # a scheme's pipes are billed per branch: the branch after the item
+        columns.insert(1, Column("branch", "text", 16))
+        branches = [line.branch or "" for line in lines] + [None]
+        rows = [(row[0], branch, *row[1:]) for row, branch in zip(rows, branches, strict=True)]
     sheet = add_sheet(book, title, columns, rows, taken)
     for cell in sheet[sheet.max_row]:
         cell.font = Font(bold=True)
     if design_cost is not None:
-        sheet.append([None, "design cost on laid lengths (pipes not rounded up; items "
-                      "without a rate left out)", None, None, None, None, None, None,
-                      design_cost])
-        sheet.cell(sheet.max_row, 9).number_format = EXCEL_FORMATS["money"]
+        sheet.append([None, *([None] if by_branch else []), "design cost on laid lengths "
+                      "(pipes not rounded up; items without a rate left out)", None, None,
+                      None, None, None, None, design_cost])
+        sheet.cell(sheet.max_row, len(columns)).number_format = EXCEL_FORMATS["money"]
 
 
 def inputs_sheet(book: Workbook, title: str, studies: dict[str, tuple[Study,
@@ -153,16 +200,21 @@ def design_workbook(result: CheckResult, appurtenances: list[Appurtenance],
     taken: set[str] = set()
     cautions_sheet(book, taken)
     schedule_sheet(book, "Schedule", result, taken)
+    if result.study.is_scheme:
+        _branch_sheets(book, result, taken)
     bill_sheet(book, "Bill of quantities", bill_of_quantities(result, appurtenances),
                result.study.currency, taken, result.total_cost)
     _scenario_sheet(book, result, taken)
     for title, columns, rows in sheet_specs(result):  # a pumped main's station (none else)
         add_sheet(book, title, [Column(*spec) for spec in columns], rows, taken)
+    scheme = result.study.is_scheme
     add_sheet(book, "Air valves and washouts",
-              [Column("kind", "text", 10), Column("chainage (m)", "length", 12),
+              [*([Column("branch", "text", 16)] if scheme else []),
+               Column("kind", "text", 10), Column("chainage (m)", "length", 12),
                Column("pipe level (m)", "head", 12), Column("ground (m)", "head", 11),
                Column("reason", "text", 50), Column("label", "text", 16)],
-              [(a.kind, a.chainage_m, a.pipe_level_m, a.ground_m, a.reason, a.label)
+              [((a.branch,) if scheme else ()) + (
+                  a.kind, a.chainage_m, a.pipe_level_m, a.ground_m, a.reason, a.label)
                for a in appurtenances], taken)
     inputs_sheet(book, "Inputs", {option: (result.study, summary)}, taken)
     return save(book)

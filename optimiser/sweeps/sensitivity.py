@@ -22,6 +22,7 @@ from optimiser.analysis.sensitivity import (
 )
 from optimiser.model import Design, Study
 from optimiser.sweeps.robust import RoughnessRuns, roughness_runs
+from optimiser.sweeps.scheme_roughness import scheme_roughness_sweep
 
 if TYPE_CHECKING:
     from rich.console import Console
@@ -133,11 +134,13 @@ def sensitivity_study(study: Study, roughness_mm: Sequence[float], *,
     notes: list[str] = scenario_roughness_notes(study)
     fixed, fixed_check = _fixed_design(study, given, runs, notes)
     grid = np.asarray(values)
-    fixed_sweep = roughness_sweep(study, fixed, grid) if fixed is not None else None
+    # A scheme's tree is swept by the check's own hydraulics (no linear form of a tree).
+    sweep = scheme_roughness_sweep if study.is_scheme else roughness_sweep
+    fixed_sweep = sweep(study, fixed, grid) if fixed is not None else None
     robust_sweep = None
     robust_outcome = runs.robust.outcome if runs.robust is not None else None
     if robust_outcome is not None and robust_outcome.design is not None:
-        robust_sweep = roughness_sweep(study, robust_outcome.design, grid)
+        robust_sweep = sweep(study, robust_outcome.design, grid)
     mc = settings = None
     if monte_carlo_settings is not None and fixed is not None:
         settings = monte_carlo_settings

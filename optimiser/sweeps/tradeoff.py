@@ -23,7 +23,13 @@ from optimiser.milp import DesignOutcome, SolverError, VerificationError, optimi
 from optimiser.model import Status, Study
 from optimiser.sweeps.pump_variants import LIFE_CYCLE_COLUMNS, life_cycle_row
 from optimiser.sweeps.runner import run_all
-from optimiser.sweeps.variants import VARIABLES, study_value, vary, with_roughness
+from optimiser.sweeps.variants import (
+    known_variable,
+    study_value,
+    variable_names,
+    vary,
+    with_roughness,
+)
 
 ROUGHNESS = "roughness"
 """The variable of a re-optimised roughness sweep (every option's roughness, mm)."""
@@ -68,19 +74,25 @@ def _length_text(length_m: float) -> str:
 
 def pieces_summary(outcome: DesignOutcome) -> tuple[int, str]:
     """Number of pieces and a one-line schedule, adjacent runs of one option joined:
-    ``"DN300 DI PN16 ×7.6 km; DN250 PE PN10 ×420 m"`` (pipe length)."""
+    ``"DN300 DI PN16 ×7.6 km; DN250 PE PN10 ×420 m"`` (pipe length). On a scheme each
+    branch's runs follow its name: ``"main: DN300 ...; east: DN160 ..."``."""
     if outcome.check is None:
         return 0, ""
+    scheme = outcome.check.study.is_scheme
     runs: list[list[Any]] = []
     for row in outcome.check.pieces.itertuples():
-        key = (row.material, float(row.dn_mm), row.pressure_class)
+        key = (row.branch if scheme else "", row.material, float(row.dn_mm),
+               row.pressure_class)
         if runs and runs[-1][0] == key:
             runs[-1][1] += float(row.length_m)
         else:
             runs.append([key, float(row.length_m)])
-    text = "; ".join(f"DN{dn:g} {material} {pressure_class} ×{_length_text(length)}"
-                     for (material, dn, pressure_class), length in runs)
-    return len(runs), text
+    parts = []
+    for index, ((branch, material, dn, pressure_class), length) in enumerate(runs):
+        first = index == 0 or runs[index - 1][0][0] != branch
+        parts.append(f"{branch + ': ' if branch and first else ''}DN{dn:g} {material} "
+                     f"{pressure_class} ×{_length_text(length)}")
+    return len(runs), "; ".join(parts)
 
 
 def binding_point(outcome: DesignOutcome) -> dict[str, Any]:
@@ -167,9 +179,9 @@ def step_tasks(study: Study, variable: str, values: Sequence[float], *,
                solver_name: str | None = None, time_limit_s: float | None = None,
                mip_gap: float | None = None) -> list[SolveTask]:
     """One task per value: the study's variant at that value."""
-    if variable not in (*VARIABLES, ROUGHNESS):
+    if not known_variable(variable) and variable != ROUGHNESS:
         raise ValueError(f"cannot vary {variable!r}; choose one of "
-                         f"{', '.join((*VARIABLES, ROUGHNESS))}")
+                         f"{variable_names()}, {ROUGHNESS}")
     return [SolveTask(variant(study, variable, float(v)), float(v), solver_name,
                       time_limit_s, mip_gap) for v in values]
 
@@ -197,8 +209,8 @@ def tradeoff(study: Study, variable: str, values: Sequence[float], *, workers: i
     set of feasible designs, so the least cost is non-increasing in it; the table shows
     that up to the solver's relative gap.
     """
-    if variable not in VARIABLES:
-        raise ValueError(f"cannot vary {variable!r}; choose one of {', '.join(VARIABLES)}")
+    if not known_variable(variable):
+        raise ValueError(f"cannot vary {variable!r}; choose one of {variable_names()}")
     return sweep(study, variable, values, workers=workers, dask_address=dask_address,
                  console=console, solver_name=solver_name, time_limit_s=time_limit_s,
                  mip_gap=mip_gap, label=f"trade-off over {variable}")
@@ -236,8 +248,8 @@ def tradeoff_with_study_point(study: Study, variable: str, values: Sequence[floa
     limit, in the same batch. A step at the study's value is reused for it only when the
     steps run at the study's own settings (no ``time_limit_s`` or ``mip_gap`` given).
     """
-    if variable not in VARIABLES:
-        raise ValueError(f"cannot vary {variable!r}; choose one of {', '.join(VARIABLES)}")
+    if not known_variable(variable):
+        raise ValueError(f"cannot vary {variable!r}; choose one of {variable_names()}")
     own = float(study_value(study, variable))
     steps = [float(v) for v in values]
     matches = [i for i, v in enumerate(steps) if math.isclose(v, own, rel_tol=1e-12,

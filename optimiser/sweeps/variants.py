@@ -7,9 +7,28 @@ import dataclasses
 import numpy as np
 
 from optimiser.model import Scenario, Study
+from optimiser.sweeps.branch_variants import (
+    BRANCH_KINDS,
+    branch_study_value,
+    branch_variable,
+    trunk_variable,
+    vary_branch,
+)
 from optimiser.sweeps.pump_variants import PUMP_VARIABLES, pump_value, vary_pump
 
 VARIABLES = ("source-level", "required-head", "flow", *PUMP_VARIABLES)
+"""The plain variables (the pump's apply with a [pump] only); a scheme also has
+``branch-head:NAME`` and ``branch-flow:NAME`` (:mod:`optimiser.sweeps.branch_variants`)."""
+
+
+def known_variable(variable: str) -> bool:
+    """True for one of VARIABLES or a branch variable (``branch-head:NAME``, ...)."""
+    return variable in VARIABLES or branch_variable(variable) is not None
+
+
+def variable_names() -> str:
+    """The variables for a message: the plain ones and the branch forms."""
+    return ", ".join((*VARIABLES, *(f"{kind}:NAME" for kind in BRANCH_KINDS)))
 
 
 def with_source_level(study: Study, level_m: float) -> Study:
@@ -78,7 +97,12 @@ def with_roughness_range(study: Study, roughness_mm: list[float]) -> Study:
 
 
 def vary(study: Study, variable: str, value: float) -> Study:
-    """The study with ``variable`` (one of VARIABLES) set to ``value`` (SI units)."""
+    """The study with ``variable`` (one of VARIABLES, or a branch variable) set to
+    ``value`` (SI units)."""
+    branched = vary_branch(study, variable, value)
+    if branched is not None:
+        return branched
+    variable = trunk_variable(variable)
     if variable == "source-level":
         return with_source_level(study, value)
     if variable == "required-head":
@@ -87,11 +111,15 @@ def vary(study: Study, variable: str, value: float) -> Study:
         return with_outlet_flow(study, value)
     if variable in PUMP_VARIABLES:
         return vary_pump(study, variable, value)
-    raise ValueError(f"cannot vary {variable!r}; choose one of {', '.join(VARIABLES)}")
+    raise ValueError(f"cannot vary {variable!r}; choose one of {variable_names()}")
 
 
 def study_value(study: Study, variable: str) -> float:
     """The study's own value of ``variable`` (its point on a trade-off curve)."""
+    own = branch_study_value(study, variable)
+    if own is not None:
+        return own
+    variable = trunk_variable(variable)
     if variable == "source-level":
         return study.source.level_m
     if variable == "required-head":
