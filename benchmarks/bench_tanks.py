@@ -26,7 +26,7 @@ import numpy as np
 from results_file import update_section
 
 from optimiser.io import load_study
-from optimiser.milp import optimise_design
+from optimiser.milp import SolverError, optimise_design
 
 TANK_COST = 60000.0
 MAX_TANKS = 8
@@ -111,7 +111,13 @@ def run(n_sections: int, seed: int, time_limit_s: float, gap: float) -> dict:
         study = load_study(write_study(Path(tmp), n_sections, seed, time_limit_s, gap))
         load = os.getloadavg()[0]
         begun = time.perf_counter()
-        outcome = optimise_design(study)
+        try:
+            outcome = optimise_design(study)
+        except SolverError as error:
+            return {"status": f"no design ({error})", "gap": None,
+                    "wall_s": time.perf_counter() - begun, "cost": None, "bound": None,
+                    "tanks": [], "load": load, "no_new_tank_cost": None,
+                    "no_new_tank_status": None, "stages": []}
         wall = time.perf_counter() - begun
     tanks = [] if outcome.design is None else [t for t in outcome.design.tanks if t.new]
     return {"status": str(outcome.status), "gap": outcome.gap, "wall_s": wall,

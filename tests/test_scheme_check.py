@@ -259,3 +259,36 @@ def test_appurtenances_on_each_branch(tmp_path):
     on_north = {(a.kind, a.chainage_m) for a in items if a.branch == "north"}
     assert ("washout", 200.0) in on_north and ("air valve", 500.0) in on_north
     assert all(a.branch in ("main", "north", "south") for a in items)
+
+
+def test_pressure_class_and_velocity_limits_on_every_branch(tmp_path):
+    """Section 5's limits on each branch (contract section 7): its own minimum pressure,
+    the static head from the source's top water level, the velocity window. Velocity
+    V = Q / (pi d^2 / 4) and pressure head = HGL - pipe level (common practice, no
+    source); the PN10 rows of the test catalogue take 102 m."""
+    from optimiser.model import DesignRules
+    study, design = two_branch_scheme(tmp_path)
+    hump = dataclasses.replace(study.branches[0], min_pressure_m=5.0, route=route_of(
+        [(0.0, 190.0), (300.0, 196.0), (800.0, 180.0)]))
+    deep = dataclasses.replace(study.branches[1],
+                               route=route_of([(0.0, 177.0), (600.0, 90.0)]))
+    study = dataclasses.replace(study, branches=(hump, deep),
+                                rules=DesignRules(velocity_min_m_s=0.27))
+    result = check_design(study, design, capacity=False)
+    kinds = {(v.kind, v.branch) for v in result.violations}
+    # 4 L/s in a 141 mm bore is 0.256 m/s, 10 L/s in 220.4 mm 0.262 m/s; 5 L/s 0.320 m/s.
+    assert ("velocity_min", "south") in kinds and ("velocity_min", "main") in kinds
+    assert ("velocity_min", "north") not in kinds
+    assert _velocity(0.004, BORE["PE160"]) < 0.27 < _velocity(0.005, BORE["PE160"])
+    # Static head at the foot of 'south': 203 - 89 = 114 m > 102 m.
+    (deep_class,) = [v for v in result.violations if v.kind == "max_pressure"]
+    assert deep_class.branch == "south" and deep_class.value == pytest.approx(114.0)
+    assert "branch 'south'" in deep_class.message
+    # Top of the hump on 'north': pipe at 195 m.
+    (low,) = [v for v in result.violations if v.kind == "min_pressure"]
+    assert low.branch == "north" and low.chainage_m == 300.0 and low.limit == 5.0
+    hand = _hand()
+    vn = hand["north_velocity"]
+    energy = hand["north_start"] - _friction_m(0.005, BORE["PE160"], math.hypot(300.0, 6.0))
+    assert low.value == pytest.approx(energy - _head(vn) - 195.0, abs=TOL_M)
+    assert "branch 'north'" in low.message

@@ -291,3 +291,15 @@ def test_the_demo_scheme_loads_with_its_branches_and_sub_branch():
     assert len(study.branches) >= 6
     assert any(b.parent != TRUNK for b in study.branches)
     assert any(b.offtakes for b in study.branches) and any(b.fittings for b in study.branches)
+
+
+def test_a_branch_profile_may_be_given_by_coordinates(tmp_path):
+    """Contract section 11: a profile CSV with x_m, y_m instead of chainage_m; chainage
+    is the cumulative horizontal distance (a 3-4-5 triangle's 500 m, then 500 m north; the
+    offtake at 700 m is inserted)."""
+    files = write_branch_scheme(tmp_path)
+    (files.folder / "north.csv").write_text(
+        "x_m,y_m,ground_m\n0,0,175\n300,400,170\n300,900,160\n", encoding="utf-8")
+    north = load_study(files.study).branch("north end")
+    assert list(north.route.chainage_m) == pytest.approx([0.0, 500.0, 700.0, 1000.0])
+    assert north.route.coordinates is not None

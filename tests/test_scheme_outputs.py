@@ -74,3 +74,43 @@ def test_terminal_lists_every_delivery_point_and_names_the_branch(tmp_path):
     assert len(delivery) >= 2
     assert "peak, branch 'north': energy at the outlet" in text
     assert "NOT OK" in text
+
+
+def test_sensitivity_refuses_a_scheme_with_a_clear_message(tmp_path, monkeypatch, runner):
+    """Its fast linear check covers one route: on a scheme it says so (exit 2, usage)
+    rather than give figures for the trunk alone."""
+    import typer
+
+    import optimiser.io
+    from optimiser.cli.sweeps import sensitivity
+    study, _ = two_branch_scheme(tmp_path)
+    monkeypatch.setattr(optimiser.io, "load_study", lambda path: study)
+    app = typer.Typer()
+    app.command()(sensitivity)
+    app.command()(lambda: None)  # two commands, so the name is given as with the tool
+    folder = tmp_path / "study"
+    result = runner.invoke(app, ["sensitivity", str(folder / "study.toml"),
+                                 "--roughness-from", "0.01", "--roughness-to", "0.1",
+                                 "--out", str(tmp_path / "out")])
+    assert result.exit_code == 2, result.output
+    assert "Traceback" not in result.output
+    assert "does not handle branched schemes" in " ".join(result.output.split())
+    assert not (tmp_path / "out").exists()
+
+
+def test_limiting_point_of_a_design_names_its_branch(tmp_path):
+    """The least pressure margin of a scheme may lie on a branch: a hump on 'north'
+    whose pipe rises to within 2 m of the energy line (the trunk's least is 1.98 m)."""
+    import dataclasses
+
+    from scheme_builders import route_of
+
+    from optimiser.milp.outcome import binding_points
+    study, design = two_branch_scheme(tmp_path)
+    hump = dataclasses.replace(study.branches[0], route=route_of(
+        [(0.0, 190.0), (300.0, 199.2), (800.0, 180.0)]))
+    study = dataclasses.replace(study, branches=(hump, study.branches[1]))
+    result = check_design(study, design, capacity=False)
+    (point,) = binding_points(result)
+    assert point.branch == "north" and point.chainage_m == 300.0
+    assert point.outlet_margin_m == result.scenarios[0].outlets[0].margin_m

@@ -9,6 +9,7 @@ both passes the check with its tanks. Routes and prices are invented test data.
 from __future__ import annotations
 
 import itertools
+import json
 
 import numpy as np
 import pytest
@@ -89,6 +90,13 @@ def test_design_writes_tanks_and_check_reads_them(make_study, runner, tmp_path):
     assert "Without new tanks: no design meets every limit" in result.output
     table = (out / "break_pressure_tanks.csv").read_text().splitlines()
     assert table[0] == "branch,chainage_m,water_level_m,new,cost,label" and len(table) > 1
+    payload = json.loads((out / "result.json").read_text())
+    rows = payload["break_pressure_tanks"]
+    assert rows and set(rows[0]) >= {"branch", "chainage_m", "water_level_m", "new", "cost",
+                                     "label"}
+    assert all(r["new"] and r["cost"] == TANK_COST for r in rows)
+    assert payload["tank_cost_total"] == pytest.approx(TANK_COST * len(rows))
+    assert payload["no_new_tank_status"] == "infeasible"
     design = out / "design.csv"
     ok = runner.invoke(app, ["check", str(study.path), "--design", str(design), "--tanks",
                              str(out / "break_pressure_tanks.csv")])
@@ -118,3 +126,18 @@ def test_bad_tank_file_is_refused(make_study, runner, tmp_path):
     result = runner.invoke(app, ["check", str(study.path), "--design", str(files_design),
                                  "--tanks", str(bad)])
     assert result.exit_code == 2 and "strictly inside the route" in result.output
+
+
+def test_diagnosis_says_where_a_tank_would_help(make_study):
+    """Without tanks the route's 340 m fall exceeds the highest class (255 m): the
+    diagnosis names a water level and a span for a tank. By hand: the reach's lowest
+    pipe level plus 255 m (no surge allowance) bounds the tank's level (common
+    practice, no source)."""
+    study = _study(make_study, 5, 6)
+    outcome = optimise_design(study)
+    assert outcome.status == Status.INFEASIBLE
+    text = " ".join(outcome.diagnosis)
+    assert "A break-pressure tank with its water at most" in text
+    lowest = float(study.route.pipe_level_m.min())
+    level = float(text.split("water at most ")[1].split(" m")[0])
+    assert lowest < level <= lowest + 255.0 + 0.05

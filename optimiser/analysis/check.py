@@ -28,7 +28,14 @@ from optimiser.analysis.limits import (
     below_velocity_min,
     class_holds,
 )
+from optimiser.analysis.pumping import (
+    StationResult,
+    run_station,
+    station_notes,
+    with_pumping_heads,
+)
 from optimiser.analysis.scheme_check import DeliveryPoint, SchemeHydraulics
+from optimiser.analysis.static_line import static_line_m
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.analysis.tanks import piece_static_heads, tank_cost, tanks_short
 from optimiser.hydraulics.gradeline import static_head_m
@@ -103,10 +110,19 @@ class CheckResult:
     tanks: tuple[BreakPressureTank, ...] = ()
     """Every tank on the route (the study's and the design's new ones), by chainage."""
     tank_cost_total: float = 0.0
+    station: StationResult | None = None
+    """The pump station (contract section 9); None without ``[pump]``."""
 
     @property
     def ok(self) -> bool:
         return not self.violations
+
+    @property
+    def life_cycle_cost(self) -> float | None:
+        """total_cost + station cost + energy present value (with a pump), else None."""
+        if self.station is None:
+            return None
+        return self.total_cost + self.station.capital_and_energy
 
 
 def _line_piece_rows(study: Study, part: DesignHydraulics,
@@ -115,7 +131,7 @@ def _line_piece_rows(study: Study, part: DesignHydraulics,
     grid = part.grid
     zone_factor = np.array([study.costs.factor(z) for z in grid.segment_zone])
     rows = []
-    top_water = study.source.top_water_level_m
+    top_water = static_line_m(study)
     # Largest velocity of each grid segment in any scenario (contract section 10).
     fastest = np.max([arrays.velocity_m_s for arrays in evaluated], axis=0)
     pieces = [part.design.pieces[i] for i in part.piece_index]
@@ -200,6 +216,7 @@ def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
         if class_holds(demand, row.allowable_surge_head_m, CHECK_TOLERANCE) and \
                 class_holds(row.static_head_m, row.allowable_head_m, CHECK_TOLERANCE):
             continue
+        head = getattr(row, "class_head", "static head")
         if surge_excess >= static_excess:
             what = (f"surge head {row.surge_head_m:.1f} m (wave speed "
                     f"{row.wave_speed_m_s:.0f} m/s, velocity {row.max_velocity_m_s:.2f} m/s)"
@@ -207,14 +224,14 @@ def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
             violations.append(Violation(
                 "max_pressure", None, row.lowest_chainage_m, demand,
                 row.allowable_surge_head_m,
-                text.class_exceeded(name, demand, f"static head {row.static_head_m:.1f} m + "
+                text.class_exceeded(name, demand, f"{head} {row.static_head_m:.1f} m + "
                                     f"{what}", row.allowable_surge_head_m,
                                     row.lowest_chainage_m), row.branch))
         else:
             violations.append(Violation(
                 "max_pressure", None, row.lowest_chainage_m, row.static_head_m,
                 row.allowable_head_m,
-                text.class_exceeded(name, row.static_head_m, "static head",
+                text.class_exceeded(name, row.static_head_m, head,
                                     row.allowable_head_m, row.lowest_chainage_m), row.branch))
     return violations
 
@@ -312,11 +329,18 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     scheme = SchemeHydraulics(study, design)
     evaluated = [scheme.evaluate(scenario) for scenario in study.scenarios]
     pieces = _piece_table(study, scheme, evaluated)
-    violations = _class_violations(study, pieces)
     surge_by_piece = pieces["surge_head_m"].to_numpy()
+    scenarios, station = list(study.scenarios), None
+    if study.pump is not None:  # the least station head per scenario (section 9)
+        trunk = scheme.trunk  # the loader admits a pump on a single route only
+        station, scenarios, pumped = run_station(trunk, [e[TRUNK] for e in evaluated],
+                                                 surge_by_piece)
+        evaluated = [{TRUNK: arrays} for arrays in pumped]
+        pieces = with_pumping_heads(pieces, trunk, pumped)
+    violations = _class_violations(study, pieces)
 
     results: list[ScenarioResult] = []
-    for scenario, arrays in zip(study.scenarios, evaluated, strict=True):
+    for scenario, arrays in zip(scenarios, evaluated, strict=True):
         result = _scenario_result(study, scheme, scenario, arrays, capacity)
         points = result.points
         points["surge_head_m"] = surge_by_piece[points["piece"].to_numpy()]
@@ -334,8 +358,9 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     tank_total = sum(tank_cost(study, t) for t in tanks)
     if tank_total:
         total += tank_total
+    notes = [] if station is None else station_notes(station, study)
     return CheckResult(study, design, results, violations, pieces, total, change_total,
-                       tanks=tanks, tank_cost_total=float(tank_total))
+                       notes, tanks=tanks, tank_cost_total=float(tank_total), station=station)
 
 
 def _tank_violations(study: Study, scheme: SchemeHydraulics, scenario: Scenario,

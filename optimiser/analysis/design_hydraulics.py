@@ -11,6 +11,7 @@ structures.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -19,6 +20,7 @@ import pandas as pd
 from optimiser.analysis.flows import friction_gradient, line_flows_m3_s, node_point_k
 from optimiser.analysis.grid import Grid, build_grid
 from optimiser.analysis.limits import node_min_pressure_m
+from optimiser.analysis.static_line import static_line_m
 from optimiser.analysis.tanks import (
     energy_with_tanks,
     inflow_energy_m,
@@ -100,8 +102,7 @@ class DesignHydraulics:
         nodes += [t.chainage_m for t in tanks]
         self.grid: Grid = build_grid(self.line.route.with_nodes(nodes), own.boundaries_m)
         self.tanks = tank_nodes(tanks, self.grid.node_chainage_m)
-        top = study.source.top_water_level_m if start_static_level_m is None \
-            else start_static_level_m
+        top = static_line_m(study) if start_static_level_m is None else start_static_level_m
         self.static_level_m = static_levels_m(top, len(self.grid.segment_length_m),
                                               self.tanks)
         options = [own.pieces[p].option for p in self.grid.segment_piece]
@@ -114,14 +115,17 @@ class DesignHydraulics:
                                                        self.line)
 
     def evaluate(self, scenario: Scenario, outlet_flow_m3_s: float | None = None,
-                 start_energy_m: float | None = None) -> ScenarioArrays:
+                 start_energy_m: float | None = None,
+                 inflows_m3_s: Mapping[str, float] | None = None) -> ScenarioArrays:
         """Flows, velocities and the energy line of the line in ``scenario``.
 
         ``outlet_flow_m3_s`` replaces the line's delivery flow; ``start_energy_m`` is the
         energy arriving at its start (the source level for the trunk; for a branch the
-        parent's energy arriving at the junction), before ``start_k`` x V^2/2g."""
+        parent's energy arriving at the junction), before ``start_k`` x V^2/2g;
+        ``inflows_m3_s`` the inflows of branches below, where known."""
         study, line = self.study, self.line
-        flow = line_flows_m3_s(study, scenario, line, self.grid.start_m, outlet_flow_m3_s)
+        flow = line_flows_m3_s(study, scenario, line, self.grid.start_m, outlet_flow_m3_s,
+                               inflows_m3_s)
         velocity = velocity_m_s(flow, self.diameter_m)
         gradient = friction_gradient(study, scenario, flow, self.diameter_m,
                                      self.roughness_mm, self.hazen_williams_c)
@@ -193,9 +197,7 @@ class DesignHydraulics:
         node = at.node
         hgl = hydraulic_grade_m(at.energy_m, at.velocity_m_s)
         pipe = grid.node_pipe_level_m[node]
-        top_water = self.study.source.top_water_level_m
-        if self.tanks.any:  # the static line restarts at every tank
-            top_water = self.static_level_m[at.segment]
+        top_water = self.static_level_m[at.segment]
         return pd.DataFrame({
             "chainage_m": grid.node_chainage_m[node],
             "side": _SIDE_NAMES[at.side],

@@ -21,11 +21,13 @@ and a branch's inflow is the flow of its first section.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
+
 import numpy as np
 
 from optimiser.hydraulics.friction import darcy_weisbach_gradient, hazen_williams_gradient
 from optimiser.model import TRUNK, Friction, Scenario, Study
-from optimiser.model.lines import Line, children_of, line_of
+from optimiser.model.lines import Line, branch_line, children_of, line_of
 
 _OFFTAKE_TOLERANCE_M = 1e-6
 
@@ -77,12 +79,15 @@ def flow_below_m3_s(study: Study, scenario: Scenario, start_chainage_m: np.ndarr
 
 def line_flows_m3_s(study: Study, scenario: Scenario, line: str | Line,
                     start_chainage_m: np.ndarray,
-                    delivery_flow_m3_s: float | None = None) -> np.ndarray:
+                    delivery_flow_m3_s: float | None = None,
+                    inflows_m3_s: Mapping[str, float] | None = None) -> np.ndarray:
     """Flow [m^3/s] in the pipe of line ``line`` (the trunk ``"main"`` or a branch)
     starting at each chainage of that line: its delivery flow (``delivery_flow_m3_s``
     replaces it, e.g. to search a capacity), the scenario's share of each of its
     offtakes strictly downstream, and the inflow of each branch leaving it strictly
-    downstream (contract sections 5 and 7)."""
+    downstream (contract sections 5 and 7). ``inflows_m3_s`` may give the inflow of
+    branches already worked out (a walk of the tree from its ends), by name; the others
+    are found by :func:`branch_inflow_m3_s`."""
     line = line if isinstance(line, Line) else line_of(study, line)
     start = np.asarray(start_chainage_m, dtype=float)
     delivery = line.delivery_flow_m3_s(scenario) if delivery_flow_m3_s is None \
@@ -92,9 +97,15 @@ def line_flows_m3_s(study: Study, scenario: Scenario, line: str | Line,
     carried = ends[None, :] > flat[:, None] + _OFFTAKE_TOLERANCE_M
     flows = carried_flow_m3_s(delivery, scenario.offtake_factor, carried,
                               np.array([o.flow_m3_s for o in line.offtakes], dtype=float))
-    for child in children_of(study, line.name):
-        below = child.at_chainage_m > flat + _OFFTAKE_TOLERANCE_M
-        flows = flows + np.where(below, branch_inflow_m3_s(study, scenario, child), 0.0)
+    children = [child for child in study.branches if child.parent == line.name]
+    if children:
+        known = inflows_m3_s or {}
+        inflow = np.array([known[c.name] if c.name in known else
+                           branch_inflow_m3_s(study, scenario, branch_line(c))
+                           for c in children])
+        junction = np.array([c.at_chainage_m for c in children])
+        below = junction[None, :] > flat[:, None] + _OFFTAKE_TOLERANCE_M
+        flows = flows + below.astype(float) @ inflow
     return flows.reshape(start.shape)
 
 

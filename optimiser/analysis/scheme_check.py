@@ -21,6 +21,7 @@ the tree. Like the rest of the check it reads only the study and the design.
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -28,6 +29,7 @@ import pandas as pd
 from scipy.optimize import brentq
 
 from optimiser.analysis.design_hydraulics import DesignHydraulics, ScenarioArrays
+from optimiser.analysis.flows import line_flows_m3_s
 from optimiser.model import Design, Scenario, Study
 from optimiser.model.lines import Line, study_lines
 
@@ -78,6 +80,7 @@ class SchemeHydraulics:
                 self.parts[line.parent].static_level_at_m(line.at_chainage_m)
             self.parts[line.name] = DesignHydraulics(study, design, line, static)
         self._by_name = {line.name: line for line in self.lines}
+        self._inflows: dict[Scenario, dict[str, float]] = {}
 
     @property
     def trunk(self) -> DesignHydraulics:
@@ -92,11 +95,26 @@ class SchemeHydraulics:
             line = None if line.parent is None else self._by_name[line.parent]
         return names
 
-    def evaluate(self, scenario: Scenario, only: set[str] | None = None
-                 ) -> dict[str, ScenarioArrays]:
+    def inflows_m3_s(self, scenario: Scenario, names: set[str] | None = None,
+                     known: Mapping[str, float] | None = None) -> dict[str, float]:
+        """Inflow [m^3/s] at the start of every line (or of the lines in ``names``, the
+        others taken from ``known``), worked from the ends of the tree up, so that the
+        flow rule (:func:`optimiser.analysis.flows.line_flows_m3_s`) never walks a
+        subtree twice."""
+        inflows = dict(known or {})
+        for line in reversed(self.lines):
+            if names is None or line.name in names:
+                inflows[line.name] = float(line_flows_m3_s(
+                    self.study, scenario, line, np.array([-1.0]), inflows_m3_s=inflows)[0])
+        return inflows
+
+    def evaluate(self, scenario: Scenario, only: set[str] | None = None,
+                 inflows: Mapping[str, float] | None = None) -> dict[str, ScenarioArrays]:
         """Arrays of every line (or of the lines in ``only``, which must hold each one's
         parent), parents first; each branch starts from its parent's energy arriving at
-        the junction."""
+        the junction. ``inflows`` (:meth:`inflows_m3_s`) when already known."""
+        if inflows is None:
+            inflows = self.inflows_m3_s(scenario)
         arrays: dict[str, ScenarioArrays] = {}
         for line in self.lines:
             if only is not None and line.name not in only:
@@ -105,7 +123,8 @@ class SchemeHydraulics:
             if line.parent is not None:
                 start = self.parts[line.parent].energy_arriving_m(arrays[line.parent],
                                                                   line.at_chainage_m)
-            arrays[line.name] = self.parts[line.name].evaluate(scenario, start_energy_m=start)
+            arrays[line.name] = self.parts[line.name].evaluate(
+                scenario, start_energy_m=start, inflows_m3_s=inflows)
         return arrays
 
     def points(self, arrays: dict[str, ScenarioArrays]) -> pd.DataFrame:
@@ -135,9 +154,14 @@ class SchemeHydraulics:
         """With line ``name`` delivering ``flow_m3_s``: its outlet margin [m] if
         ``outlet_only``, else the smallest outlet and pressure margin of the whole tree."""
         moved = with_delivery(scenario, self._by_name[name], flow_m3_s)
+        path = self.path(name)
+        # Only the lines from the source to this delivery point carry the change.
+        if scenario not in self._inflows:
+            self._inflows[scenario] = self.inflows_m3_s(scenario)
+        inflows = self.inflows_m3_s(moved, path, self._inflows[scenario])
         if outlet_only:
-            return self.outlet_margin_m(name, self.evaluate(moved, self.path(name)))
-        arrays = self.evaluate(moved)
+            return self.outlet_margin_m(name, self.evaluate(moved, path, inflows))
+        arrays = self.evaluate(moved, inflows=inflows)
         margins = [self.outlet_margin_m(n, arrays) for n in arrays]
         margins += [self.parts[n].least_pressure_margin_m(part) for n, part in arrays.items()]
         return min(margins)
@@ -148,15 +172,33 @@ class SchemeHydraulics:
         ``outlet_only``, every outlet head and pressure minimum of the tree), by Brent's
         method on a margin that falls monotonically with that flow. None if even zero
         delivery fails; every other flow stays at the scenario's."""
+        seen: dict[float, float] = {}  # Brent's method asks again for its bracket's ends
+
         def margin(q: float) -> float:
-            return self.least_margin_m(scenario, name, q, outlet_only)
-        if margin(0.0) < 0.0:
+            if q not in seen:
+                seen[q] = self.least_margin_m(scenario, name, q, outlet_only)
+            return seen[q]
+        at_zero = margin(0.0)
+        if at_zero < 0.0:
             return None
-        high = max(self._by_name[name].delivery_flow_m3_s(scenario), 1e-3)
+        low, high = 0.0, max(self._by_name[name].delivery_flow_m3_s(scenario), 1e-3)
+        if self.study.is_scheme:
+            # Each search costs evaluations of a whole path of the tree: bracket the root
+            # from a head loss growing with the square of the flow (a first guess only;
+            # the bracket is verified below).
+            at_high = margin(high)
+            if at_high >= 0.0:
+                low = high
+                if at_zero > at_high:
+                    high = max(high * 1.2 * np.sqrt(at_zero / (at_zero - at_high)), 2 * high)
+                else:
+                    high *= 2.0
         for _ in range(60):
             if margin(high) < 0.0:
                 break
+            if self.study.is_scheme:
+                low = high
             high *= 2.0
         else:
             return float("inf")
-        return float(brentq(margin, 0.0, high, xtol=1e-13, rtol=4 * np.finfo(float).eps))
+        return float(brentq(margin, low, high, xtol=1e-13, rtol=4 * np.finfo(float).eps))

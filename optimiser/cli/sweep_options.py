@@ -24,9 +24,12 @@ def parse_level_m(option: str, text: str) -> float:
 
 def parse_sweep_value(option: str, variable: str, text: str) -> float:
     """``--from``/``--to`` in SI units: a flow with its unit for ``flow`` (or a branch's
-    flow), else metres."""
+    flow), a plain number for a pump variable, else metres."""
     from optimiser.sweeps.branch_variants import is_flow
+    from optimiser.sweeps.pump_variants import PUMP_VARIABLES, parse_pump_value
 
+    if variable in PUMP_VARIABLES:
+        return parse_pump_value(option, variable, text)
     if is_flow(variable):
         from optimiser.io.units import parse_flow_m3_s
 

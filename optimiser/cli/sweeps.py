@@ -119,9 +119,10 @@ def tradeoff(
     study_path: StudyArgument,
     vary: Annotated[str, typer.Option(
         "--vary", help="What to vary: source-level (m), required-head (m) or flow (with a "
-        "unit, e.g. \"40 L/s\"; the first scenario's outlet flow, the others in proportion);"
-        " on a scheme also branch-head:NAME (m) or branch-flow:NAME (with a unit) of one "
-        "branch.",
+        "unit, e.g. \"40 L/s\"; the first scenario's outlet flow, the others in proportion); "
+        "with a [pump]: energy-price (per kWh), discount-rate (0.05 or 5 %) or hours (a "
+        "year, all scenarios); on a scheme also branch-head:NAME (m) or branch-flow:NAME "
+        "(with a unit) of one branch.",
         show_default=False, metavar="QUANTITY")],
     from_text: Annotated[str, typer.Option("--from", help="First value.", show_default=False,
                                            metavar="VALUE")],
@@ -142,6 +143,7 @@ def tradeoff(
     against the varied value, the infeasible range shaded, the study's own point marked).
     """
     from optimiser.io import InputError
+    from optimiser.sweeps.pump_variants import PUMP_VARIABLES
 
     variable, low, high, problems = parse_range(vary, from_text, to_text)
     if steps < 2:
@@ -149,6 +151,8 @@ def tradeoff(
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
+    if study is not None and study.pump is None and variable in PUMP_VARIABLES:
+        problems.append(f"--vary {variable}: the study has no [pump] (contract section 9)")
     if study is not None:
         from optimiser.sweeps.branch_variants import branch_problems
 

@@ -26,6 +26,9 @@ from optimiser.model.scheme import TRUNK, Branch
 JUNCTION_GROUND_TOLERANCE_M = 0.5
 """Largest difference [m] between a branch's ground at its chainage 0 and its parent's
 ground at the junction (contract section 7)."""
+JUNCTION_END_CLEARANCE_M = 1e-3
+"""A junction lies at least this far [m] inside its parent (the design CSV's chainage
+tolerance), so it is a node of its own, never the parent's first or last."""
 
 
 @dataclass
@@ -248,7 +251,7 @@ def _junction_problems(draft: BranchDraft, parent: Route, parent_label: str,
                        problems: ProblemList) -> None:
     at = draft.at_chainage_m
     end = parent.total_chainage_m
-    if not 0.0 < at < end:
+    if not JUNCTION_END_CLEARANCE_M < at < end - JUNCTION_END_CLEARANCE_M:
         problems.add(f"{draft.where} at_chainage_m {at:g} is not strictly inside "
                      f"{draft.parent!r} (0 to {end:g} m in {parent_label})")
         return

@@ -51,6 +51,10 @@ COST = Limit(0.0, 1.0e12, "", "costs, in the study currency")
 VELOCITY = Limit(0.0, 20.0, "m/s", "velocity limits")
 COUNT = Limit(0.0, 1.0e6, "", "counts")
 TIME = Limit(0.0, 1.0e6, "s", "solver time limit: at most about 11 days")
+ENERGY_PRICE = Limit(0.0, 1000.0, "per kWh", "energy prices, in the study currency")
+LIFE = Limit(1.0, 200.0, "years", "life of a pump station")
+RATE = Limit(0.0, 1.0, "per year", "discount rates: 0.05 is 5 %")
+HOURS = Limit(0.0, 8784.0, "h", "hours a year: at most a leap year")
 
 STUDY_KEYS: dict[str, Limit] = {
     "level_m": LEVEL, "top_water_level_m": LEVEL, "source_level_m": LEVEL,
@@ -63,6 +67,8 @@ STUDY_KEYS: dict[str, Limit] = {
     "min_piece_length_m": CHAINAGE, "max_changes": COUNT, "max_count": COUNT,
     "velocity_min_m_s": VELOCITY, "velocity_max_m_s": VELOCITY,
     "time_limit_s": TIME,
+    "energy_price": ENERGY_PRICE, "life_years": LIFE, "discount_rate": RATE,
+    "station_cost_per_kw": COST, "hours_per_year": HOURS,
 }
 """Study-file keys by name. Keys ending in ``_k`` are loss coefficients (:data:`LOSS_K`).
 Chainages in the study file are checked against the route instead."""
@@ -75,8 +81,10 @@ CSV_COLUMNS: dict[str, Limit] = {
     "dn_mm": DIAMETER, "internal_diameter_mm": DIAMETER,
     "allowable_head_m": HEAD_RATING, "roughness_mm": ROUGHNESS,
     "hazen_williams_c": C_VALUE, "cost_per_m": COST,
+    # the compact form's nodes and links (io/network_file.py)
+    "min_pressure_m": PRESSURE, "required_head_m": LEVEL, "length_m": CHAINAGE,
 }
-"""CSV columns by name (profile, catalogue, design)."""
+"""CSV columns by name (profile, catalogue, design, nodes and links)."""
 
 
 def study_key_limit(location: tuple[Any, ...]) -> Limit | None:

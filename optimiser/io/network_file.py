@@ -212,6 +212,7 @@ def _link_problems(path: Path, nodes: dict[str, Node], links: list[Link],
         if link.start and link.start == link.end:
             problems.add(f"{path}: line {link.line}: the link joins node {link.start!r} to "
                          "itself")
+            continue
         if link.end in arriving:
             problems.add(f"{path}: line {link.line}: node {link.end!r} is reached twice "
                          f"(also by the link on line {arriving[link.end]}): a loop or a "

@@ -163,9 +163,16 @@ def end_problems(tree: NetworkTree, found: list[NetworkPath]) -> list[str]:
             problems.append(f"{tree.nodes_path}: line {tree.nodes[path.end].line}: node "
                             f"{TRUNK!r} ends a branch, which is named after it; {TRUNK!r} "
                             "is the trunk's name, so rename the node")
-    if not found[0].links:
+    leaving = tree.leaving[tree.source]
+    if not leaving:
         problems.append(f"{tree.links_path}: no link leaves the source node "
                         f"{tree.source!r}")
+    elif len(leaving) > 1:
+        lines = ", ".join(str(link.line) for link in leaving)
+        problems.append(f"{tree.links_path}: lines {lines}: {len(leaving)} links leave the "
+                        f"source node {tree.source!r}; a scheme has one pipe leaving its "
+                        "source and branches leave strictly inside a pipe, so add a node "
+                        "just below the source where they divide")
     return problems
 
 

@@ -100,6 +100,7 @@ class ScenarioTable(_Table):
     velocity_limits: bool = True
     branch_factor: float = Field(1.0, ge=0.0)  # contract section 7
     branch_flow: dict[str, Any] = Field(default_factory=dict)
+    hours_per_year: float = Field(0.0, ge=0.0, le=8784.0)
 
 
 class CatalogueTable(_Table):
@@ -165,6 +166,15 @@ class TanksTable(_Table):
     inlet_k: float = Field(1.0, ge=0.0)
     outlet_k: float = Field(0.5, ge=0.0)
     max_count: int | None = Field(None, ge=0)
+class PumpTable(_Table):
+    """A pump station at the source (contract section 9)."""
+
+    efficiency: float = Field(gt=0.0, le=1.0)
+    energy_price: float = Field(ge=0.0)
+    life_years: float = Field(30.0, gt=0.0)
+    discount_rate: float = Field(0.05, ge=0.0)
+    station_cost_per_kw: float = Field(0.0, ge=0.0)
+    max_head_m: float | None = Field(None, ge=0.0)
 
 
 class StudyFile(_Table):
@@ -186,6 +196,7 @@ class StudyFile(_Table):
     quantities: QuantitiesTable = Field(default_factory=QuantitiesTable)
     break_pressure_tank: list[TankTable] = Field(default_factory=list)
     break_pressure_tanks: TanksTable = Field(default_factory=TanksTable)
+    pump: PumpTable | None = None
 
 
 _ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting", "branch", "break_pressure_tank"}

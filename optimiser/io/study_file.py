@@ -40,6 +40,7 @@ from optimiser.model import (
     Friction,
     Offtake,
     Outlet,
+    PumpStation,
     QuantityRules,
     Route,
     Scenario,
@@ -74,7 +75,7 @@ def load_study(path: str | Path) -> Study:
         offtakes = list(network.offtakes)
     drafts = network.drafts if network is not None else branch_drafts(path, spec, problems)
     fittings = tuple(Fitting(f.chainage_m, f.k, f.label) for f in spec.route.fitting)
-    _placement_problems(path, spec, route, offtakes, fittings, problems,
+    _placement_problems(path, spec, route, fittings, problems,
                         {zone for draft in drafts for zone in draft.route.zones})
     chosen = _chosen_catalogue(path, spec, catalogue, problems)
     branches, junctions = resolve_branches(drafts, route, _trunk_label(spec), problems)
@@ -86,6 +87,10 @@ def load_study(path: str | Path) -> Study:
         Offtake(c, 0.0, label="a junction") for c in junctions], problems)
     rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
                                 problems)
+    if spec.pump is not None and (branches or tanks or rules_of_tanks.cost is not None):
+        problems.add(f"{path}: [pump] with branches or break-pressure tanks is not available "
+                     "in this version: design the rising main as a study of its own (its "
+                     "outlet the tank) and the gravity part as another (docs/user-guide.md)")
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
                              [f.chainage_m for f in fittings] + junctions +
@@ -114,6 +119,7 @@ def load_study(path: str | Path) -> Study:
         hazen_williams_coefficient=spec.catalogue.hazen_williams_coefficient,
         quantities=QuantityRules(**spec.quantities.model_dump()),
         branches=branches, tanks=tanks, tank_rules=rules_of_tanks,
+        pump=None if spec.pump is None else PumpStation(**spec.pump.model_dump()),
     )
 
 
@@ -185,7 +191,7 @@ def _scenarios(path: Path, spec: StudyFile, friction: Friction,
             else spec.source.level_m
         scenarios.append(Scenario(item.name, flow, level, item.offtake_factor,
                                   item.roughness_mm, item.roughness_factor,
-                                  item.velocity_limits))
+                                  item.velocity_limits, hours_per_year=item.hours_per_year))
     return scenarios
 
 
@@ -218,16 +224,16 @@ def _route_and_catalogue(path: Path, spec: StudyFile, friction: Friction, proble
     return route, catalogue, network
 
 
-def _placement_problems(path: Path, spec: StudyFile, route: Route, offtakes: list[Offtake],
+def _placement_problems(path: Path, spec: StudyFile, route: Route,
                         fittings: tuple[Fitting, ...], problems: ProblemList,
                         branch_zones: set[str]) -> None:
     """Offtakes and fittings on the route; zone factors naming zones of the profile (or of
     a branch's)."""
     end = route.total_chainage_m
     profile = _trunk_label(spec)
-    for index, offtake in enumerate(offtakes, start=1):
-        if not 0.0 <= offtake.chainage_m <= end:
-            problems.add(f"{path}: [[offtake]] #{index} chainage_m {offtake.chainage_m:g} "
+    for index, item in enumerate(spec.offtake, start=1):  # numbered as in the file
+        if item.branch == TRUNK and not 0.0 <= item.chainage_m <= end:
+            problems.add(f"{path}: [[offtake]] #{index} chainage_m {item.chainage_m:g} "
                          f"is outside the route (0 to {end:g} m in {profile})")
     for index, fitting in enumerate(fittings, start=1):
         if not 0.0 <= fitting.chainage_m <= end:

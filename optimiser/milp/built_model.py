@@ -62,6 +62,15 @@ class Formulation:
     tank_columns: dict[int, int] = field(default_factory=dict)
     """Binaries of the new break-pressure tanks ``design`` may add, by node
     (:mod:`optimiser.milp.tank_rows`)."""
+    pump_heads: list[int] = field(default_factory=list)
+    """Columns of the station head per scenario (contract section 9; empty without a
+    pump, :mod:`optimiser.milp.pump_columns`)."""
+    pump_head_cap_m: np.ndarray | None = None
+    """Upper bounds of the station heads known before the build (from a design in
+    hand: no cheaper design needs more), or None."""
+    pump_indicators: list[int] = field(default_factory=list)
+    """Binaries of the classes under pumping pressure (one per section and class level
+    the pumping pressure could exceed)."""
 
     def fractions(self) -> np.ndarray:
         """Solved fractions x[s, j] as an (n, m) array (clipped to [0, 1])."""

@@ -22,6 +22,7 @@ import numpy as np
 
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.milp.data import ProblemData
+from optimiser.milp.tank_diagnosis import tank_hint
 from optimiser.model import SurgeMethod
 
 _TOLERANCE_M = 1e-9
@@ -63,7 +64,8 @@ def diagnose(data: ProblemData) -> list[str]:
             f" static head {demand - study.surge_allowance_m:.1f} m + surge allowance "
             f"{study.surge_allowance_m:g} m = {demand:.1f} m exceeds every pressure class of "
             f"the catalogue (highest allowable head {highest:g} m). Use a higher class, or a "
-            "pressure-reducing valve or a break-pressure tank upstream of this reach.")
+            "pressure-reducing valve or a break-pressure tank upstream of this reach."
+            + tank_hint(data, first, last, chainage_label))
     rules = study.rules
     for first, last in _ranges(~data.velocity_ok.any(axis=1)):
         flows = data.flow_m3_s[:, first:last + 1]

@@ -121,6 +121,7 @@ from optimiser.milp.columns import add_section_columns
 from optimiser.milp.data import ProblemData
 from optimiser.milp.matrix import LinearModel, Term
 from optimiser.milp.pressure_rows import add_pressure_rows
+from optimiser.milp.pump_columns import add_pump_columns, add_pumping_class_rows
 from optimiser.milp.rule_rows import add_rule_rows
 from optimiser.milp.tank_rows import add_static_rows
 
@@ -138,7 +139,8 @@ def rules_active(data: ProblemData) -> bool:
 
 def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: bool = True,
           relaxed: bool = False, tiebreak: float = 0.0, any_order: bool = False,
-          least_piece_m: float = 0.0) -> Formulation:
+          least_piece_m: float = 0.0, pump_head_cap_m: np.ndarray | None = None
+          ) -> Formulation:
     """Build the model.
 
     ``allowed`` (n, m) restricts options further than admissibility (a reduced model
@@ -153,13 +155,17 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
     piece's velocity head) and no row is written inside a section (see "Any order" in
     the module docstring). ``least_piece_m > 0`` (with ``any_order``) makes a picked
     first or last piece at least that long: no longer a relaxation, a model of designs.
+    ``pump_head_cap_m`` (K,) caps the station heads of a pumped main (no design cheaper
+    than one in hand needs more; :mod:`optimiser.milp.pump_search`).
     """
     mask = data.admissible if allowed is None else data.admissible & allowed
     form = Formulation(LinearModel(), data, mask, with_rules, relaxed, any_order,
-                       least_piece_m)
+                       least_piece_m, pump_head_cap_m=pump_head_cap_m)
     columns = add_section_columns(form, tiebreak)
+    add_pump_columns(form)  # nothing without a pump
     add_pressure_rows(form, columns)
     add_static_rows(form)
+    add_pumping_class_rows(form)
     change_terms: list[Term] = add_rule_rows(form, columns) if with_rules else []
     # changes = uses - continuations - 1: the constant stays outside the solver's
     # objective and is added back on reading.
@@ -167,5 +173,5 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
     if change_cost:
         form.model.add_cost((c, v * change_cost) for c, v in change_terms)
     form.objective_offset = -change_cost if change_terms else 0.0
-    form.n_binaries = 0 if relaxed else len(form.y)
+    form.n_binaries = 0 if relaxed else len(form.y) + len(form.pump_indicators)
     return form

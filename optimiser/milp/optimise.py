@@ -52,6 +52,7 @@ from optimiser.milp.outcome import (
     VerificationError,
     binding_points,
 )
+from optimiser.milp.pump_search import optimise_pumped
 from optimiser.milp.search.any_order import run_any_order
 from optimiser.milp.search.dominance import run_dominance
 from optimiser.milp.search.first_designs import run_first_designs
@@ -87,6 +88,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
     if has_tanks(study):  # break-pressure tanks: their own plan (milp/tank_search.py)
         return _with_tanks(study, settings, Clock(started, started + time_limit_s))
+    if study.pump is not None:  # least life-cycle cost, pipes and station heads together
+        return optimise_pumped(study, settings, started)
     # The model works on the route split at every class limit (exact class admissibility,
     # :mod:`optimiser.milp.class_limits`); every check judges the study as given.
     data = prepare(split_at_class_limits(study))

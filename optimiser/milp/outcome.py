@@ -13,7 +13,7 @@ from optimiser.analysis import CheckResult
 from optimiser.milp.extract import rule_problems
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.uniform import UniformDesign
-from optimiser.model import Design
+from optimiser.model import TRUNK, Design
 from optimiser.model.status import Status
 
 
@@ -36,6 +36,8 @@ class BindingPoint:
     min_pressure_m: float
     margin_m: float
     outlet_margin_m: float
+    branch: str = TRUNK
+    """Line of the least pressure margin (on a scheme; the outlet margin is the trunk's)."""
 
 
 def binding_points(check: CheckResult) -> list[BindingPoint]:
@@ -47,7 +49,7 @@ def binding_points(check: CheckResult) -> list[BindingPoint]:
             scenario.name, float(least["chainage_m"]), str(least["label"]),
             float(least["pressure_m"]), float(least["min_pressure_m"]),
             float(least["pressure_m"] - least["min_pressure_m"]),
-            float(scenario.outlet_margin_m)))
+            float(scenario.outlet_margin_m), str(least.get("branch", TRUNK))))
     return points
 
 

@@ -32,7 +32,9 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
     if tanks is not None:  # the energy arriving at a tank is a column of its own
         need_end[:-1] |= tanks.at_node[1:-1]
     for k in range(data.n_scenarios):
-        running = Affine([], float(data.source_level_m[k]))
+        # With a pump the energy starts at the source level + the station head.
+        pump = [(form.pump_heads[k], 1.0)] if form.pump_heads else []
+        running = Affine(pump, float(data.source_level_m[k]))
         for s in range(n):
             if tanks is not None and s > 0 and tanks.at_node[s]:
                 running = restart_at_tank(form, k, s, running)  # milp/tank_rows.py

@@ -25,6 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.analysis.tanks import SAME_POINT_M
+from optimiser.milp.class_limits import MIN_SPACING_M, crossing_chainages_m, limit_levels_m
 from optimiser.model import TRUNK, Study, TankSites
 
 
@@ -126,16 +127,71 @@ def static_lines_m(top_water_level_m: float, fixed: np.ndarray, candidate: np.nd
     return high, low
 
 
+SPLIT_CAP = 3
+"""The route is split at the class limits under every tank level only while that adds
+at most this many nodes per section (else the classes below a new tank are judged at a
+section's lowest pipe level, which is conservative)."""
+
+
 def with_sites_named(study: Study) -> Study:
-    """``study`` with its sites named as marked chainages, so that nodes a later step
-    inserts are never sites. The route is not split at class limits here: below a tank
-    the limits move with its level, so the class of an option in a section is judged at
-    the section's lowest pipe level (conservative, exact at the survey's resolution)."""
+    """``study`` with its sites named as marked chainages (so the nodes added here are
+    never sites) and its route split where an option's class limit is crossed under the
+    static line of the study's own tanks, and under the level of every site above (the
+    static line a new tank there would set): on each part an option's class then holds
+    at every metre or at none, whichever tanks are chosen. Over ``SPLIT_CAP`` new nodes
+    per section, only the first split is made."""
     route = study.route
-    _, candidate, _ = tank_nodes(study, route.chainage_m)
+    fixed, candidate, level = tank_nodes(study, route.chainage_m)
+    high, _ = static_lines_m(study.source.top_water_level_m, fixed, candidate, level)
+    # Every limit level is a static level minus a constant (per option and section).
+    drop = study.source.top_water_level_m - limit_levels_m(study)  # (n, 2m)
+    found = crossing_chainages_m(route, high[:, None] - drop)
+    extra = _site_crossings(route, fixed, candidate, level, np.unique(drop))
+    if len(extra) <= SPLIT_CAP * route.n_sections:
+        found = crossing_filter(route, np.union1d(found, extra))
     rules = dataclasses.replace(study.tank_rules, sites=TankSites.MARKED,
                                 marked_chainages_m=tuple(route.chainage_m[candidate].tolist()))
-    return dataclasses.replace(study, tank_rules=rules)
+    new_route = route.with_nodes(found, tolerance_m=0.0) if len(found) else route
+    return dataclasses.replace(study, route=new_route, tank_rules=rules)
+
+
+def _site_crossings(route, fixed: np.ndarray, candidate: np.ndarray, level: np.ndarray,
+                    drops: np.ndarray) -> np.ndarray:
+    """Chainages where the pipe crosses a class limit under the level of a site above
+    (after the last fixed tank): the site's level minus each option's limit drop."""
+    pipe = route.pipe_level_m
+    sites = np.flatnonzero(candidate)
+    if not len(sites) or not len(drops):
+        return np.zeros(0)
+    values = (level[sites][:, None] - drops[None, :]).ravel()
+    owner = np.repeat(sites, len(drops))
+    order = np.argsort(values)
+    values, owner = values[order], owner[order]
+    last_fixed = np.maximum.accumulate(np.where(fixed, np.arange(len(fixed)), 0))
+    found: list[float] = []
+    for s in range(route.n_sections):
+        low, top = sorted((float(pipe[s]), float(pipe[s + 1])))
+        a, b = np.searchsorted(values, low, "right"), np.searchsorted(values, top, "left")
+        mine = (owner[a:b] <= s) & (owner[a:b] > last_fixed[s])
+        for value in values[a:b][mine].tolist():
+            fraction = (value - pipe[s]) / (pipe[s + 1] - pipe[s])
+            found.append(float(route.chainage_m[s] + fraction * route.chainage_length_m[s]))
+    return crossing_filter(route, np.array(found))
+
+
+def crossing_filter(route, found: np.ndarray) -> np.ndarray:
+    """Crossings apart from the survey points and from each other by the class split's
+    least spacing, sorted."""
+    nodes = route.chainage_m
+    found = np.unique(found)
+    if not len(found):
+        return found
+    index = np.clip(np.searchsorted(nodes, found), 1, len(nodes) - 1)
+    apart = (found - nodes[index - 1] > MIN_SPACING_M) & (nodes[index] - found > MIN_SPACING_M)
+    found = found[apart]
+    if len(found) > 1:
+        found = found[np.concatenate([[True], np.diff(found) > MIN_SPACING_M])]
+    return found
 
 
 def tank_data(study: Study, lowest_m: np.ndarray, class_ok_at) -> TankData:

@@ -5,8 +5,8 @@ the source to the outlet (reaches merge sections across nodes, the priced dynami
 programme and the uniform design follow one energy line), so a study with tanks runs its
 own, shorter plan on the full model of :mod:`optimiser.milp.tank_rows`:
 
-1. the data of the route (not split at class limits: see
-   :func:`~optimiser.milp.tank_data.with_sites_named`), and the diagnosis without a
+1. the data of the route split at the class limits under every possible static line
+   (:func:`~optimiser.milp.tank_data.with_sites_named`), and the diagnosis without a
    solver (the lowest static line any choice of tanks gives; tanks
    only lower the energy line, so its energy findings stand);
 2. the LP relaxation of the model with tanks, rules relaxed: a bound;
@@ -14,11 +14,15 @@ own, shorter plan on the full model of :mod:`optimiser.milp.tank_rows`:
    tanks from the plan without tanks (the whole search of :func:`optimise_design` on the
    study with new tanks not allowed): a first design, the warm start of the next stage,
    and the figure the saving is stated against;
-4. with the rules: the model with tanks and the rules relaxed (a relaxation: its bound
-   counts; its design is offered, and kept if it happens to meet the rules), then its
-   tanks fixed and the rules on, restricted to the options near its design: a first
-   design with the rules (HiGHS alone seldom finds one on the full model);
-5. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
+4. without a design yet: tanks placed by rule, each reach between tanks designed by the
+   plan without tanks (:mod:`optimiser.milp.tank_reaches`): a first design, and the
+   warm start of the next stages;
+5. with the rules: the model with tanks and the rules relaxed (a relaxation: its bound
+   counts; its design is offered, and kept if it happens to meet the rules); its tanks
+   fixed, each reach designed the same way; then its tanks fixed and the rules on,
+   restricted to the options near its design: designs with the rules (HiGHS alone
+   seldom finds one on the full model);
+6. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
    started from the best design so far, for the rest of the time: its bound is the
    run's bound, its design is checked with its tanks.
 
@@ -29,6 +33,7 @@ Every design passes :func:`optimiser.analysis.check_design` with its tanks and t
 from __future__ import annotations
 
 import dataclasses
+import math
 import time
 from collections.abc import Callable
 
@@ -37,7 +42,7 @@ import numpy as np
 from optimiser.milp.built_model import Formulation, WarmStart
 from optimiser.milp.data import prepare
 from optimiser.milp.diagnose import diagnose, diagnose_after
-from optimiser.milp.extract import design_from_fractions, section_use
+from optimiser.milp.extract import design_from_fractions, rule_problems, section_use
 from optimiser.milp.formulation import build, rules_active
 from optimiser.milp.outcome import DesignOutcome, Stage
 from optimiser.milp.search.kinds import StageKind
@@ -45,12 +50,14 @@ from optimiser.milp.search.masks import widened, window_mask
 from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import SolveReport
 from optimiser.milp.tank_data import with_sites_named
+from optimiser.milp.tank_reaches import design_by_reaches, greedy_sites
 from optimiser.milp.tank_rows import chosen_nodes
 from optimiser.model import TRUNK, BreakPressureTank, Design, Study, TankRules
 from optimiser.model.status import Status
 
 PLAIN_SHARE = 0.3
-"""Share of the time the plan without tanks may take for the first design."""
+REACH_SHARE = 0.5
+"""Shares of the time left the plan without tanks may take (whole route; by reaches)."""
 NEW_TANK_LABEL = "new break-pressure tank"
 
 
@@ -78,7 +85,7 @@ def search_with_tanks(study: Study, settings: Settings, clock: Clock,
     begun = time.perf_counter()
     relaxed = build(data, with_rules=False, relaxed=True)
     report = state.run_solver(StageKind.TANK_LP, StageKind.TANK_LP.label, relaxed, None,
-                              0.2, time.perf_counter() - begun)
+                              0.4, time.perf_counter() - begun)
     if report.status == Status.INFEASIBLE:
         run.finished = state.infeasible(diagnose_after(data, rules_relaxed_feasible=False))
         return run
@@ -87,10 +94,18 @@ def search_with_tanks(study: Study, settings: Settings, clock: Clock,
         state.raise_bound(report.bound)
     if data.tanks is not None and data.tanks.any_candidate and not study.tanks:
         _without_new_tanks(run, plain)
-    if state.with_rules:
-        _rules_relaxed(run)
-    _full_model(run)
+    if data.tanks is not None and state.best is None:
+        _greedy_reaches(run, plain)
+    if state.with_rules and not _proven(state):
+        _rules_relaxed(run, plain)
+    if not _proven(state):
+        _full_model(run)
     return run
+
+
+def _proven(state: SearchState) -> bool:
+    """The best design is proven within the gap by a finite bound."""
+    return math.isfinite(state.bound) and state.proven()
 
 
 def _without_new_tanks(run: TankRun, plain: Callable[..., DesignOutcome]) -> None:
@@ -111,7 +126,36 @@ def _without_new_tanks(run: TankRun, plain: Callable[..., DesignOutcome]) -> Non
         state.consider(outcome.design, StageKind.NO_NEW_TANKS.label, must_pass=True)
 
 
-def _rules_relaxed(run: TankRun) -> None:
+def _greedy_reaches(run: TankRun, plain: Callable[..., DesignOutcome],
+                    sites: list[int] | None = None) -> None:
+    """A design with tanks at ``sites`` (default: placed by rule), each reach by the
+    plan without tanks."""
+    state = run.state
+    begun = time.perf_counter()
+    by_rule = sites is None
+    if sites is None:
+        sites = greedy_sites(state.data)
+    design = None
+    for share_changes in (False, True) if state.study.rules.max_changes is not None \
+            else (False,):
+        design = None if sites is None else design_by_reaches(
+            state.data, sites, REACH_SHARE * state.clock.left(), plain,
+            state.settings.solver_name, state.settings.mip_gap, share_changes)
+        if design is not None and not rule_problems(state.study, design):
+            break
+    seconds = time.perf_counter() - begun
+    kind = StageKind.TANK_REACHES if by_rule else StageKind.TANK_MODEL_REACHES
+    if design is None:
+        state.stages.append(Stage(kind, kind.label, Status.NO_SOLUTION, None, None, seconds,
+                                  0, 0, 0, "no design this way"))
+        return
+    result = state.consider(design, kind.label, must_pass=False)
+    status = Status.FEASIBLE if result.ok else Status.NO_SOLUTION
+    state.stages.append(Stage(kind, kind.label, status, result.total_cost, None, seconds,
+                              0, 0, 0, f"{len(design.tanks)} new tanks"))
+
+
+def _rules_relaxed(run: TankRun, plain: Callable[..., DesignOutcome]) -> None:
     """With the rules: the model with tanks, rules relaxed (a relaxation: its bound
     counts), then its tanks fixed and the rules on, options near its design: a first
     design with the rules (a restricted model: its design counts, its bound not)."""
@@ -122,10 +166,16 @@ def _rules_relaxed(run: TankRun) -> None:
         return
     form, report = relaxed
     state.raise_bound(report.bound)
+    chosen = chosen_nodes(form)
+    if _proven(state):
+        return
+    _greedy_reaches(run, plain, chosen)  # its tanks, each reach with the rules
+    if _proven(state):
+        return
     used = form.fractions() > 1e-6
     mask = widened(data, window_mask(data, used, state.width_m), 1)
     _solve(run, StageKind.TANK_FIXED_NEARBY, with_rules=True, share=0.4, allowed=mask,
-           fixed=set(chosen_nodes(form)))
+           fixed=set(chosen))
 
 
 def _full_model(run: TankRun) -> None:

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 from optimiser.model.route import Fitting, Offtake, Route
 from optimiser.model.scenario import Scenario
-from optimiser.model.scheme import TRUNK
+from optimiser.model.scheme import TRUNK, Branch
 from optimiser.model.study import Study
 
 
@@ -60,18 +60,18 @@ def trunk_line(study: Study) -> Line:
                 exit_k=study.outlet.exit_k, design_flow_m3_s=None)
 
 
+def branch_line(branch: Branch) -> Line:
+    """A branch of a scheme as a line."""
+    return Line(name=branch.name, parent=branch.parent, at_chainage_m=branch.at_chainage_m,
+                route=branch.route, fittings=branch.fittings, offtakes=branch.offtakes,
+                min_pressure_m=branch.min_pressure_m, local_k_per_km=branch.local_k_per_km,
+                start_k=branch.junction_k, required_head_m=branch.required_head_m,
+                exit_k=branch.exit_k, design_flow_m3_s=branch.flow_m3_s)
+
+
 def study_lines(study: Study) -> tuple[Line, ...]:
     """Every line of ``study``: the trunk, then the branches, parents before children."""
-    lines = [trunk_line(study)]
-    for branch in study.branches:
-        lines.append(Line(name=branch.name, parent=branch.parent,
-                          at_chainage_m=branch.at_chainage_m, route=branch.route,
-                          fittings=branch.fittings, offtakes=branch.offtakes,
-                          min_pressure_m=branch.min_pressure_m,
-                          local_k_per_km=branch.local_k_per_km, start_k=branch.junction_k,
-                          required_head_m=branch.required_head_m, exit_k=branch.exit_k,
-                          design_flow_m3_s=branch.flow_m3_s))
-    return tuple(lines)
+    return (trunk_line(study), *(branch_line(branch) for branch in study.branches))
 
 
 def line_of(study: Study, name: str) -> Line:
@@ -84,4 +84,5 @@ def line_of(study: Study, name: str) -> Line:
 
 def children_of(study: Study, name: str) -> tuple[Line, ...]:
     """Lines whose junction is on line ``name``, in the study's order."""
-    return tuple(line for line in study_lines(study) if line.parent == name)
+    # Only the children are built: the flow rule asks this for every line it walks.
+    return tuple(branch_line(b) for b in study.branches if b.parent == name)

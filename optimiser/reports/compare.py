@@ -9,6 +9,7 @@ from rich.table import Table
 
 from optimiser.model import Status
 from optimiser.model.lines import study_lines
+from optimiser.reports.life_cycle import COMPARE_COLUMNS, compare_fields, is_pumped_table
 from optimiser.reports.text import short_title
 from optimiser.sweeps.options import OptionResult, option_name
 
@@ -20,7 +21,7 @@ COMPARISON_COLUMNS = [
     "cost_per_l_s", "design_flow_l_s", "length_by_dn", "length_by_material", "n_changes",
     "highest_static_head_m", "least_pressure_margin_m", "least_margin_at_m",
     "highest_velocity_m_s", "uniform_option", "uniform_cost", "saving_vs_uniform",
-    "gap", "lower_bound", "diagnosis",
+    "gap", "lower_bound", "diagnosis", "new_tanks", "tank_cost",
 ]
 
 
@@ -48,6 +49,7 @@ def comparison_row(option: OptionResult) -> dict:
     if outcome.check is None or outcome.design is None:
         return row
     check = outcome.check
+    row.update(compare_fields(check))  # a pumped main's life-cycle figures
     pieces = check.pieces
     margins = [(s.least_pressure_margin, s) for s in check.scenarios]
     least, _ = min(margins, key=lambda item: item[0]["pressure_m"] - item[0]["min_pressure_m"])
@@ -62,6 +64,8 @@ def comparison_row(option: OptionResult) -> dict:
         least_margin_at_m=float(least["chainage_m"]),
         highest_velocity_m_s=max(float(s.segments["velocity_m_s"].max())
                                  for s in check.scenarios),
+        new_tanks=sum(1 for t in outcome.design.tanks if t.new),
+        tank_cost=check.tank_cost_total,
     )
     if outcome.uniform is not None:
         row.update(uniform_option=outcome.uniform.option.label,
@@ -73,22 +77,31 @@ def comparison_row(option: OptionResult) -> dict:
 def comparison_table(options: list[OptionResult]) -> pd.DataFrame:
     """One row per option, ranked by cost; options without a design rank last."""
     table = pd.DataFrame([comparison_row(o) for o in options])
-    for column in COMPARISON_COLUMNS:
+    # Pumped mains are ranked by life-cycle cost (contract section 9), gravity by capital.
+    pumped = is_pumped_table(table)
+    columns = COMPARISON_COLUMNS + COMPARE_COLUMNS if pumped else COMPARISON_COLUMNS
+    for column in columns:
         if column not in table:
             table[column] = None
-    table = table.sort_values("total_cost", na_position="last", kind="stable")
+    by = "life_cycle_cost" if pumped else "total_cost"
+    table = table.sort_values(by, na_position="last", kind="stable")
     ranks = [str(i) if pd.notna(cost) else "" for i, cost in
-             enumerate(table["total_cost"], start=1)]
+             enumerate(table[by], start=1)]
     table["rank"] = ranks
-    return table[COMPARISON_COLUMNS].reset_index(drop=True)
+    return table[columns].reset_index(drop=True)
 
 
 def print_comparison(console: Console, table: pd.DataFrame) -> None:
     """The deciding figures of each option, ranked; every column is in comparison.csv."""
-    view = Table(title="Options ranked by capital cost", title_justify="left")
+    pumped = is_pumped_table(table)
+    view = Table(title="Options ranked by " + ("life-cycle cost" if pumped else
+                                               "capital cost"), title_justify="left")
     columns = [("rank", "#"), ("option", "option"), ("status", "status"),
-               ("total_cost", "cost"), ("n_changes", "changes"),
+               ("total_cost", "cost"), ("n_changes", "changes"), ("new_tanks", "tanks"),
                ("least_pressure_margin_m", "least margin m"), ("verified", "verified")]
+    if pumped:
+        columns[4:4] = [("energy_present_value", "energy PV"),
+                        ("life_cycle_cost", "life-cycle")]
     for _, title in columns:
         view.add_column(title, justify="left" if title in ("option", "status") else "right")
     for row in table.itertuples(index=False):

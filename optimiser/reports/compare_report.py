@@ -19,6 +19,8 @@ from optimiser.reports.charts import profile_figure
 from optimiser.reports.hashing import file_sha256
 from optimiser.reports.html import Grid
 from optimiser.reports.inputs import input_tables
+from optimiser.reports.life_cycle import is_pumped_table
+from optimiser.reports.life_cycle_chart import life_cycle_bars
 from optimiser.reports.pages import TitleBlock, chart, render
 from optimiser.reports.pdf import PRINTABLE_WIDTH_PX
 from optimiser.reports.run_summary import RunSummary
@@ -81,11 +83,13 @@ def _cost_figure(table: pd.DataFrame, keys_by_path: dict[str, str],
     priced = table[table["total_cost"].notna()]
     names = [keys_by_path.get(str(s), str(o)) for s, o in zip(priced["study"],
                                                               priced["option"], strict=True)]
+    currency = next((c for c in priced["currency"] if c), "")
+    if is_pumped_table(priced):  # capital and energy stacked (a pumped main)
+        return life_cycle_bars(priced, names, currency)
     fig = go.Figure(go.Bar(
         x=priced["total_cost"], y=names, orientation="h",
         marker={"color": [colours.get(n, "#4A4A4A") for n in names]},
         hovertemplate="%{y}<br>%{x:,.0f}<extra></extra>"))
-    currency = next((c for c in priced["currency"] if c), "")
     fig.update_layout(template="plotly_white", height=120 + 34 * len(names),
                       xaxis={"title": f"capital cost ({currency})".replace(" ()", ""),
                              "tickformat": ",.0f"},
@@ -100,7 +104,8 @@ def comparison_html(table: pd.DataFrame, options: list[OptionResult], keys: list
     per option (in its colour) and each option's inputs."""
     keys_by_path = {str(o.path): k for o, k in zip(options, keys, strict=True)}
     width = PRINTABLE_WIDTH_PX if printing else None
-    charts = [chart("Capital cost", "plot-cost", _cost_figure(table, keys_by_path, colours),
+    heading = "Life-cycle cost" if is_pumped_table(table) else "Capital cost"
+    charts = [chart(heading, "plot-cost", _cost_figure(table, keys_by_path, colours),
                     width)]
     sections = []
     for index, (key, option) in enumerate(zip(keys, options, strict=True)):
@@ -148,6 +153,12 @@ _COMPARISON_COLUMNS = {
     "saving_vs_uniform": Column("saving on one pipe", "money", 14),
     "gap": Column("gap", "percent", 9), "lower_bound": Column("best bound", "money", 14),
     "diagnosis": Column("notes", "text", 40),
+    "life_cycle_cost": Column("life-cycle cost", "money", 14),
+    "station_cost": Column("pump station", "money", 13),
+    "energy_present_value": Column("energy, present value", "money", 14),
+    "installed_kw": Column("installed power (kW)", "head", 11),
+    "new_tanks": Column("new break-pressure tanks (no.)", "count", 9),
+    "tank_cost": Column("cost of new tanks", "money", 14),
 }
 
 
@@ -185,7 +196,9 @@ def comparison_workbook(table: pd.DataFrame, options: list[OptionResult],
 COMPARISON_CSV_DECIMALS = {"total_cost": 2, "cost_per_l_s": 2, "design_flow_l_s": 3,
                            "highest_static_head_m": 3, "least_pressure_margin_m": 3,
                            "least_margin_at_m": 3, "highest_velocity_m_s": 3,
-                           "uniform_cost": 2, "saving_vs_uniform": 2, "lower_bound": 2}
+                           "uniform_cost": 2, "saving_vs_uniform": 2, "lower_bound": 2,
+                           "life_cycle_cost": 2, "station_cost": 2,
+                           "energy_present_value": 2, "installed_kw": 3}
 """Decimals of comparison.csv's columns (and of the workbook's, which holds the same)."""
 
 COMPARISON_FILES = frozenset({"comparison.csv", "comparison.xlsx", "comparison.html",

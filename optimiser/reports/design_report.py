@@ -13,6 +13,7 @@ from rich.table import Table
 from optimiser.model import Status, Study
 from optimiser.model.lines import study_lines
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.life_cycle import PUMP_STATEMENT, print_design_station
 from optimiser.reports.outlet_control import print_outlet_control
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.scheme_terminal import print_scheme_summary
@@ -172,7 +173,10 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     print_tank_totals(console, outcome, currency)
     console.print(f"Lower bound:             {_money(outcome.lower_bound, currency)}")
     console.print(f"LP bound (rules relaxed): {_money(outcome.lp_bound, currency)}")
-    if outcome.uniform is not None:
+    print_design_station(console, outcome.check)
+    if study.pump is not None:
+        pass  # no uniform comparison: it prices pipes only
+    elif outcome.uniform is not None:
         uniform = outcome.uniform
         saving = outcome.uniform_saving or 0.0
         console.print(f"Cheapest uniform design: {uniform.option.label} along the whole route, "
@@ -184,6 +188,8 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     console.print(_binding_table(outcome))
     console.print(f"Why cheapest: {MODEL_STATEMENT}", markup=False, highlight=False)
     print_tanks(console, outcome.check)
+    if study.pump is not None:
+        console.print(PUMP_STATEMENT, markup=False, highlight=False)
     print_outlet_control(console, outcome.check)
     print_violations(console, outcome.check)
 
@@ -230,7 +236,10 @@ def _binding_table(outcome: DesignOutcome) -> Table:
                    "outlet margin m"):
         binding.add_column(column, justify="left" if column in ("scenario", "label") else "right")
     for point in outcome.binding:
-        binding.add_row(point.scenario, chainage_label(point.chainage_m), point.label,
+        where = chainage_label(point.chainage_m)
+        if outcome.check is not None and outcome.check.study.is_scheme:
+            where = f"{point.branch} {where}"
+        binding.add_row(point.scenario, where, point.label,
                         f"{point.pressure_m:.2f}", f"{point.min_pressure_m:.2f}",
                         f"{point.margin_m:+.3f}", f"{point.outlet_margin_m:+.3f}")
     return binding

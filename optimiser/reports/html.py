@@ -15,6 +15,7 @@ from optimiser.reports.branch_view import branch_view
 from optimiser.reports.charts import cost_figure, pressure_velocity_figure, profile_figure
 from optimiser.reports.colours import option_colour
 from optimiser.reports.inputs import input_tables
+from optimiser.reports.life_cycle import html_section
 from optimiser.reports.outlet_control import control_sentences
 from optimiser.reports.pages import Chart, TitleBlock, chart, render
 from optimiser.reports.pdf import PRINTABLE_WIDTH_PX
@@ -72,7 +73,7 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
         tanks=Grid(TANK_GRID_COLUMNS, tank_rows(result)) if result.tanks else None,
         tank_cost=(fmt.money(result.tank_cost_total, study.currency)
                    if result.tank_cost_total else ""),
-        inputs=input_tables(study, summary))
+        inputs=input_tables(study, summary), station=html_section(result))
 
 
 def _charts(result: CheckResult, appurtenances: list[Appurtenance], colour: str,
@@ -105,6 +106,8 @@ def _summary_rows(result: CheckResult, summary: RunSummary | None
         rows = [("scheme", scheme_summary(study), "")]
     rows += [("independent check", *status),
              ("capital cost", fmt.money(result.total_cost, currency), "")]
+    if result.life_cycle_cost is not None:  # a pumped main
+        rows.append(("life-cycle cost", fmt.money(result.life_cycle_cost, currency), ""))
     if summary is not None:
         rows += [("optimiser status", summary.status, ""),
                  ("solver", f"{summary.solver or '–'}, {summary.solve_time_s or 0:.1f} s", ""),

@@ -8,6 +8,7 @@ from optimiser import __version__
 from optimiser.analysis.check import CheckResult, ScenarioResult
 from optimiser.model import Friction, Study
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.life_cycle import life_cycle_fields
 from optimiser.reports.outlet_control import outlets
 from optimiser.reports.tank_tables import tank_dicts
 
@@ -88,4 +89,5 @@ def check_dict(result: CheckResult, command: str = "check") -> dict[str, Any]:
         "tank_cost_total": result.tank_cost_total,
         "assumptions": assumptions(study),
         "cautions": list(CAUTIONS),
+        **life_cycle_fields(result),
     }

@@ -15,6 +15,7 @@ __all__ = ["chainage_label", "flow_text", "print_cautions", "print_check",
 
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.life_cycle import print_station
 from optimiser.reports.numbers import chainage_label
 from optimiser.reports.outlet_control import print_outlet_control
 from optimiser.reports.scheme_terminal import print_scheme_summary
@@ -73,6 +74,7 @@ def print_check(console: Console, result: CheckResult) -> None:
     if result.change_cost_total:
         cost += f" (including {result.change_cost_total:,.0f} for changes of pipe)"
     console.print(cost, markup=False, highlight=False)
+    print_station(console, result)
     summary = Table(title="Scenarios", title_justify="left")
     for column in ("scenario", "inflow", "outlet energy m", "required m", "margin m",
                    "capacity (all limits)", "capacity (outlet only)"):

@@ -16,6 +16,12 @@ from optimiser import __version__
 from optimiser.io.writers import atomic_write_text, write_csv, write_json
 from optimiser.model import Status, Study
 from optimiser.reports.cautions import CAUTIONS
+from optimiser.reports.life_cycle_chart import (
+    PUMP_AXIS,
+    PUMP_VALUE_COLUMN,
+    life_cycle_figure,
+    print_life_cycle_steps,
+)
 from optimiser.reports.results import assumptions
 from optimiser.reports.sweep_charts import figures_page, tradeoff_figure
 from optimiser.reports.sweep_tables import (
@@ -37,10 +43,10 @@ TRADEOFF_FILES = frozenset({"tradeoff.csv", "tradeoff.json", "tradeoff.html"})
 """The files :func:`write_tradeoff_files` writes."""
 
 VALUE_COLUMN = {"source-level": "source_level_m", "required-head": "required_head_m",
-                "flow": "flow_m3_s"}
+                "flow": "flow_m3_s", **PUMP_VALUE_COLUMN}
 AXIS_TITLE = {"source-level": "source design level (m)",
               "required-head": "required energy level at the outlet (m)",
-              "flow": "outlet flow of the first scenario (L/s)"}
+              "flow": "outlet flow of the first scenario (L/s)", **PUMP_AXIS}
 
 
 def _display_value(variable: str, value_si: float) -> float:
@@ -68,7 +74,8 @@ def tradeoff_table(result: TradeoffResult) -> pd.DataFrame:
     if len(values) > 1:
         with np.errstate(invalid="ignore", divide="ignore"):
             marginal[1:] = np.diff(cost) / np.diff(values)
-    unit = "l_s" if is_flow(result.variable) else "m"
+    unit = "l_s" if is_flow(result.variable) else \
+        PUMP_VALUE_COLUMN.get(result.variable, "m")
     table[f"cost_change_per_{unit}"] = marginal
     return table
 
@@ -142,6 +149,12 @@ def tradeoff_chart(result: TradeoffResult, study: Study) -> go.Figure:
             customdata=stopped["gap"].astype(float) * 100,
             hovertemplate="%{x:.3f}<br>cost %{y:,.0f}<br>stopped at the time limit, "
                           "gap %{customdata:.2f} %<extra></extra>"))
+    tanked = table[table["new_tanks"].fillna(0).astype(float) > 0]
+    if len(tanked):  # how many new break-pressure tanks each step's design has
+        figure.add_trace(go.Scatter(
+            x=tanked["value"], y=tanked["cost"], mode="text", name="new break-pressure tanks",
+            text=[f"{int(n)} tank{'s' if n > 1 else ''}" for n in tanked["new_tanks"]],
+            textposition="bottom center", textfont={"size": 10}, hoverinfo="skip"))
     figure.update_layout(title={"text": curve_gap_text(result), "font": {"size": 13}})
     return figure
 
@@ -150,9 +163,13 @@ def write_tradeoff_files(out_dir: Path, result: TradeoffResult, study: Study) ->
     """``tradeoff.csv``, ``tradeoff.json`` and ``tradeoff.html`` in ``out_dir``."""
     out_dir = Path(out_dir)
     paths = [out_dir / "tradeoff.csv", out_dir / "tradeoff.json", out_dir / "tradeoff.html"]
+    figures = [("Least cost", tradeoff_chart(result, study))]
+    if "life_cycle_cost" in result.table.columns:  # a pumped main: the economic diameter
+        figures.insert(0, ("Life-cycle cost", life_cycle_figure(
+            result.table, result.variable, result.own_value, study.currency)))
     page = figures_page(
         f"{short_title(study.title)}: least cost against {axis_title(result.variable)}",
-        [("Least cost", tradeoff_chart(result, study))],
+        figures,
         [INFEASIBLE_NOTE, TIME_LIMIT_NOTE, curve_gap_text(result),
          "Each step is re-optimised on its own; the diamond (or dashed line) is the "
          "study as written."])
@@ -166,6 +183,8 @@ def print_tradeoff(console: Console, result: TradeoffResult, study: Study) -> No
     variable = result.variable
 
     def text(value: float) -> str:
+        if variable in PUMP_AXIS:
+            return f"{value:g}"
         return flow(value) if is_flow(variable) else f"{value:.2f} m"
 
     console.print(f"[bold]{console_title(study.title)}[/bold]  (trade-off over {variable}, "
@@ -182,6 +201,7 @@ def print_tradeoff(console: Console, result: TradeoffResult, study: Study) -> No
     console.print(f"This study ({text(result.own_value)}): {own['status']}, least cost "
                   f"{money(own['cost'], study.currency)}{limiting}", markup=False,
                   highlight=False)
+    print_life_cycle_steps(console, result.table, study.currency)
     console.print(curve_gap_text(result), markup=False, highlight=False)
     stopped = len(_time_limited(result.table))
     if stopped:

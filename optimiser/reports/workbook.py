@@ -22,6 +22,7 @@ from optimiser.model import Study
 from optimiser.reports.bill import BillLine, bill_of_quantities
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.inputs import input_tables
+from optimiser.reports.life_cycle import sheet_specs
 from optimiser.reports.numbers import EXCEL_FORMATS
 from optimiser.reports.run_summary import RunSummary
 from optimiser.reports.scheme_tables import branch_totals, by_branch, scheme_total
@@ -204,6 +205,8 @@ def design_workbook(result: CheckResult, appurtenances: list[Appurtenance],
     bill_sheet(book, "Bill of quantities", bill_of_quantities(result, appurtenances),
                result.study.currency, taken, result.total_cost)
     _scenario_sheet(book, result, taken)
+    for title, columns, rows in sheet_specs(result):  # a pumped main's station (none else)
+        add_sheet(book, title, [Column(*spec) for spec in columns], rows, taken)
     scheme = result.study.is_scheme
     add_sheet(book, "Air valves and washouts",
               [*([Column("branch", "text", 16)] if scheme else []),

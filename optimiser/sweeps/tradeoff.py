@@ -21,6 +21,7 @@ from rich.console import Console
 
 from optimiser.milp import DesignOutcome, SolverError, VerificationError, optimise_design
 from optimiser.model import Status, Study
+from optimiser.sweeps.pump_variants import LIFE_CYCLE_COLUMNS, life_cycle_row
 from optimiser.sweeps.runner import run_all
 from optimiser.sweeps.variants import (
     known_variable,
@@ -35,7 +36,8 @@ ROUGHNESS = "roughness"
 
 COLUMNS = ["value", "status", "cost", "lower_bound", "gap", "lp_bound", "n_pieces",
            "pieces", "binding_scenario", "binding_what", "binding_chainage_m",
-           "binding_margin_m", "verified", "note", "target_gap", "time_limit_s"]
+           "binding_margin_m", "verified", "note", "target_gap", "time_limit_s",
+           "new_tanks"]
 """Columns of a sweep table, in order. ``value`` is in SI units (m, m^3/s or mm);
 ``target_gap`` and ``time_limit_s`` are the settings the step was solved with."""
 
@@ -52,6 +54,11 @@ class SolveTask:
     time_limit_s: float | None = None
     mip_gap: float | None = None
     keep_outcome: bool = False
+
+
+def table_columns(study: Study) -> list[str]:
+    """:data:`COLUMNS`, and the life-cycle columns for a pumped study."""
+    return COLUMNS + LIFE_CYCLE_COLUMNS if study.pump is not None else COLUMNS
 
 
 def variant(study: Study, variable: str, value: float) -> Study:
@@ -120,7 +127,10 @@ def outcome_row(value: float, outcome: DesignOutcome) -> dict[str, Any]:
             "lower_bound": outcome.lower_bound, "gap": outcome.gap,
             "lp_bound": outcome.lp_bound, "n_pieces": n_pieces, "pieces": summary,
             **binding_point(outcome), "verified": bool(outcome.verified), "note": note,
-            "target_gap": outcome.mip_gap, "time_limit_s": outcome.time_limit_s}
+            "target_gap": outcome.mip_gap, "time_limit_s": outcome.time_limit_s,
+            "new_tanks": (None if outcome.design is None
+                          else sum(1 for t in outcome.design.tanks if t.new)),
+            **life_cycle_row(outcome.check)}
 
 
 def time_limit_note(time_limit_s: float, gap: float | None, target_gap: float) -> str:
@@ -185,7 +195,7 @@ def sweep(study: Study, variable: str, values: Sequence[float], *, workers: int 
                        time_limit_s=time_limit_s, mip_gap=mip_gap)
     rows = run_all(solve_task, tasks, workers=workers, dask_address=dask_address,
                    console=console, label=label or f"re-optimising over {variable}")
-    return pd.DataFrame(rows, columns=COLUMNS)
+    return pd.DataFrame(rows, columns=table_columns(study))
 
 
 def tradeoff(study: Study, variable: str, values: Sequence[float], *, workers: int = 1,
@@ -253,6 +263,6 @@ def tradeoff_with_study_point(study: Study, variable: str, values: Sequence[floa
         tasks.append(SolveTask(study, own, solver_name))
     rows = run_all(solve_task, tasks, workers=workers, dask_address=dask_address,
                    console=console, label=f"trade-off over {variable}")
-    table = pd.DataFrame(rows[:len(steps)], columns=COLUMNS)
+    table = pd.DataFrame(rows[:len(steps)], columns=table_columns(study))
     own_row = rows[matches[0]] if reuse else rows[-1]
     return TradeoffResult(variable, table, own, own_row)

@@ -14,10 +14,11 @@ from optimiser.sweeps.branch_variants import (
     trunk_variable,
     vary_branch,
 )
+from optimiser.sweeps.pump_variants import PUMP_VARIABLES, pump_value, vary_pump
 
-VARIABLES = ("source-level", "required-head", "flow")
-"""The plain variables; a scheme also has ``branch-head:NAME`` and ``branch-flow:NAME``
-(:mod:`optimiser.sweeps.branch_variants`)."""
+VARIABLES = ("source-level", "required-head", "flow", *PUMP_VARIABLES)
+"""The plain variables (the pump's apply with a [pump] only); a scheme also has
+``branch-head:NAME`` and ``branch-flow:NAME`` (:mod:`optimiser.sweeps.branch_variants`)."""
 
 
 def known_variable(variable: str) -> bool:
@@ -108,6 +109,8 @@ def vary(study: Study, variable: str, value: float) -> Study:
         return with_required_head(study, value)
     if variable == "flow":
         return with_outlet_flow(study, value)
+    if variable in PUMP_VARIABLES:
+        return vary_pump(study, variable, value)
     raise ValueError(f"cannot vary {variable!r}; choose one of {variable_names()}")
 
 
@@ -123,4 +126,6 @@ def study_value(study: Study, variable: str) -> float:
         return study.outlet.required_head_m
     if variable == "flow":
         return study.scenarios[0].outlet_flow_m3_s
+    if variable in PUMP_VARIABLES:
+        return pump_value(study, variable)
     raise ValueError(variable)

@@ -46,6 +46,10 @@ class StageKind(Enum):
     """LP relaxation of the model with break-pressure tanks (rules relaxed): a bound."""
     NO_NEW_TANKS = "no_new_tanks"
     """The best design without new tanks (the plan without tanks): a first design."""
+    TANK_REACHES = "tank_reaches"
+    """Tanks placed by rule, each reach by the plan without tanks: a first design."""
+    TANK_MODEL_REACHES = "tank_model_reaches"
+    """The tanks of the rules-relaxed model, each reach by the plan without tanks."""
     TANK_RULES_RELAXED = "tank_rules_relaxed"
     """MILP with break-pressure tanks, rules relaxed: a bound and its tanks."""
     TANK_FIXED_NEARBY = "tank_fixed_nearby"
@@ -77,6 +81,8 @@ _LABELS = {
     StageKind.ANY_ORDER: "MILP, pieces of a section in any order",
     StageKind.TANK_LP: "LP relaxation with break-pressure tanks (rules relaxed)",
     StageKind.NO_NEW_TANKS: "best design without new tanks",
+    StageKind.TANK_REACHES: "tanks placed by rule, each reach designed on its own",
+    StageKind.TANK_MODEL_REACHES: "tanks of the rules-relaxed MILP, each reach on its own",
     StageKind.TANK_RULES_RELAXED: "MILP with break-pressure tanks, rules relaxed",
     StageKind.TANK_FIXED_NEARBY: "MILP with the rules, those tanks fixed, options nearby",
     StageKind.TANK_MODEL: "MILP, full model with break-pressure tanks",

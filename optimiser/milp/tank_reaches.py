@@ -1,0 +1,140 @@
+"""A first design with break-pressure tanks from the plan without tanks, reach by reach.
+
+With the tanks fixed, the reaches between them are gravity mains of their own: each
+starts at a tank's water level (its outlet loss as the entrance loss, its level as the
+top water level) and ends at the next tank, whose water level is the required head after
+its inlet loss (the exit loss). So the whole search of :func:`optimise_design`, which is
+fast on long routes with the rules, designs each reach; the pieces joined are a design
+of the study with those tanks, which the check judges like any other. The rules are
+shared out: each reach may change option ``(max_changes - tanks) x its share of the
+route`` times (or, first, as often as it likes, kept only if the joined design meets
+``max_changes``). This supplies designs only (the reaches are optimised apart, the tanks
+are placed by a rule), never a bound.
+
+The tanks: walking down the route, a tank is placed at the last site before the first
+section where no option the velocity window admits takes the static head (the latest
+site keeps the fewest tanks), at most ``max_count``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import itertools
+from collections.abc import Callable
+
+import numpy as np
+
+from optimiser.milp.data import ProblemData
+from optimiser.milp.outcome import DesignOutcome, SolverError
+from optimiser.model import (
+    TRUNK,
+    BreakPressureTank,
+    Design,
+    Outlet,
+    Piece,
+    Route,
+    Source,
+    Study,
+    TankRules,
+)
+
+
+def greedy_sites(data: ProblemData) -> list[int] | None:
+    """Nodes for new tanks so that every section has an option for its static head
+    (None: no such choice within ``max_count``)."""
+    tanks = data.tanks
+    assert tanks is not None
+    possible = data.velocity_ok & (tanks.conditional | data.class_ok)
+    highest = np.where(possible, tanks.threshold_m, -np.inf).max(axis=1)  # (n,)
+    level = data.study.source.top_water_level_m
+    chosen: list[int] = []
+    last_site = None
+    for s in range(data.n_sections):
+        if tanks.fixed[s]:
+            level, last_site = float(tanks.level_m[s]), None
+        elif tanks.candidate[s] and s > 0:
+            last_site = s
+        if level <= highest[s] + 1e-9:
+            continue
+        if last_site is None or tanks.level_m[last_site] > highest[s]:
+            return None
+        chosen.append(last_site)
+        level, last_site = float(tanks.level_m[last_site]), None
+    if tanks.max_count is not None and len(chosen) > tanks.max_count:
+        return None
+    return chosen
+
+
+def reach_study(study: Study, first: int, last: int, changes: int | None) -> Study:
+    """The reach from node ``first`` to node ``last`` of ``study`` (with the tanks of
+    ``study.tanks`` at its ends) as a study of its own, without tanks."""
+    route = study.route
+    start, end = float(route.chainage_m[first]), float(route.chainage_m[last])
+    tanks = {round(t.chainage_m, 6): t for t in study.tanks}
+    rules = study.tank_rules
+    sub_route = Route(route.chainage_m[first:last + 1] - start,
+                      route.ground_m[first:last + 1].copy(), route.cover_m,
+                      list(route.labels[first:last + 1]), list(route.zones[first:last]),
+                      route.slope_length)
+    scenarios = []
+    for scenario in study.scenarios:
+        beyond = sum(o.flow_m3_s for o in study.offtakes if o.chainage_m > end + 1e-9)
+        flow = scenario.outlet_flow_m3_s + (scenario.offtake_factor * beyond
+                                            if last < route.n_sections else 0.0)
+        level = scenario.source_level_m if first == 0 else \
+            tanks[round(start, 6)].water_level_m
+        scenarios.append(dataclasses.replace(scenario, outlet_flow_m3_s=flow,
+                                             source_level_m=level))
+    if first == 0:
+        source = study.source
+    else:
+        water = tanks[round(start, 6)].water_level_m
+        source = Source(water, water, rules.outlet_k)
+    outlet = study.outlet if last == route.n_sections else Outlet(
+        tanks[round(end, 6)].water_level_m, rules.inlet_k)
+    inside = end + 1e-9 if last == route.n_sections else end - 1e-9
+    return dataclasses.replace(
+        study, route=sub_route, source=source, outlet=outlet, scenarios=tuple(scenarios),
+        offtakes=tuple(dataclasses.replace(o, chainage_m=o.chainage_m - start)
+                       for o in study.offtakes if start - 1e-9 <= o.chainage_m <= inside),
+        fittings=tuple(dataclasses.replace(f, chainage_m=f.chainage_m - start)
+                       for f in study.fittings if start - 1e-9 <= f.chainage_m < inside),
+        rules=dataclasses.replace(study.rules, max_changes=changes),
+        tanks=(), tank_rules=TankRules(), branches=())
+
+
+def design_by_reaches(data: ProblemData, sites: list[int], time_limit_s: float,
+                      plain: Callable[..., DesignOutcome], solver_name: str,
+                      mip_gap: float, share_changes: bool = True) -> Design | None:
+    """The reaches between the study's own tanks and new tanks at ``sites`` designed
+    one by one by ``plain`` (:func:`optimise_design`); None when one has no design.
+    ``share_changes=False``: each reach may use every change (the joined design may then
+    have too many; the caller's check of the rules decides)."""
+    study = data.study
+    tanks = data.tanks
+    assert tanks is not None
+    route = study.route
+    new = tuple(BreakPressureTank(float(route.chainage_m[i]), float(tanks.level_m[i]), TRUNK,
+                                  "new break-pressure tank", True) for i in sites)
+    with_tanks = dataclasses.replace(study, tanks=(*study.tanks, *new))
+    ends = sorted({0, *sites, *np.flatnonzero(tanks.fixed).tolist(), route.n_sections})
+    budget = study.rules.max_changes if share_changes else None
+    pieces: list[Piece] = []
+    for first, last in itertools.pairwise(ends):
+        share = (route.chainage_m[last] - route.chainage_m[first]) / route.total_chainage_m
+        changes = None if budget is None else int((budget - len(ends) + 2) * share)
+        if changes is not None and changes < 0:
+            return None
+        try:
+            outcome = plain(reach_study(with_tanks, first, last, changes),
+                            solver_name=solver_name, mip_gap=mip_gap,
+                            time_limit_s=max(time_limit_s * share, 1.0))
+        except SolverError:  # no design of this reach within its time
+            return None
+        if outcome.design is None:
+            return None
+        start, end = float(route.chainage_m[first]), float(route.chainage_m[last])
+        laid = outcome.design.pieces
+        pieces += [Piece(p.from_m + start, end if index == len(laid) - 1 else p.to_m + start,
+                         p.option) for index, p in enumerate(laid)]
+    return Design(tuple(pieces), new).merged()
