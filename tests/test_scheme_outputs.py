@@ -77,8 +77,8 @@ def test_terminal_lists_every_delivery_point_and_names_the_branch(tmp_path):
 
 
 def test_sensitivity_refuses_a_scheme_with_a_clear_message(tmp_path, monkeypatch, runner):
-    """Its fast linear check covers one route: on a scheme it says so (exit 2, usage)
-    rather than give figures for the trunk alone."""
+    """The Monte Carlo's fast linear check covers one route: on a scheme it says so (exit
+    2, usage) rather than give figures for the trunk alone."""
     import typer
 
     import optimiser.io
@@ -91,7 +91,7 @@ def test_sensitivity_refuses_a_scheme_with_a_clear_message(tmp_path, monkeypatch
     folder = tmp_path / "study"
     result = runner.invoke(app, ["sensitivity", str(folder / "study.toml"),
                                  "--roughness-from", "0.01", "--roughness-to", "0.1",
-                                 "--out", str(tmp_path / "out")])
+                                 "--samples", "20", "--out", str(tmp_path / "out")])
     assert result.exit_code == 2, result.output
     assert "Traceback" not in result.output
     assert "does not handle branched schemes" in " ".join(result.output.split())
@@ -103,7 +103,7 @@ def test_limiting_point_of_a_design_names_its_branch(tmp_path):
     whose pipe rises to within 2 m of the energy line (the trunk's least is 1.98 m)."""
     import dataclasses
 
-    from scheme_builders import route_of
+    from scheme_api_builders import route_of
 
     from optimiser.milp.outcome import binding_points
     study, design = two_branch_scheme(tmp_path)

@@ -304,7 +304,7 @@ def sensitivity(
         problems.append(f"{study_path}: the Monte Carlo (--samples) does not handle "
                         "branched schemes yet (its fast linear check covers a single "
                         "route); the roughness sweep and --robust do: leave out --samples")
-    given = _given_design(study, design_path, rates, problems)
+    given = None if problems else _given_design(study, design_path, rates, problems)
     if problems:
         fail_input(InputError(problems))
     assert study is not None
