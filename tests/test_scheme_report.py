@@ -14,12 +14,14 @@ import json
 
 import pandas as pd
 import pytest
+from builders import write_study
 from openpyxl import load_workbook
 from report_schemes import scheme_design, scheme_study, with_plan
 from rich.console import Console
 from scheme_builders import write_branch_scheme
 from typer.testing import CliRunner
 
+from optimiser import load_design, load_study
 from optimiser.analysis import check_design
 from optimiser.analysis.appurtenances import schedule
 from optimiser.cli import app
@@ -28,8 +30,8 @@ from optimiser.model import Status
 from optimiser.model.lines import study_lines
 from optimiser.reports.branch_view import branch_view
 from optimiser.reports.cautions import CAUTIONS
-from optimiser.reports.design_report import design_table, print_design
-from optimiser.reports.files import write_design_files
+from optimiser.reports.design_report import DESIGN_CSV_COLUMNS, design_table, print_design
+from optimiser.reports.files import APPURTENANCE_COLUMNS, write_design_files
 from optimiser.reports.html import render_report
 from optimiser.reports.scheme_geometry import write_scheme_geometry_files
 from optimiser.reports.scheme_sections import MARGIN_COLUMNS, margin_rows
@@ -202,3 +204,24 @@ def test_sweep_summary_of_a_scheme_names_each_branch(checked):
     assert text.startswith("main: DN250 PE PN10")
     for name in ("east", "east spur", "west"):
         assert f"; {name}: DN" in text
+
+
+def test_single_route_files_keep_their_columns(tmp_path):
+    files = write_study(tmp_path)
+    study = load_study(files.study)
+    result = check_design(study, load_design(files.design, study))
+    outcome = _outcome(result)
+    assert list(design_table(outcome).columns) == DESIGN_CSV_COLUMNS
+    out = tmp_path / "out"
+    out.mkdir()
+    write_design_files(out, outcome, study)
+    assert list(pd.read_csv(out / "design.csv").columns) == DESIGN_CSV_COLUMNS
+    assert list(pd.read_csv(out / "appurtenances.csv").columns) == APPURTENANCE_COLUMNS
+    book = load_workbook(out / "design.xlsx")
+    assert next(book["Schedule"].values)[0] == "from (m)"
+    assert next(book["Bill of quantities"].values)[1] == "description"
+    assert not {"Branches", "Delivery margins"} & set(book.sheetnames)
+    payload = json.loads((out / "result.json").read_text())
+    assert {piece["branch"] for piece in payload["pieces"]} == {"main"}  # contract section 7
+    page = (out / "report.html").read_text(encoding="utf-8")
+    assert "Scheme diagram" not in page and 'id="plot-0"' in page

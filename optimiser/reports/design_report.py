@@ -59,7 +59,7 @@ def schedule(outcome: DesignOutcome) -> pd.DataFrame:
                           "internal_diameter_mm", "cost", "static_head_m", "allowable_head_m",
                           "wave_speed_m_s", "surge_head_m", "allowable_surge_head_m",
                           "class_governs"]].copy()
-    if check.study.is_scheme:
+    if "branch" in check.pieces:  # every piece of the JSON names its branch (section 7)
         table.insert(0, "branch", check.pieces["branch"])
     segments = check.scenarios[governing_scenario(outcome)].segments
     grouped = segments.groupby("piece")
@@ -157,7 +157,7 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
         extent = f"a trunk and {len(study.branches)} branches, {total_km:.3f} km"
     console.print(f"[bold]{console_title(study.title)}[/bold]  (design of {extent}, "
                   f"{len(table)} pieces)")
-    console.print(_schedule_table(table, governing, currency))
+    console.print(_schedule_table(table, governing, currency, study.is_scheme))
     if study.is_scheme:
         print_scheme_summary(console, outcome.check)
     print_class_table(console, outcome.check)
@@ -200,10 +200,11 @@ SCHEDULE_HEADERS = ("from", "to", "length\nm", "material", "DN", "ID\nmm", "clas
 column and every number is shown whole."""
 
 
-def _schedule_table(table: pd.DataFrame, governing: str, currency: str) -> Table:
-    """The schedule of pieces for the terminal. Numbers are never cut: each number column
-    is at least as wide as its widest value; only the material's name may wrap."""
-    scheme = "branch" in table
+def _schedule_table(table: pd.DataFrame, governing: str, currency: str,
+                    scheme: bool = False) -> Table:
+    """The schedule of pieces for the terminal (a scheme's with its branches). Numbers
+    are never cut: each number column is at least as wide as its widest value; only the
+    material's name (and a branch's) may wrap."""
     rows = [((row.branch,) if scheme else ()) + (
              chainage_label(row.from_m), chainage_label(row.to_m), f"{row.length_m:,.1f}",
              row.material, f"{row.dn_mm:g}", f"{row.internal_diameter_mm:g}",
