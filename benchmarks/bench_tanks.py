@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import argparse
 import csv
+import math
 import os
 import tempfile
 import time
@@ -141,7 +142,8 @@ def report(result: dict, n_sections: int, seed: int, gap: float) -> str:
                        in result["stages"])
     gap_text = "n/a" if result["gap"] is None else f"{result['gap']:.2e}"
     cost = "n/a" if result["cost"] is None else f"{result['cost']:,.0f} USD"
-    bound = f"{result['bound'] or 0:,.0f} USD"
+    finite = result["bound"] is not None and math.isfinite(result["bound"])
+    bound = f"{result['bound']:,.0f} USD" if finite else "none"
     where = ", ".join(map(str, result["tanks"]))
     return f"""## Break-pressure tanks chosen with the pipes (bench_tanks.py)
 
