@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import argparse
 import csv
+import math
 import os
 import tempfile
 import time
@@ -125,7 +126,9 @@ def run(n_sections: int, seed: int, time_limit_s: float, gap: float) -> dict:
             "tanks": [round(t.chainage_m) for t in tanks], "load": load,
             "no_new_tank_cost": outcome.no_new_tank_cost,
             "no_new_tank_status": outcome.no_new_tank_status,
-            "stages": [(s.name, str(s.status), round(s.seconds, 1)) for s in outcome.stages]}
+            "stages": [(s.name, str(s.status), round(s.seconds, 1),
+                        "" if s.objective is None else f", {s.objective:,.0f} USD")
+                       for s in outcome.stages]}
 
 
 def report(result: dict, n_sections: int, seed: int, gap: float) -> str:
@@ -135,11 +138,12 @@ def report(result: dict, n_sections: int, seed: int, gap: float) -> str:
     else:
         saving = (f"{baseline - result['cost']:,.0f} USD against the best design without new "
                   f"tanks ({baseline:,.0f} USD, {result['no_new_tank_status']})")
-    stages = "; ".join(f"{name}: {status}, {seconds} s" for name, status, seconds
+    stages = "; ".join(f"{name}: {status}{cost}, {seconds} s" for name, status, seconds, cost
                        in result["stages"])
     gap_text = "n/a" if result["gap"] is None else f"{result['gap']:.2e}"
     cost = "n/a" if result["cost"] is None else f"{result['cost']:,.0f} USD"
-    bound = f"{result['bound'] or 0:,.0f} USD"
+    finite = result["bound"] is not None and math.isfinite(result["bound"])
+    bound = f"{result['bound']:,.0f} USD" if finite else "none"
     where = ", ".join(map(str, result["tanks"]))
     return f"""## Break-pressure tanks chosen with the pipes (bench_tanks.py)
 
