@@ -182,6 +182,10 @@ def study_problems(study: Study, rates: dict[str, float]) -> list[str]:
         problems.append(f"{study.path}: [catalogue] friction = {study.friction.value}: "
                         "roughness sensitivity needs colebrook-white (with Hazen-Williams, "
                         "age the C values in a catalogue instead)")
+    if study.pump is not None:  # the fixed-design sweeps evaluate gravity lines only
+        problems.append(f"{study.path}: [pump]: roughness sensitivity of a pumped main is "
+                        "not available yet; use tradeoff, or check the design at the "
+                        "roughness of interest")
     materials = (study.full_catalogue or study.catalogue).materials
     for material in rates:
         if material not in materials:

@@ -33,8 +33,9 @@ from optimiser.analysis.flows import inflow_m3_s
 from optimiser.analysis.surge import surge_head_m, water_density_kg_m3, wave_speeds_m_s
 from optimiser.hydraulics.pumping import present_worth_factor, pump_power_kw
 from optimiser.milp.built_model import MARGIN_M, Formulation
+from optimiser.milp.data import ProblemData
 from optimiser.milp.matrix import Affine
-from optimiser.model import SurgeMethod
+from optimiser.model import Study, SurgeMethod
 
 __all__ = ["PumpCosts", "add_pump_columns", "add_pumping_class_rows", "head_bounds_m",
            "head_caps_m",
@@ -50,10 +51,10 @@ class PumpCosts:
     station_cost_per_kw: float
 
 
-def pump_costs(form_or_study) -> PumpCosts:
-    """The linear costs of the station heads of a study (``Formulation`` or ``Study``)."""
-    study = getattr(getattr(form_or_study, "data", None), "study", form_or_study)
+def pump_costs(study: Study) -> PumpCosts:
+    """The linear costs of the station heads of a pumped study."""
     pump = study.pump
+    assert pump is not None
     density = water_density_kg_m3(study)
     flows = np.array([inflow_m3_s(study, s) for s in study.scenarios])
     hours = np.array([s.hours_per_year for s in study.scenarios])
@@ -91,7 +92,7 @@ def head_bounds_m(form: Formulation) -> np.ndarray:
     return np.maximum(bound, 0.0)
 
 
-def head_caps_m(data, incumbent_cost: float) -> np.ndarray:
+def head_caps_m(data: ProblemData, incumbent_cost: float) -> np.ndarray:
     """(K,) the most head each scenario can use in a design of life-cycle cost at most
     ``incumbent_cost``: its energy present value plus its share of the station cost
     (installed power >= its power) cannot exceed the incumbent's cost less the cheapest

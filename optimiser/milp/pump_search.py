@@ -74,19 +74,20 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
     state.stages.append(Stage(StageKind.ANY_ORDER, SKIPPED_STAGES, Status.SKIPPED, None,
                               None, 0.0, 0, 0, 0, "pumped main"))
     begun = time.perf_counter()
-    relaxed = build(data, with_rules=state.with_rules, relaxed=True)
+    relaxed = build(data, with_rules=False, relaxed=True)
     report = state.run_solver(StageKind.LP_RELAXATION,
-                              "LP relaxation (pipes and station heads)", relaxed, None,
-                              0.4, time.perf_counter() - begun)
+                              "LP relaxation, rules relaxed (pipes and station heads)",
+                              relaxed, None, 0.4, time.perf_counter() - begun)
     if report.status == Status.INFEASIBLE:
         return state.infeasible(_why_infeasible(study))
     if report.bound is not None:
         state.lp_bound = report.bound
         state.raise_bound(report.bound)
+    warm = None
     if relaxed.values is not None:
-        _first_design(state, design_from_fractions(data, relaxed.fractions()))
+        warm = _first_design(state, design_from_fractions(data, relaxed.fractions()))
     if not state.proven() and not state.clock.nearly_out():
-        start = _without_rules(state)  # without rules, this is the full model
+        start = _without_rules(state, warm)  # without rules, this is the full model
         if state.with_rules and start is not None and not state.proven():
             _near(state, start)
         if state.with_rules and not state.proven() and not state.clock.nearly_out():
@@ -94,13 +95,14 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
     return _finish(state)
 
 
-def _without_rules(state: SearchState) -> Design | None:
+def _without_rules(state: SearchState, start: Design | None) -> Design | None:
     """The mixed-integer programme without the rules (the full model when the study has
     none): a relaxation, so its bound counts; its design, repaired to the rules' piece
     structure when there are rules, is offered. Returns its design (before repair)."""
     begun = time.perf_counter()
     form = build(state.data, with_rules=False)
-    warm = section_use(state.data, state.best.design) if state.best is not None else None
+    start = start or (state.best.design if state.best is not None else None)
+    warm = section_use(state.data, start) if start is not None else None
     name = "MILP, rules relaxed (pipes and station heads)" if state.with_rules else \
         "MILP, full model (pipes and station heads)"
     report = state.run_solver(StageKind.FULL_MODEL, name, form, warm,
@@ -152,23 +154,37 @@ def _consider(state: SearchState, design: Design, source: str, must_pass: bool) 
         state.best = Candidate(design, result, cost, source)
 
 
-def _first_design(state: SearchState, design: Design) -> None:
-    """The LP's design (repaired to the rules' piece structure when there are rules),
-    with the class of every piece the pumping pressure breaks raised within its size."""
-    if state.with_rules:
-        repaired = repair(state.data, design)
-        if repaired is None:
-            return
-        design = repaired
+def _first_design(state: SearchState, design: Design) -> Design | None:
+    """The LP's design with the class of every piece the pumping pressure breaks raised
+    within its size; with rules, that design repaired to their piece structure (and its
+    classes raised again) is offered. Returns the design before the repair (a start for
+    the model without the rules), or None."""
+    design = _with_classes_raised(state.study, design)
+    if design is None:
+        return None
+    if not state.with_rules:
+        _consider(state, design, "LP relaxation, classes raised", must_pass=False)
+        return design
+    repaired = repair(state.data, design)
+    if repaired is not None:
+        repaired = _with_classes_raised(state.study, repaired)
+    if repaired is not None:
+        _consider(state, repaired, "LP relaxation, repaired, classes raised",
+                  must_pass=False)
+    return design
+
+
+def _with_classes_raised(study: Study, design: Design) -> Design | None:
+    """``design`` with classes raised until the check passes (None if it cannot)."""
     for _ in range(4):
-        result = check_design(state.study, design, capacity=False)
+        result = check_design(study, design, capacity=False)
         if result.ok:
-            break
-        raised = _raise_classes(state.study, design, result)
+            return design
+        raised = _raise_classes(study, design, result)
         if raised is None:
-            return
+            return None
         design = raised
-    _consider(state, design, "LP relaxation, classes raised", must_pass=False)
+    return None
 
 
 def _raise_classes(study: Study, design: Design, result: CheckResult) -> Design | None:

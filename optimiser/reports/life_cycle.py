@@ -48,6 +48,14 @@ def life_cycle_fields(result: CheckResult) -> dict[str, Any]:
     return {"pump": result.station.as_dict(), "life_cycle_cost": result.life_cycle_cost}
 
 
+def pumping_piece_fields(result: CheckResult) -> list[str]:
+    """Piece columns the check's JSON adds with a pump: the largest pressure head while
+    pumping, the static head of the static line, and which one the class takes."""
+    if result.station is None:
+        return []
+    return ["pumping_head_m", "still_head_m", "class_head"]
+
+
 def breakdown(result: CheckResult) -> list[tuple[str, float]]:
     """(part, amount) of the life-cycle cost: pipes (with changes), station, energy
     present value and the total (empty without a pump)."""

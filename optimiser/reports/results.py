@@ -8,7 +8,7 @@ from optimiser import __version__
 from optimiser.analysis.check import CheckResult, ScenarioResult
 from optimiser.model import Friction, Study
 from optimiser.reports.cautions import CAUTIONS
-from optimiser.reports.life_cycle import life_cycle_fields
+from optimiser.reports.life_cycle import life_cycle_fields, pumping_piece_fields
 from optimiser.reports.outlet_control import outlets
 from optimiser.reports.tank_tables import tank_dicts
 
@@ -82,7 +82,8 @@ def check_dict(result: CheckResult, command: str = "check") -> dict[str, Any]:
         "currency": study.currency,
         "violations": [v.as_dict() for v in result.violations],
         "scenarios": [scenario_dict(s) for s in result.scenarios],
-        "pieces": result.pieces[PIECE_FIELDS].to_dict(orient="records"),
+        "pieces": result.pieces[PIECE_FIELDS + pumping_piece_fields(result)].to_dict(
+            orient="records"),
         "total_cost": result.total_cost,
         "change_cost_total": result.change_cost_total,
         "break_pressure_tanks": tank_dicts(result),
