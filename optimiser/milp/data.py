@@ -21,7 +21,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, node_point_k
+from optimiser.analysis.flows import (
+    flow_below_m3_s,
+    friction_gradient,
+    line_flows_m3_s,
+    node_point_k,
+)
 from optimiser.analysis.limits import (
     CHECK_TOLERANCE,
     class_holds,
@@ -31,7 +36,9 @@ from optimiser.analysis.limits import (
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.gradeline import section_loss_m, static_head_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
+from optimiser.milp.tree.line_study import line_study
 from optimiser.model import Study, SurgeMethod
+from optimiser.model.lines import Line
 
 SCREEN_TOLERANCE_M = 1e-3
 """A check point is screened out only if it clears its minimum by this much more than
@@ -96,8 +103,20 @@ class ProblemData:
         return self.order[mask[self.order]].tolist()
 
 
-def prepare(study: Study) -> ProblemData:
-    """Compute the optimiser's arrays for ``study``."""
+def prepare(study: Study, line: Line | None = None) -> ProblemData:
+    """Compute the optimiser's arrays for ``study`` (or for one ``line`` of a scheme).
+
+    With ``line``, the arrays are those of that line seen as a single route
+    (:func:`optimiser.milp.tree.line_study.line_study`: its route, fittings, offtakes,
+    minimum pressure, start loss and delivery point; ``data.study`` is that view), with
+    its flows from the whole scheme (contract section 7: the branches below it add
+    their inflow). Screening (:func:`screened`) then sees only the line's own points
+    downstream; the scheme's other points only raise the true floor of the energy, so
+    the floor it uses is still one every feasible design keeps, and it stays exact.
+    """
+    scheme = study
+    if line is not None:
+        study = line_study(scheme, line)
     route = study.route
     catalogue = study.catalogue
     n = route.n_sections
@@ -117,7 +136,8 @@ def prepare(study: Study) -> ProblemData:
 
     flows, velocities, heads, gradients, losses, levels = [], [], [], [], [], []
     for scenario in study.scenarios:
-        q = flow_below_m3_s(study, scenario, chainage[:-1])
+        q = flow_below_m3_s(study, scenario, chainage[:-1]) if line is None \
+            else line_flows_m3_s(scheme, scenario, line, chainage[:-1])
         v = velocity_m_s(q[:, None], diameter[None, :])
         h = velocity_head_m(v)
         # A chain carries few distinct flows (the outlet's plus the offtakes downstream):

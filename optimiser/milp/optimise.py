@@ -58,6 +58,7 @@ from optimiser.milp.search.lp_relaxation import run_lp_relaxation
 from optimiser.milp.search.plan import initial_plan, run_plan
 from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import SOLVERS, relative_gap
+from optimiser.milp.tree.optimise import optimise_scheme
 from optimiser.milp.uniform import UniformDesign
 from optimiser.model import Study
 from optimiser.model.status import Status
@@ -82,6 +83,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     time_limit_s = float(study.solver.time_limit_s if time_limit_s is None else time_limit_s)
     settings = Settings(solver_name, time_limit_s,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
+    if study.is_scheme:  # one model for the whole tree (contract section 7)
+        return optimise_scheme(study, settings, started)
     # The model works on the route split at every class limit (exact class admissibility,
     # :mod:`optimiser.milp.class_limits`); every check judges the study as given.
     data = prepare(split_at_class_limits(study))

@@ -17,8 +17,16 @@ from optimiser.milp.columns import SectionColumns
 from optimiser.milp.matrix import Affine, Term, var
 
 
-def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
-    """Add the pressure rows of every scenario, and the outlet rows, to ``form``."""
+def add_pressure_rows(form: Formulation, columns: SectionColumns,
+                      start_m: list[Affine] | None = None,
+                      taps: tuple[int, ...] = ()) -> dict[tuple[int, int], Affine]:
+    """Add the pressure rows of every scenario, and the outlet rows, to ``form``.
+
+    ``start_m`` (one per scenario): the energy at chainage 0 before the start loss
+    (default the source level; a branch of a scheme starts from its junction's energy,
+    :mod:`optimiser.milp.tree.model`). ``taps``: nodes whose upstream-side energy (before
+    a fitting there) is returned, by (scenario, node), each a single column.
+    """
     data = form.data
     n = data.n_sections
     k_node = data.node_point_k
@@ -26,12 +34,18 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
     need_end[n - 1] = True
     for s in range(n - 1):
         need_end[s] = (not data.screened_up[s + 1] or not data.screened_down[s + 1]
-                       or columns.need_interior[s + 1] or k_node[s + 1] > 0)
+                       or columns.need_interior[s + 1] or k_node[s + 1] > 0
+                       or s + 1 in taps)
+    tapped: dict[tuple[int, int], Affine] = {}
     for k in range(data.n_scenarios):
-        running = Affine([], float(data.source_level_m[k]))
+        running = Affine([], float(data.source_level_m[k])) if start_m is None \
+            else Affine(list(start_m[k].terms), start_m[k].constant)
         for s in range(n):
             running = _section_rows(form, columns, k, s, running, bool(need_end[s]))
+            if s + 1 in taps:
+                tapped[k, s + 1] = Affine(list(running.terms), running.constant)
         _outlet_rows(form, columns, k, running)
+    return tapped
 
 
 def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine],
