@@ -27,15 +27,17 @@ import math
 from optimiser.analysis import check_design
 from optimiser.milp.formulation import rules_active
 from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError, binding_points
+from optimiser.milp.reaches import ActivePoints
 from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import relative_gap
 from optimiser.milp.tree.diagnosis import diagnose_scheme
+from optimiser.milp.tree.lp_stage import run_tree_lp
 from optimiser.milp.tree.problem import prepare_tree
 from optimiser.milp.tree.stages import (
     run_first_designs,
     run_tree_dominance,
-    run_tree_lp,
-    run_tree_model,
+    run_tree_fine_model,
+    run_tree_reach_model,
 )
 from optimiser.model import Study
 from optimiser.model.status import Status
@@ -53,13 +55,20 @@ def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignO
     if findings:
         return state.infeasible(findings)
     run_tree_dominance(state, problem)
-    lp, finished = run_tree_lp(state, problem)
+    lp, actives, finished = run_tree_lp(state, problem,
+                                        [ActivePoints.none(d) for d in problem.datas])
     if finished is not None:
         return finished
     assert lp is not None
-    warm = run_first_designs(state, problem, lp)
-    if not state.proven():
-        finished = run_tree_model(state, problem, warm)
+    run_first_designs(state, problem, lp.design)
+    if not state.proven() and state.with_rules:
+        finished = run_tree_reach_model(state, problem, actives)
+        if finished is not None:
+            return finished
+    if not state.proven() and state.unfinished and not state.clock.nearly_out():
+        run_tree_fine_model(state, problem, state.unfinished[-1], 0.5)
+    if not state.proven() and not state.clock.nearly_out():
+        finished = run_tree_fine_model(state, problem, None, 0.85)
         if finished is not None:
             return finished
     return _finish(state)

@@ -19,6 +19,15 @@ from optimiser.milp.built_model import WarmStart
 from optimiser.milp.class_limits import split_line_at_class_limits
 from optimiser.milp.data import ProblemData, prepare
 from optimiser.milp.extract import design_from_fractions, section_use
+from optimiser.milp.reaches import (
+    ActivePoints,
+    Reaches,
+    design_from_reaches,
+    merge,
+    reach_use,
+    refine,
+    with_active,
+)
 from optimiser.milp.tree.line_study import line_design, on_line
 from optimiser.milp.tree.model import TreeFormulation
 from optimiser.model import Design, Study
@@ -76,10 +85,55 @@ def design_from_tree(problem: TreeProblem, form: TreeFormulation) -> Design:
     return Design(tuple(pieces))
 
 
-def tree_warm_start(problem: TreeProblem, design: Design) -> WarmStart:
-    """Values of ``x`` and ``y`` of ``design`` by (kind, global section, option)."""
+def tree_reaches(problem: TreeProblem, actives: list[ActivePoints] | None) -> list[Reaches]:
+    """Each line's quiet sections merged (:func:`optimiser.milp.reaches.merge`), with
+    only the check points of ``actives`` in the model (None: every point not screened
+    out, which makes the merge exact). Junction nodes always stay nodes: the flow
+    changes there in every scenario where the branch draws water."""
+    if actives is None:
+        return [merge(data) for data in problem.datas]
+    return [merge(with_active(data, active))
+            for data, active in zip(problem.datas, actives, strict=True)]
+
+
+def design_from_tree_reaches(problem: TreeProblem, reaches: list[Reaches],
+                             form: TreeFormulation) -> Design:
+    """The design of a solved model of merged reaches: each reach's options in the order
+    the solution lays them (:func:`optimiser.milp.reaches.design_from_reaches`)."""
+    form.share_values()
+    pieces = []
+    for line, data, own, part in zip(problem.lines, problem.datas, reaches, form.parts,
+                                     strict=True):
+        pieces.extend(on_line(design_from_reaches(data, own, part), line.name).pieces)
+    return Design(tuple(pieces))
+
+
+def refined_design(problem: TreeProblem, reaches: list[Reaches],
+                   form: TreeFormulation) -> tuple[Design, list[np.ndarray]]:
+    """The design of a solved LP on merged reaches, each reach's options laid in the
+    section order over its fine sections (:func:`optimiser.milp.reaches.refine`), and
+    the fine fractions of every line."""
+    form.share_values()
+    pieces = []
+    fractions = []
+    for line, data, own, part in zip(problem.lines, problem.datas, reaches, form.parts,
+                                     strict=True):
+        fine = refine(data, own, part.fractions())
+        fractions.append(fine)
+        pieces.extend(on_line(design_from_fractions(data, fine), line.name).pieces)
+    return Design(tuple(pieces)), fractions
+
+
+def reach_warm_start(problem: TreeProblem, reaches: list[Reaches] | None,
+                     form: TreeFormulation, design: Design) -> WarmStart:
+    """A warm start of ``form`` (built on ``reaches``, or on the fine sections when
+    None) from ``design``, by global section (reach) index."""
     warm: WarmStart = {}
-    for line, data, offset in zip(problem.lines, problem.datas, problem.offsets, strict=True):
-        for (kind, s, j), value in section_use(data, line_design(design, line.name)).items():
+    for index, (line, data) in enumerate(zip(problem.lines, problem.datas, strict=True)):
+        own = line_design(design, line.name)
+        values = section_use(data, own) if reaches is None \
+            else reach_use(data, reaches[index], own)
+        offset = form.offsets[index]
+        for (kind, s, j), value in values.items():
             warm[kind, offset + s, j] = value
     return warm

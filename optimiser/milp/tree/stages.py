@@ -1,33 +1,40 @@
-"""The stages of a scheme's run, each reading and updating the search state.
+"""The stages of a scheme's run after the LP, each reading and updating the search state.
 
 - :func:`run_tree_dominance`: options dominated wherever they are admissible on a line
   leave that line (exact on a tree: putting the dominating option in place of every
-  piece keeps the line's energy as high or higher everywhere, junctions included, so
-  every branch below keeps what it had).
-- :func:`run_tree_lp`: the LP relaxation of the whole tree with the rules relaxed and
-  the binaries continuous (a relaxation: its value is the LP bound).
-- :func:`run_first_designs`: the LP's design, if it passes the check and the rules; else
-  each line repaired to the rules (:func:`optimiser.milp.repair.repair`), as a first
-  design and as the warm start of the full model.
-- :func:`run_tree_model`: the full model of the tree with the rules, warm-started from
-  the best design; its bound raises the lower bound, its design must pass the check.
+  piece keeps the line's energy as high or higher everywhere, its junctions included,
+  so every branch below keeps what it had).
+- :func:`run_first_designs`: with the rules, each line of the LP's design repaired to
+  them (:func:`optimiser.milp.repair.repair`).
+- :func:`run_tree_reach_model`: the tree's model on merged reaches with the rules, by
+  row generation: a relaxation of the full model (its bound is valid), whose designs
+  are checked like any other.
+- :func:`run_tree_fine_model`: the model of the fine sections, restricted to the options
+  a design uses nearby on every line (designs only), or whole (its bound counts).
 """
 
 from __future__ import annotations
 
 import time
 
-import numpy as np
-
 from optimiser.milp.diagnose import diagnose_after
-from optimiser.milp.outcome import DesignOutcome, SolverError, Stage, VerificationError
+from optimiser.milp.outcome import DesignOutcome, Stage, VerificationError
 from optimiser.milp.presolve import dominated_options, without_options
-from optimiser.milp.repair import repair
+from optimiser.milp.reaches import MAX_ROW_ROUNDS, ActivePoints
+from optimiser.milp.repair import design_mask, repair
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import SearchState
 from optimiser.milp.tree.line_study import line_design, on_line
-from optimiser.milp.tree.model import TreeFormulation, build_tree
-from optimiser.milp.tree.problem import TreeProblem, design_from_tree, tree_warm_start
+from optimiser.milp.tree.lp_stage import sizes
+from optimiser.milp.tree.model import build_tree
+from optimiser.milp.tree.problem import (
+    TreeProblem,
+    design_from_tree,
+    design_from_tree_reaches,
+    reach_warm_start,
+    tree_reaches,
+)
+from optimiser.milp.tree.rows import grown_points
 from optimiser.model import Design
 from optimiser.model.status import Status
 
@@ -47,70 +54,89 @@ def run_tree_dominance(state: SearchState, problem: TreeProblem) -> None:
                               f"{len(problem.lines)} lines"))
 
 
-def _sizes(form: TreeFormulation) -> str:
-    return f"{len(form.parts)} lines, {sum(p.data.n_sections for p in form.parts)} sections"
-
-
-def run_tree_lp(state: SearchState, problem: TreeProblem
-                ) -> tuple[TreeFormulation | None, DesignOutcome | None]:
-    """The LP relaxation (rules relaxed): the LP bound, or the outcome if infeasible."""
-    begun = time.perf_counter()
-    form = build_tree(problem.lines, problem.datas, with_rules=False, relaxed=True)
-    seconds = time.perf_counter() - begun
-    report = state.run_solver(StageKind.LP_RELAXATION,
-                              f"{StageKind.LP_RELAXATION.label}, whole tree: {_sizes(form)}",
-                              form, None, 1.0, seconds)
-    if report.status == Status.INFEASIBLE:
-        return None, state.infeasible(diagnose_after(state.data, rules_relaxed_feasible=False))
-    if not report.has_solution or report.objective is None:
-        raise SolverError(f"the LP relaxation of the scheme did not solve ({report.status}: "
-                          f"{report.message})")
-    state.lp_bound = report.objective
-    state.raise_bound(report.objective)
-    return form, None
-
-
-def run_first_designs(state: SearchState, problem: TreeProblem,
-                      lp: TreeFormulation) -> Design:
-    """Offer the LP's design; with the rules, each line repaired; return the design to
-    warm-start the full model from (the best so far, or the repaired one)."""
-    design = design_from_tree(problem, lp)
-    state.consider(design, "LP relaxation", must_pass=False)
+def run_first_designs(state: SearchState, problem: TreeProblem, lp_design: Design) -> None:
+    """With the rules, offer the LP's design with every line repaired to them."""
     if not state.with_rules or state.proven():
-        return design if state.best is None else state.best.design
+        return
     pieces = []
     for line, data in zip(problem.lines, problem.datas, strict=True):
-        own = line_design(design, line.name)
+        own = line_design(lp_design, line.name)
         fixed = repair(data, own)
         pieces.extend(on_line(fixed if fixed is not None else own, line.name).pieces)
-    repaired = Design(tuple(pieces))
-    state.consider(repaired, "LP design repaired to the rules, line by line", must_pass=False)
-    return repaired if state.best is None else state.best.design
+    state.consider(Design(tuple(pieces)), "LP design repaired to the rules, line by line",
+                   must_pass=False)
 
 
-def run_tree_model(state: SearchState, problem: TreeProblem, warm: Design,
-                   share: float = 0.85) -> DesignOutcome | None:
-    """The full model of the tree (with the rules if any), warm-started from ``warm``;
-    returns the outcome only if it proves that no design exists."""
-    begun = time.perf_counter()
-    form = build_tree(problem.lines, problem.datas, with_rules=state.with_rules)
-    seconds = time.perf_counter() - begun
-    report = state.run_solver(StageKind.FULL_MODEL,
-                              f"{StageKind.FULL_MODEL.label}, whole tree: {_sizes(form)}",
-                              form, tree_warm_start(problem, warm), share, seconds)
-    state.full_report = report
-    if report.status == Status.INFEASIBLE:
-        if state.best is not None:
-            raise VerificationError("the tree model is reported infeasible although a "
-                                    f"verified design from '{state.best.source}' exists (a bug)")
-        return state.infeasible(diagnose_after(state.data, rules_relaxed_feasible=True))
-    state.raise_bound(report.bound)
-    if report.has_solution:
-        state.consider(design_from_tree(problem, form), StageKind.FULL_MODEL.label,
-                       must_pass=True)
+def run_tree_reach_model(state: SearchState, problem: TreeProblem,
+                         actives: list[ActivePoints], share: float = 0.6
+                         ) -> DesignOutcome | None:
+    """Rounds of the reach model with the rules; returns the outcome only if it proves
+    that no design exists."""
+    kind = StageKind.REACH_MODEL
+    for number in range(1, MAX_ROW_ROUNDS + 1):
+        if state.clock.nearly_out():
+            return None
+        begun = time.perf_counter()
+        reaches = tree_reaches(problem, actives)
+        form = build_tree(problem.lines, [r.data for r in reaches], with_rules=True)
+        warm = None if state.best is None else \
+            reach_warm_start(problem, reaches, form, state.best.design)
+        report = state.run_solver(kind, f"{kind.label}, whole tree, round {number}: "
+                                  f"{sizes(form)}, {sum(a.count() for a in actives)} "
+                                  "pressure points", form, warm, share,
+                                  time.perf_counter() - begun)
+        if report.status == Status.INFEASIBLE:
+            return _infeasible(state, "reach model")
+        state.raise_bound(report.bound)
+        if not report.has_solution:
+            return None
+        design = design_from_tree_reaches(problem, reaches, form)
+        result = state.consider(design, kind.label, must_pass=False)
+        if state.best is None or state.best.design is not design:
+            state.unfinished.append(design)
+        if state.proven():
+            return None
+        actives, added = grown_points(problem, actives, result)
+        if not added:
+            return None
     return None
 
 
-def admissible_pairs(problem: TreeProblem) -> int:
-    """(section, option) pairs left in the tree's model."""
-    return int(sum(np.count_nonzero(data.admissible) for data in problem.datas))
+def run_tree_fine_model(state: SearchState, problem: TreeProblem, around: Design | None,
+                        share: float) -> DesignOutcome | None:
+    """The model of the fine sections with the rules: restricted to the options
+    ``around`` uses nearby on each line (a source of designs), or whole when ``around``
+    is None (its bound counts, and its infeasibility proves no design exists)."""
+    kind = StageKind.POLISH if around is not None else StageKind.FULL_MODEL
+    begun = time.perf_counter()
+    allowed = None if around is None else [
+        design_mask(data, line_design(around, line.name), _width_m(data))
+        for line, data in zip(problem.lines, problem.datas, strict=True)]
+    form = build_tree(problem.lines, problem.datas, allowed=allowed,
+                      with_rules=state.with_rules)
+    warm = None if state.best is None else \
+        reach_warm_start(problem, None, form, state.best.design)
+    report = state.run_solver(kind, f"{kind.label}, whole tree: {sizes(form)}", form, warm,
+                              share, time.perf_counter() - begun,
+                              stage_gap=None if around is None else 1e-4)
+    if around is None:
+        state.full_report = report
+        if report.status == Status.INFEASIBLE:
+            return _infeasible(state, "full model")
+        state.raise_bound(report.bound)
+    if report.has_solution:
+        state.consider(design_from_tree(problem, form), kind.label, must_pass=True)
+    return None
+
+
+def _width_m(data) -> float:
+    """Chainage around a piece whose option a restricted model keeps."""
+    return max(2.0 * data.study.rules.min_piece_length_m,
+               3.0 * float(data.chainage_length_m.mean()))
+
+
+def _infeasible(state: SearchState, what: str) -> DesignOutcome:
+    if state.best is not None:
+        raise VerificationError(f"the tree's {what} is reported infeasible although a "
+                                f"verified design from '{state.best.source}' exists (a bug)")
+    return state.infeasible(diagnose_after(state.data, rules_relaxed_feasible=True))
