@@ -41,7 +41,7 @@ def catalogue_text(sizes: tuple[int, ...] = SIZES_MM) -> str:
 
 
 def _trunk_study(folder: Path, profile: list[tuple[float, float]], required_m: float,
-                 flow_l_s: float, rules: str, exact: bool) -> Study:
+                 flow_l_s: float, rules: str, exact: bool, scenarios: int) -> Study:
     folder.mkdir(parents=True, exist_ok=True)
     rows = ["chainage_m,ground_m"] + [f"{c:.2f},{g:.3f}" for c, g in profile]
     (folder / "profile.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
@@ -54,22 +54,34 @@ def _trunk_study(folder: Path, profile: list[tuple[float, float]], required_m: f
             "min_pressure_m = 2.0", "local_k_per_km = 0.5",
             "[[scenario]]", 'name = "peak"', f'flow = "{flow_l_s:.2f} L/s"',
             "[[scenario]]", 'name = "night"', f'flow = "{0.4 * flow_l_s:.2f} L/s"',
-            "offtake_factor = 0.5", "velocity_limits = false",
-            "[catalogue]", 'file = "catalogue.csv"', rules,
+            "offtake_factor = 0.5", "velocity_limits = false"]
+    if scenarios > 2:
+        text += ["[[scenario]]", 'name = "fire"', f'flow = "{1.2 * flow_l_s:.2f} L/s"',
+                 "offtake_factor = 1.1", "roughness_factor = 2.0"]
+    text += ["[catalogue]", 'file = "catalogue.csv"', rules,
             "[solver]", "time_limit_s = 60", "mip_gap = 1e-6"]
     path = folder / "study.toml"
     path.write_text("\n".join(text) + "\n", encoding="utf-8")
     study = load_study(path)
-    peak, night = study.scenarios  # the branches' flows at night: 40 % (set here, as the
-    # loader of this branch may not read branch_factor yet)
-    return dataclasses.replace(study, scenarios=(peak, dataclasses.replace(
-        night, branch_factor=0.4)))
+    # the branches' flows at night 40 %, in a fire 130 % (set here, as the loader of
+    # this branch may not read branch_factor yet)
+    factors = {"night": 0.4, "fire": 1.3}
+    return dataclasses.replace(study, scenarios=tuple(
+        dataclasses.replace(s, branch_factor=factors.get(s.name, 1.0))
+        for s in study.scenarios))
 
 
-def _profile(rng: np.random.Generator, start_ground_m: float, sections: int
+def _profile(rng: np.random.Generator, start_ground_m: float, sections: int,
+             ridge: float = 0.0, spacing_m: tuple[float, float] = (80.0, 500.0)
              ) -> list[tuple[float, float]]:
-    chainage = np.round(np.concatenate([[0.0], np.cumsum(rng.uniform(80.0, 500.0, sections))]), 2)
-    ground = np.round(np.concatenate([[start_ground_m], rng.uniform(380.0, 420.0, sections)]), 3)
+    """Nodes ``spacing_m`` apart, ground 380-420 m, a share ``ridge`` of them on a rise of
+    420-432 m (where pressure can bind)."""
+    chainage = np.round(np.concatenate([[0.0], np.cumsum(rng.uniform(*spacing_m,
+                                                                      sections))]), 2)
+    high = rng.random(sections) < ridge
+    ground = np.where(high, rng.uniform(420.0, 432.0, sections),
+                      rng.uniform(380.0, 420.0, sections))
+    ground = np.round(np.concatenate([[start_ground_m], ground]), 3)
     return list(zip(chainage.tolist(), ground.tolist(), strict=True))
 
 
@@ -81,23 +93,28 @@ def _route(profile: list[tuple[float, float]]) -> Route:
 
 def random_tree(folder: Path, seed: int, *, lines: int | None = None,
                 sections: tuple[int, int] = (2, 8), rules: str = "",
-                exact: bool = True) -> Study:
+                exact: bool = True, scenarios: int = 2, ridge: float = 0.0,
+                spacing_m: tuple[float, float] = (80.0, 500.0)) -> Study:
     """A random scheme: ``lines`` lines in all (random 2-7 if None), each of a random
     number of sections in ``sections``, each branch leaving a random inner node of an
-    earlier line. ``rules``: a ``[rules]``/``[costs]`` text for the study file."""
+    earlier line. ``rules``: a ``[rules]``/``[costs]`` text for the study file;
+    ``scenarios``: 2 (peak, night) or 3 (and a fire flow on aged pipe); ``ridge``: the
+    share of nodes on a rise (not with ``exact``); ``spacing_m``: distance between
+    survey points."""
     rng = np.random.default_rng(seed)
     count = int(rng.integers(2, 8)) if lines is None else lines
-    profiles = [_profile(rng, 400.0, int(rng.integers(*sections)) + 1)]
+    profiles = [_profile(rng, 400.0, int(rng.integers(*sections)) + 1, ridge,
+                         spacing_m)]
     parents: list[tuple[int, int]] = []  # (parent line, node) of each branch
     for _ in range(count - 1):
         parent = int(rng.integers(0, len(profiles)))
         node = int(rng.integers(1, len(profiles[parent]) - 1))
         parents.append((parent, node))
         profiles.append(_profile(rng, profiles[parent][node][1],
-                                 int(rng.integers(*sections))))
+                                 int(rng.integers(*sections)), ridge, spacing_m))
     required = rng.uniform(425.0, 445.0, count)
     trunk = _trunk_study(folder, profiles[0], float(required[0]),
-                         float(rng.uniform(3.0, 15.0)), rules, exact)
+                         float(rng.uniform(3.0, 15.0)), rules, exact, scenarios)
     names = ["main"] + [f"branch {i}" for i in range(1, count)]
     branches = []
     for i, (parent, node) in enumerate(parents, start=1):
