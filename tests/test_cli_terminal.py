@@ -209,7 +209,9 @@ def test_violations_say_what_where_how_much_and_which_scenario(make_study, runne
     assert {v["kind"] for v in violations} == set(SHORTFALL)
     flat = "".join(result.output.split())
     for v in violations:
-        assert set(v) == {"kind", "scenario", "chainage_m", "value", "limit", "message"}
+        assert set(v) == {"kind", "scenario", "branch", "chainage_m", "value", "limit",
+                          "message"}
+        assert v["branch"] == "main"  # contract section 7: every violation names its branch
         message = v["message"]
         assert "\n" not in message and ". " not in message  # one sentence
         who = v["scenario"] if v["scenario"] is not None else "static (every scenario)"

@@ -18,6 +18,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.analysis.check import CheckResult
+from optimiser.model import TRUNK
+from optimiser.model.lines import Line, study_lines
 
 
 @dataclass(frozen=True)
@@ -28,9 +30,10 @@ class Appurtenance:
     ground_m: float
     reason: str
     label: str = ""
+    branch: str = TRUNK
 
     def as_dict(self) -> dict:
-        return {"kind": self.kind, "chainage_m": self.chainage_m,
+        return {"kind": self.kind, "branch": self.branch, "chainage_m": self.chainage_m,
                 "pipe_level_m": self.pipe_level_m, "ground_m": self.ground_m,
                 "reason": self.reason, "label": self.label}
 
@@ -78,13 +81,24 @@ def turning_points(level_m: np.ndarray, tolerance_m: float) -> tuple[list[int], 
 
 def schedule(result: CheckResult, *, tolerance_m: float = 1.0,
              margin_threshold_m: float = 3.0) -> list[Appurtenance]:
-    """Air valves and washouts for a checked design, sorted by chainage.
+    """Air valves and washouts for a checked design, line by line (the trunk, then each
+    branch of a scheme), sorted by chainage on each.
 
     Air valves: local high points of the pipe profile, and the highest point of every
     stretch where the pressure margin (pressure head minus its minimum) falls below
     ``margin_threshold_m`` in any scenario. Washouts: local low points.
     """
-    route = result.study.route
+    items: list[Appurtenance] = []
+    for line in study_lines(result.study):
+        found = _line_schedule(result, line, tolerance_m, margin_threshold_m)
+        items += sorted(found, key=lambda a: (a.chainage_m, a.kind))
+    return items
+
+
+def _line_schedule(result: CheckResult, line: Line, tolerance_m: float,
+                   margin_threshold_m: float) -> list[Appurtenance]:
+    """The appurtenances of one line: its own profile and its own check points."""
+    route = line.route
     chainage = route.chainage_m
     level = route.pipe_level_m
     ground = route.ground_m
@@ -93,20 +107,23 @@ def schedule(result: CheckResult, *, tolerance_m: float = 1.0,
     for i in highs:
         items[("air valve", float(chainage[i]))] = Appurtenance(
             "air valve", float(chainage[i]), float(level[i]), float(ground[i]),
-            "local high point", route.labels[i])
+            "local high point", route.labels[i], line.name)
     for i in lows:
         items[("washout", float(chainage[i]))] = Appurtenance(
             "washout", float(chainage[i]), float(level[i]), float(ground[i]),
-            "local low point", route.labels[i])
+            "local low point", route.labels[i], line.name)
     for scenario in result.scenarios:
         points = scenario.points
+        if result.study.is_scheme:
+            points = points[points["branch"] == line.name]
         low_margin = (points["pressure_m"] - points["min_pressure_m"]).to_numpy() < \
             margin_threshold_m
         # Contiguous runs of low margin: one valve at the run's highest pipe level.
         edges = np.flatnonzero(np.diff(np.concatenate([[0], low_margin.astype(int), [0]])))
         for start, stop in zip(edges[0::2], edges[1::2], strict=True):
             run = points.iloc[start:stop]
-            # The source and the outlet are tanks, not places for a line valve.
+            # The source and the outlet (a branch's tee and its end) are not places for
+            # a line valve.
             run = run[(run["chainage_m"] > 0.0) & (run["chainage_m"] < chainage[-1])]
             if run.empty:
                 continue
@@ -118,5 +135,5 @@ def schedule(result: CheckResult, *, tolerance_m: float = 1.0,
             items[("air valve", at)] = Appurtenance(
                 "air valve", at, float(top["pipe_level_m"]), float(top["ground_m"]),
                 f"pressure margin {margin:.1f} m < {margin_threshold_m:g} m in "
-                f"'{scenario.name}'", str(top["label"]))
-    return sorted(items.values(), key=lambda a: (a.chainage_m, a.kind))
+                f"'{scenario.name}'", str(top["label"]), line.name)
+    return list(items.values())

@@ -3,7 +3,9 @@
 This is the independent check that every design goes through, whoever made it. It
 follows contract section 5 literally on the analysis grid (survey points plus piece
 boundaries), evaluating both sides of every node where the velocity or a point loss
-makes them differ (energy line, points and capacity: :mod:`.design_hydraulics`). Each
+makes them differ (energy line, points and capacity: :mod:`.design_hydraulics`), on
+every line of a scheme linked at its junctions (contract section 7:
+:mod:`.scheme_check`). Each
 rule comes from its one home, shared with the optimiser's data: flows and fittings from
 :mod:`optimiser.analysis.flows`, the energy line from
 :mod:`optimiser.hydraulics.gradeline`, the limits from :mod:`optimiser.analysis.limits`.
@@ -26,14 +28,25 @@ from optimiser.analysis.limits import (
     below_velocity_min,
     class_holds,
 )
+from optimiser.analysis.scheme_check import DeliveryPoint, SchemeHydraulics
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
+from optimiser.analysis.tanks import piece_static_heads, tank_cost, tanks_short
 from optimiser.hydraulics.gradeline import static_head_m
-from optimiser.model import Design, DesignRules, Scenario, Study, SurgeMethod
+from optimiser.model import (
+    TRUNK,
+    BreakPressureTank,
+    Design,
+    DesignRules,
+    Scenario,
+    Study,
+    SurgeMethod,
+)
 
 
 @dataclass(frozen=True)
 class Violation:
-    """A broken limit. ``scenario`` is None for the static (pressure class) check."""
+    """A broken limit. ``scenario`` is None for the static (pressure class) check;
+    ``chainage_m`` is on ``branch`` (the trunk is ``"main"``)."""
 
     kind: str
     scenario: str | None
@@ -41,10 +54,12 @@ class Violation:
     value: float
     limit: float
     message: str = ""
+    branch: str = TRUNK
 
     def as_dict(self) -> dict:
-        return {"kind": self.kind, "scenario": self.scenario, "chainage_m": self.chainage_m,
-                "value": self.value, "limit": self.limit, "message": self.message}
+        return {"kind": self.kind, "scenario": self.scenario, "branch": self.branch,
+                "chainage_m": self.chainage_m, "value": self.value, "limit": self.limit,
+                "message": self.message}
 
 
 @dataclass
@@ -60,6 +75,10 @@ class ScenarioResult:
     segments: pd.DataFrame
     capacity_m3_s: float | None = None
     capacity_outlet_only_m3_s: float | None = None
+    outlets: list[DeliveryPoint] = field(default_factory=list)
+    """One per delivery point: the trunk's, then every branch's (contract section 7)."""
+    tank_inflow_energy_m: np.ndarray | None = None
+    """Energy left to fill each tank of ``CheckResult.tanks`` [m]; None: no tank."""
 
     @property
     def outlet_margin_m(self) -> float:
@@ -81,23 +100,27 @@ class CheckResult:
     total_cost: float
     change_cost_total: float = 0.0
     notes: list[str] = field(default_factory=list)
+    tanks: tuple[BreakPressureTank, ...] = ()
+    """Every tank on the route (the study's and the design's new ones), by chainage."""
+    tank_cost_total: float = 0.0
 
     @property
     def ok(self) -> bool:
         return not self.violations
 
 
-def _piece_table(study: Study, design: Design, hydraulics: DesignHydraulics,
-                 evaluated: list[ScenarioArrays]) -> pd.DataFrame:
-    grid = hydraulics.grid
+def _line_piece_rows(study: Study, part: DesignHydraulics,
+                     evaluated: list[ScenarioArrays]) -> list[dict]:
+    """Rows of the piece table for the pieces of one line (trunk or branch)."""
+    grid = part.grid
     zone_factor = np.array([study.costs.factor(z) for z in grid.segment_zone])
     rows = []
     top_water = study.source.top_water_level_m
     # Largest velocity of each grid segment in any scenario (contract section 10).
     fastest = np.max([arrays.velocity_m_s for arrays in evaluated], axis=0)
-    options = [piece.option for piece in design.pieces]
-    wave_speed = wave_speeds_m_s(study, options)
-    for index, piece in enumerate(design.pieces):
+    pieces = [part.design.pieces[i] for i in part.piece_index]
+    wave_speed = wave_speeds_m_s(study, [piece.option for piece in pieces])
+    for index, piece in enumerate(pieces):
         mask = grid.segment_piece == index
         nodes = np.flatnonzero(mask)
         levels = np.concatenate([grid.node_pipe_level_m[nodes], grid.node_pipe_level_m[nodes + 1]])
@@ -108,6 +131,7 @@ def _piece_table(study: Study, design: Design, hydraulics: DesignHydraulics,
         cost = float((option.cost_per_m * zone_factor[mask] * grid.segment_length_m[mask]).sum())
         velocity = float(fastest[mask].max())
         rows.append({
+            "piece": int(part.piece_index[index]),
             "from_m": piece.from_m, "to_m": piece.to_m, "material": option.material,
             "dn_mm": option.dn_mm, "pressure_class": option.pressure_class,
             "length_m": length, "internal_diameter_mm": option.internal_diameter_mm,
@@ -117,14 +141,33 @@ def _piece_table(study: Study, design: Design, hydraulics: DesignHydraulics,
             "allowable_head_m": option.allowable_head_m,
             "max_velocity_m_s": velocity,
             "wave_speed_m_s": float(wave_speed[index]),
-            "surge_head_m": float(surge_head_m(study, wave_speed[index], velocity)),
+            "surge_head_m": float(surge_head_m(study, wave_speed[index], velocity, part.line)),
             # With the allowance method section 5 holds: static + allowance against the
             # working limit; by wave speed the surge limit of the option where it has one.
             "allowable_surge_head_m": (option.allowable_head_m
                                        if study.surge.method is SurgeMethod.ALLOWANCE
                                        else option.surge_limit_head_m),
+            "branch": part.line.name,
         })
-    table = pd.DataFrame(rows)
+    if part.tanks.any or np.any(part.static_level_m != top_water):
+        # The static line restarts at every tank (section 8), also above this line.
+        heads, levels, where = piece_static_heads(
+            grid.segment_piece, len(pieces), part.static_level_m,
+            grid.node_pipe_level_m[:-1], grid.node_pipe_level_m[1:], grid.start_m, grid.end_m)
+        for row, head, level, at in zip(rows, heads, levels, where, strict=True):
+            row["static_head_m"], row["lowest_pipe_level_m"] = float(head), float(level)
+            row["lowest_chainage_m"] = float(at)
+    return rows
+
+
+def _piece_table(study: Study, scheme: SchemeHydraulics,
+                 evaluated: list[dict[str, ScenarioArrays]]) -> pd.DataFrame:
+    """Every piece of the design, in the design's order, with its class and surge."""
+    rows = []
+    for name, part in scheme.parts.items():
+        rows += _line_piece_rows(study, part, [arrays[name] for arrays in evaluated])
+    table = pd.DataFrame(rows).sort_values("piece", kind="stable")
+    table = table.drop(columns="piece").reset_index(drop=True)
     surge_margin = (table["allowable_surge_head_m"] - table["static_head_m"]
                     - table["surge_head_m"])
     static_margin = table["allowable_head_m"] - table["static_head_m"]
@@ -133,6 +176,11 @@ def _piece_table(study: Study, design: Design, hydraulics: DesignHydraulics,
     table["static_head_limit_m"] = np.minimum(
         table["allowable_head_m"], table["allowable_surge_head_m"] - table["surge_head_m"])
     return table
+
+
+def _who(study: Study, scenario: str, branch: str) -> str:
+    """Who a violation concerns: the scenario, and the branch on a scheme."""
+    return text.scenario_on(scenario, branch if study.is_scheme else None)
 
 
 def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
@@ -144,6 +192,8 @@ def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
     for row in pieces.itertuples():
         name = (f"{row.material} DN{row.dn_mm:g} {row.pressure_class} from {row.from_m:g} to "
                 f"{row.to_m:g} m")
+        if study.is_scheme:
+            name = f"branch '{row.branch}', {name}"
         demand = row.static_head_m + row.surge_head_m
         surge_excess = demand - row.allowable_surge_head_m
         static_excess = row.static_head_m - row.allowable_head_m
@@ -159,102 +209,151 @@ def _class_violations(study: Study, pieces: pd.DataFrame) -> list[Violation]:
                 row.allowable_surge_head_m,
                 text.class_exceeded(name, demand, f"static head {row.static_head_m:.1f} m + "
                                     f"{what}", row.allowable_surge_head_m,
-                                    row.lowest_chainage_m)))
+                                    row.lowest_chainage_m), row.branch))
         else:
             violations.append(Violation(
                 "max_pressure", None, row.lowest_chainage_m, row.static_head_m,
                 row.allowable_head_m,
                 text.class_exceeded(name, row.static_head_m, "static head",
-                                    row.allowable_head_m, row.lowest_chainage_m)))
+                                    row.allowable_head_m, row.lowest_chainage_m), row.branch))
     return violations
 
 
-def _transient_violations(study: Study, scenario: Scenario, points: pd.DataFrame,
-                          surge_by_piece: np.ndarray) -> list[Violation]:
-    """Down-surge limit (contract section 10): pressure head minus the surge head of the
-    pipe at that point, at or above ``[surge] min_transient_pressure_m``."""
+def _pressure_violations(study: Study, scenario: Scenario, points: pd.DataFrame,
+                         surge_by_piece: np.ndarray) -> list[Violation]:
+    """Minimum pressure at every check point (section 5) and the down-surge limit
+    (section 10): pressure head minus the surge head of the pipe at that point, at or
+    above ``[surge] min_transient_pressure_m``."""
+    short = points[points["pressure_m"] < points["min_pressure_m"] - CHECK_TOLERANCE]
+    violations = [Violation(
+        "min_pressure", scenario.name, float(row.chainage_m), float(row.pressure_m),
+        float(row.min_pressure_m),
+        text.pressure_short(_who(study, scenario.name, row.branch), row.pressure_m,
+                            row.min_pressure_m, row.chainage_m), row.branch)
+        for row in short.itertuples()]
     limit = study.surge.min_transient_pressure_m
     if limit is None:
-        return []
+        return violations
     low = points[points["transient_pressure_m"] < limit - 1e-9]
-    return [Violation(
+    return violations + [Violation(
         "transient_pressure", scenario.name, float(row.chainage_m),
         float(row.transient_pressure_m), limit,
-        text.transient_short(scenario.name, row.pressure_m, surge_by_piece[int(row.piece)],
-                             limit, row.chainage_m)) for row in low.itertuples()]
+        text.transient_short(_who(study, scenario.name, row.branch), row.pressure_m,
+                             surge_by_piece[int(row.piece)], limit, row.chainage_m),
+        row.branch) for row in low.itertuples()]
 
 
-def _velocity_violations(scenario_name: str, segments: pd.DataFrame, n_pieces: int,
-                         rules: DesignRules) -> list[Violation]:
+def _velocity_violations(study: Study, scenario_name: str, segments: pd.DataFrame,
+                         n_pieces: int, rules: DesignRules) -> list[Violation]:
     """The fastest and slowest segment of each piece against the velocity window."""
     violations = []
     for index in range(n_pieces):
         part = segments[segments["piece"] == index]
         fastest = part["velocity_m_s"].idxmax()
         slowest = part["velocity_m_s"].idxmin()
+        branch = str(part.at[fastest, "branch"])
+        who = _who(study, scenario_name, branch)
         if above_velocity_max(part.at[fastest, "velocity_m_s"], rules, CHECK_TOLERANCE):
             violations.append(Violation(
                 "velocity_max", scenario_name, float(part.at[fastest, "from_m"]),
                 float(part.at[fastest, "velocity_m_s"]), rules.velocity_max_m_s,
-                text.velocity_outside(scenario_name, index + 1, part.at[fastest, "velocity_m_s"],
-                                      rules.velocity_max_m_s, part.at[fastest, "from_m"], True)))
+                text.velocity_outside(who, index + 1, part.at[fastest, "velocity_m_s"],
+                                      rules.velocity_max_m_s, part.at[fastest, "from_m"], True),
+                branch))
         if below_velocity_min(part.at[slowest, "velocity_m_s"], rules, CHECK_TOLERANCE):
             violations.append(Violation(
                 "velocity_min", scenario_name, float(part.at[slowest, "from_m"]),
                 float(part.at[slowest, "velocity_m_s"]), rules.velocity_min_m_s,
-                text.velocity_outside(scenario_name, index + 1, part.at[slowest, "velocity_m_s"],
-                                      rules.velocity_min_m_s, part.at[slowest, "from_m"], False)))
+                text.velocity_outside(who, index + 1, part.at[slowest, "velocity_m_s"],
+                                      rules.velocity_min_m_s, part.at[slowest, "from_m"], False),
+                branch))
     return violations
 
 
-def check_design(study: Study, design: Design, *, capacity: bool = True) -> CheckResult:
-    """Analyse ``design`` in every scenario of ``study`` (contract sections 5 and 10).
+def _outlet_violations(study: Study, scenario: Scenario,
+                       outlets: list[DeliveryPoint]) -> list[Violation]:
+    """Energy after the exit loss at every delivery point against its required head."""
+    return [Violation(
+        "outlet_head", scenario.name, outlet.chainage_m, outlet.energy_m,
+        outlet.required_head_m,
+        text.outlet_short(_who(study, scenario.name, outlet.branch), outlet.energy_m,
+                          outlet.required_head_m, outlet.chainage_m), outlet.branch)
+        for outlet in outlets
+        if outlet.energy_m < outlet.required_head_m - CHECK_TOLERANCE]
 
-    Returns points, segments, violations, costs and (unless ``capacity=False``) the
-    gravity capacity of the design in each scenario.
+
+def _scenario_result(study: Study, scheme: SchemeHydraulics, scenario: Scenario,
+                     arrays: dict[str, ScenarioArrays], capacity: bool) -> ScenarioResult:
+    """Points, segments, delivery points and (with ``capacity``) the trunk's capacity."""
+    points = scheme.points(arrays)
+    segments = scheme.segments(arrays)
+    trunk = scheme.lines[0]
+    outlets = scheme.delivery_points(scenario, arrays, capacity)
+    result = ScenarioResult(scenario.name, inflow_m3_s(study, scenario),
+                            scenario.outlet_flow_m3_s, arrays[trunk.name].outlet_energy_m,
+                            study.outlet.required_head_m, points, segments, outlets=outlets)
+    if capacity:
+        result.capacity_m3_s = scheme.capacity_m3_s(scenario, trunk.name, outlet_only=False)
+        result.capacity_outlet_only_m3_s = outlets[0].uncontrolled_flow_m3_s
+        if result.capacity_m3_s is not None and result.capacity_outlet_only_m3_s is not None:
+            # More limits can only lower the capacity; keep root-solve noise from
+            # saying otherwise.
+            result.capacity_m3_s = min(result.capacity_m3_s, result.capacity_outlet_only_m3_s)
+    return result
+
+
+def check_design(study: Study, design: Design, *, capacity: bool = True) -> CheckResult:
+    """Analyse ``design`` in every scenario of ``study`` (contract sections 5, 7 and 10).
+
+    Returns points, segments, violations, costs, the delivery point of every line and
+    (unless ``capacity=False``) the gravity capacity of the design in each scenario and
+    the uncontrolled flow of each delivery point.
     """
-    hydraulics = DesignHydraulics(study, design)
-    evaluated = [hydraulics.evaluate(scenario) for scenario in study.scenarios]
-    pieces = _piece_table(study, design, hydraulics, evaluated)
+    scheme = SchemeHydraulics(study, design)
+    evaluated = [scheme.evaluate(scenario) for scenario in study.scenarios]
+    pieces = _piece_table(study, scheme, evaluated)
     violations = _class_violations(study, pieces)
     surge_by_piece = pieces["surge_head_m"].to_numpy()
 
     results: list[ScenarioResult] = []
     for scenario, arrays in zip(study.scenarios, evaluated, strict=True):
-        points = hydraulics.points(arrays)
+        result = _scenario_result(study, scheme, scenario, arrays, capacity)
+        points = result.points
         points["surge_head_m"] = surge_by_piece[points["piece"].to_numpy()]
         points["transient_pressure_m"] = points["pressure_m"] - points["surge_head_m"]
-        segments = hydraulics.segments(arrays)
-        short = points[points["pressure_m"] < points["min_pressure_m"] - CHECK_TOLERANCE]
-        for row in short.itertuples():
-            violations.append(Violation(
-                "min_pressure", scenario.name, float(row.chainage_m), float(row.pressure_m),
-                float(row.min_pressure_m),
-                text.pressure_short(scenario.name, row.pressure_m, row.min_pressure_m,
-                                    row.chainage_m)))
-        violations.extend(_transient_violations(study, scenario, points, surge_by_piece))
+        violations.extend(_pressure_violations(study, scenario, points, surge_by_piece))
         if scenario.velocity_limits:
-            violations.extend(_velocity_violations(scenario.name, segments,
+            violations.extend(_velocity_violations(study, scenario.name, result.segments,
                                                    len(design.pieces), study.rules))
-        if arrays.outlet_energy_m < study.outlet.required_head_m - CHECK_TOLERANCE:
-            violations.append(Violation(
-                "outlet_head", scenario.name, study.route.total_chainage_m,
-                arrays.outlet_energy_m, study.outlet.required_head_m,
-                text.outlet_short(scenario.name, arrays.outlet_energy_m,
-                                  study.outlet.required_head_m, study.route.total_chainage_m)))
-        result = ScenarioResult(scenario.name, inflow_m3_s(study, scenario),
-                                scenario.outlet_flow_m3_s, arrays.outlet_energy_m,
-                                study.outlet.required_head_m, points, segments)
-        if capacity:
-            result.capacity_m3_s = hydraulics.capacity_m3_s(scenario, outlet_only=False)
-            result.capacity_outlet_only_m3_s = hydraulics.capacity_m3_s(scenario,
-                                                                        outlet_only=True)
-            if result.capacity_m3_s is not None and result.capacity_outlet_only_m3_s is not None:
-                # More limits can only lower the capacity; keep root-solve noise from
-                # saying otherwise.
-                result.capacity_m3_s = min(result.capacity_m3_s,
-                                           result.capacity_outlet_only_m3_s)
+        violations.extend(_outlet_violations(study, scenario, result.outlets))
+        violations.extend(_tank_violations(study, scheme, scenario, arrays, result))
         results.append(result)
     change_total = study.costs.change_cost * design.n_changes
     total = float(pieces["cost"].sum()) + change_total
-    return CheckResult(study, design, results, violations, pieces, total, change_total)
+    tanks = tuple(t for part in scheme.parts.values() for t in part.tanks.tanks)
+    tank_total = sum(tank_cost(study, t) for t in tanks)
+    if tank_total:
+        total += tank_total
+    return CheckResult(study, design, results, violations, pieces, total, change_total,
+                       tanks=tanks, tank_cost_total=float(tank_total))
+
+
+def _tank_violations(study: Study, scheme: SchemeHydraulics, scenario: Scenario,
+                     arrays: dict[str, ScenarioArrays], result: ScenarioResult
+                     ) -> list[Violation]:
+    """``tank_inflow`` where a tank cannot fill at the scenario's flows (section 8);
+    records every tank's energy left to fill it on ``result`` (lines in order)."""
+    violations, energies = [], []
+    for name, part in scheme.parts.items():
+        inflow = arrays[name].tank_inflow_energy_m
+        if inflow is None:
+            continue
+        energies.append(inflow)
+        for tank, energy in tanks_short(part.tanks, inflow, CHECK_TOLERANCE):
+            violations.append(Violation(
+                "tank_inflow", scenario.name, tank.chainage_m, energy, tank.water_level_m,
+                text.tank_cannot_fill(_who(study, scenario.name, name), energy,
+                                      tank.water_level_m, tank.chainage_m), name))
+    if energies:
+        result.tank_inflow_energy_m = np.concatenate(energies)
+    return violations

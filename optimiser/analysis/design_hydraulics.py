@@ -3,6 +3,8 @@
 The check's working part: the design's data gathered per grid segment once, the energy
 line of a scenario (:mod:`optimiser.hydraulics.gradeline`), its check points on both
 sides of every node, and the gravity capacity by a root search on the least margin.
+One :class:`DesignHydraulics` covers one line of the study (the trunk, or a branch of a
+scheme, contract section 7; :mod:`.scheme_check` links the lines at their junctions).
 Like the check, it reads only the study and the design, never the optimiser's
 structures.
 """
@@ -13,11 +15,17 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy.optimize import brentq
 
-from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, node_point_k
-from optimiser.analysis.grid import Grid, design_grid
+from optimiser.analysis.flows import friction_gradient, line_flows_m3_s, node_point_k
+from optimiser.analysis.grid import Grid, build_grid
 from optimiser.analysis.limits import node_min_pressure_m
+from optimiser.analysis.tanks import (
+    energy_with_tanks,
+    inflow_energy_m,
+    static_levels_m,
+    tank_nodes,
+    tanks_of,
+)
 from optimiser.hydraulics.gradeline import (
     energy_along_chain,
     hydraulic_grade_m,
@@ -26,6 +34,7 @@ from optimiser.hydraulics.gradeline import (
 )
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.model import Design, Scenario, Study
+from optimiser.model.lines import Line, children_of, trunk_line
 
 _SAME = 1e-12
 _ONE, _UPSTREAM, _DOWNSTREAM = 0, 1, 2
@@ -41,6 +50,8 @@ class ScenarioArrays:
     energy_end_m: np.ndarray
     after_final_fitting_m: float
     outlet_energy_m: float
+    tank_inflow_energy_m: np.ndarray | None = None
+    """Energy left to fill each tank (arriving energy - inlet loss) [m]; None: no tank."""
 
 
 @dataclass(frozen=True)
@@ -55,35 +66,90 @@ class PointArrays:
     segment: np.ndarray
 
 
-class DesignHydraulics:
-    """Design data gathered per segment once; scenarios evaluated on demand."""
+def line_piece_indices(study: Study, design: Design, line: Line) -> np.ndarray:
+    """Indices in ``design.pieces`` of the pieces of ``line`` (every piece on a single
+    route, whatever its label)."""
+    if not study.is_scheme:
+        return np.arange(len(design.pieces))
+    return np.array([i for i, piece in enumerate(design.pieces) if piece.branch == line.name],
+                    dtype=int)
 
-    def __init__(self, study: Study, design: Design) -> None:
+
+class DesignHydraulics:
+    """Design data of one line (the trunk unless ``line`` is given) gathered per segment
+    once; scenarios evaluated on demand.
+
+    The grid has a node at every junction of a branch leaving this line (the loader puts
+    one there; inserted here if not), so that flows change and points are checked there.
+    ``piece_index`` maps the line's own pieces to their index in ``design.pieces``.
+    """
+
+    def __init__(self, study: Study, design: Design, line: Line | None = None,
+                 start_static_level_m: float | None = None) -> None:
         self.study = study
         self.design = design
-        self.grid: Grid = design_grid(study, design)
-        options = [design.pieces[p].option for p in self.grid.segment_piece]
+        self.line = trunk_line(study) if line is None else line
+        self.piece_index = line_piece_indices(study, design, self.line)
+        if not len(self.piece_index):
+            raise ValueError(f"the design has no pieces on branch '{self.line.name}'")
+        own = Design(tuple(design.pieces[i] for i in self.piece_index))
+        tanks = tanks_of(study, design, self.line.name)
+        # Every junction and tank stands at a node of the grid (a tank of a --tanks file
+        # may not be a survey point).
+        nodes = [child.at_chainage_m for child in children_of(study, self.line.name)]
+        nodes += [t.chainage_m for t in tanks]
+        self.grid: Grid = build_grid(self.line.route.with_nodes(nodes), own.boundaries_m)
+        self.tanks = tank_nodes(tanks, self.grid.node_chainage_m)
+        top = study.source.top_water_level_m if start_static_level_m is None \
+            else start_static_level_m
+        self.static_level_m = static_levels_m(top, len(self.grid.segment_length_m),
+                                              self.tanks)
+        options = [own.pieces[p].option for p in self.grid.segment_piece]
         self.diameter_m = np.array([o.internal_diameter_m for o in options])
         self.roughness_mm = np.array([o.roughness_mm for o in options])
         self.hazen_williams_c = np.array(
             [np.nan if o.hazen_williams_c is None else o.hazen_williams_c for o in options])
-        self.node_point_k = node_point_k(study, self.grid.node_chainage_m)
-        self.node_min_pressure_m = node_min_pressure_m(study, self.grid.node_chainage_m)
+        self.node_point_k = node_point_k(study, self.grid.node_chainage_m, self.line)
+        self.node_min_pressure_m = node_min_pressure_m(study, self.grid.node_chainage_m,
+                                                       self.line)
 
-    def evaluate(self, scenario: Scenario, outlet_flow_m3_s: float | None = None
-                 ) -> ScenarioArrays:
-        study = self.study
-        flow = flow_below_m3_s(study, scenario, self.grid.start_m, outlet_flow_m3_s)
+    def evaluate(self, scenario: Scenario, outlet_flow_m3_s: float | None = None,
+                 start_energy_m: float | None = None) -> ScenarioArrays:
+        """Flows, velocities and the energy line of the line in ``scenario``.
+
+        ``outlet_flow_m3_s`` replaces the line's delivery flow; ``start_energy_m`` is the
+        energy arriving at its start (the source level for the trunk; for a branch the
+        parent's energy arriving at the junction), before ``start_k`` x V^2/2g."""
+        study, line = self.study, self.line
+        flow = line_flows_m3_s(study, scenario, line, self.grid.start_m, outlet_flow_m3_s)
         velocity = velocity_m_s(flow, self.diameter_m)
         gradient = friction_gradient(study, scenario, flow, self.diameter_m,
                                      self.roughness_mm, self.hazen_williams_c)
-        start, end = energy_along_chain(
-            scenario.source_level_m, study.source.entrance_k, self.grid.segment_length_m,
-            gradient, study.local_k_per_km, velocity, self.node_point_k)
+        start_level = scenario.source_level_m if start_energy_m is None else start_energy_m
+        inflow = None
+        if self.tanks.any:
+            rules = study.tank_rules
+            start, end = energy_with_tanks(
+                start_level, line.start_k, rules.outlet_k, self.grid.segment_length_m,
+                gradient, line.local_k_per_km, velocity, self.node_point_k, self.tanks)
+            inflow = inflow_energy_m(end, velocity, rules.inlet_k, self.tanks)
+        else:
+            start, end = energy_along_chain(
+                start_level, line.start_k, self.grid.segment_length_m,
+                gradient, line.local_k_per_km, velocity, self.node_point_k)
         after_fitting, outlet = outlet_energy_m(end[-1], velocity_head_m(velocity[-1]),
-                                                self.node_point_k[-1], study.outlet.exit_k)
+                                                self.node_point_k[-1], line.exit_k)
         return ScenarioArrays(flow, velocity, gradient, start, end, float(after_fitting),
-                               float(outlet))
+                               float(outlet), inflow)
+
+    def energy_arriving_m(self, arrays: ScenarioArrays, chainage_m: float) -> float:
+        """Energy [m] arriving at the node at ``chainage_m`` (its upstream side, before a
+        fitting there): the end of the segment that ends at that node."""
+        node = int(np.argmin(np.abs(self.grid.node_chainage_m - chainage_m)))
+        if node == 0:
+            raise ValueError(f"a junction at {chainage_m} m is not inside line "
+                             f"'{self.line.name}'")
+        return float(arrays.energy_end_m[node - 1])
 
     def point_arrays(self, arrays: ScenarioArrays) -> PointArrays:
         """Check points: both sides of every node where they differ (contract section 5).
@@ -128,6 +194,8 @@ class DesignHydraulics:
         hgl = hydraulic_grade_m(at.energy_m, at.velocity_m_s)
         pipe = grid.node_pipe_level_m[node]
         top_water = self.study.source.top_water_level_m
+        if self.tanks.any:  # the static line restarts at every tank
+            top_water = self.static_level_m[at.segment]
         return pd.DataFrame({
             "chainage_m": grid.node_chainage_m[node],
             "side": _SIDE_NAMES[at.side],
@@ -141,42 +209,30 @@ class DesignHydraulics:
             "min_pressure_m": self.node_min_pressure_m[node],
             "velocity_m_s": at.velocity_m_s,
             "flow_m3_s": arrays.flow_m3_s[at.segment],
-            "piece": grid.segment_piece[at.segment],
+            "piece": self.piece_index[grid.segment_piece[at.segment]],
+            "branch": self.line.name,
         })
 
     def segments(self, arrays: ScenarioArrays) -> pd.DataFrame:
         grid = self.grid
         return pd.DataFrame({
             "from_m": grid.start_m, "to_m": grid.end_m, "length_m": grid.segment_length_m,
-            "piece": grid.segment_piece, "flow_m3_s": arrays.flow_m3_s,
+            "piece": self.piece_index[grid.segment_piece], "flow_m3_s": arrays.flow_m3_s,
             "velocity_m_s": arrays.velocity_m_s, "gradient_m_per_km": arrays.gradient * 1000,
             "friction_loss_m": arrays.gradient * grid.segment_length_m,
+            "branch": self.line.name,
         })
 
-    def least_margin_m(self, scenario: Scenario, outlet_flow_m3_s: float,
-                       outlet_only: bool) -> float:
-        """Smallest of outlet margin and (unless outlet_only) pressure margins [m]."""
-        arrays = self.evaluate(scenario, outlet_flow_m3_s)
-        margin = arrays.outlet_energy_m - self.study.outlet.required_head_m
-        if outlet_only:
-            return margin
+    def least_pressure_margin_m(self, arrays: ScenarioArrays) -> float:
+        """Smallest pressure head less its minimum [m] over the line's check points."""
         points = self.point_arrays(arrays)
-        pressure_margin = self.pressure_m(points) - self.node_min_pressure_m[points.node]
-        return min(margin, float(pressure_margin.min()))
+        margin = float((self.pressure_m(points) - self.node_min_pressure_m[points.node]).min())
+        if arrays.tank_inflow_energy_m is not None:  # every tank must still fill
+            margin = min(margin, float((arrays.tank_inflow_energy_m
+                                        - self.tanks.level_m).min()))
+        return margin
 
-    def capacity_m3_s(self, scenario: Scenario, outlet_only: bool) -> float | None:
-        """Largest outlet flow meeting the outlet head (and pressure minima), by Brent's
-        method on a margin that falls monotonically with flow. None if even zero outlet
-        flow fails; offtakes stay at their scenario flows."""
-        def margin(q: float) -> float:
-            return self.least_margin_m(scenario, q, outlet_only)
-        if margin(0.0) < 0.0:
-            return None
-        high = max(scenario.outlet_flow_m3_s, 1e-3)
-        for _ in range(60):
-            if margin(high) < 0.0:
-                break
-            high *= 2.0
-        else:
-            return float("inf")
-        return float(brentq(margin, 0.0, high, xtol=1e-13, rtol=4 * np.finfo(float).eps))
+    def static_level_at_m(self, chainage_m: float) -> float:
+        """Static line [m] at a node of the line (a junction: no tank stands there)."""
+        node = int(np.argmin(np.abs(self.grid.node_chainage_m - chainage_m)))
+        return float(self.static_level_m[min(node, len(self.static_level_m) - 1)])

@@ -276,6 +276,10 @@ def linear_check(study: Study, design: Design) -> LinearCheck:
     velocity head) in one group and none elsewhere, the energy lost down to each point
     is that group's column of A (or B).
     """
+    if study.is_scheme:
+        # Its matrices follow one chain from the source; a tree needs a path per branch.
+        raise ValueError("the linear check covers a single route, not a branched scheme "
+                         f"('{study.title}' has {len(study.branches)} branches)")
     grid = design_grid(study, design)
     n = len(grid.segment_length_m)
     options, masks, segment_group = _groups(design, grid.segment_piece,

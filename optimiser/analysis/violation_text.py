@@ -56,3 +56,16 @@ def class_exceeded(piece: str, head_m: float, what: str, limit_m: float,
     """``what`` names the head, e.g. 'static head 131.8 m + surge allowance 30 m'."""
     return (f"{STATIC}: {piece}, at its lowest point {at(chainage_m)}: {what} = "
             f"{head_m:.1f} m is {head_m - limit_m:.1f} m above the class's {limit_m:g} m")
+
+
+def tank_cannot_fill(scenario: str, energy_m: float, level_m: float, chainage_m: float) -> str:
+    """A break-pressure tank the line cannot fill (contract section 8)."""
+    return (f"{scenario}: the break-pressure tank at {at(chainage_m)} cannot fill: energy "
+            f"arriving after its inlet loss is {energy_m:.2f} m, {level_m - energy_m:.2f} m "
+            f"below its water level {level_m:.2f} m")
+
+
+def scenario_on(scenario: str, branch: str | None) -> str:
+    """Who a violation concerns: the scenario, and on a scheme the branch (``None`` on a
+    single route, whose sentences name no branch)."""
+    return scenario if branch is None else f"{scenario}, branch '{branch}'"

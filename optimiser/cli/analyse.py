@@ -28,8 +28,13 @@ if TYPE_CHECKING:
     from optimiser.reports.run_summary import RunSummary
 
 
+TanksOption = Annotated[Path | None, typer.Option(
+    "--tanks", help="break_pressure_tanks.csv (as design writes it): tanks added to the "
+    "study's own.", metavar="FILE", show_default=False)]
+
+
 def check(study_path: StudyArgument, design_path: DesignFileOption,
-          json_path: JsonOption = None) -> None:
+          json_path: JsonOption = None, tanks_path: TanksOption = None) -> None:
     """Analyse a given design in every scenario: pressures, classes, velocities, outlet."""
     from optimiser.analysis import check_design
     from optimiser.io import InputError, load_design, load_study
@@ -40,6 +45,11 @@ def check(study_path: StudyArgument, design_path: DesignFileOption,
     try:
         study = load_study(study_path)
         design = load_design(design_path, study)
+        if tanks_path is not None:
+            import dataclasses
+
+            from optimiser.io.tank_inputs import load_tank_file
+            design = dataclasses.replace(design, tanks=load_tank_file(tanks_path, study))
         result = check_design(study, design)
         def write(output: StagedOutput) -> None:
             if json_path is not None:

@@ -290,6 +290,10 @@ def sensitivity(
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
+    if study is not None and study.is_scheme:
+        problems.append(f"{study_path}: sensitivity does not handle branched schemes yet "
+                        "(its fast linear check covers a single route); check the design "
+                        "at each roughness with `check` instead")
     given = _given_design(study, design_path, rates, problems)
     if problems:
         fail_input(InputError(problems))

@@ -39,7 +39,7 @@ class FittingTable(_Table):
 
 
 class RouteTable(_Table):
-    profile: str
+    profile: str | None = None  # required unless [network] gives the scheme (io/network_file.py)
     cover_m: float = Field(1.0, ge=0.0)
     min_pressure_m: float = 0.0
     local_k_per_km: float = Field(0.0, ge=0.0)
@@ -61,16 +61,45 @@ class OfftakeTable(_Table):
     flow: Any
     min_pressure_m: float | None = None
     label: str = ""
+    branch: str = "main"  # contract section 7
+
+
+class BranchTable(_Table):
+    """``[[branch]]`` of a scheme (contract section 7); resolved by io/branches.py."""
+
+    name: str = Field(min_length=1)
+    from_: str = Field("main", alias="from")
+    at_chainage_m: float
+    profile: str
+    flow: Any = None  # required unless branch_flow gives it in every scenario
+    required_head_m: float
+    exit_k: float = Field(1.0, ge=0.0)
+    junction_k: float = Field(0.0, ge=0.0)
+    cover_m: float | None = Field(None, ge=0.0)
+    min_pressure_m: float | None = None
+    local_k_per_km: float | None = Field(None, ge=0.0)
+    fitting: list[FittingTable] = Field(default_factory=list)
+
+
+class NetworkTable(_Table):
+    """``[network]`` (extension): a scheme as a nodes CSV and a links CSV, instead of
+    ``[route] profile`` and ``[[branch]]`` (io/network_file.py)."""
+
+    nodes: str
+    links: str
+    source: str = Field(min_length=1)
 
 
 class ScenarioTable(_Table):
     name: str = Field(min_length=1)
-    flow: Any
+    flow: Any = None  # required unless [network] gives the trunk's delivery flow
     offtake_factor: float = Field(1.0, ge=0.0)
     source_level_m: float | None = None
     roughness_mm: float | None = Field(None, ge=0.0)
     roughness_factor: float | None = Field(None, gt=0.0)
     velocity_limits: bool = True
+    branch_factor: float = Field(1.0, ge=0.0)  # contract section 7
+    branch_flow: dict[str, Any] = Field(default_factory=dict)
 
 
 class CatalogueTable(_Table):
@@ -117,14 +146,37 @@ class SolverTable(_Table):
     mip_gap: float = Field(1e-4, ge=0.0, lt=1.0)
 
 
+class TankTable(_Table):
+    """``[[break_pressure_tank]]`` (contract section 8): a tank the study always has."""
+
+    chainage_m: float
+    branch: str = "main"
+    water_level_m: float | None = None
+    label: str = ""
+
+
+class TanksTable(_Table):
+    """``[break_pressure_tanks]`` (contract section 8): losses of every tank and what
+    ``design`` may add."""
+
+    cost: float | None = Field(None, gt=0.0)
+    sites: Literal["every point", "marked"] = "every point"
+    height_m: float = Field(1.0, ge=0.0)
+    inlet_k: float = Field(1.0, ge=0.0)
+    outlet_k: float = Field(0.5, ge=0.0)
+    max_count: int | None = Field(None, ge=0)
+
+
 class StudyFile(_Table):
     title: str = Field(min_length=1)
     currency: str = ""
     water: WaterTable = Field(default_factory=WaterTable)
     source: SourceTable
-    outlet: OutletTable
-    route: RouteTable
+    outlet: OutletTable | None = None  # required unless [network] (io/branches.py)
+    route: RouteTable = Field(default_factory=RouteTable)
     offtake: list[OfftakeTable] = Field(default_factory=list)
+    branch: list[BranchTable] = Field(default_factory=list)
+    network: NetworkTable | None = None
     scenario: list[ScenarioTable] = Field(min_length=1)
     catalogue: CatalogueTable
     rules: RulesTable = Field(default_factory=RulesTable)
@@ -132,9 +184,11 @@ class StudyFile(_Table):
     solver: SolverTable = Field(default_factory=SolverTable)
     surge: SurgeTable = Field(default_factory=SurgeTable)
     quantities: QuantitiesTable = Field(default_factory=QuantitiesTable)
+    break_pressure_tank: list[TankTable] = Field(default_factory=list)
+    break_pressure_tanks: TanksTable = Field(default_factory=TanksTable)
 
 
-_ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting"}
+_ARRAYS_OF_TABLES = {"offtake", "scenario", "fitting", "branch", "break_pressure_tank"}
 
 
 def describe_location(location: tuple[Any, ...]) -> str:

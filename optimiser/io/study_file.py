@@ -8,20 +8,29 @@ catalogue CSVs are read by :mod:`optimiser.io.profile_file`, designs by
 
 from __future__ import annotations
 
+import math
 import tomllib
 from pathlib import Path
 
 from pydantic import ValidationError
 
 from optimiser.hydraulics.water import kinematic_viscosity_m2_s
+from optimiser.io.branches import (
+    branch_drafts,
+    form_problems,
+    resolve_branches,
+    scenario_branch_flows,
+)
 from optimiser.io.design_file import load_design
 from optimiser.io.errors import InputError, ProblemList
 from optimiser.io.geometry import load_coordinate_profile
 from optimiser.io.limits import out_of_range
+from optimiser.io.network_paths import NetworkScheme, load_network
 from optimiser.io.profile_file import load_catalogue, load_profile
 from optimiser.io.schema import StudyFile, describe_location
 from optimiser.io.surge_inputs import surge_problems, surge_settings
 from optimiser.io.tables import decode_text
+from optimiser.io.tank_inputs import study_tanks, tank_rules
 from optimiser.io.units import parse_flow_m3_s
 from optimiser.model import (
     Catalogue,
@@ -38,15 +47,18 @@ from optimiser.model import (
     Source,
     Study,
 )
+from optimiser.model.scheme import TRUNK
 
 __all__ = ["load_catalogue", "load_design", "load_profile", "load_study"]
 
 
 def load_study(path: str | Path) -> Study:
-    """Read and validate a study TOML with its profile and catalogue."""
+    """Read and validate a study TOML with its profile and catalogue (and, for a scheme,
+    its branches or its network files)."""
     path = Path(path)
     raw = _read_toml(path)
     spec = _validate(path, raw)
+    form_problems(path, spec)
     problems = ProblemList()
     problems.items.extend(_range_problems(path, raw))
     top_water = _top_water_level(path, spec, problems)
@@ -57,19 +69,35 @@ def load_study(path: str | Path) -> Study:
     if rules.velocity_min_m_s >= rules.velocity_max_m_s:
         problems.add(f"{path}: [rules] velocity_min_m_s ({rules.velocity_min_m_s:g}) must "
                      f"be below velocity_max_m_s ({rules.velocity_max_m_s:g})")
-    route, catalogue = _route_and_catalogue(path, spec, friction, problems)
+    route, catalogue, network = _route_and_catalogue(path, spec, friction, problems)
+    if network is not None:
+        offtakes = list(network.offtakes)
+    drafts = network.drafts if network is not None else branch_drafts(path, spec, problems)
     fittings = tuple(Fitting(f.chainage_m, f.k, f.label) for f in spec.route.fitting)
-    _placement_problems(path, spec, route, offtakes, fittings, problems)
+    _placement_problems(path, spec, route, offtakes, fittings, problems,
+                        {zone for draft in drafts for zone in draft.route.zones})
     chosen = _chosen_catalogue(path, spec, catalogue, problems)
+    branches, junctions = resolve_branches(drafts, route, _trunk_label(spec), problems)
+    scenarios = scenario_branch_flows(path, spec, scenarios, drafts, branches, problems)
+    if network is not None:
+        scenarios = network.with_trunk_flow(scenarios)
+    # A tank may stand neither at an offtake nor at a junction (contract section 8).
+    tanks = study_tanks(path, spec, route, offtakes + [
+        Offtake(c, 0.0, label="a junction") for c in junctions], problems)
+    rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
+                                problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
-                             [f.chainage_m for f in fittings])
+                             [f.chainage_m for f in fittings] + junctions +
+                             [t.chainage_m for t in tanks])
+    outlet = network.outlet if network is not None else \
+        Outlet(spec.outlet.required_head_m, spec.outlet.exit_k)
     viscosity, temperature = _water(spec)
     return Study(
         title=spec.title, currency=spec.currency,
         kinematic_viscosity_m2_s=viscosity, temperature_c=temperature,
         source=Source(spec.source.level_m, top_water, spec.source.entrance_k),
-        outlet=Outlet(spec.outlet.required_head_m, spec.outlet.exit_k),
+        outlet=outlet,
         route=route, min_pressure_m=spec.route.min_pressure_m,
         local_k_per_km=spec.route.local_k_per_km, fittings=fittings,
         offtakes=tuple(offtakes), scenarios=tuple(scenarios), catalogue=chosen,
@@ -81,11 +109,21 @@ def load_study(path: str | Path) -> Study:
         solver=SolverSettings(spec.solver.name, spec.solver.time_limit_s, spec.solver.mip_gap),
         full_catalogue=catalogue, path=path,
         catalogue_path=(path.parent / spec.catalogue.file).resolve(),
-        profile_path=(path.parent / spec.route.profile).resolve(),
+        profile_path=(path.parent / _trunk_file(spec)).resolve(),
         surge=surge_settings(spec),
         hazen_williams_coefficient=spec.catalogue.hazen_williams_coefficient,
         quantities=QuantityRules(**spec.quantities.model_dump()),
+        branches=branches, tanks=tanks, tank_rules=rules_of_tanks,
     )
+
+
+def _trunk_file(spec: StudyFile) -> str:
+    """The file the trunk's profile comes from: the profile, or the network's links."""
+    return spec.network.links if spec.network is not None else str(spec.route.profile)
+
+
+def _trunk_label(spec: StudyFile) -> str:
+    return Path(_trunk_file(spec)).name
 
 
 def _top_water_level(path: Path, spec: StudyFile, problems: ProblemList) -> float:
@@ -111,6 +149,8 @@ def _water(spec: StudyFile) -> tuple[float, float | None]:
 def _offtakes(path: Path, spec: StudyFile, problems: ProblemList) -> list[Offtake]:
     offtakes: list[Offtake] = []
     for index, item in enumerate(spec.offtake, start=1):
+        if item.branch != TRUNK:
+            continue  # an offtake of a branch (io/branches.py)
         try:
             flow = parse_flow_m3_s(item.flow)
         except ValueError as error:
@@ -136,8 +176,8 @@ def _scenarios(path: Path, spec: StudyFile, friction: Friction,
             problems.add(f"{where}: roughness_mm and roughness_factor apply to "
                          "colebrook-white friction only; with hazen-williams give aged C "
                          "values in a separate catalogue")
-        try:
-            flow = parse_flow_m3_s(item.flow)
+        try:  # no flow with [network]: the trunk's end node gives it (network_file.py)
+            flow = math.nan if item.flow is None else parse_flow_m3_s(item.flow)
         except ValueError as error:
             problems.add(f"{where} flow: {error}")
             continue
@@ -149,19 +189,23 @@ def _scenarios(path: Path, spec: StudyFile, friction: Friction,
     return scenarios
 
 
-def _route_and_catalogue(path: Path, spec: StudyFile, friction: Friction,
-                         problems: ProblemList) -> tuple[Route, Catalogue]:
-    """The profile and the catalogue, read even when the study has problems of its own so
-    that independent problems in all three files are reported together."""
-    profile_path = (path.parent / spec.route.profile).resolve()
+def _route_and_catalogue(path: Path, spec: StudyFile, friction: Friction, problems: ProblemList
+                         ) -> tuple[Route, Catalogue, NetworkScheme | None]:
+    """The profile (or the network) and the catalogue, read even when the study has
+    problems of its own so that independent problems in all files are reported together."""
     catalogue_path = (path.parent / spec.catalogue.file).resolve()
     slope = spec.route.length == "slope"
-    route = catalogue = None
+    route = catalogue = network = None
     try:
-        route = load_coordinate_profile(profile_path, spec.route, path, spec.route.cover_m,
-                                        slope)  # None: a chainage CSV
-        if route is None:
-            route = load_profile(profile_path, spec.route.cover_m, slope)
+        if spec.network is not None:
+            network = load_network(path, spec)
+            route = network.route
+        else:
+            profile_path = (path.parent / str(spec.route.profile)).resolve()
+            route = load_coordinate_profile(profile_path, spec.route, path,
+                                            spec.route.cover_m, slope)  # None: chainage CSV
+            if route is None:
+                route = load_profile(profile_path, spec.route.cover_m, slope)
     except InputError as error:
         problems.items.extend(error.problems)
     try:
@@ -171,14 +215,16 @@ def _route_and_catalogue(path: Path, spec: StudyFile, friction: Friction,
     if route is None or catalogue is None:
         problems.raise_if_any()
     assert route is not None and catalogue is not None
-    return route, catalogue
+    return route, catalogue, network
 
 
 def _placement_problems(path: Path, spec: StudyFile, route: Route, offtakes: list[Offtake],
-                        fittings: tuple[Fitting, ...], problems: ProblemList) -> None:
-    """Offtakes and fittings on the route; zone factors naming zones of the profile."""
+                        fittings: tuple[Fitting, ...], problems: ProblemList,
+                        branch_zones: set[str]) -> None:
+    """Offtakes and fittings on the route; zone factors naming zones of the profile (or of
+    a branch's)."""
     end = route.total_chainage_m
-    profile = Path(spec.route.profile).name
+    profile = _trunk_label(spec)
     for index, offtake in enumerate(offtakes, start=1):
         if not 0.0 <= offtake.chainage_m <= end:
             problems.add(f"{path}: [[offtake]] #{index} chainage_m {offtake.chainage_m:g} "
@@ -188,7 +234,7 @@ def _placement_problems(path: Path, spec: StudyFile, route: Route, offtakes: lis
             problems.add(f"{path}: [[route.fitting]] #{index} chainage_m "
                          f"{fitting.chainage_m:g} is outside the route (0 to {end:g} m)")
     for zone, factor in spec.costs.zone_factor.items():
-        if zone not in set(route.zones):
+        if zone not in set(route.zones) | branch_zones:
             problems.add(f"{path}: [costs.zone_factor] {zone}: no section of "
                          f"{profile} has this zone")
         if factor <= 0:

@@ -59,6 +59,9 @@ class Formulation:
     """Row duals of the last solution of a linear programme (HiGHS only), else None."""
     column_duals: np.ndarray | None = None
     """Reduced costs of the last solution of a linear programme (HiGHS only)."""
+    tank_columns: dict[int, int] = field(default_factory=dict)
+    """Binaries of the new break-pressure tanks ``design`` may add, by node
+    (:mod:`optimiser.milp.tank_rows`)."""
 
     def fractions(self) -> np.ndarray:
         """Solved fractions x[s, j] as an (n, m) array (clipped to [0, 1])."""
@@ -100,6 +103,8 @@ class Formulation:
         for (kind, s, j), value in warm.items():
             if kind in ("first", "last"):
                 column = self.picks.get((kind, s, j))
+            elif kind == "tank":
+                column = self.tank_columns.get(s)
             else:
                 column = (self.x if kind == "x" else self.y).get((s, j))
             if column is not None:

@@ -36,6 +36,7 @@ from optimiser.analysis.limits import (
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.gradeline import section_loss_m, static_head_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
+from optimiser.milp.tank_data import TankData, has_tanks, tank_data
 from optimiser.milp.tree.line_study import line_study
 from optimiser.model import Study, SurgeMethod
 from optimiser.model.lines import Line
@@ -91,6 +92,9 @@ class ProblemData:
     surge_own_m: np.ndarray | None = None
     """(n, m) surge head of option j at section s's own largest velocity: at most the
     check's for a piece of j there (for the any-order relaxation)."""
+    tanks: TankData | None = None
+    """Break-pressure tanks that stand or may stand on the route (None: none); the
+    static line and class admissibility below them (:mod:`optimiser.milp.tank_data`)."""
 
     @property
     def n_scenarios(self) -> int:
@@ -159,6 +163,11 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
             velocity_ok &= within_velocity_window(v, rules)
     lowest = np.minimum(pipe[:-1], pipe[1:])
     static_head = static_head_m(study.source.top_water_level_m, lowest, 0.0)
+    tanks = None
+    if has_tanks(study):  # the lowest static line any choice of tanks gives (section 8)
+        tanks = tank_data(study, lowest, lambda head: _class_ok(
+            study, head, np.array(velocities), velocity_ok))
+        static_head = tanks.static_min_m - lowest
     static_demand = static_head + study.surge_allowance_m
     class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok)
     admissible = class_ok & velocity_ok
@@ -183,7 +192,8 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
         class_ok=class_ok, velocity_ok=velocity_ok, admissible=admissible, order=order,
         rank=rank, screened_up=np.zeros(n + 1, dtype=bool),
         screened_down=np.zeros(n + 1, dtype=bool),
-        screened_interior=np.zeros(n, dtype=bool), surge_m=surge, surge_own_m=surge_own)
+        screened_interior=np.zeros(n, dtype=bool), surge_m=surge, surge_own_m=surge_own,
+        tanks=tanks)
     return screened(data)
 
 

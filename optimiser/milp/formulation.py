@@ -122,6 +122,7 @@ from optimiser.milp.data import ProblemData
 from optimiser.milp.matrix import LinearModel, Term
 from optimiser.milp.pressure_rows import add_pressure_rows
 from optimiser.milp.rule_rows import add_rule_rows
+from optimiser.milp.tank_rows import add_static_rows
 
 __all__ = ["LENGTH_MARGIN_M", "MARGIN_M", "Formulation", "WarmStart", "build",
            "rules_active"]
@@ -158,6 +159,7 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
                        least_piece_m)
     columns = add_section_columns(form, tiebreak)
     add_pressure_rows(form, columns)
+    add_static_rows(form)
     change_terms: list[Term] = add_rule_rows(form, columns) if with_rules else []
     # changes = uses - continuations - 1: the constant stays outside the solver's
     # objective and is added back on reading.

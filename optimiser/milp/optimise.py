@@ -35,6 +35,7 @@ is a bug and raises :class:`VerificationError`.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import time
 
@@ -58,6 +59,8 @@ from optimiser.milp.search.lp_relaxation import run_lp_relaxation
 from optimiser.milp.search.plan import initial_plan, run_plan
 from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import SOLVERS, relative_gap
+from optimiser.milp.tank_data import has_tanks
+from optimiser.milp.tank_search import search_with_tanks
 from optimiser.milp.tree.optimise import optimise_scheme
 from optimiser.milp.uniform import UniformDesign
 from optimiser.model import Study
@@ -85,6 +88,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
     if study.is_scheme:  # one model for the whole tree (contract section 7)
         return optimise_scheme(study, settings, started)
+    if has_tanks(study):  # break-pressure tanks: their own plan (milp/tank_search.py)
+        return _with_tanks(study, settings, Clock(started, started + time_limit_s))
     # The model works on the route split at every class limit (exact class admissibility,
     # :mod:`optimiser.milp.class_limits`); every check judges the study as given.
     data = prepare(split_at_class_limits(study))
@@ -105,6 +110,16 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     if state.best is not None:
         run_any_order(state)
     return _finish(state, uniform)
+
+
+def _with_tanks(study: Study, settings: Settings, clock: Clock) -> DesignOutcome:
+    """The plan with break-pressure tanks, and its end like every run's."""
+    run = search_with_tanks(study, settings, clock, optimise_design)
+    if run.finished is not None:
+        return run.finished
+    outcome = _finish(run.state, None)
+    return dataclasses.replace(outcome, no_new_tank_cost=run.no_new_tank_cost,
+                               no_new_tank_status=run.no_new_tank_status)
 
 
 def _finish(state: SearchState, uniform: UniformDesign | None) -> DesignOutcome:

@@ -101,6 +101,10 @@ class DesignOutcome:
     binding: list[BindingPoint] = field(default_factory=list)
     stages: list[Stage] = field(default_factory=list)
     rules_on: bool = False
+    no_new_tank_cost: float | None = None
+    """With ``[break_pressure_tanks] cost``: the cost of the best design without new
+    tanks (None: none found, or new tanks not allowed)."""
+    no_new_tank_status: Status | None = None
 
     @property
     def verified(self) -> bool:

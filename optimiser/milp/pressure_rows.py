@@ -15,6 +15,7 @@ import numpy as np
 from optimiser.milp.built_model import MARGIN_M, Formulation
 from optimiser.milp.columns import SectionColumns
 from optimiser.milp.matrix import Affine, Term, var
+from optimiser.milp.tank_rows import restart_at_tank
 
 
 def add_pressure_rows(form: Formulation, columns: SectionColumns,
@@ -37,10 +38,15 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns,
                        or columns.need_interior[s + 1] or k_node[s + 1] > 0
                        or s + 1 in taps)
     tapped: dict[tuple[int, int], Affine] = {}
+    tanks = data.tanks
+    if tanks is not None:  # the energy arriving at a tank is a column of its own
+        need_end[:-1] |= tanks.at_node[1:-1]
     for k in range(data.n_scenarios):
         running = Affine([], float(data.source_level_m[k])) if start_m is None \
             else Affine(list(start_m[k].terms), start_m[k].constant)
         for s in range(n):
+            if tanks is not None and s > 0 and tanks.at_node[s]:
+                running = restart_at_tank(form, k, s, running)  # milp/tank_rows.py
             running = _section_rows(form, columns, k, s, running, bool(need_end[s]))
             if s + 1 in taps:
                 tapped[k, s + 1] = Affine(list(running.terms), running.constant)

@@ -41,3 +41,6 @@ class TankRules:
     inlet_k: float = 1.0
     outlet_k: float = 0.5
     max_count: int | None = None
+    marked_chainages_m: tuple[float, ...] = ()
+    """Chainages of the profile rows whose ``tank_site`` column is yes/true/1 (used with
+    ``sites = "marked"``)."""

@@ -15,6 +15,7 @@ from plotly.subplots import make_subplots
 from optimiser.analysis.appurtenances import Appurtenance
 from optimiser.analysis.check import CheckResult
 from optimiser.reports.colours import MARKERS, OPTION_PALETTE
+from optimiser.reports.tank_charts import add_tank_static
 from optimiser.reports.terminal import chainage_label
 
 SCENARIO_COLOURS = ["#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9"]
@@ -206,10 +207,13 @@ def profile_figure(result: CheckResult, title: str = "Longitudinal profile",
         x=route.chainage_m, y=route.pipe_level_m, name="pipe", mode="lines",
         line={"color": colour, "width": 2}, customdata=ground_text,
         hovertemplate="%{customdata}<br>pipe %{y:.2f} m<extra></extra>"), row=1, col=1)
-    fig.add_trace(go.Scatter(
-        x=[0, end], y=[study.source.top_water_level_m] * 2, name="static line (top water)",
-        mode="lines", line={"color": STATIC_COLOUR, "width": 1, "dash": "dot"},
-        hoverinfo="skip"), row=1, col=1)
+    if result.tanks:  # the static line restarts at each tank (contract section 8)
+        add_tank_static(fig, result)
+    else:
+        fig.add_trace(go.Scatter(
+            x=[0, end], y=[study.source.top_water_level_m] * 2, name="static line (top water)",
+            mode="lines", line={"color": STATIC_COLOUR, "width": 1, "dash": "dot"},
+            hoverinfo="skip"), row=1, col=1)
     first = result.scenarios[0].points
     fig.add_trace(go.Scatter(
         x=first["chainage_m"], y=first["pipe_level_m"] + first["min_pressure_m"],
@@ -297,6 +301,9 @@ def cost_figure(result: CheckResult, colour: str = OPTION_PALETTE[0]) -> go.Figu
     pieces["option"] = pieces.apply(_piece_label, axis=1)
     table = pieces.groupby("option", sort=False).agg(cost=("cost", "sum"),
                                                      length_m=("length_m", "sum"))
+    if result.tank_cost_total:  # new break-pressure tanks, a bar of their own
+        new = sum(1 for t in result.tanks if t.new)
+        table.loc[f"break-pressure tanks ({new} new)"] = [result.tank_cost_total, 0.0]
     fig = go.Figure(go.Bar(
         x=table["cost"], y=table.index, orientation="h", marker={"color": colour},
         customdata=table["length_m"],

@@ -16,6 +16,7 @@ from optimiser.reports.outlet_control import print_outlet_control
 from optimiser.reports.results import assumptions, check_dict
 from optimiser.reports.surge_table import print_class_table
 from optimiser.reports.sweep_tables import gap_text
+from optimiser.reports.tank_tables import print_tank_totals, print_tanks
 from optimiser.reports.terminal import chainage_label, print_violations
 from optimiser.reports.text import console_title
 
@@ -96,6 +97,8 @@ def design_dict(outcome: DesignOutcome, study: Study, command: str = "design") -
         "binding": [dict(b.__dict__) for b in outcome.binding],
         "stages": [stage.as_dict() for stage in outcome.stages],
         "model": MODEL_STATEMENT,
+        "no_new_tank_cost": outcome.no_new_tank_cost,
+        "no_new_tank_status": outcome.no_new_tank_status,
     }
     if outcome.check is None:
         payload = {
@@ -152,6 +155,7 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
     if outcome.check.change_cost_total:
         console.print(f"Change costs included: {_money(outcome.check.change_cost_total, currency)}")
     console.print(f"Total cost:              {_money(outcome.total_cost, currency)}")
+    print_tank_totals(console, outcome, currency)
     console.print(f"Lower bound:             {_money(outcome.lower_bound, currency)}")
     console.print(f"LP bound (rules relaxed): {_money(outcome.lp_bound, currency)}")
     if outcome.uniform is not None:
@@ -165,6 +169,7 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
         console.print("Cheapest uniform design: none (no single option meets every limit)")
     console.print(_binding_table(outcome))
     console.print(f"Why cheapest: {MODEL_STATEMENT}", markup=False, highlight=False)
+    print_tanks(console, outcome.check)
     print_outlet_control(console, outcome.check)
     print_violations(console, outcome.check)
 

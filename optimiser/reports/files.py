@@ -19,6 +19,7 @@ from optimiser.reports.html import default_option_name, render_report
 from optimiser.reports.pages import TitleBlock
 from optimiser.reports.pdf import PageFooter, PdfUnavailableError, html_to_pdf
 from optimiser.reports.run_summary import RunSummary
+from optimiser.reports.tank_tables import TANK_COLUMNS, tank_table_rows
 from optimiser.reports.workbook import design_workbook
 
 if TYPE_CHECKING:
@@ -28,7 +29,8 @@ REPORT_FILES = frozenset({"report.html", "report.pdf", "design.xlsx", "appurtena
                           "design.geojson", "profile_points.csv"})
 """The files :func:`write_report_files` writes (report.pdf when a browser is found, the
 last two for routes with coordinates)."""
-DESIGN_FILES = frozenset({"design.csv", "result.json", *REPORT_FILES})
+DESIGN_FILES = frozenset({"design.csv", "result.json", "break_pressure_tanks.csv",
+                          *REPORT_FILES})
 """The files :func:`write_design_files` writes (result.json only when there is no design)."""
 
 APPURTENANCE_COLUMNS = ["kind", "chainage_m", "pipe_level_m", "ground_m", "reason", "label"]
@@ -102,6 +104,10 @@ def write_design_files(folder: Path, outcome: DesignOutcome, study: Study,
     if outcome.design is not None:
         write_csv(folder / "design.csv", rounded_csv(design_table(outcome)))
         paths.append(folder / "design.csv")
+    if outcome.check is not None and outcome.check.tanks:  # contract section 8
+        frame = pd.DataFrame(tank_table_rows(study, outcome.check.tanks), columns=TANK_COLUMNS)
+        write_csv(folder / "break_pressure_tanks.csv", frame)
+        paths.append(folder / "break_pressure_tanks.csv")
     write_json(folder / "result.json", design_dict(outcome, study, command))
     paths.append(folder / "result.json")
     if outcome.check is not None:

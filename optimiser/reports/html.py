@@ -17,6 +17,7 @@ from optimiser.reports.pages import TitleBlock, chart, render
 from optimiser.reports.pdf import PRINTABLE_WIDTH_PX
 from optimiser.reports.plan_view import plan_figure, plan_notes
 from optimiser.reports.run_summary import RunSummary
+from optimiser.reports.tank_charts import TANK_GRID_COLUMNS, tank_rows
 from optimiser.reports.terminal import chainage_label
 
 DOCUMENT = "Pipeline sizing report"
@@ -68,6 +69,9 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
         change_cost=(fmt.money(result.change_cost_total, study.currency)
                      if result.change_cost_total else ""),
         violations=_violations_grid(result), appurtenances=_appurtenance_grid(appurtenances),
+        tanks=Grid(TANK_GRID_COLUMNS, tank_rows(result)) if result.tanks else None,
+        tank_cost=(fmt.money(result.tank_cost_total, study.currency)
+                   if result.tank_cost_total else ""),
         inputs=input_tables(study, summary))
 
 

@@ -9,13 +9,15 @@ from optimiser.analysis.check import CheckResult, ScenarioResult
 from optimiser.model import Friction, Study
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.outlet_control import outlets
+from optimiser.reports.tank_tables import tank_dicts
 
-POINT_FIELDS = ["chainage_m", "side", "label", "ground_m", "pipe_level_m", "energy_m",
-                "hgl_m", "pressure_m", "static_pressure_m", "min_pressure_m",
+POINT_FIELDS = ["branch", "chainage_m", "side", "label", "ground_m", "pipe_level_m",
+                "energy_m", "hgl_m", "pressure_m", "static_pressure_m", "min_pressure_m",
                 "velocity_m_s", "flow_m3_s"]
-PIECE_FIELDS = ["from_m", "to_m", "material", "dn_mm", "pressure_class", "length_m",
-                "internal_diameter_mm", "cost", "static_head_m", "allowable_head_m",
-                "wave_speed_m_s", "surge_head_m", "allowable_surge_head_m", "class_governs"]
+PIECE_FIELDS = ["branch", "from_m", "to_m", "material", "dn_mm", "pressure_class",
+                "length_m", "internal_diameter_mm", "cost", "static_head_m",
+                "allowable_head_m", "wave_speed_m_s", "surge_head_m",
+                "allowable_surge_head_m", "class_governs"]
 
 
 def assumptions(study: Study) -> dict[str, Any]:
@@ -57,6 +59,7 @@ def scenario_dict(result: ScenarioResult) -> dict[str, Any]:
         "capacity_outlet_only_m3_s": result.capacity_outlet_only_m3_s,
         "outlets": outlets(result),
         "least_pressure_margin": {
+            "branch": str(least["branch"]),
             "chainage_m": float(least["chainage_m"]),
             "pressure_m": float(least["pressure_m"]),
             "min_pressure_m": float(least["min_pressure_m"]),
@@ -81,6 +84,8 @@ def check_dict(result: CheckResult, command: str = "check") -> dict[str, Any]:
         "pieces": result.pieces[PIECE_FIELDS].to_dict(orient="records"),
         "total_cost": result.total_cost,
         "change_cost_total": result.change_cost_total,
+        "break_pressure_tanks": tank_dicts(result),
+        "tank_cost_total": result.tank_cost_total,
         "assumptions": assumptions(study),
         "cautions": list(CAUTIONS),
     }

@@ -42,6 +42,16 @@ class StageKind(Enum):
     """The full model (with the rules if any): bound and design."""
     ANY_ORDER = "any_order"
     """Reach model with the pieces of a section in any order (designs, no bound)."""
+    TANK_LP = "tank_lp"
+    """LP relaxation of the model with break-pressure tanks (rules relaxed): a bound."""
+    NO_NEW_TANKS = "no_new_tanks"
+    """The best design without new tanks (the plan without tanks): a first design."""
+    TANK_RULES_RELAXED = "tank_rules_relaxed"
+    """MILP with break-pressure tanks, rules relaxed: a bound and its tanks."""
+    TANK_FIXED_NEARBY = "tank_fixed_nearby"
+    """MILP with the rules, those tanks fixed, options near that design: a design."""
+    TANK_MODEL = "tank_model"
+    """The full model with the tanks chosen with the pipes: bound and design."""
 
     @property
     def label(self) -> str:
@@ -65,4 +75,9 @@ _LABELS = {
     StageKind.LP_ANYWHERE: "MILP, options the LP used anywhere and their neighbours",
     StageKind.FULL_MODEL: "MILP, full model",
     StageKind.ANY_ORDER: "MILP, pieces of a section in any order",
+    StageKind.TANK_LP: "LP relaxation with break-pressure tanks (rules relaxed)",
+    StageKind.NO_NEW_TANKS: "best design without new tanks",
+    StageKind.TANK_RULES_RELAXED: "MILP with break-pressure tanks, rules relaxed",
+    StageKind.TANK_FIXED_NEARBY: "MILP with the rules, those tanks fixed, options nearby",
+    StageKind.TANK_MODEL: "MILP, full model with break-pressure tanks",
 }

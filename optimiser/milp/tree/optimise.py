@@ -25,7 +25,9 @@ from __future__ import annotations
 import math
 
 from optimiser.analysis import check_design
+from optimiser.io.errors import InputError
 from optimiser.milp.formulation import rules_active
+from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError, binding_points
 from optimiser.milp.reaches import ActivePoints
 from optimiser.milp.search.state import Clock, SearchState, Settings
@@ -47,6 +49,12 @@ def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignO
     """The cheapest design of the scheme ``study`` that passes the check and the rules
     (``settings`` and ``started`` as :func:`optimiser.milp.optimise.optimise_design`
     resolved them)."""
+    if has_tanks(study):
+        where = study.path or "the study file"
+        raise InputError(f"{where}: [[break_pressure_tank]] / [break_pressure_tanks] with "
+                         "[[branch]]: design of a branched scheme with break-pressure tanks "
+                         "is not available yet; check such a design with `optimiser check`, "
+                         "or design the scheme without tanks")
     problem = prepare_tree(study)
     state = SearchState(study, problem.datas[0], settings,
                         Clock(started, started + settings.time_limit_s),

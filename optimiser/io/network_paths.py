@@ -1,0 +1,219 @@
+"""The compact form's tree (:mod:`optimiser.io.network_file`) as a trunk and branches.
+
+The rule (documented in docs/file-formats.md):
+
+- The downstream demand of a node is its own demand plus that of every node below it
+  (nominal demands of the nodes file, before any scenario factor).
+- A path starts at a node and, at each node, follows the link leaving it whose end
+  node has the largest downstream demand (ties: the link given first in the links
+  file), until a node with no link leaving it.
+- The trunk ``"main"`` is the path from the source. Every other link leaving a node of a
+  path starts a branch: the path from that link's end node, with the junction node as
+  its chainage 0. The branch is named after the node it ends at. Branches of branches
+  follow the same rule.
+- Chainage along a path is the sum of link lengths (horizontal, as a profile's); the
+  nodes are its profile points (labelled with their names), with a link profile's
+  interior points between them. A link's zone applies to all of its sections.
+- Demand at a node inside a path is an offtake there (with the node's
+  ``min_pressure_m``, if given; a node with a minimum pressure and no demand becomes an
+  offtake of zero flow, so its minimum still applies). Demand at the node a path ends
+  at is that path's delivery flow (the trunk's: every scenario's outlet flow times its
+  ``branch_factor``, unless the scenario gives ``flow``).
+- The energy that must remain at a path's end is the node's ``required_head_m`` or, by
+  default, its ground level plus its minimum pressure (the node's, else
+  ``[route] min_pressure_m``), with exit_k = 1: the hydraulic grade line at the end
+  node stands at least that minimum pressure above the ground (residual pressure at a
+  tap or a tank inlet at ground level).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from optimiser.io.branches import BranchDraft
+from optimiser.io.errors import InputError
+from optimiser.io.network_file import Link, NetworkTree, Node, read_network
+from optimiser.io.schema import StudyFile
+from optimiser.model import Offtake, Outlet, Route, Scenario
+from optimiser.model.route import RouteCoordinates
+from optimiser.model.scheme import TRUNK
+
+EXIT_K = 1.0
+"""Exit loss coefficient at every end node of the compact form (see the module text)."""
+
+
+@dataclass
+class NetworkPath:
+    """A path of the tree: the node it starts at and the links it follows."""
+
+    start: str
+    links: list[Link]
+    parent: str = TRUNK
+    at_chainage_m: float = 0.0
+
+    @property
+    def end(self) -> str:
+        return self.links[-1].end
+
+    def node_chainages(self) -> list[tuple[str, float]]:
+        """Its nodes with their chainage along it."""
+        chainage = 0.0
+        found = [(self.start, 0.0)]
+        for link in self.links:
+            chainage += link.length_m
+            found.append((link.end, chainage))
+        return found
+
+
+def downstream_demand(tree: NetworkTree) -> dict[str, float]:
+    """Each node's own demand plus every node's below it [m^3/s]."""
+    order: list[str] = []
+    stack = [tree.source]
+    while stack:  # depth first, parents before children
+        name = stack.pop()
+        order.append(name)
+        stack.extend(link.end for link in tree.leaving[name])
+    total = {name: tree.nodes[name].demand_m3_s for name in order}
+    for name in reversed(order):
+        total[name] += sum(total[link.end] for link in tree.leaving[name])
+    return total
+
+
+def paths(tree: NetworkTree) -> list[NetworkPath]:
+    """The trunk, then every branch, parents before children (rule of the module text)."""
+    demand = downstream_demand(tree)
+
+    def follow(start: str, first: Link | None) -> list[Link]:
+        links = [first] if first is not None else []
+        node = first.end if first is not None else start
+        while tree.leaving[node]:
+            best = max(tree.leaving[node], key=lambda link: demand[link.end])  # first wins
+            links.append(best)
+            node = best.end
+        return links
+
+    found = [NetworkPath(tree.source, follow(tree.source, None))]
+    index = 0
+    while index < len(found):
+        path = found[index]
+        name = TRUNK if index == 0 else path.end
+        first = 0 if index == 0 else 1  # a branch's first node is its parent's
+        for node, chainage in path.node_chainages()[first:-1]:
+            for link in tree.leaving[node]:
+                if all(link is not own for own in path.links):
+                    found.append(NetworkPath(node, follow(node, link), name, chainage))
+        index += 1
+    return found
+
+
+def path_route(tree: NetworkTree, path: NetworkPath, cover_m: float,
+               slope_length: bool) -> Route:
+    """The path as a route: nodes and link-profile points, labels, zones, plan."""
+    chainage, ground, labels, zones = [0.0], [tree.nodes[path.start].ground_m], \
+        [path.start], []
+    for link in path.links:
+        offset = chainage[-1]
+        chainage.extend(offset + link.chainage_m[1:])
+        ground.extend(link.ground_m[1:])
+        labels.extend([""] * (len(link.chainage_m) - 2) + [link.end])
+        zones.extend([link.zone] * (len(link.chainage_m) - 1))
+    route = Route(np.array(chainage), np.array(ground), cover_m, labels, zones, slope_length)
+    nodes = [tree.nodes[name] for name, _ in path.node_chainages()]
+    if all(node.x_m is not None for node in nodes):
+        route.coordinates = RouteCoordinates(
+            None, np.array([c for _, c in path.node_chainages()]),
+            np.array([node.x_m for node in nodes]), np.array([node.y_m for node in nodes]),
+            (f"plan: x_m, y_m of the nodes in {tree.nodes_path.name} (a local grid)",))
+    return route
+
+
+def node_offtakes(tree: NetworkTree, path: NetworkPath) -> list[Offtake]:
+    """Demands (and minimum pressures) of the nodes inside a path, as offtakes."""
+    offtakes = []
+    for name, chainage in path.node_chainages()[1:-1]:
+        node = tree.nodes[name]
+        if node.demand_m3_s > 0.0 or node.min_pressure_m is not None:
+            offtakes.append(Offtake(chainage, node.demand_m3_s, node.min_pressure_m, name))
+    return offtakes
+
+
+def end_head_m(node: Node, route_min_pressure_m: float) -> float:
+    """Energy that must remain at an end node: its own, or ground + minimum pressure."""
+    if node.required_head_m is not None:
+        return node.required_head_m
+    minimum = route_min_pressure_m if node.min_pressure_m is None else node.min_pressure_m
+    return node.ground_m + minimum
+
+
+def end_problems(tree: NetworkTree, found: list[NetworkPath]) -> list[str]:
+    """A source with a demand, and a branch ending at a node named like the trunk."""
+    problems = []
+    source = tree.nodes[tree.source]
+    if source.demand_m3_s > 0.0:
+        problems.append(f"{tree.nodes_path}: line {source.line}: the source node "
+                        f"{tree.source!r} has a demand; it is drawn before the pipe, so "
+                        "give it at a node below the source")
+    for path in found[1:]:
+        if path.end == TRUNK:
+            problems.append(f"{tree.nodes_path}: line {tree.nodes[path.end].line}: node "
+                            f"{TRUNK!r} ends a branch, which is named after it; {TRUNK!r} "
+                            "is the trunk's name, so rename the node")
+    if not found[0].links:
+        problems.append(f"{tree.links_path}: no link leaves the source node "
+                        f"{tree.source!r}")
+    return problems
+
+
+@dataclass
+class NetworkScheme:
+    """The compact form resolved: the trunk with its offtakes and outlet, and the
+    branches as drafts for :func:`optimiser.io.branches.resolve_branches`."""
+
+    route: Route
+    offtakes: tuple[Offtake, ...]
+    outlet: Outlet
+    trunk_flow_m3_s: float
+    drafts: list[BranchDraft]
+
+    def with_trunk_flow(self, scenarios: list[Scenario]) -> list[Scenario]:
+        """Scenarios without a ``flow`` of their own deliver the trunk's end demand times
+        their branch_factor."""
+        return [dataclasses.replace(s, outlet_flow_m3_s=s.branch_factor * self.trunk_flow_m3_s)
+                if math.isnan(s.outlet_flow_m3_s) else s for s in scenarios]
+
+
+def network_scheme(tree: NetworkTree, cover_m: float, slope_length: bool,
+                   min_pressure_m: float, local_k_per_km: float) -> NetworkScheme:
+    """The trunk and branches of a validated tree."""
+    found = paths(tree)
+    problems = end_problems(tree, found)
+    if problems:
+        raise InputError(problems)
+    routes = [path_route(tree, path, cover_m, slope_length) for path in found]
+    trunk = found[0]
+    drafts = []
+    for path, route in zip(found[1:], routes[1:], strict=True):
+        end = tree.nodes[path.end]
+        drafts.append(BranchDraft(
+            path.end, path.parent, path.at_chainage_m, route, end.demand_m3_s,
+            end_head_m(end, min_pressure_m),
+            f"{tree.links_path}: branch {path.end!r} (from node {path.start!r} to node "
+            f"{path.end!r}, line {path.links[0].line} on)", tree.links_path.name, EXIT_K,
+            0.0, min_pressure_m, local_k_per_km, [], node_offtakes(tree, path)))
+    end = tree.nodes[trunk.end]
+    return NetworkScheme(routes[0], tuple(node_offtakes(tree, trunk)),
+                         Outlet(end_head_m(end, min_pressure_m), EXIT_K), end.demand_m3_s,
+                         drafts)
+
+
+def load_network(study_path: Path, spec: StudyFile) -> NetworkScheme:
+    """``[network]``'s files as the trunk and branches of a scheme (InputError if bad)."""
+    tree = read_network(study_path, spec)
+    route = spec.route
+    return network_scheme(tree, route.cover_m, route.length == "slope", route.min_pressure_m,
+                          route.local_k_per_km)
