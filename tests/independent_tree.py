@@ -122,8 +122,8 @@ class _Sections:
 
 def _sections(study: Study, lines: list[_Line], line: _Line) -> _Sections:
     options = list(study.catalogue)
-    n, m, K = len(line.slope), len(options), len(study.scenarios)
-    loss, head = np.zeros((K, n, m)), np.zeros((K, n, m))
+    n, m, k_count = len(line.slope), len(options), len(study.scenarios)
+    loss, head = np.zeros((k_count, n, m)), np.zeros((k_count, n, m))
     ok = np.ones((n, m), dtype=bool)
     rules = study.rules
     for k, scenario in enumerate(study.scenarios):

@@ -108,19 +108,10 @@ class ProblemData:
 
 
 def prepare(study: Study, line: Line | None = None) -> ProblemData:
-    """Compute the optimiser's arrays for ``study`` (or for one ``line`` of a scheme).
-
-    With ``line``, the arrays are those of that line seen as a single route
-    (:func:`optimiser.milp.tree.line_study.line_study`: its route, fittings, offtakes,
-    minimum pressure, start loss and delivery point; ``data.study`` is that view), with
-    its flows from the whole scheme (contract section 7: the branches below it add
-    their inflow). Screening (:func:`screened`) then sees only the line's own points
-    downstream; the scheme's other points only raise the true floor of the energy, so
-    the floor it uses is still one every feasible design keeps, and it stays exact.
-    """
-    scheme = study
-    if line is not None:
-        study = line_study(scheme, line)
+    """Compute the optimiser's arrays for ``study``, or for one ``line`` of a scheme: the
+    line seen as a single route (``data.study`` is :func:`line_study`), its flows from the
+    whole scheme (contract section 7); screening stays exact (:func:`screened`)."""
+    scheme, study = study, (study if line is None else line_study(study, line))
     route = study.route
     catalogue = study.catalogue
     n = route.n_sections
@@ -281,7 +272,10 @@ def screened(data: ProblemData) -> ProblemData:
     pipe_i + min_i)``. A point whose pipe level and limit leave ``floor_s`` above them by
     more than the largest velocity head any admissible option can have there is met by
     every feasible design: its constraint is redundant and is left out of the model.
-    This is exact (it removes no design), and it is what keeps the model small. Returns
+    This is exact (it removes no design), and it is what keeps the model small. On one
+    line of a scheme (:func:`prepare` with a line) only that line's own points downstream
+    enter the floor: the branches below only raise the true floor, so the floor used is
+    still one every feasible design keeps, and screening stays exact. Returns
     ``data`` with the screened points marked; call it again whenever options leave
     ``admissible`` (fewer options, smaller largest velocity head: more points that
     cannot bind).

@@ -27,11 +27,11 @@ import math
 from optimiser.analysis import check_design
 from optimiser.io.errors import InputError
 from optimiser.milp.formulation import rules_active
-from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError, binding_points
 from optimiser.milp.reaches import ActivePoints
 from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import relative_gap
+from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.tree.diagnosis import diagnose_scheme
 from optimiser.milp.tree.lp_stage import run_tree_lp
 from optimiser.milp.tree.problem import prepare_tree
