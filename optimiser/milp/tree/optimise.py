@@ -68,15 +68,15 @@ def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignO
     if finished is not None:
         return finished
     assert lp is not None
-    run_first_designs(state, problem, lp.design)
+    run_first_designs(state, problem, lp)
     if not state.proven() and state.with_rules:
-        finished = run_tree_reach_model(state, problem, actives)
+        finished = run_tree_reach_model(state, problem, actives, lp)
         if finished is not None:
             return finished
     if not state.proven() and state.unfinished and not state.clock.nearly_out():
-        run_tree_fine_model(state, problem, state.unfinished[-1], 0.5)
+        run_tree_fine_model(state, problem, state.unfinished[-1], lp, 0.5)
     if not state.proven() and not state.clock.nearly_out():
-        finished = run_tree_fine_model(state, problem, None, 0.85)
+        finished = run_tree_fine_model(state, problem, None, lp, 0.85)
         if finished is not None:
             return finished
     return _finish(state)

@@ -18,14 +18,16 @@ from __future__ import annotations
 import time
 
 from optimiser.milp.diagnose import diagnose_after
+from optimiser.milp.extract import design_from_choice
 from optimiser.milp.outcome import DesignOutcome, Stage, VerificationError
 from optimiser.milp.presolve import dominated_options, without_options
 from optimiser.milp.reaches import MAX_ROW_ROUNDS, ActivePoints
-from optimiser.milp.repair import design_mask, repair
+from optimiser.milp.repair import covering_choice, design_mask, repair
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import SearchState
+from optimiser.milp.tree.fixing import on_reaches, tree_allowed
 from optimiser.milp.tree.line_study import line_design, on_line
-from optimiser.milp.tree.lp_stage import sizes
+from optimiser.milp.tree.lp_stage import TreeLp, sizes
 from optimiser.milp.tree.model import build_tree
 from optimiser.milp.tree.problem import (
     TreeProblem,
@@ -54,31 +56,41 @@ def run_tree_dominance(state: SearchState, problem: TreeProblem) -> None:
                               f"{len(problem.lines)} lines"))
 
 
-def run_first_designs(state: SearchState, problem: TreeProblem, lp_design: Design) -> None:
-    """With the rules, offer the LP's design with every line repaired to them."""
+def run_first_designs(state: SearchState, problem: TreeProblem, lp: TreeLp) -> None:
+    """With the rules, offer the LP's design with every line repaired to them, and the
+    covering design of every line (:func:`optimiser.milp.repair.covering_choice`: in
+    each section an option at least as good hydraulically as the LP's mix there, so
+    every junction keeps at least the LP design's energy)."""
     if not state.with_rules or state.proven():
         return
-    pieces = []
-    for line, data in zip(problem.lines, problem.datas, strict=True):
-        own = line_design(lp_design, line.name)
-        fixed = repair(data, own)
-        pieces.extend(on_line(fixed if fixed is not None else own, line.name).pieces)
-    state.consider(Design(tuple(pieces)), "LP design repaired to the rules, line by line",
+    repaired, covering = [], []
+    for line, data, fractions in zip(problem.lines, problem.datas, lp.fractions, strict=True):
+        own = line_design(lp.design, line.name)
+        # each useful step joins two pieces: more steps only cycle
+        fixed = repair(data, own, max_steps=2 * len(own.pieces) + 2)
+        repaired.extend(on_line(fixed if fixed is not None else own, line.name).pieces)
+        choice = covering_choice(data, fractions)
+        covered = design_from_choice(data, choice) if choice is not None else fixed or own
+        covering.extend(on_line(covered, line.name).pieces)
+    state.consider(Design(tuple(repaired)), "LP design repaired to the rules, line by line",
                    must_pass=False)
+    state.consider(Design(tuple(covering)), "covering design, line by line", must_pass=False)
 
 
 def run_tree_reach_model(state: SearchState, problem: TreeProblem,
-                         actives: list[ActivePoints], share: float = 0.6
+                         actives: list[ActivePoints], lp: TreeLp | None, share: float = 0.6
                          ) -> DesignOutcome | None:
-    """Rounds of the reach model with the rules; returns the outcome only if it proves
-    that no design exists."""
+    """Rounds of the reach model with the rules (options fixed by the LP's reduced costs
+    left out); returns the outcome only if it proves that no design exists."""
     kind = StageKind.REACH_MODEL
     for number in range(1, MAX_ROW_ROUNDS + 1):
         if state.clock.nearly_out():
             return None
         begun = time.perf_counter()
         reaches = tree_reaches(problem, actives)
-        form = build_tree(problem.lines, [r.data for r in reaches], with_rules=True)
+        allowed = on_reaches(tree_allowed(problem, lp, _best_cost(state)), reaches)
+        form = build_tree(problem.lines, [r.data for r in reaches], allowed=allowed,
+                          with_rules=True)
         warm = None if state.best is None else \
             reach_warm_start(problem, reaches, form, state.best.design)
         report = state.run_solver(kind, f"{kind.label}, whole tree, round {number}: "
@@ -103,15 +115,18 @@ def run_tree_reach_model(state: SearchState, problem: TreeProblem,
 
 
 def run_tree_fine_model(state: SearchState, problem: TreeProblem, around: Design | None,
-                        share: float) -> DesignOutcome | None:
+                        lp: TreeLp | None, share: float) -> DesignOutcome | None:
     """The model of the fine sections with the rules: restricted to the options
     ``around`` uses nearby on each line (a source of designs), or whole when ``around``
     is None (its bound counts, and its infeasibility proves no design exists)."""
     kind = StageKind.POLISH if around is not None else StageKind.FULL_MODEL
     begun = time.perf_counter()
-    allowed = None if around is None else [
-        design_mask(data, line_design(around, line.name), _width_m(data))
-        for line, data in zip(problem.lines, problem.datas, strict=True)]
+    allowed = tree_allowed(problem, lp, _best_cost(state))
+    if around is not None:
+        near = [design_mask(data, line_design(around, line.name), _width_m(data))
+                for line, data in zip(problem.lines, problem.datas, strict=True)]
+        allowed = near if allowed is None else [a & b for a, b in zip(allowed, near,
+                                                                       strict=True)]
     form = build_tree(problem.lines, problem.datas, allowed=allowed,
                       with_rules=state.with_rules)
     warm = None if state.best is None else \
@@ -127,6 +142,10 @@ def run_tree_fine_model(state: SearchState, problem: TreeProblem, around: Design
     if report.has_solution:
         state.consider(design_from_tree(problem, form), kind.label, must_pass=True)
     return None
+
+
+def _best_cost(state: SearchState) -> float | None:
+    return None if state.best is None else state.best.cost
 
 
 def _width_m(data) -> float:
