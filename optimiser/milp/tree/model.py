@@ -80,9 +80,10 @@ def junction_nodes(lines: list[Line], datas: list[ProblemData], index: int
     for child in lines:
         if child.parent == name:
             node = nearest_node(chainage, child.at_chainage_m)
-            if abs(chainage[node] - child.at_chainage_m) > 1e-6:
-                raise ValueError(f"branch {child.name!r}: no node of {name!r} at its "
-                                 f"junction, chainage {child.at_chainage_m:g} m")
+            if abs(chainage[node] - child.at_chainage_m) > 1e-6 \
+                    or not 0 < node < len(chainage) - 1:
+                raise ValueError(f"branch {child.name!r}: no inner node of {name!r} at "
+                                 f"its junction, chainage {child.at_chainage_m:g} m")
             found.append((child.name, node))
     return found
 
