@@ -49,6 +49,14 @@ class TreeFormulation(Formulation):
 
     parts: list[Formulation] = field(default_factory=list)
     offsets: list[int] = field(default_factory=list)
+    junctions: dict[str, list[Affine]] = field(default_factory=dict)
+    """Each branch's energy at its junction (before its junction loss), per scenario."""
+
+    def junction_energy_m(self, name: str) -> np.ndarray:
+        """(K,) solved energy at the junction of branch ``name``."""
+        assert self.values is not None
+        return np.array([sum(v * self.values[c] for c, v in e.terms) + e.constant
+                         for e in self.junctions[name]])
 
     def share_values(self) -> None:
         """Give every line's model the values (and duals) of the last solve."""
@@ -109,6 +117,7 @@ def build_tree(lines: list[Line], datas: list[ProblemData], *,
                                    tuple(node for _, node in children))
         for child, node in children:
             starts[child] = [tapped[k, node] for k in range(data.n_scenarios)]
+            root.junctions[child] = starts[child]
         change_terms = add_rule_rows(form, columns) if with_rules else []
         change_cost = data.study.costs.change_cost
         if change_cost and change_terms:

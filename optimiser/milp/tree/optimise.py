@@ -29,6 +29,7 @@ from optimiser.io.errors import InputError
 from optimiser.milp.formulation import rules_active
 from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError, binding_points
 from optimiser.milp.reaches import ActivePoints
+from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import relative_gap
 from optimiser.milp.tank_data import has_tanks
@@ -36,6 +37,8 @@ from optimiser.milp.tree.diagnosis import diagnose_scheme
 from optimiser.milp.tree.lp_stage import run_tree_lp
 from optimiser.milp.tree.problem import prepare_tree
 from optimiser.milp.tree.stages import (
+    around_design,
+    around_lp,
     run_first_designs,
     run_tree_dominance,
     run_tree_fine_model,
@@ -69,12 +72,16 @@ def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignO
         return finished
     assert lp is not None
     run_first_designs(state, problem, lp)
+    if state.with_rules and not state.proven():  # designs near the LP's, fast
+        run_tree_fine_model(state, problem, around_lp(problem, lp, 1), lp, 0.3,
+                            StageKind.LP_NEARBY)
     if not state.proven() and state.with_rules:
         finished = run_tree_reach_model(state, problem, actives, lp)
         if finished is not None:
             return finished
     if not state.proven() and state.unfinished and not state.clock.nearly_out():
-        run_tree_fine_model(state, problem, state.unfinished[-1], lp, 0.5)
+        run_tree_fine_model(state, problem, around_design(problem, state.unfinished[-1]), lp,
+                            0.5, StageKind.POLISH)
     if not state.proven() and not state.clock.nearly_out():
         finished = run_tree_fine_model(state, problem, None, lp, 0.85)
         if finished is not None:

@@ -17,6 +17,8 @@ from __future__ import annotations
 
 import time
 
+import numpy as np
+
 from optimiser.milp.diagnose import diagnose_after
 from optimiser.milp.extract import design_from_choice
 from optimiser.milp.outcome import DesignOutcome, Stage, VerificationError
@@ -24,8 +26,10 @@ from optimiser.milp.presolve import dominated_options, without_options
 from optimiser.milp.reaches import MAX_ROW_ROUNDS, ActivePoints
 from optimiser.milp.repair import covering_choice, design_mask, repair
 from optimiser.milp.search.kinds import StageKind
+from optimiser.milp.search.masks import widened, window_mask
 from optimiser.milp.search.state import SearchState
 from optimiser.milp.tree.fixing import on_reaches, tree_allowed
+from optimiser.milp.tree.line_heuristic import lines_design
 from optimiser.milp.tree.line_study import line_design, on_line
 from optimiser.milp.tree.lp_stage import TreeLp, sizes
 from optimiser.milp.tree.model import build_tree
@@ -75,6 +79,9 @@ def run_first_designs(state: SearchState, problem: TreeProblem, lp: TreeLp) -> N
     state.consider(Design(tuple(repaired)), "LP design repaired to the rules, line by line",
                    must_pass=False)
     state.consider(Design(tuple(covering)), "covering design, line by line", must_pass=False)
+    priced = lines_design(problem, lp.form)
+    if priced is not None:
+        state.consider(priced, "line by line at the LP's junction energies", must_pass=False)
 
 
 def run_tree_reach_model(state: SearchState, problem: TreeProblem,
@@ -114,17 +121,16 @@ def run_tree_reach_model(state: SearchState, problem: TreeProblem,
     return None
 
 
-def run_tree_fine_model(state: SearchState, problem: TreeProblem, around: Design | None,
-                        lp: TreeLp | None, share: float) -> DesignOutcome | None:
-    """The model of the fine sections with the rules: restricted to the options
-    ``around`` uses nearby on each line (a source of designs), or whole when ``around``
-    is None (its bound counts, and its infeasibility proves no design exists)."""
-    kind = StageKind.POLISH if around is not None else StageKind.FULL_MODEL
+def run_tree_fine_model(state: SearchState, problem: TreeProblem,
+                        near: list[np.ndarray] | None, lp: TreeLp | None, share: float,
+                        kind: StageKind = StageKind.FULL_MODEL) -> DesignOutcome | None:
+    """The model of the fine sections with the rules: restricted to the options of
+    ``near`` on each line (a source of designs), or whole when ``near`` is None (its
+    bound counts, and its infeasibility proves no design exists); options fixed by the
+    LP's reduced costs left out."""
     begun = time.perf_counter()
     allowed = tree_allowed(problem, lp, _best_cost(state))
-    if around is not None:
-        near = [design_mask(data, line_design(around, line.name), _width_m(data))
-                for line, data in zip(problem.lines, problem.datas, strict=True)]
+    if near is not None:
         allowed = near if allowed is None else [a & b for a, b in zip(allowed, near,
                                                                        strict=True)]
     form = build_tree(problem.lines, problem.datas, allowed=allowed,
@@ -133,8 +139,8 @@ def run_tree_fine_model(state: SearchState, problem: TreeProblem, around: Design
         reach_warm_start(problem, None, form, state.best.design)
     report = state.run_solver(kind, f"{kind.label}, whole tree: {sizes(form)}", form, warm,
                               share, time.perf_counter() - begun,
-                              stage_gap=None if around is None else 1e-4)
-    if around is None:
+                              stage_gap=None if near is None else 1e-4)
+    if near is None:
         state.full_report = report
         if report.status == Status.INFEASIBLE:
             return _infeasible(state, "full model")
@@ -142,6 +148,19 @@ def run_tree_fine_model(state: SearchState, problem: TreeProblem, around: Design
     if report.has_solution:
         state.consider(design_from_tree(problem, form), kind.label, must_pass=True)
     return None
+
+
+def around_design(problem: TreeProblem, design: Design) -> list[np.ndarray]:
+    """Options ``design`` uses near each section of every line."""
+    return [design_mask(data, line_design(design, line.name), _width_m(data))
+            for line, data in zip(problem.lines, problem.datas, strict=True)]
+
+
+def around_lp(problem: TreeProblem, lp: TreeLp, radius: int) -> list[np.ndarray]:
+    """Options the LP uses near each section of every line, and those within ``radius``
+    places of them in the size order (:mod:`optimiser.milp.search.masks`)."""
+    return [widened(data, window_mask(data, fractions > 1e-6, _width_m(data)), radius)
+            for data, fractions in zip(problem.datas, lp.fractions, strict=True)]
 
 
 def _best_cost(state: SearchState) -> float | None:
