@@ -72,15 +72,20 @@ def _trunk_study(folder: Path, profile: list[tuple[float, float]], required_m: f
 
 
 def _profile(rng: np.random.Generator, start_ground_m: float, sections: int,
-             ridge: float = 0.0, spacing_m: tuple[float, float] = (80.0, 500.0)
-             ) -> list[tuple[float, float]]:
+             ridge: float = 0.0, spacing_m: tuple[float, float] = (80.0, 500.0),
+             walk_m: float | None = None) -> list[tuple[float, float]]:
     """Nodes ``spacing_m`` apart, ground 380-420 m, a share ``ridge`` of them on a rise of
     420-432 m (where pressure can bind)."""
     chainage = np.round(np.concatenate([[0.0], np.cumsum(rng.uniform(*spacing_m,
                                                                       sections))]), 2)
     high = rng.random(sections) < ridge
-    ground = np.where(high, rng.uniform(420.0, 432.0, sections),
-                      rng.uniform(380.0, 420.0, sections))
+    if walk_m is None:
+        ground = np.where(high, rng.uniform(420.0, 432.0, sections),
+                          rng.uniform(380.0, 420.0, sections))
+    else:  # a smooth walk: steps of about walk_m per survey point
+        ground = np.clip(start_ground_m + np.cumsum(rng.normal(0.0, walk_m, sections)),
+                         380.0, 420.0)
+        ground = np.where(high, ground + rng.uniform(3.0, 10.0, sections), ground)
     ground = np.round(np.concatenate([[start_ground_m], ground]), 3)
     return list(zip(chainage.tolist(), ground.tolist(), strict=True))
 
@@ -94,24 +99,27 @@ def _route(profile: list[tuple[float, float]]) -> Route:
 def random_tree(folder: Path, seed: int, *, lines: int | None = None,
                 sections: tuple[int, int] = (2, 8), rules: str = "",
                 exact: bool = True, scenarios: int = 2, ridge: float = 0.0,
-                spacing_m: tuple[float, float] = (80.0, 500.0)) -> Study:
+                spacing_m: tuple[float, float] = (80.0, 500.0),
+                walk_m: float | None = None) -> Study:
     """A random scheme: ``lines`` lines in all (random 2-7 if None), each of a random
     number of sections in ``sections``, each branch leaving a random inner node of an
     earlier line. ``rules``: a ``[rules]``/``[costs]`` text for the study file;
     ``scenarios``: 2 (peak, night) or 3 (and a fire flow on aged pipe); ``ridge``: the
     share of nodes on a rise (not with ``exact``); ``spacing_m``: distance between
-    survey points."""
+    survey points; ``walk_m``: ground as a smooth walk with steps of about this much
+    (None: each point's ground drawn afresh, a jagged profile)."""
     rng = np.random.default_rng(seed)
     count = int(rng.integers(2, 8)) if lines is None else lines
     profiles = [_profile(rng, 400.0, int(rng.integers(*sections)) + 1, ridge,
-                         spacing_m)]
+                         spacing_m, walk_m)]
     parents: list[tuple[int, int]] = []  # (parent line, node) of each branch
     for _ in range(count - 1):
         parent = int(rng.integers(0, len(profiles)))
         node = int(rng.integers(1, len(profiles[parent]) - 1))
         parents.append((parent, node))
         profiles.append(_profile(rng, profiles[parent][node][1],
-                                 int(rng.integers(*sections)), ridge, spacing_m))
+                                 int(rng.integers(*sections)), ridge, spacing_m,
+                                 walk_m))
     required = rng.uniform(425.0, 445.0, count)
     trunk = _trunk_study(folder, profiles[0], float(required[0]),
                          float(rng.uniform(3.0, 15.0)), rules, exact, scenarios)

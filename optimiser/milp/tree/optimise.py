@@ -24,6 +24,8 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
+
 from optimiser.analysis import check_design
 from optimiser.io.errors import InputError
 from optimiser.milp.formulation import rules_active
@@ -35,7 +37,7 @@ from optimiser.milp.solvers import relative_gap
 from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.tree.diagnosis import diagnose_scheme
 from optimiser.milp.tree.lp_stage import run_tree_lp
-from optimiser.milp.tree.problem import prepare_tree
+from optimiser.milp.tree.problem import TreeProblem, prepare_tree
 from optimiser.milp.tree.stages import (
     around_design,
     around_lp,
@@ -46,6 +48,15 @@ from optimiser.milp.tree.stages import (
 )
 from optimiser.model import Study
 from optimiser.model.status import Status
+
+NEARBY_PAIRS = 5000
+"""The fine model near the LP's options runs only up to this many (section, option)
+pairs (beyond, building and presolving it takes longer than it helps)."""
+
+
+def pairs(problem: TreeProblem, masks: list[np.ndarray]) -> int:
+    return int(sum((m & d.admissible).sum() for m, d in zip(masks, problem.datas,
+                                                            strict=True)))
 
 
 def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignOutcome:
@@ -72,9 +83,10 @@ def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignO
         return finished
     assert lp is not None
     run_first_designs(state, problem, lp)
-    if state.with_rules and not state.proven():  # designs near the LP's, fast
-        run_tree_fine_model(state, problem, around_lp(problem, lp, 1), lp, 0.3,
-                            StageKind.LP_NEARBY)
+    near = around_lp(problem, lp, 1)
+    if state.with_rules and state.best is None and pairs(problem, near) <= NEARBY_PAIRS:
+        # no first design yet: the fine model near the LP's options, while it is small
+        run_tree_fine_model(state, problem, near, lp, 0.3, StageKind.LP_NEARBY)
     if not state.proven() and state.with_rules:
         finished = run_tree_reach_model(state, problem, actives, lp)
         if finished is not None:
