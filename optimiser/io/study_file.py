@@ -87,10 +87,8 @@ def load_study(path: str | Path) -> Study:
         Offtake(c, 0.0, label="a junction") for c in junctions], problems)
     rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
                                 problems)
-    if spec.pump is not None and (branches or tanks or rules_of_tanks.cost is not None):
-        problems.add(f"{path}: [pump] with branches or break-pressure tanks is not available "
-                     "in this version: design the rising main as a study of its own (its "
-                     "outlet the tank) and the gravity part as another (docs/user-guide.md)")
+    _combination_problems(path, spec, bool(branches), bool(tanks) or
+                          rules_of_tanks.cost is not None, problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
                              [f.chainage_m for f in fittings] + junctions +
@@ -121,6 +119,19 @@ def load_study(path: str | Path) -> Study:
         branches=branches, tanks=tanks, tank_rules=rules_of_tanks,
         pump=None if spec.pump is None else PumpStation(**spec.pump.model_dump()),
     )
+
+
+def _combination_problems(path: Path, spec: StudyFile, branched: bool, with_tanks: bool,
+                          problems: ProblemList) -> None:
+    """Additions not yet available together: tanks in a scheme, a pump with either."""
+    if branched and with_tanks:
+        problems.add(f"{path}: break-pressure tanks in a branched scheme are not available "
+                     "in this version: leave out [[break_pressure_tank]] and "
+                     "[break_pressure_tanks] cost, or design the trunk as a route of its own")
+    if spec.pump is not None and (branched or with_tanks):
+        problems.add(f"{path}: [pump] with branches or break-pressure tanks is not available "
+                     "in this version: design the rising main as a study of its own (its "
+                     "outlet the tank) and the gravity part as another (docs/user-guide.md)")
 
 
 def _trunk_file(spec: StudyFile) -> str:

@@ -23,15 +23,17 @@ import dataclasses
 
 import numpy as np
 
-from optimiser.analysis.flows import flow_below_m3_s
+from optimiser.analysis.flows import flow_below_m3_s, line_flows_m3_s
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
+from optimiser.milp.tree.line_study import line_study
 from optimiser.model import Route, Study, SurgeMethod
+from optimiser.model.lines import Line
 
 MIN_SPACING_M = 1e-3
 """A crossing closer than this to a survey point is not split off [m]."""
 
 
-def limit_levels_m(study: Study) -> np.ndarray:
+def limit_levels_m(study: Study, line: Line | None = None) -> np.ndarray:
     """Pipe levels [m] below which some option's class stops being admissible, per section.
 
     A class is admissible where static head ≤ allowable head and static head + surge ≤
@@ -41,8 +43,11 @@ def limit_levels_m(study: Study) -> np.ndarray:
     allowance: down to 410 m). With the allowance method the surge is the study's
     allowance and the limit the allowable head; by wave speed, the option's surge at its
     largest velocity in the section over the scenarios, and its allowable surge head.
-    Returns (sections, levels): both levels of every option.
+    Returns (sections, levels): both levels of every option. With ``line``, those of
+    that line of a scheme (its flows from the whole scheme, contract section 7).
     """
+    scheme = study
+    study = study if line is None else line_study(scheme, line)
     catalogue = study.catalogue
     top = study.source.top_water_level_m
     n = study.route.n_sections
@@ -52,16 +57,18 @@ def limit_levels_m(study: Study) -> np.ndarray:
         limit = catalogue.allowable_head_m
     else:
         surge = surge_head_m(study, wave_speeds_m_s(study, catalogue)[None, :],
-                             _fastest_m_s(study))
+                             _fastest_m_s(scheme, line))
         limit = catalogue.surge_limit_head_m
     return np.hstack([operating, top + surge - limit[None, :]])
 
 
-def _fastest_m_s(study: Study) -> np.ndarray:
-    """(sections, options) largest velocity [m/s] over the scenarios."""
-    starts = study.route.chainage_m[:-1]
+def _fastest_m_s(study: Study, line: Line | None = None) -> np.ndarray:
+    """(sections, options) largest velocity [m/s] over the scenarios (of ``line``)."""
+    starts = (study.route if line is None else line.route).chainage_m[:-1]
     area = np.pi * study.catalogue.internal_diameter_m[None, :] ** 2 / 4.0
-    flows = np.array([flow_below_m3_s(study, scenario, starts) for scenario in study.scenarios])
+    flows = np.array([flow_below_m3_s(study, scenario, starts) if line is None
+                      else line_flows_m3_s(study, scenario, line, starts)
+                      for scenario in study.scenarios])
     return (flows.max(axis=0)[:, None]) / area
 
 
@@ -92,3 +99,10 @@ def split_at_class_limits(study: Study) -> Study:
     if len(found) == 0:
         return study
     return dataclasses.replace(study, route=study.route.with_nodes(found, tolerance_m=0.0))
+
+
+def split_line_at_class_limits(study: Study, line: Line) -> Route:
+    """The route of ``line`` (of the scheme ``study``) split wherever an option's class
+    limit is crossed."""
+    found = crossing_chainages_m(line.route, limit_levels_m(study, line))
+    return line.route if len(found) == 0 else line.route.with_nodes(found, tolerance_m=0.0)

@@ -21,7 +21,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from optimiser.analysis.flows import flow_below_m3_s, friction_gradient, node_point_k
+from optimiser.analysis.flows import (
+    flow_below_m3_s,
+    friction_gradient,
+    line_flows_m3_s,
+    node_point_k,
+)
 from optimiser.analysis.limits import (
     CHECK_TOLERANCE,
     class_holds,
@@ -32,7 +37,9 @@ from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.gradeline import section_loss_m, static_head_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.milp.tank_data import TankData, has_tanks, tank_data
+from optimiser.milp.tree.line_study import line_study
 from optimiser.model import Study, SurgeMethod
+from optimiser.model.lines import Line
 
 SCREEN_TOLERANCE_M = 1e-3
 """A check point is screened out only if it clears its minimum by this much more than
@@ -100,8 +107,11 @@ class ProblemData:
         return self.order[mask[self.order]].tolist()
 
 
-def prepare(study: Study) -> ProblemData:
-    """Compute the optimiser's arrays for ``study``."""
+def prepare(study: Study, line: Line | None = None) -> ProblemData:
+    """Compute the optimiser's arrays for ``study``, or for one ``line`` of a scheme: the
+    line seen as a single route (``data.study`` is :func:`line_study`), its flows from the
+    whole scheme (contract section 7); screening stays exact (:func:`screened`)."""
+    scheme, study = study, (study if line is None else line_study(study, line))
     route = study.route
     catalogue = study.catalogue
     n = route.n_sections
@@ -121,7 +131,8 @@ def prepare(study: Study) -> ProblemData:
 
     flows, velocities, heads, gradients, losses, levels = [], [], [], [], [], []
     for scenario in study.scenarios:
-        q = flow_below_m3_s(study, scenario, chainage[:-1])
+        q = flow_below_m3_s(study, scenario, chainage[:-1]) if line is None \
+            else line_flows_m3_s(scheme, scenario, line, chainage[:-1])
         v = velocity_m_s(q[:, None], diameter[None, :])
         h = velocity_head_m(v)
         # A chain carries few distinct flows (the outlet's plus the offtakes downstream):
@@ -261,7 +272,10 @@ def screened(data: ProblemData) -> ProblemData:
     pipe_i + min_i)``. A point whose pipe level and limit leave ``floor_s`` above them by
     more than the largest velocity head any admissible option can have there is met by
     every feasible design: its constraint is redundant and is left out of the model.
-    This is exact (it removes no design), and it is what keeps the model small. Returns
+    This is exact (it removes no design), and it is what keeps the model small. On one
+    line of a scheme (:func:`prepare` with a line) only that line's own points downstream
+    enter the floor: the branches below only raise the true floor, so the floor used is
+    still one every feasible design keeps, and screening stays exact. Returns
     ``data`` with the screened points marked; call it again whenever options leave
     ``admissible`` (fewer options, smaller largest velocity head: more points that
     cannot bind).

@@ -7,6 +7,7 @@ import itertools
 import numpy as np
 
 from optimiser.milp.data import ProblemData
+from optimiser.milp.tree.line_study import line_design, line_studies
 from optimiser.model import Design, Piece, Study
 
 SLIVER_M = 1e-5
@@ -99,7 +100,11 @@ def section_use(data: ProblemData, design: Design) -> dict[tuple[str, int, int],
 
 
 def rule_problems(study: Study, design: Design) -> list[str]:
-    """Breaches of the [rules] on the merged design (the check does not look at rules)."""
+    """Breaches of the [rules] on the merged design (the check does not look at rules);
+    on a scheme, on each line's pieces (contract section 7: rules per branch)."""
+    if study.is_scheme:
+        return [f"branch {line.name!r}: {problem}" for line, own in line_studies(study)
+                for problem in rule_problems(own, line_design(design, line.name))]
     rules = study.rules
     merged = design.merged()
     problems: list[str] = []

@@ -62,6 +62,7 @@ from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import SOLVERS, relative_gap
 from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.tank_search import search_with_tanks
+from optimiser.milp.tree.optimise import optimise_scheme
 from optimiser.milp.uniform import UniformDesign
 from optimiser.model import Study
 from optimiser.model.status import Status
@@ -86,6 +87,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     time_limit_s = float(study.solver.time_limit_s if time_limit_s is None else time_limit_s)
     settings = Settings(solver_name, time_limit_s,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
+    if study.is_scheme:  # one model for the whole tree (contract section 7)
+        return optimise_scheme(study, settings, started)
     if has_tanks(study):  # break-pressure tanks: their own plan (milp/tank_search.py)
         return _with_tanks(study, settings, Clock(started, started + time_limit_s))
     if study.pump is not None:  # least life-cycle cost, pipes and station heads together

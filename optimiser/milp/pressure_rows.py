@@ -18,8 +18,16 @@ from optimiser.milp.matrix import Affine, Term, var
 from optimiser.milp.tank_rows import restart_at_tank
 
 
-def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
-    """Add the pressure rows of every scenario, and the outlet rows, to ``form``."""
+def add_pressure_rows(form: Formulation, columns: SectionColumns,
+                      start_m: list[Affine] | None = None,
+                      taps: tuple[int, ...] = ()) -> dict[tuple[int, int], Affine]:
+    """Add the pressure rows of every scenario, and the outlet rows, to ``form``.
+
+    ``start_m`` (one per scenario): the energy at chainage 0 before the start loss
+    (default the source level; a branch of a scheme starts from its junction's energy,
+    :mod:`optimiser.milp.tree.model`). ``taps``: nodes whose upstream-side energy (before
+    a fitting there) is returned, by (scenario, node), each a single column.
+    """
     data = form.data
     n = data.n_sections
     k_node = data.node_point_k
@@ -27,19 +35,26 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns) -> None:
     need_end[n - 1] = True
     for s in range(n - 1):
         need_end[s] = (not data.screened_up[s + 1] or not data.screened_down[s + 1]
-                       or columns.need_interior[s + 1] or k_node[s + 1] > 0)
+                       or columns.need_interior[s + 1] or k_node[s + 1] > 0
+                       or s + 1 in taps)
+    tapped: dict[tuple[int, int], Affine] = {}
     tanks = data.tanks
     if tanks is not None:  # the energy arriving at a tank is a column of its own
         need_end[:-1] |= tanks.at_node[1:-1]
     for k in range(data.n_scenarios):
-        # With a pump the energy starts at the source level + the station head.
+        # With a pump the energy starts at the source level + the station head; a branch
+        # of a scheme starts from its parent's energy at the junction.
         pump = [(form.pump_heads[k], 1.0)] if form.pump_heads else []
-        running = Affine(pump, float(data.source_level_m[k]))
+        running = Affine(pump, float(data.source_level_m[k])) if start_m is None \
+            else Affine(list(start_m[k].terms), start_m[k].constant)
         for s in range(n):
             if tanks is not None and s > 0 and tanks.at_node[s]:
                 running = restart_at_tank(form, k, s, running)  # milp/tank_rows.py
             running = _section_rows(form, columns, k, s, running, bool(need_end[s]))
+            if s + 1 in taps:
+                tapped[k, s + 1] = Affine(list(running.terms), running.constant)
         _outlet_rows(form, columns, k, running)
+    return tapped
 
 
 def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine],

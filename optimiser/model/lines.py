@@ -70,7 +70,21 @@ def branch_line(branch: Branch) -> Line:
 
 
 def study_lines(study: Study) -> tuple[Line, ...]:
-    """Every line of ``study``: the trunk, then the branches, parents before children."""
+    """Every line of ``study``: the trunk, then the branches, parents before children.
+
+    Kept on the study while the fields it is made of are the same objects (the flow
+    rule asks for it once per line and pipe, thousands of times on a scheme)."""
+    made_of = (study.route, study.fittings, study.offtakes, study.min_pressure_m,
+               study.local_k_per_km, study.source, study.outlet, study.branches)
+    kept = study.__dict__.get("_lines_kept")
+    if kept is not None and all(a is b for a, b in zip(kept[0], made_of, strict=True)):
+        return kept[1]
+    lines = _make_lines(study)
+    study.__dict__["_lines_kept"] = (made_of, lines)
+    return lines
+
+
+def _make_lines(study: Study) -> tuple[Line, ...]:
     return (trunk_line(study), *(branch_line(branch) for branch in study.branches))
 
 

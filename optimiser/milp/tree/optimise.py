@@ -1,0 +1,126 @@
+"""``optimise_scheme``: the cheapest verified design of a branched scheme.
+
+The plan, top to bottom (stages in :mod:`optimiser.milp.tree.stages`):
+
+0. Each line (trunk and branches) split at its class limits and given its own problem
+   data, flows from the whole scheme (:mod:`optimiser.milp.tree.problem`).
+1. Diagnosis per branch without a solver (:mod:`optimiser.milp.tree.diagnosis`): which
+   line, where, by how much, per scenario, and whether the branch itself or the lines
+   upstream are short; a finding ends the run as ``infeasible``.
+2. Options dominated wherever they are admissible set aside, line by line (exact).
+3. The LP relaxation of the whole tree, rules relaxed: the LP bound.
+4. First designs: the LP's own (optimal if it passes the check and the rules within the
+   gap), else every line repaired to the rules.
+5. The full model of the tree with the rules, warm-started from the best design: its
+   bound raises the lower bound, its design must pass the check.
+6. The final check, the gap and the status.
+
+Every design returned has passed :func:`optimiser.analysis.check_design` and the rules
+per line (:func:`optimiser.milp.extract.rule_problems`); bounds come only from
+relaxations (the LP, the full model's own bound), capped at the returned cost.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from optimiser.analysis import check_design
+from optimiser.io.errors import InputError
+from optimiser.milp.formulation import rules_active
+from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError, binding_points
+from optimiser.milp.reaches import ActivePoints
+from optimiser.milp.search.kinds import StageKind
+from optimiser.milp.search.state import Clock, SearchState, Settings
+from optimiser.milp.solvers import relative_gap
+from optimiser.milp.tank_data import has_tanks
+from optimiser.milp.tree.diagnosis import diagnose_scheme
+from optimiser.milp.tree.lp_stage import run_tree_lp
+from optimiser.milp.tree.problem import TreeProblem, prepare_tree
+from optimiser.milp.tree.stages import (
+    around_design,
+    around_lp,
+    run_first_designs,
+    run_tree_dominance,
+    run_tree_fine_model,
+    run_tree_reach_model,
+)
+from optimiser.model import Study
+from optimiser.model.status import Status
+
+NEARBY_PAIRS = 5000
+"""The fine model near the LP's options runs only up to this many (section, option)
+pairs (beyond, building and presolving it takes longer than it helps)."""
+
+
+def pairs(problem: TreeProblem, masks: list[np.ndarray]) -> int:
+    return int(sum((m & d.admissible).sum() for m, d in zip(masks, problem.datas,
+                                                            strict=True)))
+
+
+def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignOutcome:
+    """The cheapest design of the scheme ``study`` that passes the check and the rules
+    (``settings`` and ``started`` as :func:`optimiser.milp.optimise.optimise_design`
+    resolved them)."""
+    if has_tanks(study):
+        where = study.path or "the study file"
+        raise InputError(f"{where}: [[break_pressure_tank]] / [break_pressure_tanks] with "
+                         "[[branch]]: design of a branched scheme with break-pressure tanks "
+                         "is not available yet; check such a design with `optimiser check`, "
+                         "or design the scheme without tanks")
+    problem = prepare_tree(study)
+    state = SearchState(study, problem.datas[0], settings,
+                        Clock(started, started + settings.time_limit_s),
+                        with_rules=rules_active(problem.datas[0]))
+    findings = diagnose_scheme(problem)
+    if findings:
+        return state.infeasible(findings)
+    run_tree_dominance(state, problem)
+    lp, actives, finished = run_tree_lp(state, problem,
+                                        [ActivePoints.none(d) for d in problem.datas])
+    if finished is not None:
+        return finished
+    assert lp is not None
+    run_first_designs(state, problem, lp)
+    near = around_lp(problem, lp, 1)
+    if state.with_rules and state.best is None and pairs(problem, near) <= NEARBY_PAIRS:
+        # no first design yet: the fine model near the LP's options, while it is small
+        run_tree_fine_model(state, problem, near, lp, 0.3, StageKind.LP_NEARBY)
+    if not state.proven() and state.with_rules:
+        finished = run_tree_reach_model(state, problem, actives, lp)
+        if finished is not None:
+            return finished
+    if not state.proven() and state.unfinished and not state.clock.nearly_out():
+        run_tree_fine_model(state, problem, around_design(problem, state.unfinished[-1]), lp,
+                            0.5, StageKind.POLISH)
+    if not state.proven() and not state.clock.nearly_out():
+        finished = run_tree_fine_model(state, problem, None, lp, 0.85)
+        if finished is not None:
+            return finished
+    return _finish(state)
+
+
+def _finish(state: SearchState) -> DesignOutcome:
+    """Check the best design once more and state the gap and status."""
+    best = state.best
+    if best is None:
+        last = state.stages[-1] if state.stages else None
+        raise SolverError("no design of the scheme found within the time limit "
+                          f"({state.settings.time_limit_s:g} s; last solver status: "
+                          f"{last.status if last else 'none'})")
+    final = check_design(state.study, best.design)
+    if not final.ok:
+        raise VerificationError("the returned design fails the final check (a bug)")
+    bound = min(state.bound, best.cost)
+    lp_bound = None if state.lp_bound is None else min(state.lp_bound, best.cost)
+    gap = relative_gap(best.cost, bound)
+    status = Status.OPTIMAL if gap is not None and gap <= state.settings.gap_target \
+        else Status.FEASIBLE
+    full = state.full_report
+    if full is not None and full.status == Status.OPTIMAL and \
+            best.cost <= (full.objective or math.inf) + 1e-9 * abs(best.cost):
+        status = Status.OPTIMAL  # the solver's own proof
+    return state.outcome(status, design=best.design, check=final, total_cost=best.cost,
+                         lower_bound=bound, gap=gap, lp_bound=lp_bound, uniform=None,
+                         binding=binding_points(final))

@@ -1,0 +1,53 @@
+"""Additions of contract version 2 that are not yet available together are refused
+plainly (exit 2, the study file named, nothing written) rather than designed wrongly:
+break-pressure tanks in a branched scheme, and a pump with branches or tanks.
+
+Invented test studies; the facts checked are the tool's own stated limits (common
+practice, no source: refuse what is not modelled rather than ignore it).
+"""
+
+from __future__ import annotations
+
+from builders import write_study
+from scheme_builders import write_branch_scheme
+from typer.testing import CliRunner
+
+from optimiser.cli.app import app
+
+PUMP = {"efficiency": 0.7, "energy_price": 0.15}
+TANK = [{"chainage_m": 400.0}]
+
+
+def _design(study_path, tmp_path):
+    out = tmp_path / "out"
+    result = CliRunner().invoke(app, ["design", str(study_path), "--out", str(out)])
+    return result, out
+
+
+def test_tanks_in_a_scheme_are_refused(tmp_path):
+    files = write_branch_scheme(tmp_path, study={"break_pressure_tank": TANK})
+    result, out = _design(files.study, tmp_path)
+    assert result.exit_code == 2, result.output
+    text = " ".join(result.output.split())
+    assert "break-pressure tanks in a branched scheme are not available" in text
+    assert str(files.study.name) in text and "Traceback" not in text
+    assert not out.exists()
+
+
+def test_new_tanks_in_a_scheme_are_refused(tmp_path):
+    files = write_branch_scheme(tmp_path, study={"break_pressure_tanks": {"cost": 5000.0}})
+    result, _ = _design(files.study, tmp_path)
+    assert result.exit_code == 2
+    assert "branched scheme" in " ".join(result.output.split())
+
+
+def test_a_pump_with_branches_or_tanks_is_refused(tmp_path):
+    scheme = write_branch_scheme(tmp_path, folder="pumped-scheme", study={"pump": PUMP})
+    result, _ = _design(scheme.study, tmp_path)
+    assert result.exit_code == 2
+    assert "[pump] with branches or break-pressure tanks" in " ".join(result.output.split())
+    route = write_study(tmp_path, folder="pumped-tank",
+                        study={"pump": PUMP, "break_pressure_tank": TANK})
+    result, _ = _design(route.study, tmp_path)
+    assert result.exit_code == 2
+    assert "[pump] with branches or break-pressure tanks" in " ".join(result.output.split())
