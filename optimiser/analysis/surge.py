@@ -54,16 +54,16 @@ def reflection_length_m(study: Study, line: Line | None = None) -> float:
     route, or of ``line`` through the junctions above it: the length the slow-closure
     formula uses."""
     if line is None or line.is_trunk:
-        return float(study.route.length_m.sum())
-    return _length_above_m(study, line) + float(line.route.length_m.sum())
+        return study.upstream_pipe_length_m + float(study.route.length_m.sum())
+    return length_above_m(study, line) + float(line.route.length_m.sum())
 
 
-def _length_above_m(study: Study, line: Line) -> float:
+def length_above_m(study: Study, line: Line) -> float:
     """Pipe length [m] from the source to the junction of branch ``line``."""
     parent = line_of(study, line.parent or "")
     route = parent.route.with_nodes([line.at_chainage_m])
     upstream = float(route.length_m[route.chainage_m[1:] <= line.at_chainage_m + 1e-6].sum())
-    return upstream + (0.0 if parent.is_trunk else _length_above_m(study, parent))
+    return upstream + (0.0 if parent.is_trunk else length_above_m(study, parent))
 
 
 def surge_head_m(study: Study, wave_speed_m_s: np.ndarray, velocity_m_s: np.ndarray,

@@ -131,6 +131,11 @@ class Study:
     tank_rules: TankRules = field(default_factory=TankRules)
     pump: PumpStation | None = None
     """A pump station at the source (section 9); None: gravity."""
+    upstream_pipe_length_m: float = 0.0
+    """Pipe length [m] between the free surface upstream and the route's chainage 0: 0
+    for a study's own trunk; a branch seen as a route of its own (the optimiser's view of
+    a scheme's line) has its path from the source through the junctions above it, which
+    the slow-closure surge formula needs."""
 
     @property
     def is_scheme(self) -> bool:

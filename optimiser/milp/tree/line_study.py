@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import dataclasses
 
+from optimiser.analysis.surge import length_above_m
 from optimiser.model import Design, Piece, Study
 from optimiser.model.lines import Line, study_lines
 from optimiser.model.study import Outlet, Source
@@ -28,7 +29,9 @@ def line_study(study: Study, line: Line) -> Study:
         study, source=source, outlet=Outlet(line.required_head_m, line.exit_k),
         route=line.route, fittings=line.fittings, offtakes=line.offtakes,
         min_pressure_m=line.min_pressure_m, local_k_per_km=line.local_k_per_km,
-        branches=(), tanks=tuple(t for t in study.tanks if t.branch == line.name))
+        branches=(), tanks=tuple(t for t in study.tanks if t.branch == line.name),
+        # The slow-closure surge of a branch's pipes takes the whole path from the source.
+        upstream_pipe_length_m=0.0 if line.is_trunk else length_above_m(study, line))
 
 
 def line_studies(study: Study) -> list[tuple[Line, Study]]:
