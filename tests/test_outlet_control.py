@@ -88,3 +88,27 @@ def test_the_report_states_the_outlet_flow_control(single_pipe):
     section = page.split("Outlet flow control", 1)[1]
     assert "without flow control the line would carry" in section
     assert "Caution: fit flow control" in section
+
+
+def test_a_scheme_gets_one_flow_control_sentence_per_scenario(tmp_path):
+    """On a scheme the report and terminal summarise flow control per scenario (the
+    figures are in the delivery margins table): the count of delivery points that would
+    overdraw by over 10 % (common practice, no source) is that of the outlets' own
+    figures, and the caution is kept."""
+    from scheme_api_builders import two_branch_scheme
+
+    from optimiser.analysis import check_design
+    from optimiser.reports.outlet_control import scheme_control_summary
+
+    study, design = two_branch_scheme(tmp_path)
+    result = check_design(study, design)
+    for scenario in result.scenarios:
+        over = sum(1 for p in scenario.outlets if p.uncontrolled_flow_m3_s is not None
+                   and p.uncontrolled_flow_m3_s > 1.1 * p.flow_m3_s)
+        sentence = scheme_control_summary(scenario)
+        assert sentence.startswith(f"{scenario.name}: ")
+        if over:
+            assert f"{over} of {len(scenario.outlets)} delivery points" in sentence
+            assert "Caution: fit flow control" in sentence
+        else:
+            assert "no delivery point would carry" in sentence

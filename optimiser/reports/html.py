@@ -16,7 +16,7 @@ from optimiser.reports.charts import cost_figure, pressure_velocity_figure, prof
 from optimiser.reports.colours import option_colour
 from optimiser.reports.inputs import input_tables
 from optimiser.reports.life_cycle import html_section
-from optimiser.reports.outlet_control import control_sentences
+from optimiser.reports.outlet_control import control_sentences, scheme_control_summary
 from optimiser.reports.pages import Chart, TitleBlock, chart, render
 from optimiser.reports.pdf import PRINTABLE_WIDTH_PX
 from optimiser.reports.plan_view import plan_figure, plan_notes
@@ -64,7 +64,9 @@ def render_report(result: CheckResult, appurtenances: list[Appurtenance],
         charts=[*named.values(), *(scheme.charts if scheme else [])], colour=colour,
         scheme=scheme, summary=_summary_rows(result, summary),
         scenario_table=_scenario_grid(result), plan_notes=plan_notes(result),
-        outlet_control=[c for s in result.scenarios for c in control_sentences(s)],
+        outlet_control=([scheme_control_summary(s) for s in result.scenarios]
+                        if study.is_scheme else
+                        [c for s in result.scenarios for c in control_sentences(s)]),
         schedule=_schedule_grid(result), total_cost=fmt.money(result.total_cost, study.currency),
         change_cost=(fmt.money(result.change_cost_total, study.currency)
                      if result.change_cost_total else ""),

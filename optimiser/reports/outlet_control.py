@@ -80,6 +80,31 @@ def control_sentences(result: ScenarioResult) -> list[str]:
             if p.uncontrolled_flow_m3_s is not None or p.margin_m < 0]
 
 
+def scheme_control_summary(result: ScenarioResult) -> str:
+    """One sentence for a scenario of a scheme: how many delivery points would overdraw
+    without flow control, the worst of them, and where the figures are (the delivery
+    margins table), instead of a sentence per point."""
+    short = [p for p in result.outlets if p.uncontrolled_flow_m3_s is None]
+    over = [p for p in result.outlets if overdraws(p)]
+    parts = []
+    if over:
+        worst = max(over, key=lambda p: p.uncontrolled_flow_m3_s / max(p.flow_m3_s, 1e-12))
+        ratio = worst.uncontrolled_flow_m3_s / max(worst.flow_m3_s, 1e-12)
+        parts.append(f"{len(over)} of {len(result.outlets)} delivery points would carry over "
+                     f"{OVERDRAW_SHARE:.0%} more than their design flow without flow "
+                     f"control (the most: '{worst.branch}', {ratio:.2f} x); each needs a "
+                     "control valve taking its spare head (table of delivery margins). "
+                     "Caution: fit flow control, or the source is overdrawn and the "
+                     "offtakes upstream may be starved.")
+    else:
+        parts.append("no delivery point would carry over "
+                     f"{OVERDRAW_SHARE:.0%} more than its design flow without flow control.")
+    if short:
+        parts.append("Short of required head: "
+                     + ", ".join(f"'{p.branch}' by {-p.margin_m:.2f} m" for p in short) + ".")
+    return f"{result.name}: " + " ".join(parts)
+
+
 def control_sentence(result: ScenarioResult) -> str:
     """The sentences of :func:`control_sentences` as one paragraph (the trunk's alone on
     a single route)."""
@@ -89,7 +114,10 @@ def control_sentence(result: ScenarioResult) -> str:
 def print_outlet_control(console: Console, result: CheckResult) -> None:
     """The outlet flow-control sentence of every delivery point with its capacity
     computed, scenario by scenario."""
-    sentences = [s for scenario in result.scenarios for s in control_sentences(scenario)]
+    if result.study.is_scheme:  # one sentence per scenario; the figures are in a table
+        sentences = [scheme_control_summary(scenario) for scenario in result.scenarios]
+    else:
+        sentences = [s for scenario in result.scenarios for s in control_sentences(scenario)]
     if not sentences:
         return
     console.print("[bold]Outlet flow control[/bold]")
