@@ -36,10 +36,8 @@ is a bug and raises :class:`VerificationError`.
 from __future__ import annotations
 
 import dataclasses
-import math
 import time
 
-from optimiser.analysis import check_design
 from optimiser.milp.class_limits import split_at_class_limits
 from optimiser.milp.data import prepare
 from optimiser.milp.diagnose import diagnose
@@ -50,22 +48,21 @@ from optimiser.milp.outcome import (
     SolverError,
     Stage,
     VerificationError,
-    binding_points,
 )
 from optimiser.milp.pump_search import optimise_pumped
 from optimiser.milp.search.any_order import run_any_order
 from optimiser.milp.search.dominance import run_dominance
+from optimiser.milp.search.finish import finish, no_design_error
 from optimiser.milp.search.first_designs import run_first_designs
 from optimiser.milp.search.lp_relaxation import run_lp_relaxation
 from optimiser.milp.search.plan import initial_plan, run_plan
 from optimiser.milp.search.state import Clock, SearchState, Settings
-from optimiser.milp.solvers import SOLVERS, relative_gap
+from optimiser.milp.solvers import SOLVERS
 from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.tank_search import search_with_tanks
 from optimiser.milp.tree.optimise import optimise_scheme
 from optimiser.milp.uniform import UniformDesign
 from optimiser.model import Study
-from optimiser.model.status import Status
 
 __all__ = ["BindingPoint", "DesignOutcome", "SolverError", "Stage", "VerificationError",
            "optimise_design"]
@@ -127,28 +124,6 @@ def _with_tanks(study: Study, settings: Settings, clock: Clock) -> DesignOutcome
 
 def _finish(state: SearchState, uniform: UniformDesign | None) -> DesignOutcome:
     """Check the best design once more (with capacity) and state the gap and status."""
-    best = state.best
-    if best is None:
-        last = state.stages[-1] if state.stages else None
-        raise SolverError("no design found within the time limit "
-                          f"({state.settings.time_limit_s:g} s; last solver status: "
-                          f"{last.status if last else 'none'})")
-    final = check_design(state.study, best.design)
-    if not final.ok:
-        raise VerificationError("the returned design fails the final check (a bug)")
-    # A valid bound cannot exceed the cost of a design the model admits; a solver's
-    # reported dual bound can, within its feasibility tolerances. Cap it there.
-    # The bounds are over the section-ordered designs of the model; a design of the
-    # any-order stage may lie below them (see docs/method.md), so they are capped there too.
-    bound = min(state.bound, best.cost)
-    lp_bound = None if state.lp_bound is None else min(state.lp_bound, best.cost)
-    gap = relative_gap(best.cost, bound)
-    status = Status.OPTIMAL if gap is not None and gap <= state.settings.gap_target \
-        else Status.FEASIBLE
-    full = state.full_report
-    if full is not None and full.status == Status.OPTIMAL and \
-            best.cost <= (full.objective or math.inf) + 1e-9 * abs(best.cost):
-        status = Status.OPTIMAL  # the solver's own proof (its gap is measured as it defines it)
-    return state.outcome(status, design=best.design, check=final, total_cost=best.cost,
-                         lower_bound=bound, gap=gap, lp_bound=lp_bound,
-                         uniform=uniform, binding=binding_points(final))
+    if state.best is None:
+        raise no_design_error(state)
+    return finish(state, uniform=uniform)

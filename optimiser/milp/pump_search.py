@@ -29,7 +29,6 @@ they are left out (recorded as skipped). The plan here, after Alperovits & Shami
 from __future__ import annotations
 
 import dataclasses
-import math
 import time
 
 import numpy as np
@@ -42,16 +41,14 @@ from optimiser.milp.extract import design_from_fractions, rule_problems, section
 from optimiser.milp.formulation import build, rules_active
 from optimiser.milp.outcome import (
     DesignOutcome,
-    SolverError,
     Stage,
     VerificationError,
-    binding_points,
 )
 from optimiser.milp.pump_columns import head_caps_m
 from optimiser.milp.repair import design_mask, repair
+from optimiser.milp.search.finish import finish, no_design_error
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Candidate, Clock, SearchState, Settings
-from optimiser.milp.solvers import relative_gap
 from optimiser.model import Design, Study
 from optimiser.model.status import Status
 
@@ -225,30 +222,13 @@ def _full_model(state: SearchState) -> None:
 
 def _finish(state: SearchState) -> DesignOutcome:
     """Check the best design once more (with capacity); gap and status on the
-    life-cycle cost."""
-    best = state.best
-    if best is None:
+    life-cycle cost, the capital reported as the check's."""
+    if state.best is None:
         last = state.stages[-1] if state.stages else None
         if last is not None and last.status == Status.INFEASIBLE:
             return state.infeasible(_why_infeasible(state.study))
-        raise SolverError("no design found within the time limit "
-                          f"({state.settings.time_limit_s:g} s; last solver status: "
-                          f"{last.status if last else 'none'})")
-    final = check_design(state.study, best.design)
-    if not final.ok:
-        raise VerificationError("the returned design fails the final check (a bug)")
-    bound = min(state.bound, best.cost)
-    lp_bound = None if state.lp_bound is None else min(state.lp_bound, best.cost)
-    gap = relative_gap(best.cost, bound)
-    status = Status.OPTIMAL if gap is not None and gap <= state.settings.gap_target \
-        else Status.FEASIBLE
-    full = state.full_report
-    if full is not None and full.status == Status.OPTIMAL and \
-            best.cost <= (full.objective or math.inf) + 1e-9 * abs(best.cost):
-        status = Status.OPTIMAL
-    return state.outcome(status, design=best.design, check=final,
-                         total_cost=final.total_cost, lower_bound=bound, gap=gap,
-                         lp_bound=lp_bound, uniform=None, binding=binding_points(final))
+        raise no_design_error(state)
+    return finish(state, capital_from_check=True)
 
 
 def _why_infeasible(study: Study) -> list[str]:

@@ -22,18 +22,15 @@ relaxations (the LP, the full model's own bound), capped at the returned cost.
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
-from optimiser.analysis import check_design
 from optimiser.io.errors import InputError
 from optimiser.milp.formulation import rules_active
-from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError, binding_points
+from optimiser.milp.outcome import DesignOutcome
 from optimiser.milp.reaches import ActivePoints
+from optimiser.milp.search.finish import finish, no_design_error
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, SearchState, Settings
-from optimiser.milp.solvers import relative_gap
 from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.tree.diagnosis import diagnose_scheme
 from optimiser.milp.tree.lp_stage import run_tree_lp
@@ -47,7 +44,6 @@ from optimiser.milp.tree.stages import (
     run_tree_reach_model,
 )
 from optimiser.model import Study
-from optimiser.model.status import Status
 
 NEARBY_PAIRS = 5000
 """The fine model near the LP's options runs only up to this many (section, option)
@@ -103,24 +99,6 @@ def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignO
 
 def _finish(state: SearchState) -> DesignOutcome:
     """Check the best design once more and state the gap and status."""
-    best = state.best
-    if best is None:
-        last = state.stages[-1] if state.stages else None
-        raise SolverError("no design of the scheme found within the time limit "
-                          f"({state.settings.time_limit_s:g} s; last solver status: "
-                          f"{last.status if last else 'none'})")
-    final = check_design(state.study, best.design)
-    if not final.ok:
-        raise VerificationError("the returned design fails the final check (a bug)")
-    bound = min(state.bound, best.cost)
-    lp_bound = None if state.lp_bound is None else min(state.lp_bound, best.cost)
-    gap = relative_gap(best.cost, bound)
-    status = Status.OPTIMAL if gap is not None and gap <= state.settings.gap_target \
-        else Status.FEASIBLE
-    full = state.full_report
-    if full is not None and full.status == Status.OPTIMAL and \
-            best.cost <= (full.objective or math.inf) + 1e-9 * abs(best.cost):
-        status = Status.OPTIMAL  # the solver's own proof
-    return state.outcome(status, design=best.design, check=final, total_cost=best.cost,
-                         lower_bound=bound, gap=gap, lp_bound=lp_bound, uniform=None,
-                         binding=binding_points(final))
+    if state.best is None:
+        raise no_design_error(state, "design of the scheme")
+    return finish(state)
