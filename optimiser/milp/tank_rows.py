@@ -89,6 +89,12 @@ def add_static_rows(form: Formulation) -> None:
     level, and the energy leaving a tank is below its level), so the static line over s
     is the level of the lowest tank above it, and it is at most the threshold if and
     only if some tank above s has a level at most the threshold.
+
+    Written short: the sites that qualify are nearly a run ending at s (levels fall
+    along a falling route), so the sum is a difference of two running sums of the tank
+    binaries (:func:`_running_sums`) less the few sites of that run that do not qualify.
+    The same rows, with a few nonzeros each instead of one per site above (tens of
+    millions on a 2,000-section route).
     """
     tanks = form.data.tanks
     if tanks is None or not tanks.any_candidate:
@@ -96,18 +102,55 @@ def add_static_rows(form: Formulation) -> None:
     model = form.model
     sites = np.flatnonzero(tanks.candidate)
     fixed = np.flatnonzero(tanks.fixed)
+    running = _running_sums(form, sites) if tanks.conditional.any() else []
     for (s, j), column in form.x.items():
         if not tanks.conditional[s, j]:
             continue
         above_fixed = fixed[fixed <= s]
         after = int(above_fixed[-1]) if len(above_fixed) else 0
-        low = [int(i) for i in sites if after < i <= s
-               and tanks.level_m[i] <= tanks.threshold_m[s, j]]
-        model.at_most(Affine([(column, 1.0), *((tank_column(form, i), -1.0) for i in low)]),
+        first, last = np.searchsorted(sites, [after, s], side="right")
+        low = tanks.level_m[sites[first:last]] <= tanks.threshold_m[s, j]
+        model.at_most(Affine([(column, 1.0), *_sum_of_low(form, running, sites, first, low)]),
                       0.0)
     if tanks.max_count is not None:
         columns = [tank_column(form, int(i)) for i in sites]
         model.at_most(Affine([(c, 1.0) for c in columns]), float(tanks.max_count))
+
+
+_SHORT_RUN = 4
+"""Runs of at most this many sites are written term by term."""
+
+
+def _running_sums(form: Formulation, sites: np.ndarray) -> list[int]:
+    """Columns r[k] = t[sites[0]] + ... + t[sites[k]] (one equality row each)."""
+    model = form.model
+    columns: list[int] = []
+    for k, site in enumerate(sites.tolist()):
+        column = model.add_column(0.0, float(k + 1))
+        terms = [(column, 1.0), (tank_column(form, site), -1.0)]
+        if columns:
+            terms.append((columns[-1], -1.0))
+        model.equal(Affine(terms), 0.0)
+        columns.append(column)
+    return columns
+
+
+def _sum_of_low(form: Formulation, running: list[int], sites: np.ndarray, first: int,
+                low: np.ndarray) -> list[tuple[int, float]]:
+    """Terms of minus the sum of t over the sites ``sites[first:][low]``."""
+    if not low.any():
+        return []
+    begin = first + int(np.argmax(low))  # the first site that qualifies
+    end = first + len(low)  # one past the last site above s
+    if end - begin <= _SHORT_RUN:
+        return [(tank_column(form, int(sites[k])), -1.0)
+                for k in range(begin, end) if low[k - first]]
+    terms = [(running[end - 1], -1.0)]
+    if begin > 0:
+        terms.append((running[begin - 1], 1.0))
+    terms += [(tank_column(form, int(sites[k])), 1.0)
+              for k in range(begin, end) if not low[k - first]]
+    return terms
 
 
 def chosen_nodes(form: Formulation) -> list[int]:
