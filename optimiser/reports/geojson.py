@@ -144,12 +144,20 @@ def write_geometry_files(out_dir: Path, result: CheckResult,
     coordinates = result.study.route.coordinates
     if coordinates is None:
         return []
+    collection = None if coordinates.crs is None else \
+        design_feature_collection(result, appurtenances)
+    return write_plan_files(out_dir, collection, profile_points(result))
+
+
+def write_plan_files(out_dir: Path, collection: dict | None,
+                     points: pd.DataFrame) -> list[Path]:
+    """Write ``design.geojson`` (when there is a feature collection: the plan is in a
+    known CRS) and ``profile_points.csv``; the paths written."""
     written = []
-    if coordinates.crs is not None:
+    if collection is not None:
         path = Path(out_dir) / "design.geojson"
-        collection = design_feature_collection(result, appurtenances)
         atomic_write_text(path, json.dumps(json_safe(collection)) + "\n")
         written.append(path)
-    points = Path(out_dir) / "profile_points.csv"
-    write_csv(points, profile_points(result))
-    return [*written, points]
+    path = Path(out_dir) / "profile_points.csv"
+    write_csv(path, points)
+    return [*written, path]

@@ -8,7 +8,6 @@ missing branches would mislead.
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 from typing import Any
 
@@ -16,11 +15,14 @@ import pandas as pd
 
 from optimiser.analysis.appurtenances import Appurtenance
 from optimiser.analysis.check import CheckResult
-from optimiser.io.writers import atomic_write_text, json_safe, write_csv
 from optimiser.model import TRUNK
 from optimiser.model.lines import study_lines
 from optimiser.reports.branch_view import branch_view
-from optimiser.reports.geojson import design_feature_collection, profile_points
+from optimiser.reports.geojson import (
+    design_feature_collection,
+    profile_points,
+    write_plan_files,
+)
 from optimiser.reports.scheme_diagram import in_plan
 
 
@@ -66,13 +68,7 @@ def write_scheme_geometry_files(out_dir: Path, result: CheckResult,
     if not in_plan(result.study):
         return []
     lines = study_lines(result.study)
-    written = []
     crs = {line.route.coordinates.crs for line in lines if line.route.coordinates}
-    if len(crs) == 1 and None not in crs:
-        path = Path(out_dir) / "design.geojson"
-        collection = scheme_feature_collection(result, appurtenances)
-        atomic_write_text(path, json.dumps(json_safe(collection)) + "\n")
-        written.append(path)
-    points = Path(out_dir) / "profile_points.csv"
-    write_csv(points, scheme_profile_points(result))
-    return [*written, points]
+    collection = scheme_feature_collection(result, appurtenances) \
+        if len(crs) == 1 and None not in crs else None
+    return write_plan_files(out_dir, collection, scheme_profile_points(result))
