@@ -48,12 +48,19 @@ def node_point_k(study: Study, node_chainage_m: np.ndarray,
     return node_k
 
 
-def offtakes_downstream(study: Study, start_chainage_m: np.ndarray) -> np.ndarray:
-    """(n, n_offtakes) True where an offtake lies strictly downstream of a pipe starting
-    at each chainage, i.e. where that pipe carries the offtake's flow."""
+def downstream_of(start_chainage_m: np.ndarray, point_chainage_m: np.ndarray) -> np.ndarray:
+    """(n, p) True where a point (an offtake, a junction) lies strictly downstream of a
+    pipe starting at each chainage, i.e. where that pipe carries the point's flow: a
+    point at c is upstream of every pipe starting at c or later."""
     start = np.asarray(start_chainage_m, dtype=float).reshape(-1)
-    chainage = np.array([o.chainage_m for o in study.offtakes], dtype=float)
-    return chainage[None, :] > start[:, None] + _OFFTAKE_TOLERANCE_M
+    points = np.asarray(point_chainage_m, dtype=float).reshape(-1)
+    return points[None, :] > start[:, None] + _OFFTAKE_TOLERANCE_M
+
+
+def offtakes_downstream(study: Study, start_chainage_m: np.ndarray) -> np.ndarray:
+    """(n, n_offtakes) True where a trunk offtake lies strictly downstream of a pipe
+    starting at each chainage (:func:`downstream_of`)."""
+    return downstream_of(start_chainage_m, [o.chainage_m for o in study.offtakes])
 
 
 def carried_flow_m3_s(outlet_flow_m3_s: float | np.ndarray, offtake_factor: float,
@@ -92,9 +99,7 @@ def line_flows_m3_s(study: Study, scenario: Scenario, line: str | Line,
     start = np.asarray(start_chainage_m, dtype=float)
     delivery = line.delivery_flow_m3_s(scenario) if delivery_flow_m3_s is None \
         else delivery_flow_m3_s
-    flat = start.reshape(-1)
-    ends = np.array([o.chainage_m for o in line.offtakes], dtype=float)
-    carried = ends[None, :] > flat[:, None] + _OFFTAKE_TOLERANCE_M
+    carried = downstream_of(start, [o.chainage_m for o in line.offtakes])
     flows = carried_flow_m3_s(delivery, scenario.offtake_factor, carried,
                               np.array([o.flow_m3_s for o in line.offtakes], dtype=float))
     children = [child for child in study.branches if child.parent == line.name]
@@ -103,8 +108,7 @@ def line_flows_m3_s(study: Study, scenario: Scenario, line: str | Line,
         inflow = np.array([known[c.name] if c.name in known else
                            branch_inflow_m3_s(study, scenario, branch_line(c))
                            for c in children])
-        junction = np.array([c.at_chainage_m for c in children])
-        below = junction[None, :] > flat[:, None] + _OFFTAKE_TOLERANCE_M
+        below = downstream_of(start, [c.at_chainage_m for c in children])
         flows = flows + below.astype(float) @ inflow
     return flows.reshape(start.shape)
 
