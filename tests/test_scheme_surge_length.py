@@ -2,8 +2,8 @@
 same pipe length as the check, from the source through the junctions to the branch's end.
 
 Michaud's slow-closure rise 2 L V / (g T) takes L from the free surface upstream
-(Wylie, E.B. & Streeter, V.L. (1993), Fluid Transients in Systems, ch. 1, from memory); on an invented
-two-branch scheme the length is summed by hand from the route lengths.
+(Wylie, E.B. & Streeter, V.L. (1993), Fluid Transients in Systems, ch. 1, from memory);
+on an invented two-branch scheme the length is summed by hand from the route lengths.
 """
 
 from __future__ import annotations
