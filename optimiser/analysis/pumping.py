@@ -16,10 +16,12 @@ pressure class is not lowered: the class violation is reported (``max_pressure``
 
 Classes with a pump: every piece takes the larger of the static head of the static
 line held by the non-return valve when the pump stops (the higher of the top water
-level and the outlet's required head) and the largest pressure head in it while
-pumping in any scenario, plus its surge. A pump trip is the classic down-surge of a
-rising main: the line drops by the surge head below the pumping grade line, so the
-down-surge limit ``[surge] min_transient_pressure_m`` is checked against the pumping
+level and the level the main delivers to: the outlet's required head, or the first
+break-pressure tank's water level when the study goes on by gravity below a tank)
+and the largest pressure head in it while pumping in any scenario, plus its surge. A
+pump trip is the classic down-surge of a rising main: the line drops by the surge head
+below the pumping grade line, so the down-surge limit
+``[surge] min_transient_pressure_m`` is checked against the pumping
 pressures (and is one of the limits the least H must meet).
 """
 
@@ -85,16 +87,27 @@ def least_head_m(hydraulics: DesignHydraulics, arrays: ScenarioArrays,
                  surge_by_piece: np.ndarray) -> float:
     """Least head [m] the station must add to this gravity energy line so that every
     pressure minimum, the outlet head and the down-surge limit hold (0 if none is
-    short)."""
+    short).
+
+    With break-pressure tanks on the route the station lifts only to the first of them
+    (the rising main; the energy restarts at the tank, section 8): the limits that count
+    are those of the points above that tank and the tank's inflow, arriving energy less
+    the inlet loss at least its water level, in place of the outlet head.
+    """
     study = hydraulics.study
     points = hydraulics.point_arrays(arrays)
     pressure = hydraulics.pressure_m(points)
-    deficits = [0.0, study.outlet.required_head_m - arrays.outlet_energy_m,
-                float(np.max(hydraulics.node_min_pressure_m[points.node] - pressure))]
+    rising = np.ones(len(pressure), dtype=bool)
+    delivery = study.outlet.required_head_m - arrays.outlet_energy_m
+    if hydraulics.tanks.any and arrays.tank_inflow_energy_m is not None:
+        rising = points.segment < hydraulics.tanks.node[0]
+        delivery = float(hydraulics.tanks.level_m[0] - arrays.tank_inflow_energy_m[0])
+    short = hydraulics.node_min_pressure_m[points.node] - pressure
+    deficits = [0.0, delivery, float(np.max(short[rising]))]
     limit = study.surge.min_transient_pressure_m
-    if limit is not None:
+    if limit is not None:  # the pump trip's down-surge, on the rising main
         surge = surge_by_piece[hydraulics.grid.segment_piece[points.segment]]
-        deficits.append(float(np.max(limit - (pressure - surge))))
+        deficits.append(float(np.max((limit - (pressure - surge))[rising])))
     return max(deficits)
 
 

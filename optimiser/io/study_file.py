@@ -87,7 +87,7 @@ def load_study(path: str | Path) -> Study:
         Offtake(c, 0.0, label="a junction") for c in junctions], problems)
     rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
                                 problems)
-    _combination_problems(path, spec, bool(branches), bool(tanks) or
+    _combination_problems(path, spec, bool(branches), bool(tanks),
                           rules_of_tanks.cost is not None, problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
@@ -121,17 +121,23 @@ def load_study(path: str | Path) -> Study:
     )
 
 
-def _combination_problems(path: Path, spec: StudyFile, branched: bool, with_tanks: bool,
-                          problems: ProblemList) -> None:
-    """Additions not yet available together: tanks in a scheme, a pump with either."""
-    if branched and with_tanks:
+def _combination_problems(path: Path, spec: StudyFile, branched: bool, fixed_tanks: bool,
+                          new_tanks: bool, problems: ProblemList) -> None:
+    """Additions not yet available together: tanks in a scheme; a pump with branches or
+    with tanks chosen by ``design`` (a pump with the study's own tanks is a rising main
+    to the first tank and gravity below it, contract section 9)."""
+    if branched and (fixed_tanks or new_tanks):
         problems.add(f"{path}: break-pressure tanks in a branched scheme are not available "
                      "in this version: leave out [[break_pressure_tank]] and "
                      "[break_pressure_tanks] cost, or design the trunk as a route of its own")
-    if spec.pump is not None and (branched or with_tanks):
-        problems.add(f"{path}: [pump] with branches or break-pressure tanks is not available "
-                     "in this version: design the rising main as a study of its own (its "
-                     "outlet the tank) and the gravity part as another (docs/user-guide.md)")
+    if spec.pump is not None and branched:
+        problems.add(f"{path}: [pump] with branches is not available in this version: "
+                     "design the rising main as a study of its own (its outlet the tank) "
+                     "and the branched gravity part as another (docs/user-guide.md)")
+    if spec.pump is not None and new_tanks:
+        problems.add(f"{path}: [pump] with [break_pressure_tanks] cost (new tanks chosen by "
+                     "design) is not available in this version: give the tank the rising "
+                     "main fills as a [[break_pressure_tank]] of the study")
 
 
 def _trunk_file(spec: StudyFile) -> str:

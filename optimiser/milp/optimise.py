@@ -50,6 +50,7 @@ from optimiser.milp.outcome import (
     VerificationError,
 )
 from optimiser.milp.pump_search import optimise_pumped
+from optimiser.milp.pumped_to_tank import optimise_pumped_to_tank
 from optimiser.milp.search.any_order import run_any_order
 from optimiser.milp.search.dominance import run_dominance
 from optimiser.milp.search.finish import finish, no_design_error
@@ -86,6 +87,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
     if study.is_scheme:  # one model for the whole tree (contract section 7)
         return optimise_scheme(study, settings, started)
+    if study.pump is not None and study.tanks:  # a rising main to a tank, gravity below
+        return optimise_pumped_to_tank(study, settings, started, optimise_design)
     if has_tanks(study):  # break-pressure tanks: their own plan (milp/tank_search.py)
         return _with_tanks(study, settings, Clock(started, started + time_limit_s))
     if study.pump is not None:  # least life-cycle cost, pipes and station heads together
