@@ -94,7 +94,7 @@ def test_outlet_energy_restarts_at_the_tank(make_study):
 @pytest.mark.parametrize(("tank", "words"), [
     ({"chainage_m": 0.0}, "strictly inside the route"),
     ({"chainage_m": 2000.0}, "strictly inside the route"),
-    ({"chainage_m": 500.0, "branch": "east"}, "only stand on the trunk"),
+    ({"chainage_m": 500.0, "branch": "east"}, "no such line"),
     ({"chainage_m": 1000.0, "water_level_m": float("nan")}, "water_level_m"),
 ])
 def test_bad_tank_is_refused(make_study, tank, words):

@@ -107,14 +107,14 @@ def test_design_writes_tanks_and_check_reads_them(make_study, runner, tmp_path):
     assert bare.exit_code == 1 and "above the class" in bare.output
 
 
-def test_tank_on_a_branch_is_refused(make_study, runner):
+def test_tank_on_a_line_the_study_lacks_is_refused(make_study, runner):
     tank = [{"chainage_m": 1000.0, "branch": "east"}]
     profile = _profile(5, 6)
     files = make_study(study={"break_pressure_tank": tank, "offtake": DELETE,
                               "route": {"fitting": DELETE}}, profile=profile,
                        catalogue=CATALOGUE)
     result = runner.invoke(app, ["check", str(files.study), "--design", str(files.design)])
-    assert result.exit_code == 2 and "only stand on the trunk" in result.output
+    assert result.exit_code == 2 and "no such line" in result.output
 
 
 def test_bad_tank_file_is_refused(make_study, runner, tmp_path):

@@ -8,6 +8,7 @@ catalogue CSVs are read by :mod:`optimiser.io.profile_file`, designs by
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import tomllib
 from pathlib import Path
@@ -30,7 +31,7 @@ from optimiser.io.profile_file import load_catalogue, load_profile
 from optimiser.io.schema import StudyFile, describe_location
 from optimiser.io.surge_inputs import surge_problems, surge_settings
 from optimiser.io.tables import decode_text
-from optimiser.io.tank_inputs import study_tanks, tank_rules
+from optimiser.io.tank_inputs import study_tanks, tank_lines, tank_rules
 from optimiser.io.units import parse_flow_m3_s
 from optimiser.model import (
     Catalogue,
@@ -83,16 +84,17 @@ def load_study(path: str | Path) -> Study:
     if network is not None:
         scenarios = network.with_trunk_flow(scenarios)
     # A tank may stand neither at an offtake nor at a junction (contract section 8).
-    tanks = study_tanks(path, spec, route, offtakes + [
-        Offtake(c, 0.0, label="a junction") for c in junctions], problems)
+    tanks = study_tanks(path, spec, tank_lines(route, offtakes, branches), problems)
+    branches = tuple(dataclasses.replace(b, route=b.route.with_nodes(
+        [t.chainage_m for t in tanks if t.branch == b.name])) for b in branches)
     rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
                                 problems)
-    _combination_problems(path, spec, bool(branches), bool(tanks),
-                          rules_of_tanks.cost is not None, problems)
+    _combination_problems(path, spec, bool(branches), rules_of_tanks.cost is not None,
+                          problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
                              [f.chainage_m for f in fittings] + junctions +
-                             [t.chainage_m for t in tanks])
+                             [t.chainage_m for t in tanks if t.branch == TRUNK])
     outlet = network.outlet if network is not None else \
         Outlet(spec.outlet.required_head_m, spec.outlet.exit_k)
     viscosity, temperature = _water(spec)
@@ -121,15 +123,16 @@ def load_study(path: str | Path) -> Study:
     )
 
 
-def _combination_problems(path: Path, spec: StudyFile, branched: bool, fixed_tanks: bool,
-                          new_tanks: bool, problems: ProblemList) -> None:
-    """Additions not yet available together: tanks in a scheme; a pump with branches or
-    with tanks chosen by ``design`` (a pump with the study's own tanks is a rising main
-    to the first tank and gravity below it, contract section 9)."""
-    if branched and (fixed_tanks or new_tanks):
-        problems.add(f"{path}: break-pressure tanks in a branched scheme are not available "
-                     "in this version: leave out [[break_pressure_tank]] and "
-                     "[break_pressure_tanks] cost, or design the trunk as a route of its own")
+def _combination_problems(path: Path, spec: StudyFile, branched: bool, new_tanks: bool,
+                          problems: ProblemList) -> None:
+    """Additions not yet available together: tanks chosen by ``design`` in a scheme; a
+    pump with branches or with tanks chosen by ``design`` (with the study's own tanks a
+    pump is a rising main to the first tank and gravity below it, contract section 9)."""
+    if branched and new_tanks:
+        problems.add(f"{path}: new break-pressure tanks chosen by design in a branched "
+                     "scheme are not available in this version: leave out "
+                     "[break_pressure_tanks] cost and give the tanks as "
+                     "[[break_pressure_tank]] of the study")
     if spec.pump is not None and branched:
         problems.add(f"{path}: [pump] with branches is not available in this version: "
                      "design the rising main as a study of its own (its outlet the tank) "

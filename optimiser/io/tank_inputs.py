@@ -5,12 +5,13 @@ A tank stands strictly inside the route (not at the source or the outlet), never
 offtake or a junction; its water level defaults to the ground at its chainage plus
 ``[break_pressure_tanks] height_m``. With ``sites = "marked"`` the sites where ``design``
 may add tanks are the profile rows whose optional column ``tank_site`` is yes/true/1.
-A tank is identified by (branch, chainage); while the study has no branches only the
-trunk, ``"main"``, is accepted.
+A tank is identified by (branch, chainage): on the trunk, ``"main"``, or on any branch
+of a scheme (chainage along that branch).
 """
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from pathlib import Path
 
 from optimiser.io.errors import InputError, ProblemList
@@ -18,6 +19,7 @@ from optimiser.io.schema import StudyFile
 from optimiser.io.tables import number, read_rows
 from optimiser.model import (
     TRUNK,
+    Branch,
     BreakPressureTank,
     Offtake,
     Route,
@@ -77,20 +79,34 @@ def marked_sites(path: Path, profile_path: Path, problems: ProblemList) -> tuple
     return tuple(marked)
 
 
-def study_tanks(path: Path, spec: StudyFile, route: Route, offtakes: list[Offtake],
+def tank_lines(route: Route, offtakes: Sequence[Offtake], branches: Sequence[Branch]
+               ) -> dict[str, tuple[Route, list[Offtake]]]:
+    """Each line's route and the points a tank may not stand at: its offtakes and the
+    junctions of the branches leaving it (contract section 8)."""
+    lines = {TRUNK: (route, list(offtakes))} | {b.name: (b.route, list(b.offtakes))
+                                               for b in branches}
+    for branch in branches:
+        if branch.parent in lines:
+            lines[branch.parent][1].append(Offtake(branch.at_chainage_m, 0.0,
+                                                   label="a junction"))
+    return lines
+
+
+def study_tanks(path: Path, spec: StudyFile, lines: dict[str, tuple[Route, list[Offtake]]],
                 problems: ProblemList) -> tuple[BreakPressureTank, ...]:
-    """The study's own tanks (``[[break_pressure_tank]]``), validated against the route."""
+    """The study's own tanks (``[[break_pressure_tank]]``), validated against their
+    lines (:func:`tank_lines`)."""
     tanks: list[BreakPressureTank] = []
     height = spec.break_pressure_tanks.height_m
     for index, item in enumerate(spec.break_pressure_tank, start=1):
         where = f"{path}: [[break_pressure_tank]] #{index}"
-        found = placement_problems(where, item.branch, item.chainage_m, route, offtakes)
+        found = placement_problems(where, item.branch, item.chainage_m, lines)
         problems.items.extend(found)
         if found:
             continue
         level = item.water_level_m
         if level is None:
-            level = float(route.ground_at(item.chainage_m)) + height
+            level = float(lines[item.branch][0].ground_at(item.chainage_m)) + height
         tanks.append(BreakPressureTank(item.chainage_m, level, item.branch, item.label))
     seen: dict[tuple[str, float], int] = {}
     for index, tank in enumerate(tanks, start=1):
@@ -102,14 +118,15 @@ def study_tanks(path: Path, spec: StudyFile, route: Route, offtakes: list[Offtak
     return tuple(tanks)
 
 
-def placement_problems(where: str, branch: str, chainage_m: float, route: Route,
-                       offtakes: list[Offtake] | tuple[Offtake, ...]) -> list[str]:
+def placement_problems(where: str, branch: str, chainage_m: float,
+                       lines: dict[str, tuple[Route, list[Offtake]]]) -> list[str]:
     """Why a tank cannot stand at (branch, chainage): a branch the study does not have,
-    outside or at an end of the route, or at an offtake. Empty when it can."""
-    if branch != TRUNK:
-        return [f"{where}: branch {branch!r}: a break-pressure tank can only stand on the "
-                f"trunk, branch \"{TRUNK}\", in this version (tanks on branches are not "
-                "available yet)"]
+    outside or at an end of the line, or at an offtake or a junction. Empty when it can."""
+    if branch not in lines:
+        known = ", ".join(repr(name) for name in lines)
+        return [f"{where}: branch {branch!r}: the study has no such line (its lines: "
+                f"{known})"]
+    route, offtakes = lines[branch]
     end = route.total_chainage_m
     if not 0.0 < chainage_m < end:
         return [f"{where}: chainage_m {chainage_m:g} must lie strictly inside the route "
@@ -149,7 +166,8 @@ def load_tank_file(path: Path, study: Study) -> tuple[BreakPressureTank, ...]:
                          "no/false/0")
         if chainage is None or level is None:
             continue
-        found = placement_problems(where, branch, chainage, study.route, study.offtakes)
+        found = placement_problems(where, branch, chainage,
+                                   tank_lines(study.route, study.offtakes, study.branches))
         problems.items.extend(found)
         if found or (branch, round(chainage, 6)) in own:
             continue

@@ -39,6 +39,7 @@ import dataclasses
 import time
 
 from optimiser.milp.class_limits import split_at_class_limits
+from optimiser.milp.cut_at_tanks import optimise_scheme_with_tanks
 from optimiser.milp.data import prepare
 from optimiser.milp.diagnose import diagnose
 from optimiser.milp.formulation import rules_active
@@ -85,6 +86,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     time_limit_s = float(study.solver.time_limit_s if time_limit_s is None else time_limit_s)
     settings = Settings(solver_name, time_limit_s,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
+    if study.is_scheme and study.tanks:  # cut at a tank: the parts do not see each other
+        return optimise_scheme_with_tanks(study, settings, started, optimise_design)
     if study.is_scheme:  # one model for the whole tree (contract section 7)
         return optimise_scheme(study, settings, started)
     if study.pump is not None and study.tanks:  # a rising main to a tank, gravity below

@@ -32,11 +32,17 @@ from collections.abc import Callable
 
 import numpy as np
 
-from optimiser.analysis import check_design
 from optimiser.milp.extract import rule_problems
-from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError, binding_points
+from optimiser.milp.joined import (
+    bound_sum,
+    infeasible_outcome,
+    joined_outcome,
+    named_stages,
+    objective_of,
+    slow_closure_refusal,
+)
+from optimiser.milp.outcome import DesignOutcome, SolverError
 from optimiser.milp.search.state import Settings
-from optimiser.milp.solvers import relative_gap
 from optimiser.milp.tank_reaches import reach_study
 from optimiser.model import TRUNK, Design, Piece, Study
 from optimiser.model.status import Status
@@ -64,6 +70,9 @@ def optimise_pumped_to_tank(study: Study, settings: Settings, started: float,
                             plain: Plain) -> DesignOutcome:
     """The design of least life-cycle cost of a pumped study with break-pressure tanks
     of its own (``plain`` is :func:`optimiser.milp.optimise_design`)."""
+    refusal = slow_closure_refusal(study, "a pump with break-pressure tanks")
+    if refusal is not None:
+        raise refusal
     rising, onward, node = split_at_first_tank(study)
     offset = float(study.route.chainage_m[node])
     runs = _PartRuns(rising, onward, settings, started + settings.time_limit_s, plain)
@@ -71,8 +80,11 @@ def optimise_pumped_to_tank(study: Study, settings: Settings, started: float,
     first = (runs.get(0, whole), runs.get(1, whole))
     for index, outcome in enumerate(first):
         if outcome.status == Status.INFEASIBLE:
-            return _infeasible(settings, started, runs.stages(), index, outcome, offset)
-    bound = _bound_sum(first)
+            where = (f"the rising main to the tank at {offset:g} m" if index == 0 else
+                     f"the gravity main below the tank at {offset:g} m (chainages from the "
+                     "tank)")
+            return infeasible_outcome(settings, started, runs.stages(), where, outcome)
+    bound = bound_sum(first)
     best = _joined(study, first, offset)
     if best is None and whole is not None:
         best, bound = _shared_budget(study, runs, whole, offset, first)
@@ -80,8 +92,8 @@ def optimise_pumped_to_tank(study: Study, settings: Settings, started: float,
         raise SolverError("no design of the rising main and the gravity main below its tank "
                           f"together meets max_changes = {whole} within the time limit "
                           f"({settings.time_limit_s:g} s)")
-    return _outcome(study, settings, started, runs.stages(), best, bound,
-                    _bound_sum(first, lp=True), first[0].rules_on or first[1].rules_on)
+    return joined_outcome(study, settings, started, runs.stages(), best, bound,
+                          bound_sum(first, lp=True), first[0].rules_on or first[1].rules_on)
 
 
 class _PartRuns:
@@ -120,16 +132,8 @@ class _PartRuns:
             label = RISING if index == 0 else ONWARD
             if budget is not None and len([k for k in self.done if k[0] == index]) > 1:
                 label += f", at most {budget} changes"
-            found += [dataclasses.replace(s, name=f"{label}: {s.name}")
-                      for s in outcome.stages]
+            found += named_stages(label, outcome)
         return found
-
-
-def _bound_sum(outcomes: tuple[DesignOutcome, DesignOutcome], lp: bool = False) -> float:
-    """Sum of the parts' bounds on their objectives (life-cycle cost of the rising
-    main, capital below the tank); -inf when one is unknown."""
-    values = [o.lp_bound if lp else o.lower_bound for o in outcomes]
-    return -math.inf if any(v is None for v in values) else float(sum(values))
 
 
 def _joined(study: Study, outcomes: tuple[DesignOutcome, DesignOutcome], offset: float
@@ -160,45 +164,13 @@ def _shared_budget(study: Study, runs: _PartRuns, whole: int, offset: float,
         try:
             pair = (runs.get(0, budgets[0]), runs.get(1, budgets[1]))
         except SolverError:
-            return (None if best is None else best[1]), _bound_sum(first)
+            return (None if best is None else best[1]), bound_sum(first)
         if any(o.status == Status.INFEASIBLE for o in pair):
             continue
-        bound = min(bound, _bound_sum(pair))
+        bound = min(bound, bound_sum(pair))
         design = _joined(study, pair, offset)
         if design is not None:
-            cost = check_design(study, design, capacity=False).life_cycle_cost
+            cost = objective_of(study, design)
             if cost is not None and (best is None or cost < best[0]):
                 best = (cost, design)
-    return (None if best is None else best[1]), max(bound, _bound_sum(first))
-
-
-def _outcome(study: Study, settings: Settings, started: float, stages: list, design: Design,
-             bound: float, lp_bound: float, rules_on: bool) -> DesignOutcome:
-    """The joined design checked as a whole: its life-cycle cost, bound, gap, status."""
-    final = check_design(study, design)
-    if not final.ok or rule_problems(study, design):
-        raise VerificationError("the joined design of the rising main and the gravity main "
-                                "below its tank fails the check of the whole study (a bug)")
-    cost = final.life_cycle_cost
-    assert cost is not None
-    bound = min(bound, cost)
-    lp = min(lp_bound, cost) if math.isfinite(lp_bound) else None
-    gap = relative_gap(cost, bound)
-    status = Status.OPTIMAL if gap is not None and gap <= settings.gap_target \
-        else Status.FEASIBLE
-    return DesignOutcome(status, design, final, final.total_cost, bound, gap, lp,
-                         time.perf_counter() - started, settings.solver_name,
-                         settings.mip_gap, settings.time_limit_s, binding=binding_points(final),
-                         stages=stages, rules_on=rules_on)
-
-
-def _infeasible(settings: Settings, started: float, stages: list, index: int,
-                outcome: DesignOutcome, offset: float) -> DesignOutcome:
-    """No design: the part that has none, and why."""
-    where = (f"the rising main to the tank at {offset:g} m" if index == 0 else
-             f"the gravity main below the tank at {offset:g} m (chainages from the tank)")
-    return DesignOutcome(Status.INFEASIBLE, None, None, None, None, None, None,
-                         time.perf_counter() - started, settings.solver_name,
-                         settings.mip_gap, settings.time_limit_s,
-                         diagnosis=[f"{where}: {line}" for line in outcome.diagnosis],
-                         stages=stages, rules_on=outcome.rules_on)
+    return (None if best is None else best[1]), max(bound, bound_sum(first))
