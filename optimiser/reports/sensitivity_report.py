@@ -34,7 +34,7 @@ from optimiser.sweeps.sensitivity import ROUGHNESS_RULE, SensitivityResult
 SENSITIVITY_FILES = frozenset({
     "fixed_design_roughness.csv", "reoptimised_roughness.csv", "robust", "nominal",
     "robust_design_roughness.csv", "monte_carlo_samples.csv", "monte_carlo_summary.csv",
-    "sensitivity.json", "sensitivity.html"})
+    "monte_carlo_delivery_points.csv", "sensitivity.json", "sensitivity.html"})
 """The files and folders :func:`write_sensitivity_files` may write."""
 
 
@@ -97,6 +97,9 @@ def sensitivity_dict(result: SensitivityResult) -> dict[str, Any]:
                            "scenario; a scenario's roughness_factor multiplies eps(T)",
             "summary": records(result.monte_carlo.summary),
         }
+        if result.monte_carlo.delivery_points is not None:  # a scheme's delivery points
+            payload["monte_carlo"]["delivery_points"] = records(
+                result.monte_carlo.delivery_points)
     return payload
 
 
@@ -142,6 +145,9 @@ def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]
         years = result.monte_carlo.years
         figures.append((f"Monte Carlo: probability of meeting each scenario at year "
                         f"{years:g}", probability_figure(result.monte_carlo.summary)))
+        if result.monte_carlo.delivery_points is not None:
+            figures.append((f"Monte Carlo: each delivery point at year {years:g}",
+                            delivery_points_figure(result.monte_carlo.delivery_points)))
         figures.append((f"Monte Carlo: capacity at year {years:g}",
                         histogram_figure(result.monte_carlo.samples, result.design_flows_m3_s,
                                          years)))
@@ -153,9 +159,13 @@ def probability_notes(result: SensitivityResult) -> list[str]:
     if result.monte_carlo is None:
         return []
     mc = result.monte_carlo
+    scheme = "governing_branch" in mc.summary.columns
     return [f"Monte Carlo, year {mc.years:g}: the fixed design meets scenario "
             f"{row.scenario!r} in {100 * row.probability_meets:.1f} % of {row.samples:,} "
-            "samples." for row in mc.summary.itertuples()]
+            "samples" + (f"; its least delivery margin is at {row.governing_branch!r} in "
+                         f"{100 * row.governing_share:.1f} % of them (median "
+                         f"{row.outlet_margin_p50_m:+.2f} m)." if scheme else ".")
+            for row in mc.summary.itertuples()]
 
 
 def probability_figure(summary: pd.DataFrame) -> go.Figure:
@@ -171,10 +181,36 @@ def probability_figure(summary: pd.DataFrame) -> go.Figure:
              [f"{100 * float(p):.1f} %" for p in summary["probability_meets"]],
              [f"{int(n):,}" for n in summary["samples"]], litres("capacity_p05_m3_s"),
              litres("capacity_p50_m3_s"), litres("capacity_p95_m3_s")]
+    if "governing_branch" in summary.columns:  # a scheme: where the least margin is
+        header += ["least delivery margin p05 / p50 (m)", "governing delivery point"]
+        cells += [[f"{low:+.2f} / {mid:+.2f}" for low, mid in
+                   zip(summary["outlet_margin_p05_m"], summary["outlet_margin_p50_m"],
+                       strict=True)],
+                  [f"{name} ({100 * share:.0f} %)" for name, share in
+                   zip(summary["governing_branch"], summary["governing_share"],
+                       strict=True)]]
+    return _table_figure(header, cells)
+
+
+def _table_figure(header: list[str], cells: list[list[str]]) -> go.Figure:
     figure = go.Figure(go.Table(header={"values": header, "align": "left"},
                                 cells={"values": cells, "align": "left"}))
-    figure.update_layout(height=80 + 30 * len(summary), margin={"t": 10, "b": 10})
+    figure.update_layout(height=80 + 30 * len(cells[0]), margin={"t": 10, "b": 10})
     return figure
+
+
+def delivery_points_figure(table: pd.DataFrame) -> go.Figure:
+    """A scheme's Monte Carlo per delivery point: how often it is met, how often it has
+    the least margin, and its margin's percentiles."""
+    header = ["scenario", "delivery point", "flow (L/s)", "probability met",
+              "margin p05 (m)", "p50 (m)", "p95 (m)", "least margin in"]
+    cells = [table["scenario"].tolist(), table["branch"].tolist(),
+             [f"{1000 * float(q):.2f}" for q in table["delivery_flow_m3_s"]],
+             [f"{100 * float(p):.1f} %" for p in table["probability_met"]],
+             *[[f"{float(v):+.2f}" for v in table[c]]
+               for c in ("margin_p05_m", "margin_p50_m", "margin_p95_m")],
+             [f"{100 * float(p):.1f} %" for p in table["governs_share"]]]
+    return _table_figure(header, cells)
 
 
 def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Path]:
@@ -192,6 +228,9 @@ def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Pa
     if result.monte_carlo is not None:
         writes.append((out_dir / "monte_carlo_samples.csv", result.monte_carlo.samples))
         writes.append((out_dir / "monte_carlo_summary.csv", result.monte_carlo.summary))
+        if result.monte_carlo.delivery_points is not None:
+            writes.append((out_dir / "monte_carlo_delivery_points.csv",
+                           result.monte_carlo.delivery_points))
     writes.append((out_dir / "sensitivity.json", sensitivity_dict(result)))
     notes = [*result.notes, INFEASIBLE_NOTE]
     robust_note = _robust_figure_note(runs, result.study.currency)
@@ -271,18 +310,34 @@ def print_sensitivity(console: Console, result: SensitivityResult) -> None:
                          f"({100 * (runs.premium_fraction or 0):.1f} %) over nominal"
                          if runs.premium is not None else "")
                       + (f"; {row['pieces']}" if row["pieces"] else ""))
-    if result.monte_carlo is not None and result.monte_carlo_settings is not None:
-        settings = result.monte_carlo_settings
-        view = Table(title=f"Monte Carlo: {settings.samples} samples, seed {settings.seed}, "
-                           f"{settings.distribution.kind} {settings.distribution.low_mm:g}-"
-                           f"{settings.distribution.high_mm:g} mm, year {settings.years:g}",
-                     title_justify="left")
-        for column in ("scenario", "design flow", "P(meets)", "capacity p05", "p50", "p95"):
-            view.add_column(column, justify="left" if column == "scenario" else "right")
-        for row in result.monte_carlo.summary.itertuples():
-            view.add_row(row.scenario, flow(row.design_flow_m3_s),
-                         f"{row.probability_meets:.3f}", flow(row.capacity_p05_m3_s),
-                         flow(row.capacity_p50_m3_s), flow(row.capacity_p95_m3_s))
-        console.print(view)
+    _print_monte_carlo(console, result)
     for note in result.notes:
         console.print(f"note: {note}", markup=False, highlight=False)
+
+
+def _print_monte_carlo(console: Console, result: SensitivityResult) -> None:
+    """The Monte Carlo summary (on a scheme with its governing delivery point)."""
+    if result.monte_carlo is None or result.monte_carlo_settings is None:
+        return
+    settings = result.monte_carlo_settings
+    summary = result.monte_carlo.summary
+    scheme = "governing_branch" in summary.columns
+    view = Table(title=f"Monte Carlo: {settings.samples} samples, seed {settings.seed}, "
+                       f"{settings.distribution.kind} {settings.distribution.low_mm:g}-"
+                       f"{settings.distribution.high_mm:g} mm, year {settings.years:g}",
+                 title_justify="left")
+    columns = ["scenario", "design flow", "P(meets)", "capacity p05", "p50", "p95"]
+    if scheme:
+        columns += ["delivery margin p50 m", "least margin at"]
+    for column in columns:
+        view.add_column(column, justify="left" if column in ("scenario", "least margin at")
+                        else "right")
+    for row in summary.itertuples():
+        cells = [row.scenario, flow(row.design_flow_m3_s), f"{row.probability_meets:.3f}",
+                 flow(row.capacity_p05_m3_s), flow(row.capacity_p50_m3_s),
+                 flow(row.capacity_p95_m3_s)]
+        if scheme:
+            cells += [f"{row.outlet_margin_p50_m:+.2f}",
+                      f"{row.governing_branch} ({100 * row.governing_share:.0f} %)"]
+        view.add_row(*cells)
+    console.print(view)

@@ -22,6 +22,7 @@ from optimiser.analysis.sensitivity import (
 )
 from optimiser.model import Design, Study
 from optimiser.sweeps.robust import RoughnessRuns, roughness_runs
+from optimiser.sweeps.scheme_monte_carlo import scheme_monte_carlo
 from optimiser.sweeps.scheme_roughness import scheme_roughness_sweep
 
 if TYPE_CHECKING:
@@ -85,8 +86,10 @@ def _fixed_design(study: Study, given: Design | None, runs: RoughnessRuns,
 def _monte_carlo(study: Study, fixed: Design, settings: MonteCarloSettings,
                  notes: list[str]) -> MonteCarloResult:
     rates = settings.ageing_mm_per_year
-    result = monte_carlo(study, fixed, settings.distribution, samples=settings.samples,
-                         seed=settings.seed, years=settings.years, ageing_mm_per_year=rates)
+    # A scheme's tree is judged by the check's own hydraulics (no linear form of a tree).
+    run = scheme_monte_carlo if study.is_scheme else monte_carlo
+    result = run(study, fixed, settings.distribution, samples=settings.samples,
+                 seed=settings.seed, years=settings.years, ageing_mm_per_year=rates)
     if rates and settings.years == 0:
         notes.append("--ageing has no effect at year 0: give --years T.")
     unused = sorted(set(rates) - {p.option.material for p in fixed.pieces})
