@@ -17,6 +17,7 @@ from optimiser.io.writers import atomic_write_text, write_csv, write_json
 from optimiser.model import Status
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.files import write_design_files
+from optimiser.reports.pump_sensitivity import print_station_sweep, station_figure
 from optimiser.reports.results import PIECE_FIELDS, assumptions
 from optimiser.reports.sweep_charts import figures_page, histogram_figure, roughness_figure
 from optimiser.reports.sweep_tables import (
@@ -73,6 +74,10 @@ def sensitivity_dict(result: SensitivityResult) -> dict[str, Any]:
             "pieces": check.pieces[PIECE_FIELDS].to_dict(orient="records"),
             "sweep": records(result.fixed_sweep),
         }
+        if result.pumped:  # the station at the study's own roughness
+            payload["fixed_design"]["life_cycle_cost"] = check.life_cycle_cost
+            payload["fixed_design"]["pump"] = check.station.as_dict() if check.station \
+                else None
     if runs.robust is not None:
         payload["robust"] = {
             **(_solved_summary(runs.robust) or {}),
@@ -123,7 +128,14 @@ def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]
     if runs.reoptimised is not None:
         reoptimised = runs.reoptimised.copy()
         reoptimised["cost"] = reoptimised["cost"].astype(float)
-    if result.fixed_sweep is not None:
+    if result.fixed_sweep is not None and result.pumped:
+        label = "given" if result.design_source == "given" else "nominal least-cost"
+        figures.append((f"Fixed design ({label}) and its pump station across roughness",
+                        station_figure(result.fixed_sweep, currency)))
+        if reoptimised is not None:
+            figures.append(("Re-optimised least cost across roughness",
+                            _reoptimised_figure(reoptimised, currency)))
+    elif result.fixed_sweep is not None:
         figure = roughness_figure(result.fixed_sweep, result.design_flows_m3_s, reoptimised,
                                   currency)
         if reoptimised is not None and runs.robust is not None and runs.robust.cost:
@@ -133,11 +145,8 @@ def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]
         label = "given" if result.design_source == "given" else "nominal least-cost"
         figures.append((f"Fixed design ({label}) across roughness", figure))
     elif reoptimised is not None:
-        figure = go.Figure(go.Scatter(x=reoptimised["roughness_mm"], y=reoptimised["cost"],
-                                      mode="lines+markers", name="re-optimised cost"))
-        figure.update_layout(template="plotly_white", xaxis_title="absolute roughness (mm)",
-                             yaxis_title=f"least cost ({currency})")
-        figures.append(("Re-optimised least cost across roughness", figure))
+        figures.append(("Re-optimised least cost across roughness",
+                        _reoptimised_figure(reoptimised, currency)))
     if result.robust_sweep is not None:
         figures.append(("Robust design across roughness",
                         roughness_figure(result.robust_sweep, result.design_flows_m3_s)))
@@ -152,6 +161,19 @@ def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]
                         histogram_figure(result.monte_carlo.samples, result.design_flows_m3_s,
                                          years)))
     return figures
+
+
+def _reoptimised_figure(reoptimised: pd.DataFrame, currency: str) -> go.Figure:
+    """Least cost at each roughness (and the life-cycle cost with a pump)."""
+    figure = go.Figure(go.Scatter(x=reoptimised["roughness_mm"], y=reoptimised["cost"],
+                                  mode="lines+markers", name="re-optimised cost"))
+    if "life_cycle_cost" in reoptimised.columns:
+        figure.add_trace(go.Scatter(x=reoptimised["roughness_mm"],
+                                    y=reoptimised["life_cycle_cost"].astype(float),
+                                    mode="lines+markers", name="re-optimised life-cycle cost"))
+    figure.update_layout(template="plotly_white", xaxis_title="absolute roughness (mm)",
+                         yaxis_title=f"least cost ({currency})")
+    return figure
 
 
 def probability_notes(result: SensitivityResult) -> list[str]:
@@ -277,19 +299,12 @@ def print_sensitivity(console: Console, result: SensitivityResult) -> None:
     low, high = min(result.roughness_mm), max(result.roughness_mm)
     console.print(f"[bold]{console_title(study.title)}[/bold]  (roughness {low:g} to {high:g} mm, "
                   f"{len(result.roughness_mm)} steps)")
-    if result.fixed_sweep is not None:
-        view = Table(title=f"Fixed design ({result.design_source}) across roughness",
-                     title_justify="left")
-        for column in ("scenario", "roughness mm", "capacity (all limits)",
-                       "capacity (outlet only)", "outlet margin m", "least pressure margin m",
-                       "meets"):
-            view.add_column(column, justify="left" if column == "scenario" else "right")
-        for row in result.fixed_sweep.itertuples():
-            view.add_row(row.scenario, f"{row.roughness_mm:g}", flow(row.capacity_m3_s),
-                         flow(row.capacity_outlet_only_m3_s),
-                         f"{row.outlet_margin_m:+.2f}", f"{row.least_pressure_margin_m:+.2f}",
-                         "[green]yes[/green]" if row.meets else "[red]no[/red]")
-        console.print(view)
+    if result.fixed_sweep is not None and result.pumped:
+        print_station_sweep(console, result.fixed_sweep, f"Fixed design "
+                            f"({result.design_source}) and its pump station across "
+                            "roughness", currency)
+    elif result.fixed_sweep is not None:
+        _print_fixed_sweep(console, result)
     if runs.reoptimised is not None:
         print_sweep(console, *sweep_terminal_table(
             "Re-optimised least cost at each roughness", runs.reoptimised, "roughness",
@@ -340,4 +355,21 @@ def _print_monte_carlo(console: Console, result: SensitivityResult) -> None:
             cells += [f"{row.outlet_margin_p50_m:+.2f}",
                       f"{row.governing_branch} ({100 * row.governing_share:.0f} %)"]
         view.add_row(*cells)
+    console.print(view)
+
+
+def _print_fixed_sweep(console: Console, result: SensitivityResult) -> None:
+    """The gravity design's capacity and margins at each roughness."""
+    assert result.fixed_sweep is not None
+    view = Table(title=f"Fixed design ({result.design_source}) across roughness",
+                 title_justify="left")
+    for column in ("scenario", "roughness mm", "capacity (all limits)",
+                   "capacity (outlet only)", "outlet margin m", "least pressure margin m",
+                   "meets"):
+        view.add_column(column, justify="left" if column == "scenario" else "right")
+    for row in result.fixed_sweep.itertuples():
+        view.add_row(row.scenario, f"{row.roughness_mm:g}", flow(row.capacity_m3_s),
+                     flow(row.capacity_outlet_only_m3_s),
+                     f"{row.outlet_margin_m:+.2f}", f"{row.least_pressure_margin_m:+.2f}",
+                     "[green]yes[/green]" if row.meets else "[red]no[/red]")
     console.print(view)

@@ -21,6 +21,7 @@ from optimiser.analysis.sensitivity import (
     roughness_sweep,
 )
 from optimiser.model import Design, Study
+from optimiser.sweeps.pump_roughness import pump_roughness_sweep
 from optimiser.sweeps.robust import RoughnessRuns, roughness_runs
 from optimiser.sweeps.scheme_monte_carlo import scheme_monte_carlo
 from optimiser.sweeps.scheme_roughness import scheme_roughness_sweep
@@ -56,6 +57,11 @@ class SensitivityResult:
     monte_carlo: MonteCarloResult | None = None
     monte_carlo_settings: MonteCarloSettings | None = None
     notes: list[str] = field(default_factory=list)
+
+    @property
+    def pumped(self) -> bool:
+        """A pumped main: the fixed-design tables hold the station's columns."""
+        return self.study.pump is not None
 
     @property
     def design_flows_m3_s(self) -> dict[str, float]:
@@ -137,8 +143,10 @@ def sensitivity_study(study: Study, roughness_mm: Sequence[float], *,
     notes: list[str] = scenario_roughness_notes(study)
     fixed, fixed_check = _fixed_design(study, given, runs, notes)
     grid = np.asarray(values)
-    # A scheme's tree is swept by the check's own hydraulics (no linear form of a tree).
-    sweep = scheme_roughness_sweep if study.is_scheme else roughness_sweep
+    # A scheme's tree is swept by the check's own hydraulics (no linear form of a tree);
+    # a pumped main by the check with its station (the least head at each roughness).
+    sweep = pump_roughness_sweep if study.pump is not None else \
+        scheme_roughness_sweep if study.is_scheme else roughness_sweep
     fixed_sweep = sweep(study, fixed, grid) if fixed is not None else None
     robust_sweep = None
     robust_outcome = runs.robust.outcome if runs.robust is not None else None
