@@ -185,6 +185,10 @@ def pump_problems(study: Study, robust: bool, samples: int | None) -> list[str]:
                         "main (its life-cycle cost would count each scenario's energy once "
                         "per roughness); the fixed design's station across the range and "
                         "the re-optimised least life-cycle cost are: leave out --robust")
+    if samples is not None:
+        problems.append(f"{study.path}: [pump]: the Monte Carlo (--samples) is not "
+                        "available on a pumped main yet; the fixed design's station across "
+                        "the roughness range is: leave out --samples")
     return problems
 
 
