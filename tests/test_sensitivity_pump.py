@@ -15,14 +15,17 @@ import itertools
 import json
 import math
 
+import numpy as np
 import pandas as pd
 import pytest
 from builders import csv_text, toml_text
 from typer.testing import CliRunner
 
 from optimiser import load_design, load_study
+from optimiser.analysis.sensitivity import RoughnessDistribution
 from optimiser.cli import app
 from optimiser.hydraulics.water import density_kg_m3
+from optimiser.sweeps.pump_monte_carlo import pump_monte_carlo
 from optimiser.sweeps.pump_roughness import pump_roughness_sweep
 
 G = 9.80665  # contract section 5
@@ -110,6 +113,11 @@ def test_a_pump_short_of_head_and_a_class_overrun_at_high_roughness(tmp_path):
     study = load_study(study_path)
     table = pump_roughness_sweep(study, load_design(design_path, study), [0.05, 0.5])
     assert list(table["classes_hold"]) == [True, False]
+    design = load_design(design_path, study)
+    for roughness, holds in ((0.05, True), (0.5, False)):
+        fixed = RoughnessDistribution("fixed", roughness, roughness)
+        summary = pump_monte_carlo(study, design, fixed, samples=2, seed=0).summary
+        assert summary["probability_classes_hold"].iloc[0] == (1.0 if holds else 0.0)
 
 
 def test_the_command_on_a_pumped_main(tmp_path):
@@ -135,11 +143,55 @@ def test_the_command_on_a_pumped_main(tmp_path):
     assert all(b >= a * (1 - 1e-6) for a, b in itertools.pairwise(costs))
 
 
-def test_monte_carlo_on_a_pumped_main_is_refused_plainly(tmp_path):
+def test_monte_carlo_station_as_the_check_and_by_hand(tmp_path):
     study_path, design_path = _write(tmp_path)
+    study = load_study(study_path)
+    design = load_design(design_path, study)
+    for roughness in (0.05, 0.8):
+        fixed = RoughnessDistribution("fixed", roughness, roughness)
+        samples = pump_monte_carlo(study, design, fixed, samples=3, seed=0).samples
+        row = pump_roughness_sweep(study, design, [roughness]).iloc[0]
+        for column in ("station_head_m", "head_m", "power_kw", "energy_cost_per_year",
+                       "life_cycle_cost"):
+            assert np.allclose(samples[column], row[column], rtol=1e-12), column
+        assert samples["station_head_m"].iloc[0] == pytest.approx(
+            _hand_head_m(study, roughness), rel=1e-6)
+        assert bool(samples["classes_hold"].iloc[0]) == bool(row["classes_hold"])
+
+
+def test_monte_carlo_probability_bounds_at_the_pumps_maximum(tmp_path):
+    # A rougher pipe needs more head (Colebrook 1939): with the pump's maximum at the
+    # head needed at 0.3 mm (fluids), every draw below it is within, none above.
+    study_path, design_path = _write(tmp_path / "a", max_head_m=100.0)
+    study = load_study(study_path)
+    design = load_design(design_path, study)
+    assert _hand_head_m(study, 0.2) < 100.0 < _hand_head_m(study, 0.4)
+    low = pump_monte_carlo(study, design, RoughnessDistribution("uniform", 0.01, 0.2),
+                           samples=50, seed=1).summary.iloc[0]
+    high = pump_monte_carlo(study, design, RoughnessDistribution("uniform", 0.4, 2.0),
+                            samples=50, seed=1).summary.iloc[0]
+    assert low["probability_meets"] == 1.0 and high["probability_meets"] == 0.0
+    assert high["station_head_p05_m"] > 100.0 > low["station_head_p95_m"]
+    # Ageing: 0.05 mm + 0.01 mm/year x 30 years = 0.35 mm in every sample.
+    aged = pump_monte_carlo(study, design, RoughnessDistribution("fixed", 0.05, 0.05),
+                            samples=2, seed=0, years=30.0, ageing_mm_per_year={"PVC": 0.01})
+    assert aged.samples["station_head_m"].iloc[0] == pytest.approx(
+        _hand_head_m(study, 0.35), rel=1e-6)
+
+
+def test_monte_carlo_command_on_a_pumped_main(tmp_path):
+    study_path, design_path = _write(tmp_path)
+    out = tmp_path / "out"
     run = CliRunner().invoke(app, ["sensitivity", str(study_path), "--design",
                                    str(design_path), "--roughness-from", "0.01",
-                                   "--roughness-to", "1.0", "--samples", "20",
-                                   "--out", str(tmp_path / "out")])
-    assert run.exit_code == 2 and "[pump]" in run.output and "--samples" in run.output
-    assert "Traceback" not in run.output and not (tmp_path / "out").exists()
+                                   "--roughness-to", "1.0", "--steps", "2",
+                                   "--no-reoptimise", "--samples", "40", "--seed", "4",
+                                   "--out", str(out)])
+    assert run.exit_code == 0, run.output
+    summary = pd.read_csv(out / "monte_carlo_summary.csv")
+    assert {"probability_meets", "probability_classes_hold", "station_head_p50_m",
+            "life_cycle_cost_p50"} <= set(summary.columns)
+    payload = json.loads((out / "sensitivity.json").read_text())
+    assert payload["monte_carlo"]["samples"] == 40 and payload["cautions"]
+    page = (out / "sensitivity.html").read_text()
+    assert "can the station do it" in page and "licensed engineer" in page

@@ -173,7 +173,7 @@ def monte_carlo_problems(samples: int | None, seed: int | None, distribution: st
     return problems
 
 
-def pump_problems(study: Study, robust: bool, samples: int | None) -> list[str]:
+def pump_problems(study: Study, robust: bool) -> list[str]:
     """What ``sensitivity`` does not do on a pumped main (contract section 9)."""
     if study.pump is None:
         return []
@@ -185,10 +185,6 @@ def pump_problems(study: Study, robust: bool, samples: int | None) -> list[str]:
                         "main (its life-cycle cost would count each scenario's energy once "
                         "per roughness); the fixed design's station across the range and "
                         "the re-optimised least life-cycle cost are: leave out --robust")
-    if samples is not None:
-        problems.append(f"{study.path}: [pump]: the Monte Carlo (--samples) is not "
-                        "available on a pumped main yet; the fixed design's station across "
-                        "the roughness range is: leave out --samples")
     return problems
 
 

@@ -302,7 +302,7 @@ def sensitivity(
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
     if study is not None:
-        problems += pump_problems(study, robust, samples)
+        problems += pump_problems(study, robust)
     given = None if problems else _given_design(study, design_path, rates, problems)
     if problems:
         fail_input(InputError(problems))

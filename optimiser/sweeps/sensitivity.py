@@ -21,6 +21,7 @@ from optimiser.analysis.sensitivity import (
     roughness_sweep,
 )
 from optimiser.model import Design, Study
+from optimiser.sweeps.pump_monte_carlo import pump_monte_carlo
 from optimiser.sweeps.pump_roughness import pump_roughness_sweep
 from optimiser.sweeps.robust import RoughnessRuns, roughness_runs
 from optimiser.sweeps.scheme_monte_carlo import scheme_monte_carlo
@@ -92,8 +93,10 @@ def _fixed_design(study: Study, given: Design | None, runs: RoughnessRuns,
 def _monte_carlo(study: Study, fixed: Design, settings: MonteCarloSettings,
                  notes: list[str]) -> MonteCarloResult:
     rates = settings.ageing_mm_per_year
-    # A scheme's tree is judged by the check's own hydraulics (no linear form of a tree).
-    run = scheme_monte_carlo if study.is_scheme else monte_carlo
+    # A scheme's tree and a pumped main's station are judged by the check's own
+    # hydraulics (the linear form covers a gravity route only).
+    run = pump_monte_carlo if study.pump is not None else \
+        scheme_monte_carlo if study.is_scheme else monte_carlo
     result = run(study, fixed, settings.distribution, samples=settings.samples,
                  seed=settings.seed, years=settings.years, ageing_mm_per_year=rates)
     if rates and settings.years == 0:

@@ -51,6 +51,9 @@ class LineSamples:
     transient_margin_m: np.ndarray | None = None
     """Least pressure head less its pipe's surge head less the down-surge limit, when
     :func:`line_samples` is given the surge head of each segment."""
+    largest_pressure_m: np.ndarray | None = None
+    """(line's pieces, S): the largest pressure head in each piece of the line, when
+    :func:`line_samples` is asked for it."""
 
     def energy_arriving_m(self, part: DesignHydraulics, chainage_m: float) -> np.ndarray:
         """Energy (S,) arriving at the node at ``chainage_m``, before a fitting there
@@ -70,13 +73,15 @@ def segment_materials(part: DesignHydraulics) -> list[str]:
 
 def line_samples(part: DesignHydraulics, start_energy_m: np.ndarray, flow_m3_s: np.ndarray,
                  roughness_mm: np.ndarray, surge_head_m: np.ndarray | None = None,
-                 transient_limit_m: float | None = None) -> LineSamples:
+                 transient_limit_m: float | None = None, by_piece: bool = False
+                 ) -> LineSamples:
     """The line's energy line and margins for S samples.
 
     ``start_energy_m`` (S,) is the energy arriving at its start (source level, or the
     parent's energy at the junction) before its start loss; ``flow_m3_s`` (S, n) or
     (1, n) per segment; ``roughness_mm`` (S, n) as the scenario uses it. With
-    ``surge_head_m`` per segment and ``transient_limit_m``, the down-surge margin too.
+    ``surge_head_m`` per segment and ``transient_limit_m``, the down-surge margin too;
+    with ``by_piece``, the largest pressure head in each of the line's pieces.
     """
     if part.tanks.any:  # a scheme has none (refused by the loader); a route uses the
         raise ValueError("break-pressure tanks are not covered by the tree samples")
@@ -101,8 +106,18 @@ def line_samples(part: DesignHydraulics, start_energy_m: np.ndarray, flow_m3_s: 
     if surge_head_m is not None and transient_limit_m is not None:
         surge = np.concatenate([surge_head_m, surge_head_m, surge_head_m[-1:]])[:, None]
         transient = (pressure - surge).min(axis=0) - transient_limit_m
+    largest = _largest_by_piece(part, pressure) if by_piece else None
     return LineSamples(end, np.broadcast_to(outlet - line.required_head_m, end.shape[1:]),
-                       (pressure - required).min(axis=0), transient)
+                       (pressure - required).min(axis=0), transient, largest)
+
+
+def _largest_by_piece(part: DesignHydraulics, pressure: np.ndarray) -> np.ndarray:
+    """(line's pieces, S) largest of the pressure rows of :func:`line_samples` (each row
+    on the segment it belongs to) within each piece."""
+    piece = part.grid.segment_piece
+    row_piece = np.concatenate([piece, piece, piece[-1:]])
+    return np.array([pressure[row_piece == p].max(axis=0)
+                     for p in range(len(part.piece_index))])
 
 
 @dataclass(frozen=True)
@@ -174,13 +189,14 @@ class TreeSamples:
 
 
 def tree_samples(hydraulics: SchemeHydraulics, scenario: Scenario, materials: list[str],
-                 aged_mm: np.ndarray, surge_by_piece: np.ndarray | None = None
-                 ) -> TreeSamples:
+                 aged_mm: np.ndarray, surge_by_piece: np.ndarray | None = None,
+                 by_piece: bool = False) -> TreeSamples:
     """Every line of ``hydraulics``' study in ``scenario`` for the samples of
     ``aged_mm`` (S, materials): the roughness of each material, which the scenario's
     own rule turns into the value it uses (:meth:`Scenario.effective_roughness_mm`).
     With ``surge_by_piece`` (by index in the design) and a down-surge limit in the
-    study, each line's transient margin too."""
+    study, each line's transient margin too; with ``by_piece`` the largest pressure head
+    in each piece (:attr:`LineSamples.largest_pressure_m`)."""
     study = hydraulics.study
     column = {material: i for i, material in enumerate(materials)}
     count = aged_mm.shape[0]
@@ -200,7 +216,7 @@ def tree_samples(hydraulics: SchemeHydraulics, scenario: Scenario, materials: li
         if surge_by_piece is not None:
             surge = surge_by_piece[part.piece_index[part.grid.segment_piece]]
         states[line.name] = line_samples(part, start, flow[None, :], roughness[line.name],
-                                         surge, limit)
+                                         surge, limit, by_piece)
     return TreeSamples(hydraulics, scenario, source, roughness, states)
 
 
