@@ -72,23 +72,33 @@ def segment_materials(part: DesignHydraulics) -> list[str]:
 
 
 def line_samples(part: DesignHydraulics, start_energy_m: np.ndarray, flow_m3_s: np.ndarray,
-                 roughness_mm: np.ndarray, surge_head_m: np.ndarray | None = None,
+                 roughness_mm: np.ndarray, extra_flow_m3_s: np.ndarray | None = None,
+                 surge_head_m: np.ndarray | None = None,
                  transient_limit_m: float | None = None, by_piece: bool = False
                  ) -> LineSamples:
     """The line's energy line and margins for S samples.
 
     ``start_energy_m`` (S,) is the energy arriving at its start (source level, or the
-    parent's energy at the junction) before its start loss; ``flow_m3_s`` (S, n) or
-    (1, n) per segment; ``roughness_mm`` (S, n) as the scenario uses it. With
+    parent's energy at the junction) before its start loss; ``flow_m3_s`` (n,) per
+    segment, plus ``extra_flow_m3_s`` (S,) in every segment of a sample when given;
+    ``roughness_mm`` (S, n) as the scenario uses it (the same in segments of one
+    piece). With
     ``surge_head_m`` per segment and ``transient_limit_m``, the down-surge margin too;
     with ``by_piece``, the largest pressure head in each of the line's pieces.
     """
     if part.tanks.any:  # a scheme has none (refused by the loader); a route uses the
         raise ValueError("break-pressure tanks are not covered by the tree samples")
     line = part.line
-    flow = np.asarray(flow_m3_s, dtype=float)
-    gradient = gradient_with_roughness(part.study, flow, part.diameter_m, roughness_mm,
-                                       part.hazen_williams_c)
+    base = np.asarray(flow_m3_s, dtype=float)
+    flow = base[None, :] if extra_flow_m3_s is None else base[None, :] + \
+        np.asarray(extra_flow_m3_s, dtype=float)[:, None]
+    # Segments of one piece carrying one flow have one gradient: solve Colebrook-White
+    # once per such group (the same inputs, so the same numbers).
+    _, first, group = np.unique(np.column_stack([base, part.grid.segment_piece]), axis=0,
+                                return_index=True, return_inverse=True)
+    gradient = gradient_with_roughness(part.study, flow[:, first], part.diameter_m[first],
+                                       roughness_mm[:, first],
+                                       part.hazen_williams_c[first])[:, group.reshape(-1)]
     velocity = velocity_m_s(flow, part.diameter_m).T  # (n, S) or (n, 1)
     start, end = energy_along_chain(np.asarray(start_energy_m, dtype=float), line.start_k,
                                     part.grid.segment_length_m[:, None], gradient.T,
@@ -153,8 +163,8 @@ class TreeSamples:
         count = self.source_level_m.shape[0]
 
         def margin(q: np.ndarray, rows: np.ndarray) -> np.ndarray:
-            state = line_samples(trunk, self.source_level_m[rows], others[None, :] +
-                                 q[:, None], self.roughness_mm[trunk.line.name][rows])
+            state = line_samples(trunk, self.source_level_m[rows], others,
+                                 self.roughness_mm[trunk.line.name][rows], q)
             least = np.minimum(state.outlet_margin_m, state.least_pressure_margin_m)
             for chainage, offset in offsets:
                 least = np.minimum(least, state.energy_arriving_m(trunk, chainage)
@@ -215,7 +225,7 @@ def tree_samples(hydraulics: SchemeHydraulics, scenario: Scenario, materials: li
         surge = None
         if surge_by_piece is not None:
             surge = surge_by_piece[part.piece_index[part.grid.segment_piece]]
-        states[line.name] = line_samples(part, start, flow[None, :], roughness[line.name],
+        states[line.name] = line_samples(part, start, flow, roughness[line.name], None,
                                          surge, limit, by_piece)
     return TreeSamples(hydraulics, scenario, source, roughness, states)
 
