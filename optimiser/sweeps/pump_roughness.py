@@ -80,13 +80,10 @@ def pump_roughness_sweep(study: Study, design: Design,
         raise ValueError(f"'{study.title}' has no [pump]")
     own = check_design(study, design, capacity=False).station
     assert own is not None
-    rows = []
-    for value in [float(v) for v in roughness_mm]:
-        varied = with_roughness(study, value)
-        rows += _rows(study, check_design(varied, design, capacity=False), value,
-                      own.needed_head_m)
-    order = {s.name: i for i, s in enumerate(study.scenarios)}
-    table = pd.DataFrame(rows)
-    return table.sort_values(["scenario", "roughness_mm"], key=lambda c: c.map(order)
-                             if c.name == "scenario" else c, kind="stable",
-                             ignore_index=True)
+    values = [float(v) for v in roughness_mm]
+    by_value = [_rows(study, check_design(with_roughness(study, value), design,
+                                          capacity=False), value, own.needed_head_m)
+                for value in values]
+    # Scenario after scenario, each over the range in the order given.
+    return pd.DataFrame([rows[index] for index in range(len(study.scenarios))
+                         for rows in by_value])
