@@ -76,9 +76,12 @@ def test_terminal_lists_every_delivery_point_and_names_the_branch(tmp_path):
     assert "NOT OK" in text
 
 
-def test_sensitivity_refuses_a_scheme_with_a_clear_message(tmp_path, monkeypatch, runner):
-    """The Monte Carlo's fast linear check covers one route: on a scheme it says so (exit
-    2, usage) rather than give figures for the trunk alone."""
+def test_sensitivity_monte_carlo_judges_every_delivery_point_of_a_scheme(tmp_path,
+                                                                        monkeypatch, runner):
+    """The Monte Carlo on a scheme gives figures for the whole tree, not the trunk alone:
+    every delivery point has its row (tests/test_sensitivity_scheme_monte_carlo.py checks
+    the figures)."""
+    import pandas as pd
     import typer
 
     import optimiser.io
@@ -89,13 +92,13 @@ def test_sensitivity_refuses_a_scheme_with_a_clear_message(tmp_path, monkeypatch
     app.command()(sensitivity)
     app.command()(lambda: None)  # two commands, so the name is given as with the tool
     folder = tmp_path / "study"
+    out = tmp_path / "out"
     result = runner.invoke(app, ["sensitivity", str(folder / "study.toml"),
                                  "--roughness-from", "0.01", "--roughness-to", "0.1",
-                                 "--samples", "20", "--out", str(tmp_path / "out")])
-    assert result.exit_code == 2, result.output
-    assert "Traceback" not in result.output
-    assert "does not handle branched schemes" in " ".join(result.output.split())
-    assert not (tmp_path / "out").exists()
+                                 "--no-reoptimise", "--samples", "20", "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    points = pd.read_csv(out / "monte_carlo_delivery_points.csv")
+    assert set(points["branch"]) == {"main", *(b.name for b in study.branches)}
 
 
 def test_limiting_point_of_a_design_names_its_branch(tmp_path):

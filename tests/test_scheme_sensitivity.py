@@ -74,14 +74,3 @@ def test_sensitivity_command_on_a_scheme(tmp_path):
     assert len(table) == 3
     assert table["outlet_margin_m"].is_monotonic_decreasing
     assert "Fixed design (given) across roughness" in result.output
-
-
-def test_monte_carlo_on_a_scheme_is_refused_with_a_reason(tmp_path):
-    files = write_branch_scheme(tmp_path)
-    result = CliRunner().invoke(app, [
-        "sensitivity", str(files.study), "--roughness-from", "0.01", "--roughness-to", "0.5",
-        "--design", str(_design_file(files.folder)), "--samples", "10",
-        "--out", str(tmp_path / "out")])
-    assert result.exit_code == 2
-    assert "Monte Carlo" in result.output and "--samples" in result.output
-    assert not (tmp_path / "out").exists()

@@ -91,6 +91,23 @@ class MonteCarloResult:
     seed: int
     years: float
     notes: list[str] = field(default_factory=list)
+    delivery_points: pd.DataFrame | None = None  # a scheme's: per scenario and branch
+
+
+def drawn_roughness_mm(design: Design, distribution: RoughnessDistribution, *,
+                       samples: int, seed: int, years: float = 0.0,
+                       ageing_mm_per_year: Mapping[str, float] | None = None
+                       ) -> tuple[list[str], np.ndarray]:
+    """The design's materials (sorted) and the aged roughness [mm] of each, (samples,
+    materials): one initial value per material and sample from ``distribution`` with
+    ``numpy.random.default_rng(seed)``, plus ``rate x years`` (module docstring). Every
+    Monte Carlo draws here, so one seed gives the same draws for a route and a scheme
+    of the same materials."""
+    rates = dict(ageing_mm_per_year or {})
+    materials = sorted({piece.option.material for piece in design.pieces})
+    rng = np.random.default_rng(seed)
+    initial = distribution.draw(rng, (samples, len(materials)))
+    return materials, initial + np.array([rates.get(m, 0.0) for m in materials]) * years
 
 
 def monte_carlo(study: Study, design: Design, distribution: RoughnessDistribution, *,
@@ -107,11 +124,8 @@ def monte_carlo(study: Study, design: Design, distribution: RoughnessDistributio
     numbers.
     """
     linear = linear or linear_check(study, design)
-    rates = dict(ageing_mm_per_year or {})
-    materials = sorted({o.material for o in linear.group_option})
-    rng = np.random.default_rng(seed)
-    initial = distribution.draw(rng, (samples, len(materials)))
-    aged = initial + np.array([rates.get(m, 0.0) for m in materials]) * years
+    materials, aged = drawn_roughness_mm(design, distribution, samples=samples, seed=seed,
+                                         years=years, ageing_mm_per_year=ageing_mm_per_year)
     column = {m: i for i, m in enumerate(materials)}
     base = aged[:, [column[m] for m in linear.group_materials]]
     frames = []

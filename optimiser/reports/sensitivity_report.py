@@ -17,6 +17,18 @@ from optimiser.io.writers import atomic_write_text, write_csv, write_json
 from optimiser.model import Status
 from optimiser.reports.cautions import CAUTIONS
 from optimiser.reports.files import write_design_files
+from optimiser.reports.monte_carlo_report import (
+    delivery_points_figure,
+    print_monte_carlo,
+    probability_figure,
+    probability_notes,
+)
+from optimiser.reports.pump_sensitivity import (
+    print_station_sweep,
+    station_figure,
+    station_head_histogram,
+    station_probability_figure,
+)
 from optimiser.reports.results import PIECE_FIELDS, assumptions
 from optimiser.reports.sweep_charts import figures_page, histogram_figure, roughness_figure
 from optimiser.reports.sweep_tables import (
@@ -34,7 +46,7 @@ from optimiser.sweeps.sensitivity import ROUGHNESS_RULE, SensitivityResult
 SENSITIVITY_FILES = frozenset({
     "fixed_design_roughness.csv", "reoptimised_roughness.csv", "robust", "nominal",
     "robust_design_roughness.csv", "monte_carlo_samples.csv", "monte_carlo_summary.csv",
-    "sensitivity.json", "sensitivity.html"})
+    "monte_carlo_delivery_points.csv", "sensitivity.json", "sensitivity.html"})
 """The files and folders :func:`write_sensitivity_files` may write."""
 
 
@@ -73,6 +85,10 @@ def sensitivity_dict(result: SensitivityResult) -> dict[str, Any]:
             "pieces": check.pieces[PIECE_FIELDS].to_dict(orient="records"),
             "sweep": records(result.fixed_sweep),
         }
+        if result.pumped:  # the station at the study's own roughness
+            payload["fixed_design"]["life_cycle_cost"] = check.life_cycle_cost
+            payload["fixed_design"]["pump"] = check.station.as_dict() if check.station \
+                else None
     if runs.robust is not None:
         payload["robust"] = {
             **(_solved_summary(runs.robust) or {}),
@@ -97,6 +113,9 @@ def sensitivity_dict(result: SensitivityResult) -> dict[str, Any]:
                            "scenario; a scenario's roughness_factor multiplies eps(T)",
             "summary": records(result.monte_carlo.summary),
         }
+        if result.monte_carlo.delivery_points is not None:  # a scheme's delivery points
+            payload["monte_carlo"]["delivery_points"] = records(
+                result.monte_carlo.delivery_points)
     return payload
 
 
@@ -120,7 +139,14 @@ def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]
     if runs.reoptimised is not None:
         reoptimised = runs.reoptimised.copy()
         reoptimised["cost"] = reoptimised["cost"].astype(float)
-    if result.fixed_sweep is not None:
+    if result.fixed_sweep is not None and result.pumped:
+        label = "given" if result.design_source == "given" else "nominal least-cost"
+        figures.append((f"Fixed design ({label}) and its pump station across roughness",
+                        station_figure(result.fixed_sweep, currency)))
+        if reoptimised is not None:
+            figures.append(("Re-optimised least cost across roughness",
+                            _reoptimised_figure(reoptimised, currency)))
+    elif result.fixed_sweep is not None:
         figure = roughness_figure(result.fixed_sweep, result.design_flows_m3_s, reoptimised,
                                   currency)
         if reoptimised is not None and runs.robust is not None and runs.robust.cost:
@@ -130,51 +156,48 @@ def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]
         label = "given" if result.design_source == "given" else "nominal least-cost"
         figures.append((f"Fixed design ({label}) across roughness", figure))
     elif reoptimised is not None:
-        figure = go.Figure(go.Scatter(x=reoptimised["roughness_mm"], y=reoptimised["cost"],
-                                      mode="lines+markers", name="re-optimised cost"))
-        figure.update_layout(template="plotly_white", xaxis_title="absolute roughness (mm)",
-                             yaxis_title=f"least cost ({currency})")
-        figures.append(("Re-optimised least cost across roughness", figure))
+        figures.append(("Re-optimised least cost across roughness",
+                        _reoptimised_figure(reoptimised, currency)))
     if result.robust_sweep is not None:
         figures.append(("Robust design across roughness",
                         roughness_figure(result.robust_sweep, result.design_flows_m3_s)))
-    if result.monte_carlo is not None:
+    if result.monte_carlo is not None and result.pumped:
+        figures += _station_monte_carlo_figures(result)
+    elif result.monte_carlo is not None:
         years = result.monte_carlo.years
         figures.append((f"Monte Carlo: probability of meeting each scenario at year "
                         f"{years:g}", probability_figure(result.monte_carlo.summary)))
+        if result.monte_carlo.delivery_points is not None:
+            figures.append((f"Monte Carlo: each delivery point at year {years:g}",
+                            delivery_points_figure(result.monte_carlo.delivery_points)))
         figures.append((f"Monte Carlo: capacity at year {years:g}",
                         histogram_figure(result.monte_carlo.samples, result.design_flows_m3_s,
                                          years)))
     return figures
 
 
-def probability_notes(result: SensitivityResult) -> list[str]:
-    """The Monte Carlo's probability of meeting each scenario, one sentence each."""
-    if result.monte_carlo is None:
-        return []
+def _station_monte_carlo_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]]:
+    """The pumped main's Monte Carlo: the summary table and the heads drawn."""
     mc = result.monte_carlo
-    return [f"Monte Carlo, year {mc.years:g}: the fixed design meets scenario "
-            f"{row.scenario!r} in {100 * row.probability_meets:.1f} % of {row.samples:,} "
-            "samples." for row in mc.summary.itertuples()]
+    assert mc is not None and result.study.pump is not None
+    return [(f"Monte Carlo: can the station do it at year {mc.years:g}?",
+             station_probability_figure(mc.summary, result.study.currency)),
+            (f"Monte Carlo: least station head at year {mc.years:g}",
+             station_head_histogram(mc.samples, result.study.pump.max_head_m))]
 
 
-def probability_figure(summary: pd.DataFrame) -> go.Figure:
-    """The Monte Carlo summary as a table: per scenario, the probability that the fixed
-    design meets it (outlet head and every minimum pressure) and its capacity."""
-    header = ["scenario", "design flow (L/s)", "probability of meeting", "samples",
-              "capacity p05 (L/s)", "p50 (L/s)", "p95 (L/s)"]
-
-    def litres(column: str) -> list[str]:
-        return ["none" if pd.isna(v) else f"{1000 * float(v):.2f}" for v in summary[column]]
-
-    cells = [summary["scenario"].tolist(), litres("design_flow_m3_s"),
-             [f"{100 * float(p):.1f} %" for p in summary["probability_meets"]],
-             [f"{int(n):,}" for n in summary["samples"]], litres("capacity_p05_m3_s"),
-             litres("capacity_p50_m3_s"), litres("capacity_p95_m3_s")]
-    figure = go.Figure(go.Table(header={"values": header, "align": "left"},
-                                cells={"values": cells, "align": "left"}))
-    figure.update_layout(height=80 + 30 * len(summary), margin={"t": 10, "b": 10})
+def _reoptimised_figure(reoptimised: pd.DataFrame, currency: str) -> go.Figure:
+    """Least cost at each roughness (and the life-cycle cost with a pump)."""
+    figure = go.Figure(go.Scatter(x=reoptimised["roughness_mm"], y=reoptimised["cost"],
+                                  mode="lines+markers", name="re-optimised cost"))
+    if "life_cycle_cost" in reoptimised.columns:
+        figure.add_trace(go.Scatter(x=reoptimised["roughness_mm"],
+                                    y=reoptimised["life_cycle_cost"].astype(float),
+                                    mode="lines+markers", name="re-optimised life-cycle cost"))
+    figure.update_layout(template="plotly_white", xaxis_title="absolute roughness (mm)",
+                         yaxis_title=f"least cost ({currency})")
     return figure
+
 
 
 def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Path]:
@@ -192,6 +215,9 @@ def write_sensitivity_files(out_dir: Path, result: SensitivityResult) -> list[Pa
     if result.monte_carlo is not None:
         writes.append((out_dir / "monte_carlo_samples.csv", result.monte_carlo.samples))
         writes.append((out_dir / "monte_carlo_summary.csv", result.monte_carlo.summary))
+        if result.monte_carlo.delivery_points is not None:
+            writes.append((out_dir / "monte_carlo_delivery_points.csv",
+                           result.monte_carlo.delivery_points))
     writes.append((out_dir / "sensitivity.json", sensitivity_dict(result)))
     notes = [*result.notes, INFEASIBLE_NOTE]
     robust_note = _robust_figure_note(runs, result.study.currency)
@@ -238,19 +264,12 @@ def print_sensitivity(console: Console, result: SensitivityResult) -> None:
     low, high = min(result.roughness_mm), max(result.roughness_mm)
     console.print(f"[bold]{console_title(study.title)}[/bold]  (roughness {low:g} to {high:g} mm, "
                   f"{len(result.roughness_mm)} steps)")
-    if result.fixed_sweep is not None:
-        view = Table(title=f"Fixed design ({result.design_source}) across roughness",
-                     title_justify="left")
-        for column in ("scenario", "roughness mm", "capacity (all limits)",
-                       "capacity (outlet only)", "outlet margin m", "least pressure margin m",
-                       "meets"):
-            view.add_column(column, justify="left" if column == "scenario" else "right")
-        for row in result.fixed_sweep.itertuples():
-            view.add_row(row.scenario, f"{row.roughness_mm:g}", flow(row.capacity_m3_s),
-                         flow(row.capacity_outlet_only_m3_s),
-                         f"{row.outlet_margin_m:+.2f}", f"{row.least_pressure_margin_m:+.2f}",
-                         "[green]yes[/green]" if row.meets else "[red]no[/red]")
-        console.print(view)
+    if result.fixed_sweep is not None and result.pumped:
+        print_station_sweep(console, result.fixed_sweep, f"Fixed design "
+                            f"({result.design_source}) and its pump station across "
+                            "roughness", currency)
+    elif result.fixed_sweep is not None:
+        _print_fixed_sweep(console, result)
     if runs.reoptimised is not None:
         print_sweep(console, *sweep_terminal_table(
             "Re-optimised least cost at each roughness", runs.reoptimised, "roughness",
@@ -271,18 +290,23 @@ def print_sensitivity(console: Console, result: SensitivityResult) -> None:
                          f"({100 * (runs.premium_fraction or 0):.1f} %) over nominal"
                          if runs.premium is not None else "")
                       + (f"; {row['pieces']}" if row["pieces"] else ""))
-    if result.monte_carlo is not None and result.monte_carlo_settings is not None:
-        settings = result.monte_carlo_settings
-        view = Table(title=f"Monte Carlo: {settings.samples} samples, seed {settings.seed}, "
-                           f"{settings.distribution.kind} {settings.distribution.low_mm:g}-"
-                           f"{settings.distribution.high_mm:g} mm, year {settings.years:g}",
-                     title_justify="left")
-        for column in ("scenario", "design flow", "P(meets)", "capacity p05", "p50", "p95"):
-            view.add_column(column, justify="left" if column == "scenario" else "right")
-        for row in result.monte_carlo.summary.itertuples():
-            view.add_row(row.scenario, flow(row.design_flow_m3_s),
-                         f"{row.probability_meets:.3f}", flow(row.capacity_p05_m3_s),
-                         flow(row.capacity_p50_m3_s), flow(row.capacity_p95_m3_s))
-        console.print(view)
+    print_monte_carlo(console, result)
     for note in result.notes:
         console.print(f"note: {note}", markup=False, highlight=False)
+
+
+def _print_fixed_sweep(console: Console, result: SensitivityResult) -> None:
+    """The gravity design's capacity and margins at each roughness."""
+    assert result.fixed_sweep is not None
+    view = Table(title=f"Fixed design ({result.design_source}) across roughness",
+                 title_justify="left")
+    for column in ("scenario", "roughness mm", "capacity (all limits)",
+                   "capacity (outlet only)", "outlet margin m", "least pressure margin m",
+                   "meets"):
+        view.add_column(column, justify="left" if column == "scenario" else "right")
+    for row in result.fixed_sweep.itertuples():
+        view.add_row(row.scenario, f"{row.roughness_mm:g}", flow(row.capacity_m3_s),
+                     flow(row.capacity_outlet_only_m3_s),
+                     f"{row.outlet_margin_m:+.2f}", f"{row.least_pressure_margin_m:+.2f}",
+                     "[green]yes[/green]" if row.meets else "[red]no[/red]")
+    console.print(view)

@@ -29,11 +29,11 @@ from rich.console import Console
 from optimiser.model import Status, Study
 from optimiser.sweeps.runner import run_all
 from optimiser.sweeps.tradeoff import (
-    COLUMNS,
     ROUGHNESS,
     SolveTask,
     solve_task,
     step_tasks,
+    table_columns,
 )
 from optimiser.sweeps.variants import with_roughness_range
 
@@ -137,7 +137,7 @@ def roughness_runs(study: Study, roughness_mm: Sequence[float], *, nominal: bool
         position += 1
     table = None
     if reoptimise:
-        table = pd.DataFrame(rows[position:], columns=COLUMNS).rename(
+        table = pd.DataFrame(rows[position:], columns=table_columns(study)).rename(
             columns={"value": "roughness_mm"})
     return RoughnessRuns(values, nominal_run, robust_run, table)
 

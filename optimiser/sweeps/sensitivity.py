@@ -21,7 +21,10 @@ from optimiser.analysis.sensitivity import (
     roughness_sweep,
 )
 from optimiser.model import Design, Study
+from optimiser.sweeps.pump_monte_carlo import pump_monte_carlo
+from optimiser.sweeps.pump_roughness import pump_roughness_sweep
 from optimiser.sweeps.robust import RoughnessRuns, roughness_runs
+from optimiser.sweeps.scheme_monte_carlo import scheme_monte_carlo
 from optimiser.sweeps.scheme_roughness import scheme_roughness_sweep
 
 if TYPE_CHECKING:
@@ -57,6 +60,11 @@ class SensitivityResult:
     notes: list[str] = field(default_factory=list)
 
     @property
+    def pumped(self) -> bool:
+        """A pumped main: the fixed-design tables hold the station's columns."""
+        return self.study.pump is not None
+
+    @property
     def design_flows_m3_s(self) -> dict[str, float]:
         return {s.name: s.outlet_flow_m3_s for s in self.study.scenarios}
 
@@ -85,8 +93,12 @@ def _fixed_design(study: Study, given: Design | None, runs: RoughnessRuns,
 def _monte_carlo(study: Study, fixed: Design, settings: MonteCarloSettings,
                  notes: list[str]) -> MonteCarloResult:
     rates = settings.ageing_mm_per_year
-    result = monte_carlo(study, fixed, settings.distribution, samples=settings.samples,
-                         seed=settings.seed, years=settings.years, ageing_mm_per_year=rates)
+    # A scheme's tree and a pumped main's station are judged by the check's own
+    # hydraulics (the linear form covers a gravity route only).
+    run = pump_monte_carlo if study.pump is not None else \
+        scheme_monte_carlo if study.is_scheme else monte_carlo
+    result = run(study, fixed, settings.distribution, samples=settings.samples,
+                 seed=settings.seed, years=settings.years, ageing_mm_per_year=rates)
     if rates and settings.years == 0:
         notes.append("--ageing has no effect at year 0: give --years T.")
     unused = sorted(set(rates) - {p.option.material for p in fixed.pieces})
@@ -134,8 +146,10 @@ def sensitivity_study(study: Study, roughness_mm: Sequence[float], *,
     notes: list[str] = scenario_roughness_notes(study)
     fixed, fixed_check = _fixed_design(study, given, runs, notes)
     grid = np.asarray(values)
-    # A scheme's tree is swept by the check's own hydraulics (no linear form of a tree).
-    sweep = scheme_roughness_sweep if study.is_scheme else roughness_sweep
+    # A scheme's tree is swept by the check's own hydraulics (no linear form of a tree);
+    # a pumped main by the check with its station (the least head at each roughness).
+    sweep = pump_roughness_sweep if study.pump is not None else \
+        scheme_roughness_sweep if study.is_scheme else roughness_sweep
     fixed_sweep = sweep(study, fixed, grid) if fixed is not None else None
     robust_sweep = None
     robust_outcome = runs.robust.outcome if runs.robust is not None else None
