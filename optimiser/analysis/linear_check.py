@@ -194,7 +194,7 @@ class LinearCheck:
                 return np.minimum(outlet, self._pressure_margin(gradient, head, source[rows],
                                                                 points)[0])
 
-            low = _bracketed_root(margin, pending.size, tolerance_m3_s)
+            low = bracketed_root(margin, pending.size, tolerance_m3_s)
             if outlet_only:
                 result[pending] = low
                 break
@@ -209,7 +209,7 @@ class LinearCheck:
         return result
 
 
-def _bracketed_root(margin, count: int, tolerance_m3_s: float) -> np.ndarray:
+def bracketed_root(margin, count: int, tolerance_m3_s: float) -> np.ndarray:
     """Largest q >= 0 with ``margin(q) >= 0`` for each of ``count`` decreasing functions
     evaluated together (``margin(0) >= 0`` is given): doubling from 0.01 m^3/s, then the
     Illinois variant of regula falsi to ``tolerance_m3_s``."""

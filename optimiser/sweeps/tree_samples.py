@@ -33,7 +33,7 @@ import numpy as np
 
 from optimiser.analysis.design_hydraulics import DesignHydraulics
 from optimiser.analysis.flows import gradient_with_roughness, line_flows_m3_s, nearest_node
-from optimiser.analysis.linear_check import _bracketed_root
+from optimiser.analysis.linear_check import bracketed_root
 from optimiser.analysis.scheme_check import SchemeHydraulics
 from optimiser.hydraulics.gradeline import energy_along_chain, outlet_energy_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
@@ -174,7 +174,7 @@ class TreeSamples:
         result = np.full(count, np.nan)
         alive = np.flatnonzero(margin(np.zeros(count), np.arange(count)) >= 0.0)
         if alive.size:
-            result[alive] = _bracketed_root(lambda q: margin(q, alive), alive.size,
+            result[alive] = bracketed_root(lambda q: margin(q, alive), alive.size,
                                             tolerance_m3_s)
         return result
 
