@@ -90,13 +90,21 @@ def _fixed_design(study: Study, given: Design | None, runs: RoughnessRuns,
     return fixed, fixed_check
 
 
+def _on_tree(study: Study, design: Design | None) -> bool:
+    """Judged by the check's own line hydraulics rather than the linear check: a
+    scheme, and any study with break-pressure tanks (the linear check follows one
+    chain from the source and knows no restart at a tank)."""
+    return study.is_scheme or bool(study.tanks) or (design is not None and
+                                                     bool(design.tanks))
+
+
 def _monte_carlo(study: Study, fixed: Design, settings: MonteCarloSettings,
                  notes: list[str]) -> MonteCarloResult:
     rates = settings.ageing_mm_per_year
     # A scheme's tree and a pumped main's station are judged by the check's own
     # hydraulics (the linear form covers a gravity route only).
     run = pump_monte_carlo if study.pump is not None else \
-        scheme_monte_carlo if study.is_scheme else monte_carlo
+        scheme_monte_carlo if _on_tree(study, fixed) else monte_carlo
     result = run(study, fixed, settings.distribution, samples=settings.samples,
                  seed=settings.seed, years=settings.years, ageing_mm_per_year=rates)
     if rates and settings.years == 0:
@@ -149,7 +157,7 @@ def sensitivity_study(study: Study, roughness_mm: Sequence[float], *,
     # A scheme's tree is swept by the check's own hydraulics (no linear form of a tree);
     # a pumped main by the check with its station (the least head at each roughness).
     sweep = pump_roughness_sweep if study.pump is not None else \
-        scheme_roughness_sweep if study.is_scheme else roughness_sweep
+        scheme_roughness_sweep if _on_tree(study, fixed) else roughness_sweep
     fixed_sweep = sweep(study, fixed, grid) if fixed is not None else None
     robust_sweep = None
     robust_outcome = runs.robust.outcome if runs.robust is not None else None

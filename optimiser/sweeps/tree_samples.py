@@ -35,6 +35,7 @@ from optimiser.analysis.design_hydraulics import DesignHydraulics
 from optimiser.analysis.flows import gradient_with_roughness, line_flows_m3_s, nearest_node
 from optimiser.analysis.linear_check import bracketed_root
 from optimiser.analysis.scheme_check import SchemeHydraulics
+from optimiser.analysis.tanks import inflow_energy_m
 from optimiser.hydraulics.gradeline import energy_along_chain, outlet_energy_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.model import Scenario
@@ -54,6 +55,26 @@ class LineSamples:
     largest_pressure_m: np.ndarray | None = None
     """(line's pieces, S): the largest pressure head in each piece of the line, when
     :func:`line_samples` is asked for it."""
+    fixed_margin_m: np.ndarray | None = None
+    """(S,) with break-pressure tanks on the line: the least margin at and below its
+    first tank (points, later tanks' inflow, the delivery), which the energy arriving
+    at the line's start does not move; None without tanks."""
+    moving_margin_m: np.ndarray | None = None
+    """(S,) with tanks: the least margin above the first tank, its inflow included."""
+
+    @property
+    def margin_that_moves_m(self) -> np.ndarray:
+        """Least margin that moves with the energy arriving at the line's start."""
+        if self.moving_margin_m is not None:
+            return self.moving_margin_m
+        return np.minimum(self.outlet_margin_m, self.least_pressure_margin_m)
+
+    @property
+    def margin_that_stays_m(self) -> np.ndarray:
+        """Least margin the energy arriving at the line's start does not move."""
+        if self.fixed_margin_m is not None:
+            return self.fixed_margin_m
+        return np.full(np.shape(self.outlet_margin_m), np.inf)
 
     def energy_arriving_m(self, part: DesignHydraulics, chainage_m: float) -> np.ndarray:
         """Energy (S,) arriving at the node at ``chainage_m``, before a fitting there
@@ -86,8 +107,6 @@ def line_samples(part: DesignHydraulics, start_energy_m: np.ndarray, flow_m3_s: 
     ``surge_head_m`` per segment and ``transient_limit_m``, the down-surge margin too;
     with ``by_piece``, the largest pressure head in each of the line's pieces.
     """
-    if part.tanks.any:  # a scheme has none (refused by the loader); a route uses the
-        raise ValueError("break-pressure tanks are not covered by the tree samples")
     line = part.line
     base = np.asarray(flow_m3_s, dtype=float)
     flow = base[None, :] if extra_flow_m3_s is None else base[None, :] + \
@@ -100,9 +119,8 @@ def line_samples(part: DesignHydraulics, start_energy_m: np.ndarray, flow_m3_s: 
                                        roughness_mm[:, first],
                                        part.hazen_williams_c[first])[:, group.reshape(-1)]
     velocity = velocity_m_s(flow, part.diameter_m).T  # (n, S) or (n, 1)
-    start, end = energy_along_chain(np.asarray(start_energy_m, dtype=float), line.start_k,
-                                    part.grid.segment_length_m[:, None], gradient.T,
-                                    line.local_k_per_km, velocity, part.node_point_k)
+    start, end = _energy_line(part, np.asarray(start_energy_m, dtype=float), gradient.T,
+                              velocity)
     head = velocity_head_m(velocity)
     after, outlet = outlet_energy_m(end[-1], head[-1], part.node_point_k[-1], line.exit_k)
     level = part.grid.node_pipe_level_m[:, None]
@@ -117,8 +135,52 @@ def line_samples(part: DesignHydraulics, start_energy_m: np.ndarray, flow_m3_s: 
         surge = np.concatenate([surge_head_m, surge_head_m, surge_head_m[-1:]])[:, None]
         transient = (pressure - surge).min(axis=0) - transient_limit_m
     largest = _largest_by_piece(part, pressure) if by_piece else None
-    return LineSamples(end, np.broadcast_to(outlet - line.required_head_m, end.shape[1:]),
-                       (pressure - required).min(axis=0), transient, largest)
+    outlet_margin = np.broadcast_to(outlet - line.required_head_m, end.shape[1:])
+    if not part.tanks.any:
+        return LineSamples(end, outlet_margin, (pressure - required).min(axis=0), transient,
+                           largest)
+    return _with_tanks(part, end, velocity, pressure - required, outlet_margin, transient,
+                       largest)
+
+
+def _energy_line(part: DesignHydraulics, start_energy_m: np.ndarray, gradient: np.ndarray,
+                 velocity: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Energy (n, S) at the start and end of every segment: one chain from the line's
+    start, or with break-pressure tanks a chain from each tank's water level with its
+    outlet loss (contract section 8, as :func:`optimiser.analysis.tanks.energy_with_tanks`
+    for one sample)."""
+    line, length = part.line, part.grid.segment_length_m[:, None]
+    n = gradient.shape[0]
+    count = np.broadcast_shapes(gradient.shape[1:], np.shape(start_energy_m),
+                                velocity.shape[1:])[0]
+    cuts = part.tanks.node.tolist()
+    levels = [start_energy_m, *(np.full(count, level) for level in part.tanks.level_m)]
+    start, end = np.empty((n, count)), np.empty((n, count))
+    for first, stop, level in zip([0, *cuts], [*cuts, n], levels, strict=True):
+        k_entry = line.start_k if first == 0 else part.study.tank_rules.outlet_k
+        start[first:stop], end[first:stop] = energy_along_chain(
+            level, k_entry, length[first:stop], gradient[first:stop], line.local_k_per_km,
+            velocity[first:stop], part.node_point_k[first:stop + 1])
+    return start, end
+
+
+def _with_tanks(part: DesignHydraulics, end: np.ndarray, velocity: np.ndarray,
+                margin: np.ndarray, outlet_margin: np.ndarray,
+                transient: np.ndarray | None, largest: np.ndarray | None) -> LineSamples:
+    """The line's margins with its tanks: every tank must fill (arriving energy less the
+    inlet loss at least its level), and the margins split at the first tank into those
+    that move with the energy at the line's start and those that do not."""
+    inflow = inflow_energy_m(end, velocity, part.study.tank_rules.inlet_k, part.tanks) \
+        - part.tanks.level_m[:, None]
+    segment = part.grid.segment_piece.size
+    row_segment = np.concatenate([np.arange(segment), np.arange(segment), [segment - 1]])
+    above = row_segment < part.tanks.node[0]
+    moving = np.minimum(margin[above].min(axis=0), inflow[0])
+    fixed = np.minimum(margin[~above].min(axis=0), outlet_margin)
+    if inflow.shape[0] > 1:
+        fixed = np.minimum(fixed, inflow[1:].min(axis=0))
+    least = np.minimum(margin.min(axis=0), inflow.min(axis=0))
+    return LineSamples(end, outlet_margin, least, transient, largest, fixed, moving)
 
 
 def _largest_by_piece(part: DesignHydraulics, pressure: np.ndarray) -> np.ndarray:
@@ -166,9 +228,9 @@ class TreeSamples:
             state = line_samples(trunk, self.source_level_m[rows], others,
                                  self.roughness_mm[trunk.line.name][rows], q)
             least = np.minimum(state.outlet_margin_m, state.least_pressure_margin_m)
-            for chainage, offset in offsets:
-                least = np.minimum(least, state.energy_arriving_m(trunk, chainage)
-                                   + offset[rows])
+            for chainage, offset, fixed in offsets:
+                least = np.minimum(least, np.minimum(
+                    state.energy_arriving_m(trunk, chainage) + offset[rows], fixed[rows]))
             return least
 
         result = np.full(count, np.nan)
@@ -178,24 +240,43 @@ class TreeSamples:
                                             tolerance_m3_s)
         return result
 
-    def _subtree_offsets(self) -> list[tuple[float, np.ndarray]]:
-        """Per branch leaving the trunk: its junction chainage and the least margin of
-        every line below it less the trunk's energy arriving there (S,)."""
+    def _subtree_offsets(self) -> list[tuple[float, np.ndarray, np.ndarray]]:
+        """Per branch leaving the trunk: its junction chainage, the least margin of the
+        lines below it that moves with the trunk's energy arriving there, less that
+        energy, and the least margin that does not (below a break-pressure tank), (S,)."""
         hydraulics = self.hydraulics
         trunk = hydraulics.trunk
+        moves = _moving_lines(hydraulics)
         offsets = []
         for line in hydraulics.lines[1:]:
             if line.parent != trunk.line.name:
                 continue
             below = [other.name for other in hydraulics.lines
                      if line.name in hydraulics.path(other.name)]
-            least = np.min([np.minimum(self.lines[n].outlet_margin_m,
+            moving = np.min([self.lines[n].margin_that_moves_m if moves[n] else
+                             np.full(self.source_level_m.shape, np.inf) for n in below], axis=0)
+            fixed = np.min([self.lines[n].margin_that_stays_m if moves[n] else
+                            np.minimum(self.lines[n].outlet_margin_m,
                                        self.lines[n].least_pressure_margin_m)
                             for n in below], axis=0)
             arriving = self.lines[trunk.line.name].energy_arriving_m(trunk,
                                                                      line.at_chainage_m)
-            offsets.append((line.at_chainage_m, least - arriving))
+            offsets.append((line.at_chainage_m, moving - arriving, fixed))
         return offsets
+
+
+def _moving_lines(hydraulics: SchemeHydraulics) -> dict[str, bool]:
+    """Whether each branch's energy moves with its trunk junction's: its parent is the
+    trunk, or its parent moves and it leaves the parent above the parent's first tank."""
+    moves: dict[str, bool] = {}
+    trunk = hydraulics.trunk.line.name
+    for line in hydraulics.lines[1:]:
+        parent = line.parent
+        assert parent is not None
+        tanks = hydraulics.parts[parent].tanks
+        above = not tanks.any or line.at_chainage_m < tanks.tanks[0].chainage_m
+        moves[line.name] = parent == trunk or (moves.get(parent, False) and above)
+    return moves
 
 
 def tree_samples(hydraulics: SchemeHydraulics, scenario: Scenario, materials: list[str],
