@@ -11,9 +11,12 @@ The plan, top to bottom (stages in :mod:`optimiser.milp.tree.stages`):
 3. The LP relaxation of the whole tree, rules relaxed: the LP bound.
 4. First designs: the LP's own (optimal if it passes the check and the rules within the
    gap), else every line repaired to the rules.
-5. The full model of the tree with the rules, warm-started from the best design: its
-   bound raises the lower bound, its design must pass the check.
-6. The final check, the gap and the status.
+5. The reach model of the tree with the rules (a relaxation: its bound counts), its
+   design repaired line by line where it breaks a rule, then the fine model around it.
+6. The full model of the tree with the rules, warm-started from the best design, unless
+   the reach model already ran out of time: its bound raises the lower bound, its
+   design must pass the check.
+7. The final check, the gap and the status.
 
 Every design returned has passed :func:`optimiser.analysis.check_design` and the rules
 per line (:func:`optimiser.milp.extract.rule_problems`); bounds come only from
@@ -44,10 +47,25 @@ from optimiser.milp.tree.stages import (
     run_tree_reach_model,
 )
 from optimiser.model import Study
+from optimiser.model.status import Status
 
 NEARBY_PAIRS = 5000
 """The fine model near the LP's options runs only up to this many (section, option)
 pairs (beyond, building and presolving it takes longer than it helps)."""
+
+
+REACH_SHARE = 0.75
+"""Share of the time left that the reach model with the rules may take: it is the
+stage whose bound closes the gap on a tree (the full model of the fine sections is
+several times larger and solves no faster)."""
+
+
+def reach_stopped(state: SearchState) -> bool:
+    """The last reach model stopped on its time limit: the full model of the fine
+    sections, a larger model of the same difficulty with less time, cannot do better
+    (it still runs when no design is in hand)."""
+    rounds = [s for s in state.stages if s.kind == StageKind.REACH_MODEL]
+    return bool(rounds) and rounds[-1].status != Status.OPTIMAL
 
 
 def pairs(problem: TreeProblem, masks: list[np.ndarray]) -> int:
@@ -84,13 +102,14 @@ def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignO
         # no first design yet: the fine model near the LP's options, while it is small
         run_tree_fine_model(state, problem, near, lp, 0.3, StageKind.LP_NEARBY)
     if not state.proven() and state.with_rules:
-        finished = run_tree_reach_model(state, problem, actives, lp)
+        finished = run_tree_reach_model(state, problem, actives, lp, REACH_SHARE)
         if finished is not None:
             return finished
     if not state.proven() and state.unfinished and not state.clock.nearly_out():
         run_tree_fine_model(state, problem, around_design(problem, state.unfinished[-1]), lp,
                             0.5, StageKind.POLISH)
-    if not state.proven() and not state.clock.nearly_out():
+    if not state.proven() and not state.clock.nearly_out() \
+            and (state.best is None or not reach_stopped(state)):
         finished = run_tree_fine_model(state, problem, None, lp, 0.85)
         if finished is not None:
             return finished
