@@ -65,7 +65,9 @@ def run_first_designs(state: SearchState, problem: TreeProblem, lp: TreeLp) -> N
     """With the rules, offer the LP's design with every line repaired to them, and the
     covering design of every line (:func:`optimiser.milp.repair.covering_choice`: in
     each section an option at least as good hydraulically as the LP's mix there, so
-    every junction keeps at least the LP design's energy)."""
+    every junction keeps at least the LP design's energy); only if neither passes, the
+    line-by-line design at the LP's junction energies
+    (:mod:`optimiser.milp.tree.line_heuristic`)."""
     if not state.with_rules or state.proven():
         return
     repaired = repaired_lines(problem, lp.design)
@@ -77,6 +79,8 @@ def run_first_designs(state: SearchState, problem: TreeProblem, lp: TreeLp) -> N
         covering.extend(on_line(covered, line.name).pieces)
     state.consider(repaired, "LP design repaired to the rules, line by line", must_pass=False)
     state.consider(Design(tuple(covering)), "covering design, line by line", must_pass=False)
+    if state.best is not None:
+        return  # the line-by-line design below costs seconds on a large tree
     priced = lines_design(problem, lp.form)
     if priced is not None:
         state.consider(priced, "line by line at the LP's junction energies", must_pass=False)
