@@ -21,7 +21,8 @@ The plan, top to bottom (stages in :mod:`optimiser.milp.tree.stages`):
 
 Every design returned has passed :func:`optimiser.analysis.check_design` and the rules
 per line (:func:`optimiser.milp.extract.rule_problems`); bounds come only from
-relaxations (the LP, the full model's own bound), capped at the returned cost.
+relaxations (the LP, the reach model, the full model's own bound), capped at the returned
+cost.
 """
 
 from __future__ import annotations
