@@ -24,12 +24,13 @@ from optimiser.milp.extract import design_from_choice
 from optimiser.milp.outcome import DesignOutcome, Stage, VerificationError
 from optimiser.milp.presolve import dominated_options, without_options
 from optimiser.milp.reaches import MAX_ROW_ROUNDS, ActivePoints
-from optimiser.milp.repair import covering_choice, design_mask, repair
+from optimiser.milp.repair import covering_choice, design_mask
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.masks import widened, window_mask
 from optimiser.milp.search.state import SearchState
 from optimiser.milp.tree.fixing import on_reaches, tree_allowed
 from optimiser.milp.tree.line_heuristic import lines_design
+from optimiser.milp.tree.line_repair import repaired_lines
 from optimiser.milp.tree.line_study import line_design, on_line
 from optimiser.milp.tree.lp_stage import TreeLp, sizes
 from optimiser.milp.tree.model import build_tree
@@ -64,21 +65,22 @@ def run_first_designs(state: SearchState, problem: TreeProblem, lp: TreeLp) -> N
     """With the rules, offer the LP's design with every line repaired to them, and the
     covering design of every line (:func:`optimiser.milp.repair.covering_choice`: in
     each section an option at least as good hydraulically as the LP's mix there, so
-    every junction keeps at least the LP design's energy)."""
+    every junction keeps at least the LP design's energy); only if neither passes, the
+    line-by-line design at the LP's junction energies
+    (:mod:`optimiser.milp.tree.line_heuristic`)."""
     if not state.with_rules or state.proven():
         return
-    repaired, covering = [], []
+    repaired = repaired_lines(problem, lp.design)
+    covering = []
     for line, data, fractions in zip(problem.lines, problem.datas, lp.fractions, strict=True):
-        own = line_design(lp.design, line.name)
-        # each useful step joins two pieces: more steps only cycle
-        fixed = repair(data, own, max_steps=2 * len(own.pieces) + 2)
-        repaired.extend(on_line(fixed if fixed is not None else own, line.name).pieces)
         choice = covering_choice(data, fractions)
-        covered = design_from_choice(data, choice) if choice is not None else fixed or own
+        covered = design_from_choice(data, choice) if choice is not None \
+            else line_design(repaired, line.name)
         covering.extend(on_line(covered, line.name).pieces)
-    state.consider(Design(tuple(repaired)), "LP design repaired to the rules, line by line",
-                   must_pass=False)
+    state.consider(repaired, "LP design repaired to the rules, line by line", must_pass=False)
     state.consider(Design(tuple(covering)), "covering design, line by line", must_pass=False)
+    if state.best is not None:
+        return  # the line-by-line design below costs seconds on a large tree
     priced = lines_design(problem, lp.form)
     if priced is not None:
         state.consider(priced, "line by line at the LP's junction energies", must_pass=False)
@@ -111,6 +113,11 @@ def run_tree_reach_model(state: SearchState, problem: TreeProblem,
             return None
         design = design_from_tree_reaches(problem, reaches, form)
         result = state.consider(design, kind.label, must_pass=False)
+        if result.ok and (state.best is None or state.best.design is not design):
+            # it passes the check but not the rules on some line: repair those lines
+            design = repaired_lines(problem, design)
+            state.consider(design, f"{kind.label}, lines repaired to the rules",
+                           must_pass=False)
         if state.best is None or state.best.design is not design:
             state.unfinished.append(design)
         if state.proven():
