@@ -105,3 +105,14 @@ def write_network_scheme(tmp_path: Path, folder: str = "network",
     write_csv(files.folder / "nodes.csv", NODES if nodes is None else nodes, NODE_COLUMNS)
     write_csv(files.folder / "links.csv", LINKS if links is None else links, LINK_COLUMNS)
     return files
+
+
+def write_scheme_design(folder: Path) -> Path:
+    """A design of the invented scheme of :func:`write_branch_scheme` (PE, every line),
+    written to ``scheme_design.csv`` in ``folder``."""
+    path = folder / "scheme_design.csv"
+    path.write_text("branch,from_m,to_m,material,dn_mm,pressure_class\n"
+                    "main,0,1200,PE,250,PN10\nmain,1200,3000,PE,200,PN10\n"
+                    "north end,0,1000,PE,160,PN10\nschool,0,400,PE,160,PN10\n",
+                    encoding="utf-8")
+    return path

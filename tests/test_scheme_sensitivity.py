@@ -12,7 +12,7 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 from report_schemes import scheme_design, scheme_study
-from scheme_builders import write_branch_scheme
+from scheme_builders import write_branch_scheme, write_scheme_design
 from typer.testing import CliRunner
 
 from optimiser.analysis import check_design
@@ -53,21 +53,12 @@ def test_rougher_pipe_delivers_less(scheme):
         assert part["capacity_outlet_only_m3_s"].is_monotonic_decreasing
 
 
-def _design_file(folder):
-    path = folder / "scheme_design.csv"
-    path.write_text("branch,from_m,to_m,material,dn_mm,pressure_class\n"
-                    "main,0,1200,PE,250,PN10\nmain,1200,3000,PE,200,PN10\n"
-                    "north end,0,1000,PE,160,PN10\nschool,0,400,PE,160,PN10\n",
-                    encoding="utf-8")
-    return path
-
-
 def test_sensitivity_command_on_a_scheme(tmp_path):
     files = write_branch_scheme(tmp_path)
     out = tmp_path / "out"
     result = CliRunner().invoke(app, [
         "sensitivity", str(files.study), "--roughness-from", "0.01", "--roughness-to", "0.5",
-        "--steps", "3", "--design", str(_design_file(files.folder)), "--no-reoptimise",
+        "--steps", "3", "--design", str(write_scheme_design(files.folder)), "--no-reoptimise",
         "--out", str(out)])
     assert result.exit_code == 0, result.output
     table = pd.read_csv(out / "fixed_design_roughness.csv")

@@ -20,7 +20,7 @@ import pandas as pd
 import pytest
 from independent_tree import design_line_energies
 from report_schemes import scheme_design, scheme_study
-from scheme_builders import write_branch_scheme
+from scheme_builders import write_branch_scheme, write_scheme_design
 from typer.testing import CliRunner
 
 import optimiser
@@ -141,21 +141,12 @@ def test_ageing_adds_rate_times_years_and_the_seed_repeats(scheme):
                            other.samples["roughness_mm[PE]"])
 
 
-def _design_file(folder):
-    path = folder / "scheme_design.csv"
-    path.write_text("branch,from_m,to_m,material,dn_mm,pressure_class\n"
-                    "main,0,1200,PE,250,PN10\nmain,1200,3000,PE,200,PN10\n"
-                    "north end,0,1000,PE,160,PN10\nschool,0,400,PE,160,PN10\n",
-                    encoding="utf-8")
-    return path
-
-
 def test_the_command_writes_the_schemes_monte_carlo(tmp_path):
     files = write_branch_scheme(tmp_path)
     out = tmp_path / "out"
     result = CliRunner().invoke(app, [
         "sensitivity", str(files.study), "--roughness-from", "0.01", "--roughness-to", "0.5",
-        "--steps", "2", "--design", str(_design_file(files.folder)), "--no-reoptimise",
+        "--steps", "2", "--design", str(write_scheme_design(files.folder)), "--no-reoptimise",
         "--samples", "30", "--seed", "3", "--years", "10", "--ageing", "PE=0.01",
         "--out", str(out)])
     assert result.exit_code == 0, result.output
@@ -178,7 +169,7 @@ def test_bad_monte_carlo_input_on_a_scheme_exits_2_and_writes_nothing(tmp_path):
     out = tmp_path / "out"
     result = CliRunner().invoke(app, [
         "sensitivity", str(files.study), "--roughness-from", "0.01", "--roughness-to", "0.5",
-        "--design", str(_design_file(files.folder)), "--samples", "10",
+        "--design", str(write_scheme_design(files.folder)), "--samples", "10",
         "--ageing", "copper=0.1", "--out", str(out)])
     assert result.exit_code == 2
     assert "--ageing" in result.output and "copper" in result.output
