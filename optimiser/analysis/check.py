@@ -332,10 +332,13 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     surge_by_piece = pieces["surge_head_m"].to_numpy()
     scenarios, station = list(study.scenarios), None
     if study.pump is not None:  # the least station head per scenario (section 9)
-        trunk = scheme.trunk  # the loader admits a pump on a single route only
+        # The station lifts the trunk (the loader admits branches only below a tank it
+        # fills, so they do not see its head); the lines are run again with it.
+        trunk = scheme.trunk
         station, scenarios, pumped = run_station(trunk, [e[TRUNK] for e in evaluated],
                                                  surge_by_piece)
-        evaluated = [{TRUNK: arrays} for arrays in pumped]
+        evaluated = [{TRUNK: arrays} for arrays in pumped] if not study.is_scheme else \
+            [scheme.evaluate(scenario) for scenario in scenarios]
         pieces = with_pumping_heads(pieces, trunk, pumped)
     violations = _class_violations(study, pieces)
 

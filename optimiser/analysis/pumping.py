@@ -169,7 +169,7 @@ def with_pumping_heads(pieces: pd.DataFrame, hydraulics: DesignHydraulics,
     largest = np.full(len(table), -np.inf)
     for arrays in pumped:
         points = hydraulics.point_arrays(arrays)
-        piece = hydraulics.grid.segment_piece[points.segment]
+        piece = hydraulics.piece_index[hydraulics.grid.segment_piece[points.segment]]
         np.maximum.at(largest, piece, hydraulics.pressure_m(points))
     table["still_head_m"] = table["static_head_m"]
     table["pumping_head_m"] = largest

@@ -89,8 +89,10 @@ def load_study(path: str | Path) -> Study:
         [t.chainage_m for t in tanks if t.branch == b.name])) for b in branches)
     rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
                                 problems)
+    first_tank = min((t.chainage_m for t in tanks if t.branch == TRUNK), default=None)
+    lifted = bool(branches) and (first_tank is None or min(junctions) < first_tank)
     _combination_problems(path, spec, bool(branches), rules_of_tanks.cost is not None,
-                          problems)
+                          lifted, problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
                              [f.chainage_m for f in fittings] + junctions +
@@ -124,19 +126,22 @@ def load_study(path: str | Path) -> Study:
 
 
 def _combination_problems(path: Path, spec: StudyFile, branched: bool, new_tanks: bool,
-                          problems: ProblemList) -> None:
+                          lifted: bool, problems: ProblemList) -> None:
     """Additions not yet available together: tanks chosen by ``design`` in a scheme; a
-    pump with branches or with tanks chosen by ``design`` (with the study's own tanks a
-    pump is a rising main to the first tank and gravity below it, contract section 9)."""
+    pump with tanks chosen by ``design``, or with branches its head would reach
+    (``lifted``: a branch leaves the trunk above its first tank). With the study's own
+    tanks a pump is a rising main to the first tank, gravity below it (section 9)."""
     if branched and new_tanks:
         problems.add(f"{path}: new break-pressure tanks chosen by design in a branched "
                      "scheme are not available in this version: leave out "
                      "[break_pressure_tanks] cost and give the tanks as "
                      "[[break_pressure_tank]] of the study")
-    if spec.pump is not None and branched:
-        problems.add(f"{path}: [pump] with branches is not available in this version: "
-                     "design the rising main as a study of its own (its outlet the tank) "
-                     "and the branched gravity part as another (docs/user-guide.md)")
+    if spec.pump is not None and lifted:
+        problems.add(f"{path}: [pump] with branches that leave the trunk above its first "
+                     "break-pressure tank is not available in this version (the station's "
+                     "head would reach them): give the tank the rising main fills as a "
+                     "[[break_pressure_tank]] on the trunk above every junction, or design "
+                     "the rising main as a study of its own (docs/user-guide.md)")
     if spec.pump is not None and new_tanks:
         problems.add(f"{path}: [pump] with [break_pressure_tanks] cost (new tanks chosen by "
                      "design) is not available in this version: give the tank the rising "
