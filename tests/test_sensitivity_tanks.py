@@ -91,3 +91,24 @@ def test_scheme_with_a_tank_on_a_branch_equals_the_check(tmp_path, sizes):
     scenario = check.scenarios[0]
     tank_limits = scenario.capacity_m3_s < scenario.capacity_outlet_only_m3_s - 1e-6
     assert tank_limits == (above == 100)
+
+
+@pytest.mark.parametrize("form", ["route", "scheme"])
+def test_pumped_samples_with_a_tank_equal_the_check(tmp_path, form):
+    # A rising main filling a tank (then gravity, or a branched scheme below it): each
+    # sample's least station head, class verdict and life-cycle cost are the check's.
+    from test_rising_main_tank import _write, _write_scheme
+
+    from optimiser.milp import optimise_design
+    from optimiser.sweeps.pump_monte_carlo import pump_monte_carlo
+
+    study_path = _write(tmp_path)[0] if form == "route" else _write_scheme(tmp_path)
+    study = load_study(study_path)
+    design = optimise_design(study, mip_gap=1e-4).design
+    check = check_design(study, design)
+    result = pump_monte_carlo(study, design, RoughnessDistribution("fixed", 0.01, 0.01),
+                              samples=2, seed=0)
+    row = result.samples.iloc[0]
+    assert row["station_head_m"] == pytest.approx(check.station.head_m["duty"], abs=1e-9)
+    assert row["life_cycle_cost"] == pytest.approx(check.life_cycle_cost, rel=1e-12)
+    assert bool(row["classes_hold"]) and bool(row["meets"])

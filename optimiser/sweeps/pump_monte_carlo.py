@@ -76,10 +76,15 @@ def _scenario_frame(study: Study, hydraulics: SchemeHydraulics, check: CheckResu
     surge = check.pieces["surge_head_m"].to_numpy()
     line = tree_samples(hydraulics, scenario, materials, aged, surge, by_piece=True).lines[
         TRUNK]
-    deficits = [np.zeros(aged.shape[0]), -line.outlet_margin_m,
-                -line.least_pressure_margin_m]
-    if line.transient_margin_m is not None:
-        deficits.append(-line.transient_margin_m)
+    if line.moving_margin_m is not None:  # the station lifts to the trunk's first tank
+        deficits = [np.zeros(aged.shape[0]), -line.moving_margin_m]
+        transient = line.moving_transient_m
+    else:
+        deficits = [np.zeros(aged.shape[0]), -line.outlet_margin_m,
+                    -line.least_pressure_margin_m]
+        transient = line.transient_margin_m
+    if transient is not None:
+        deficits.append(-transient)
     needed = np.max(deficits, axis=0)
     head = needed if pump.max_head_m is None else np.minimum(needed, pump.max_head_m)
     within = np.full(needed.shape, True) if pump.max_head_m is None else \
@@ -93,7 +98,14 @@ def _scenario_frame(study: Study, hydraulics: SchemeHydraulics, check: CheckResu
         "power_kw": power, "energy_kwh_per_year": energy,
         "energy_cost_per_year": energy * pump.energy_price, "meets": within})
     assert line.largest_pressure_m is not None
-    return frame, line.largest_pressure_m + head[None, :]
+    # Pumping lifts the trunk above its first tank; below it (and on branches, all below
+    # it) the pressure is the gravity line's, as in the check's piece table.
+    lifted = line.largest_pressure_m + head[None, :]
+    if line.largest_below_m is not None:
+        lifted = np.maximum(lifted, line.largest_below_m)
+    pumping = np.full((len(check.pieces), len(head)), -np.inf)
+    pumping[hydraulics.trunk.piece_index] = lifted
+    return frame, pumping
 
 
 def _summary_row(frame: pd.DataFrame, years: float, max_head_m: float | None) -> dict:

@@ -61,6 +61,12 @@ class LineSamples:
     at the line's start does not move; None without tanks."""
     moving_margin_m: np.ndarray | None = None
     """(S,) with tanks: the least margin above the first tank, its inflow included."""
+    moving_transient_m: np.ndarray | None = None
+    """(S,) with tanks and a down-surge limit: the transient margin above the first tank."""
+    largest_below_m: np.ndarray | None = None
+    """(line's pieces, S) with tanks and ``by_piece``: the largest pressure head in each
+    piece at and below the first tank (-inf where a piece has none); then
+    ``largest_pressure_m`` holds the part above it."""
 
     @property
     def margin_that_moves_m(self) -> np.ndarray:
@@ -133,14 +139,14 @@ def line_samples(part: DesignHydraulics, start_energy_m: np.ndarray, flow_m3_s: 
     transient = None
     if surge_head_m is not None and transient_limit_m is not None:
         surge = np.concatenate([surge_head_m, surge_head_m, surge_head_m[-1:]])[:, None]
-        transient = (pressure - surge).min(axis=0) - transient_limit_m
-    largest = _largest_by_piece(part, pressure) if by_piece else None
+        transient = pressure - surge - transient_limit_m
     outlet_margin = np.broadcast_to(outlet - line.required_head_m, end.shape[1:])
     if not part.tanks.any:
-        return LineSamples(end, outlet_margin, (pressure - required).min(axis=0), transient,
-                           largest)
-    return _with_tanks(part, end, velocity, pressure - required, outlet_margin, transient,
-                       largest)
+        largest = _largest_by_piece(part, pressure) if by_piece else None
+        return LineSamples(end, outlet_margin, (pressure - required).min(axis=0),
+                           None if transient is None else transient.min(axis=0), largest)
+    return _with_tanks(part, end, velocity, pressure, pressure - required, outlet_margin,
+                       transient, by_piece)
 
 
 def _energy_line(part: DesignHydraulics, start_energy_m: np.ndarray, gradient: np.ndarray,
@@ -165,11 +171,12 @@ def _energy_line(part: DesignHydraulics, start_energy_m: np.ndarray, gradient: n
 
 
 def _with_tanks(part: DesignHydraulics, end: np.ndarray, velocity: np.ndarray,
-                margin: np.ndarray, outlet_margin: np.ndarray,
-                transient: np.ndarray | None, largest: np.ndarray | None) -> LineSamples:
+                pressure: np.ndarray, margin: np.ndarray, outlet_margin: np.ndarray,
+                transient: np.ndarray | None, by_piece: bool) -> LineSamples:
     """The line's margins with its tanks: every tank must fill (arriving energy less the
     inlet loss at least its level), and the margins split at the first tank into those
-    that move with the energy at the line's start and those that do not."""
+    that move with the energy at the line's start and those that do not (``pressure``,
+    ``margin`` and ``transient`` are the rows of :func:`line_samples`)."""
     inflow = inflow_energy_m(end, velocity, part.study.tank_rules.inlet_k, part.tanks) \
         - part.tanks.level_m[:, None]
     segment = part.grid.segment_piece.size
@@ -180,16 +187,27 @@ def _with_tanks(part: DesignHydraulics, end: np.ndarray, velocity: np.ndarray,
     if inflow.shape[0] > 1:
         fixed = np.minimum(fixed, inflow[1:].min(axis=0))
     least = np.minimum(margin.min(axis=0), inflow.min(axis=0))
-    return LineSamples(end, outlet_margin, least, transient, largest, fixed, moving)
+    return LineSamples(
+        end, outlet_margin, least, None if transient is None else transient.min(axis=0),
+        _largest_by_piece(part, pressure, above) if by_piece else None, fixed, moving,
+        None if transient is None else transient[above].min(axis=0),
+        _largest_by_piece(part, pressure, ~above) if by_piece else None)
 
 
-def _largest_by_piece(part: DesignHydraulics, pressure: np.ndarray) -> np.ndarray:
+def _largest_by_piece(part: DesignHydraulics, pressure: np.ndarray,
+                      rows: np.ndarray | None = None) -> np.ndarray:
     """(line's pieces, S) largest of the pressure rows of :func:`line_samples` (each row
-    on the segment it belongs to) within each piece."""
+    on the segment it belongs to, only the ``rows`` marked when given) within each
+    piece; -inf where a piece has no such row."""
     piece = part.grid.segment_piece
     row_piece = np.concatenate([piece, piece, piece[-1:]])
-    return np.array([pressure[row_piece == p].max(axis=0)
-                     for p in range(len(part.piece_index))])
+    keep = np.ones(len(row_piece), dtype=bool) if rows is None else rows
+    largest = np.full((len(part.piece_index), pressure.shape[1]), -np.inf)
+    for p in range(len(part.piece_index)):
+        chosen = (row_piece == p) & keep
+        if chosen.any():
+            largest[p] = pressure[chosen].max(axis=0)
+    return largest
 
 
 @dataclass(frozen=True)
