@@ -246,3 +246,53 @@ def test_a_rising_main_to_a_tank_feeding_a_branched_scheme(tmp_path):
     assert outcome.verified and outcome.status.value == "optimal"
     assert outcome.check.life_cycle_cost == pytest.approx(_independent_scheme_cost(), rel=1e-5)
     assert {p.branch for p in outcome.design.pieces} == {"main", "b"}
+
+
+def _write_steep(folder, extra_tanks=(), new_tanks=True):
+    """A 1 km rising main to a tank (water level 331 m), then 3 km falling 190 m by
+    gravity to an outlet needing 195 m: with classes of 150 m one more tank is needed
+    below, at a marked site; at 3,000 m (level 201 m) it would leave the last kilometre
+    6 m of head (a larger pipe), at 2,000 m (261 m) 66 m for two."""
+    folder.mkdir(parents=True, exist_ok=True)
+    profile = [(0.0, 300.0, ""), (1000.0, 330.0, ""), (2000.0, 260.0, "yes"),
+               (3000.0, 200.0, "yes"), (4000.0, 140.0, "")]
+    (folder / "profile.csv").write_text(csv_text(profile, ("chainage_m", "ground_m",
+                                                           "tank_site")), encoding="utf-8")
+    columns = ("material", "dn_mm", "internal_diameter_mm", "pressure_class",
+               "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m", "note")
+    rows = [("PVC", dn, d, "PN15", 150.0, 0.01, 140, cost, "invented")
+            for dn, d, cost in SIZES]
+    (folder / "catalogue.csv").write_text(csv_text(rows, columns), encoding="utf-8")
+    tanks = [{"chainage_m": 1000.0, "water_level_m": 331.0}]
+    tanks += [{"chainage_m": c} for c in extra_tanks]
+    rules = {"inlet_k": 0.0, "outlet_k": 0.0, "sites": "marked"}
+    if new_tanks:
+        rules["cost"] = 5000.0
+    study = {"title": "Invented rising main to a tank, steep gravity main below",
+             "currency": "USD", "water": {"temperature_c": 15.0},
+             "source": {"level_m": 300.0, "entrance_k": 0.0},
+             "outlet": {"required_head_m": 195.0, "exit_k": 0.0},
+             "route": {"profile": "profile.csv", "length": "chainage", "min_pressure_m": 0.0},
+             "break_pressure_tank": tanks, "break_pressure_tanks": rules,
+             "scenario": [{"name": "duty", "flow": "20 L/s", "hours_per_year": 3000.0}],
+             "catalogue": {"file": "catalogue.csv", "friction": "hazen-williams"},
+             "pump": PUMP}
+    (folder / "study.toml").write_text(toml_text(study), encoding="utf-8")
+    return folder / "study.toml"
+
+
+def test_new_tanks_below_the_filled_tank_equal_the_best_fixed_set(tmp_path):
+    # Enumeration (independent of the tank search): every set of the marked sites as
+    # tanks of the study's own, each designed, plus 5,000 a tank; the cheapest must
+    # equal the design that chooses the new tanks itself.
+    chosen = optimise_design(load_study(_write_steep(tmp_path / "new")), mip_gap=1e-7)
+    assert chosen.verified and chosen.status.value == "optimal"
+    assert [t.chainage_m for t in chosen.design.tanks] == [2000.0]
+    best = math.inf
+    for sites in ([], [2000.0], [3000.0], [2000.0, 3000.0]):
+        folder = tmp_path / ("fixed" + "-".join(str(int(c)) for c in sites))
+        study = load_study(_write_steep(folder, sites, new_tanks=False))
+        outcome = optimise_design(study, mip_gap=1e-7)
+        if outcome.design is not None and outcome.verified:  # none without a tank
+            best = min(best, outcome.check.life_cycle_cost + 5000.0 * len(sites))
+    assert chosen.check.life_cycle_cost == pytest.approx(best, rel=1e-6)

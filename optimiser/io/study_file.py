@@ -142,10 +142,10 @@ def _combination_problems(path: Path, spec: StudyFile, branched: bool, new_tanks
                      "head would reach them): give the tank the rising main fills as a "
                      "[[break_pressure_tank]] on the trunk above every junction, or design "
                      "the rising main as a study of its own (docs/user-guide.md)")
-    if spec.pump is not None and new_tanks:
+    if spec.pump is not None and new_tanks and not spec.break_pressure_tank:
         problems.add(f"{path}: [pump] with [break_pressure_tanks] cost (new tanks chosen by "
-                     "design) is not available in this version: give the tank the rising "
-                     "main fills as a [[break_pressure_tank]] of the study")
+                     "design) needs the tank the rising main fills: give it as a "
+                     "[[break_pressure_tank]] of the study (new tanks then go below it)")
 
 
 def _trunk_file(spec: StudyFile) -> str:

@@ -15,6 +15,8 @@ two problems whose costs add:
    below).
 
 The two designs joined are a design of the study, which the check judges as a whole.
+New tanks chosen by ``design`` (``[break_pressure_tanks] cost``) are placed in the
+gravity part only, below the tank the station fills (the tank plan designs that part).
 The rules stay those of the whole route: ``max_changes`` is shared out. Both parts are
 first designed with the whole budget each (a relaxation: the sum of their bounds bounds
 the study); if the joined design uses too many changes, every split of the budget
@@ -62,7 +64,11 @@ def split_at_first_tank(study: Study) -> tuple[Study, Study, int]:
     onward = reach_study(study, node, route.n_sections, study.rules.max_changes)
     below = tuple(dataclasses.replace(t, chainage_m=t.chainage_m - first.chainage_m)
                   for t in tanks[1:])
-    onward = dataclasses.replace(onward, pump=None, tanks=below, tank_rules=study.tank_rules)
+    # New tanks (``[break_pressure_tanks] cost``) go below the tank the station fills.
+    rules = study.tank_rules
+    rules = dataclasses.replace(rules, marked_chainages_m=tuple(
+        c - first.chainage_m for c in rules.marked_chainages_m if c > first.chainage_m + 1e-6))
+    onward = dataclasses.replace(onward, pump=None, tanks=below, tank_rules=rules)
     return rising, onward, node
 
 
@@ -147,7 +153,9 @@ def _joined(study: Study, outcomes: tuple[DesignOutcome, DesignOutcome], offset:
     laid = below.pieces
     pieces += [Piece(p.from_m + offset, end if i == len(laid) - 1 else p.to_m + offset,
                      p.option, TRUNK) for i, p in enumerate(laid)]
-    design = Design(tuple(pieces)).merged()
+    new_tanks = tuple(dataclasses.replace(t, chainage_m=t.chainage_m + offset)
+                      for t in below.tanks)
+    design = Design(tuple(pieces), new_tanks).merged()
     return None if rule_problems(study, design) else design
 
 
