@@ -50,6 +50,7 @@ from optimiser.milp.search.masks import widened, window_mask
 from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import SolveReport
 from optimiser.milp.tank_data import with_sites_named
+from optimiser.milp.tank_path_stage import run_tank_paths
 from optimiser.milp.tank_reaches import design_by_reaches, greedy_sites
 from optimiser.milp.tank_rows import chosen_nodes
 from optimiser.model import TRUNK, BreakPressureTank, Design, Study, TankRules
@@ -82,18 +83,15 @@ def search_with_tanks(study: Study, settings: Settings, clock: Clock,
     if findings:
         run.finished = state.infeasible(findings)
         return run
-    begun = time.perf_counter()
-    relaxed = build(data, with_rules=False, relaxed=True)
-    report = state.run_solver(StageKind.TANK_LP, StageKind.TANK_LP.label, relaxed, None,
-                              0.4, time.perf_counter() - begun)
-    if report.status == Status.INFEASIBLE:
-        run.finished = state.infeasible(diagnose_after(data, rules_relaxed_feasible=False))
+    candidates = data.tanks is not None and data.tanks.any_candidate
+    if not candidates and _tank_lp(run):
         return run
-    if report.objective is not None:
-        state.lp_bound = report.objective
-        state.raise_bound(report.bound)
-    if data.tanks is not None and data.tanks.any_candidate and not study.tanks:
+    if candidates and not study.tanks:
         _without_new_tanks(run, plain)
+    if candidates:
+        run.finished = run_tank_paths(state, plain)
+        if run.finished is not None:
+            return run
     if data.tanks is not None and state.best is None:
         _greedy_reaches(run, plain)
     if state.with_rules and not _proven(state):
@@ -101,6 +99,24 @@ def search_with_tanks(study: Study, settings: Settings, clock: Clock,
     if not _proven(state):
         _full_model(run)
     return run
+
+
+def _tank_lp(run: TankRun) -> bool:
+    """The LP relaxation of the model with the study's own tanks (rules relaxed): a
+    bound; True when it proves that no design exists (the run is then finished)."""
+    state = run.state
+    begun = time.perf_counter()
+    relaxed = build(state.data, with_rules=False, relaxed=True)
+    report = state.run_solver(StageKind.TANK_LP, StageKind.TANK_LP.label, relaxed, None,
+                              0.4, time.perf_counter() - begun)
+    if report.status == Status.INFEASIBLE:
+        run.finished = state.infeasible(diagnose_after(state.data,
+                                                       rules_relaxed_feasible=False))
+        return True
+    if report.objective is not None:
+        state.lp_bound = report.objective
+        state.raise_bound(report.bound)
+    return False
 
 
 def _proven(state: SearchState) -> bool:
