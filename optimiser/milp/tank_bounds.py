@@ -6,30 +6,35 @@ level). For the reach from node a (the source, or a tank at a) to node b (a tank
 the outlet) a relaxation of its pipe problem is
 
     min  sum_s c_s(x_s)
-    s.t. E_i = E0_a - sum_{a <= s < i} loss_s(x_s) >= r_i      (a < i < b)
-         E_b >= R_b
+    s.t. E_i = E0_a - K_start h_a(x_a) - sum_{a <= s < i} loss_s(x_s)
+         E_i - h_{i-1}(x_{i-1}) >= r_i               (a < i < b)
+         E_b - K_end h_{b-1}(x_{b-1}) >= R_b
 
 with x_s one option per section among those admissible under the static line WL_a
-(whole sections, the rules left out), E0_a the energy leaving a (its level less the
-least outlet loss), r_i the least energy node i's pressure needs (pipe level + minimum
-pressure + the least velocity head) and R_b the least energy the tank at b needs to fill
-(or the outlet's required head with the least exit loss). Every velocity head, fitting
-loss and rule left out only lowers the optimum, so this is a relaxation of the model.
+(whole sections; the rules and fitting losses left out), E0_a the tank's water level
+(or the source level) with its outlet (entrance) loss K_start, r_i = pipe level +
+minimum pressure, R_b the water level of the tank at b (or the outlet's required head)
+with its inlet (exit) loss K_end, h the velocity head of the option laid. In the model
+the last piece of a section is its smallest pipe, so its velocity head is at least that
+of any option laid there: this is a relaxation of the model.
 
 Its Lagrangian with multipliers mu_i >= 0 on the energy rows is, with
 lambda_s = mu_{s+1} + ... + mu_b (any non-increasing, non-negative sequence):
 
-    L(a, b) = sum_{s=a}^{b-1} [ min_j (c_sj + lambda_s loss_sj) + lambda_s (r_{s+1} - r_s) ]
+    L(a, b) = sum_{s=a}^{b-1} [ min_j (c_sj + lambda_s loss_sj + mu_{s+1} h_sj)
+                                + lambda_s (r_{s+1} - r_s) ]
               + lambda_{b-1} (R_b - r_b) - lambda_a (E0_a - r_a)
 
-summed over the scenarios (one lambda per scenario; the option is shared), a valid lower
-bound for every lambda (weak duality; Geoffrion 1974, "Lagrangean relaxation for integer
+where the first section's minimum also carries lambda_a K_start h_aj and the last
+section's carries lambda_{b-1} K_end h_{b-1,j} instead of its mu term; summed over the
+scenarios (one lambda per scenario; the option is shared). It is a lower bound for every
+such lambda (weak duality; Geoffrion 1974, "Lagrangean relaxation for integer
 programming", Math. Prog. Study 2). A *profile* is one lambda over the whole route,
 non-increasing and non-negative, so the same profile bounds every pair at once; with the
 duals of a reach's own LP (:mod:`optimiser.milp.tank_reach_lp`) it gives that reach's LP
-value exactly. The inner minimum depends on a only through the static line, whose class
-limits fall into a few bands (one per distinct allowable head), so a profile costs a
-table of (sections x bands) minima and one cumulative sum per start node.
+value exactly. The minima depend on a only through the static line, whose class limits
+fall into a few bands (one per distinct allowable head), so a profile costs tables of
+(sections x bands) minima and one cumulative sum per start node.
 """
 
 from __future__ import annotations

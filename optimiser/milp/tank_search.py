@@ -9,20 +9,24 @@ own, shorter plan on the full model of :mod:`optimiser.milp.tank_rows`:
    (:func:`~optimiser.milp.tank_data.with_sites_named`), and the diagnosis without a
    solver (the lowest static line any choice of tanks gives; tanks
    only lower the energy line, so its energy findings stand);
-2. the LP relaxation of the model with tanks, rules relaxed: a bound;
+2. with the study's own tanks only (no site): the LP relaxation of the model, a bound;
 3. with new tanks allowed and no tank of the study's own, the best design without new
    tanks from the plan without tanks (the whole search of :func:`optimise_design` on the
    study with new tanks not allowed): a first design, the warm start of the next stage,
    and the figure the saving is stated against;
-4. without a design yet: tanks placed by rule, each reach between tanks designed by the
+4. with sites: the shortest path over Lagrangian bounds on every reach between two tank
+   nodes (:mod:`optimiser.milp.tank_path_stage`): a bound, and each set of tanks it
+   chooses designed reach by reach by the plan without tanks; on the long routes this
+   proves the design;
+5. without a design yet: tanks placed by rule, each reach between tanks designed by the
    plan without tanks (:mod:`optimiser.milp.tank_reaches`): a first design, and the
    warm start of the next stages;
-5. with the rules: the model with tanks and the rules relaxed (a relaxation: its bound
+6. with the rules: the model with tanks and the rules relaxed (a relaxation: its bound
    counts; its design is offered, and kept if it happens to meet the rules); its tanks
    fixed, each reach designed the same way; then its tanks fixed and the rules on,
    restricted to the options near its design: designs with the rules (HiGHS alone
    seldom finds one on the full model);
-6. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
+7. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
    started from the best design so far, for the rest of the time: its bound is the
    run's bound, its design is checked with its tanks.
 
