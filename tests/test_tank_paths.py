@@ -23,13 +23,15 @@ from optimiser.milp.tank_data import with_sites_named
 from optimiser.milp.tank_paths import shortest_path
 from optimiser.milp.tank_reach_lp import reach_profile
 from optimiser.milp.tank_reaches import reach_study
+from optimiser.milp.tank_single import single_option_costs, with_one_change
 from optimiser.model import TRUNK, BreakPressureTank, Status
 
 RULES = {"cost": TANK_COST, "height_m": 3.0, "max_count": 3}
 
 
-def _setup(make_study, seed: int, n: int):
-    study = _study(make_study, seed, n, break_pressure_tanks=RULES)
+def _setup(make_study, seed: int, n: int, change_cost: float = 0.0):
+    costs = {"costs": {"change_cost": change_cost}} if change_cost else {}
+    study = _study(make_study, seed, n, break_pressure_tanks=RULES, **costs)
     data = prepare(with_sites_named(study))
     relax = relaxation(data)
     return data, relax, pair_frame(relax)
@@ -59,13 +61,16 @@ def _all_bounds(relax, frame, data) -> np.ndarray:
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize(("seed", "n"), [(3, 6), (11, 6), (5, 8)])
-def test_reach_bounds_never_above_the_reach_designed(make_study, seed, n):
+@pytest.mark.parametrize(("seed", "n", "change_cost"), [(3, 6, 0.0), (11, 6, 0.0),
+                                                        (5, 8, 0.0), (5, 8, 800.0)])
+def test_reach_bounds_never_above_the_reach_designed(make_study, seed, n, change_cost):
     """Every bound of a reach (at the zero profile and at the LP profile of every
-    reach) is at most the cost of that reach's cheapest pipes, tanks fixed at its ends,
-    as the plain optimiser proves them (with the rules, so the bound may be lower)."""
-    data, relax, frame = _setup(make_study, seed, n)
-    bounds = _all_bounds(relax, frame, data)
+    reach, raised by a change where one option cannot do) is at most the cost of that
+    reach's cheapest pipes, tanks fixed at its ends, as the plain optimiser proves them
+    (with its changes paid)."""
+    data, relax, frame = _setup(make_study, seed, n, change_cost)
+    bounds = with_one_change(_all_bounds(relax, frame, data),
+                             single_option_costs(relax, frame), change_cost)
     checked = 0
     for row, first in enumerate(frame.first.tolist()):
         for last in range(first + 1, data.n_sections + 1):

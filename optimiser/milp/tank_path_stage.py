@@ -31,10 +31,11 @@ from optimiser.milp.extract import rule_problems
 from optimiser.milp.outcome import DesignOutcome, Stage
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import SearchState
-from optimiser.milp.tank_bounds import pair_bounds, pair_frame, relaxation
+from optimiser.milp.tank_bounds import PairFrame, pair_bounds, pair_frame, relaxation
 from optimiser.milp.tank_paths import TankPath, shortest_path
 from optimiser.milp.tank_reach_lp import reach_profile
 from optimiser.milp.tank_reaches import design_by_reaches
+from optimiser.milp.tank_single import single_option_costs, with_one_change
 from optimiser.model.status import Status
 
 REACH_GAP_SHARE = 0.1
@@ -51,12 +52,16 @@ def run_tank_paths(state: SearchState, plain: Callable[..., DesignOutcome]
     assert tanks is not None
     relax = relaxation(data)
     frame = pair_frame(relax)
-    bounds = pair_bounds(relax, frame, np.zeros((data.n_scenarios, data.n_sections)))
+    lagrangian = pair_bounds(relax, frame, np.zeros((data.n_scenarios, data.n_sections)))
+    single = single_option_costs(relax, frame)
+    change_cost = float(state.study.costs.change_cost)
+    exact: dict[tuple[int, int], float] = {}
     priced: set[tuple[int, int]] = set()
     designed: set[tuple[int, ...]] = set()
     path: TankPath | None = None
     rounds = 0
     for rounds in range(1, MAX_ROUNDS + 1):
+        bounds = _arc_bounds(frame, with_one_change(lagrangian, single, change_cost), exact)
         path = shortest_path(frame, bounds, relax.new, tanks.cost, tanks.max_count,
                              data.n_sections + 1)
         if path is None:
@@ -64,40 +69,56 @@ def run_tank_paths(state: SearchState, plain: Callable[..., DesignOutcome]
             return state.infeasible(diagnose_after(data, rules_relaxed_feasible=False))
         state.raise_bound(path.value)
         state.lp_bound = max(state.lp_bound or -np.inf, path.value)
-        sites = [node for node in path.sites if relax.new[node]]
-        if tuple(sites) not in designed and not state.clock.nearly_out():
-            designed.add(tuple(sites))
-            _design(state, sites, plain)
         if state.proven() or state.clock.nearly_out():
             break
         fresh = [reach for reach in itertools.pairwise(path.nodes) if reach not in priced]
-        if not fresh:
-            break
         for first, last in fresh:
             priced.add((first, last))
             found = reach_profile(relax, first, last)
             if found is not None:
-                bounds = np.maximum(bounds, pair_bounds(relax, frame, found[0]))
+                lagrangian = np.maximum(lagrangian, pair_bounds(relax, frame, found[0]))
+        sites = tuple(node for node in path.nodes[1:-1] if relax.new[node])
+        if fresh or sites in designed:
+            if not fresh:
+                break  # the path repeats: nothing left to price or design
+            continue
+        designed.add(sites)
+        exact.update(_design(state, list(sites), plain))
     _record(state, begun, path, rounds, f"{len(priced)} reaches priced, "
                                         f"{len(designed)} choices of tanks designed")
     return None
 
 
+def _arc_bounds(frame: PairFrame, bounds: np.ndarray,
+                exact: dict[tuple[int, int], float]) -> np.ndarray:
+    """``bounds`` raised to the proven bounds of the reaches designed so far."""
+    bounds = bounds.copy()
+    for (first, last), value in exact.items():
+        row = int(np.searchsorted(frame.first, first))
+        if last - first <= bounds.shape[1]:
+            bounds[row, last - first - 1] = max(bounds[row, last - first - 1], value)
+    return bounds
+
+
 def _design(state: SearchState, sites: list[int], plain: Callable[..., DesignOutcome]
-            ) -> None:
+            ) -> dict[tuple[int, int], float]:
     """The design of tanks at ``sites``, each reach by the plan without tanks (each may
-    change option freely first; with too many changes, the changes shared out)."""
+    change option freely first; with too many changes, the changes shared out). Returns
+    the proven bound of each reach designed with every change allowed."""
     settings = state.settings
     rules = state.study.rules
+    reach_bounds: dict[tuple[int, int], float] = {}
     for share in (False, True) if rules.max_changes is not None else (False,):
         design = design_by_reaches(state.data, sites, 0.5 * state.clock.left(), plain,
                                    settings.solver_name,
-                                   REACH_GAP_SHARE * settings.mip_gap, share)
+                                   REACH_GAP_SHARE * settings.mip_gap, share,
+                                   None if share else reach_bounds)
         if design is None:
-            return
+            break
         if not rule_problems(state.study, design):
             state.consider(design, StageKind.TANK_PATHS.label, must_pass=False)
-            return
+            break
+    return reach_bounds
 
 
 def _record(state: SearchState, begun: float, path: TankPath | None, rounds: int,
