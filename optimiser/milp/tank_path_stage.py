@@ -40,6 +40,9 @@ from optimiser.model.status import Status
 
 REACH_GAP_SHARE = 0.1
 """Each reach of a chosen set is designed within this share of the run's gap."""
+REACH_TIME_SHARE = 0.8
+"""Share of the time left the reaches of a chosen set may take together (each its share
+by length; a reach stops as soon as it is proven)."""
 MAX_ROUNDS = 50
 
 
@@ -109,7 +112,7 @@ def _design(state: SearchState, sites: list[int], plain: Callable[..., DesignOut
     rules = state.study.rules
     reach_bounds: dict[tuple[int, int], float] = {}
     for share in (False, True) if rules.max_changes is not None else (False,):
-        design = design_by_reaches(state.data, sites, 0.5 * state.clock.left(), plain,
+        design = design_by_reaches(state.data, sites, REACH_TIME_SHARE * state.clock.left(), plain,
                                    settings.solver_name,
                                    REACH_GAP_SHARE * settings.mip_gap, share,
                                    None if share else reach_bounds)
