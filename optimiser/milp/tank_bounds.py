@@ -10,11 +10,8 @@ the outlet) a relaxation of its pipe problem is
          E_i - h_{i-1}(x_{i-1}) >= r_i               (a < i < b)
          E_b - K_end h_{b-1}(x_{b-1}) >= R_b
 
-with x_s one option per section among those whose class takes the static line WL_a
-somewhere in the section (at its highest pipe level: the model's classes are exact per
-metre or judged at the lowest, so this admits at least what any design lays there) and
-whose velocities are in the window (whole sections; the rules and fitting losses left
-out), E0_a the tank's water level
+with x_s one option per section among those admissible under the static line WL_a
+(whole sections; the rules and fitting losses left out), E0_a the tank's water level
 (or the source level) with its outlet (entrance) loss K_start, r_i = pipe level +
 minimum pressure, R_b the water level of the tank at b (or the outlet's required head)
 with its inlet (exit) loss K_end, h the velocity head of the option laid. In the model
@@ -67,10 +64,9 @@ class ReachRelaxation:
     """(n, m, bands) option j admissible in section s when the static line falls in
     band c (band q: only options that need no new tank)."""
     margins_m: np.ndarray
-    """(q,) distinct static heads a class takes (allowable head less the surge
-    allowance) [m]."""
-    highest_m: np.ndarray
-    """(n,) highest pipe level of each section [m] (where its static head is least)."""
+    """(q,) distinct allowable static heads above a section's lowest pipe level [m]."""
+    lowest_m: np.ndarray
+    """(n,) lowest pipe level of each section [m]."""
     need_m: np.ndarray
     """(K, n+1) pipe level + minimum pressure at node i [m] (r, before the velocity
     head of the pipe arriving)."""
@@ -122,11 +118,10 @@ def relaxation(data: ProblemData) -> ReachRelaxation:
     margins = np.unique(margin)
     rank = np.searchsorted(margins, margin)
     bands = np.arange(len(margins) + 1)
-    # With new tanks the loader allows only the allowance method of surge: a class takes
-    # a static head while allowable head - allowance >= it (as in tank_data.py).
-    usable = data.velocity_ok[:, :, None] & (rank[None, :, None] >= bands[None, None, :])
+    usable = data.admissible[:, :, None] & (~tanks.conditional[:, :, None]
+                                            | (rank[None, :, None] >= bands[None, None, :]))
     return ReachRelaxation(data.section_cost, data.section_loss_m, data.velocity_head_m,
-                           usable, margins, np.maximum(pipe[:-1], pipe[1:]), need, end,
+                           usable, margins, np.minimum(pipe[:-1], pipe[1:]), need, end,
                            end_k, start, start_k, static, starts, tanks.fixed.copy(),
                            tanks.candidate.copy())
 
@@ -155,7 +150,7 @@ class PairFrame:
 def pair_frame(relax: ReachRelaxation) -> PairFrame:
     """The reaches worth bounding: they span at most as far as some option takes the
     static line of their start, and end before the next tank of the study's own."""
-    n = len(relax.highest_m)
+    n = len(relax.lowest_m)
     first = np.flatnonzero(relax.starts)
     usable_any = relax.usable.any(axis=1)  # (n, bands)
     width = 1
@@ -182,13 +177,13 @@ def pair_frame(relax: ReachRelaxation) -> PairFrame:
 def reach_bands(relax: ReachRelaxation, a: int, sections: np.ndarray) -> np.ndarray:
     """Band of the static line of start a over ``sections``: how many distinct margins
     the static head there exceeds (their classes need a lower static line)."""
-    head = relax.static_m[a] - relax.highest_m[sections] - TOLERANCE_M
+    head = relax.static_m[a] - relax.lowest_m[sections] - TOLERANCE_M
     return np.searchsorted(relax.margins_m, head, side="left")
 
 
 def _bands_table(relax: ReachRelaxation, first: np.ndarray, section: np.ndarray
                  ) -> np.ndarray:
-    head = relax.static_m[first][:, None] - relax.highest_m[section] - TOLERANCE_M
+    head = relax.static_m[first][:, None] - relax.lowest_m[section] - TOLERANCE_M
     return np.searchsorted(relax.margins_m, head, side="left")
 
 
@@ -196,7 +191,7 @@ def _energy_reaches(relax: ReachRelaxation, first: np.ndarray, last: np.ndarray
                     ) -> np.ndarray:
     """(A, W) in every scenario the energy leaving a is at least every pressure's need
     inside the reach and the need at its end (energy only falls along a pipe)."""
-    n = len(relax.highest_m)
+    n = len(relax.lowest_m)
     ok = np.ones(last.shape, dtype=bool)
     end = np.minimum(last, n)
     for k in range(relax.need_m.shape[0]):
@@ -218,7 +213,7 @@ def pair_bounds(relax: ReachRelaxation, frame: PairFrame, profile: np.ndarray) -
     it ends. Valid for the model, whose last piece in a section is its smallest pipe (so
     its velocity head is at least that of any option laid there)."""
     lam = np.minimum.accumulate(np.maximum(profile, 0.0), axis=1)
-    n = len(relax.highest_m)
+    n = len(relax.lowest_m)
     tables = _tables(relax, lam)  # first, middle, last, only: (n, bands) each
     width = frame.section.shape[1]
     beyond = frame.first[:, None] + np.arange(width)[None, :] >= n

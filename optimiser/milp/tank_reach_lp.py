@@ -21,7 +21,7 @@ def reach_profile(relax: ReachRelaxation, first: int, last: int
     """The profile from the LP of the reach from node ``first`` to node ``last``, and
     the LP's value (None: the LP has no solution, so the reach cannot be built)."""
     n_k = relax.need_m.shape[0]
-    n = len(relax.highest_m)
+    n = len(relax.lowest_m)
     sections = np.arange(first, last)
     band = reach_bands(relax, first, sections)
     s_of, j_of = np.nonzero(relax.usable[sections, :, band])
