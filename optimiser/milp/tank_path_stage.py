@@ -7,15 +7,16 @@ priced by a lower bound instead (:mod:`optimiser.milp.tank_bounds`: a Lagrangian
 reach's relaxation at a price profile): the shortest path is then a lower bound on every
 design (a relaxation: it counts as the run's bound). Rounds:
 
-1. the shortest path at the profiles found so far (the first round: no price on head,
-   so only the classes and the costs of the pipes count);
-2. its tanks designed reach by reach by the plan without tanks
-   (:func:`optimiser.milp.tank_reaches.design_by_reaches`): a design, checked;
-3. the LP of each reach of the path not priced yet (:mod:`optimiser.milp.tank_reach_lp`)
+1. the shortest path at the bounds found so far (the first round: no price on head, so
+   only the classes and the costs of the pipes count); its value is the run's bound;
+2. the LP of each reach of the path not priced yet (:mod:`optimiser.milp.tank_reach_lp`)
    gives a profile that prices that reach at its LP value and bounds every other reach;
+3. once the path repeats, its tanks designed reach by reach by the plan without tanks
+   (:func:`optimiser.milp.tank_reaches.design_by_reaches`): a design, checked, and the
+   bound each reach's own search proves, which raises that arc;
 
-until the best design is proven within the gap, the path repeats itself (no reach left
-to price: the bound is as good as these profiles make it), or the time is out.
+until the best design is proven within the gap, a designed path repeats (nothing left to
+price or design: the bound is as good as these bounds make it), or the time is out.
 """
 
 from __future__ import annotations
