@@ -126,3 +126,29 @@ def test_shortest_path_equals_enumeration_of_sites(make_study, seed, n, most):
         return
     assert path is not None and path.value == pytest.approx(best, rel=1e-12)
     assert len(path.sites) <= most and set(path.sites) <= set(sites)
+
+
+@pytest.mark.slow
+def test_own_tank_and_sites_equal_enumeration(make_study):
+    """With a tank of the study's own on the route and sites either side, the design
+    costs the least, over every subset of the other sites, of the pipes optimised with
+    those tanks and the study's own (common practice, no source: the definition)."""
+    profile = _study(make_study, 5, 8).route.chainage_m
+    own = [{"chainage_m": float(profile[4])}]
+    rules = {**RULES, "max_count": 2}
+    outcome = optimise_design(_study(make_study, 5, 8, break_pressure_tanks=rules,
+                                     break_pressure_tank=own))
+    assert outcome.status == Status.OPTIMAL and outcome.verified
+    sites = [float(c) for i, c in enumerate(profile[1:-1], start=1) if i != 4]
+    best = np.inf
+    for size in range(3):
+        for subset in itertools.combinations(sites, size):
+            tanks = own + [{"chainage_m": c} for c in subset]
+            fixed = _study(make_study, 5, 8, break_pressure_tank=tanks,
+                           break_pressure_tanks={"height_m": 3.0})
+            result = optimise_design(fixed)
+            if result.status != Status.INFEASIBLE:
+                best = min(best, result.total_cost + TANK_COST * size)
+    assert outcome.total_cost == pytest.approx(best, rel=1e-7)
+    new = [t.chainage_m for t in outcome.design.tanks if t.new]
+    assert len(new) <= 2 and set(new) <= set(sites)
