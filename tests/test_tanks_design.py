@@ -54,12 +54,16 @@ def _study(make_study, seed: int, n: int, **extra):
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize(("seed", "n", "most"), [(3, 6, 3), (11, 6, 3), (5, 10, 2)])
-def test_design_equals_the_best_subset_of_sites(make_study, seed, n, most):
+@pytest.mark.parametrize(("seed", "n", "most", "change_cost"),
+                         [(3, 6, 3, 0.0), (11, 6, 3, 0.0), (5, 10, 2, 0.0), (5, 8, 2, 800.0)])
+def test_design_equals_the_best_subset_of_sites(make_study, seed, n, most, change_cost):
     """Nine sites on the longest route, so rows over runs of more than four sites (the
-    running sums of the tank binaries) are exercised, not only the short ones."""
+    running sums of the tank binaries) are exercised, not only the short ones; one
+    route pays for each change of option (across tanks too)."""
     rules = {"cost": TANK_COST, "height_m": 3.0, "max_count": most}
-    outcome = optimise_design(_study(make_study, seed, n, break_pressure_tanks=rules))
+    costs = {"costs": {"change_cost": change_cost}} if change_cost else {}
+    outcome = optimise_design(_study(make_study, seed, n, break_pressure_tanks=rules,
+                                     **costs))
     assert outcome.status == Status.OPTIMAL and outcome.verified
     sites = [c for c, *_ in _profile(seed, n)[1:-1]]
     best = np.inf
@@ -67,7 +71,7 @@ def test_design_equals_the_best_subset_of_sites(make_study, seed, n, most):
         for subset in itertools.combinations(sites, size):
             tanks = [{"chainage_m": c} for c in subset]
             fixed = _study(make_study, seed, n, break_pressure_tank=tanks or DELETE,
-                           break_pressure_tanks={"height_m": 3.0})
+                           break_pressure_tanks={"height_m": 3.0}, **costs)
             try:
                 result = optimise_design(fixed)
             except Exception as error:  # no design within the time limit is a failure

@@ -105,11 +105,15 @@ def reach_study(study: Study, first: int, last: int, changes: int | None) -> Stu
 
 def design_by_reaches(data: ProblemData, sites: list[int], time_limit_s: float,
                       plain: Callable[..., DesignOutcome], solver_name: str,
-                      mip_gap: float, share_changes: bool = True) -> Design | None:
+                      mip_gap: float, share_changes: bool = True,
+                      bounds: dict[tuple[int, int], float] | None = None) -> Design | None:
     """The reaches between the study's own tanks and new tanks at ``sites`` designed
     one by one by ``plain`` (:func:`optimise_design`); None when one has no design.
     ``share_changes=False``: each reach may use every change (the joined design may then
-    have too many; the caller's check of the rules decides)."""
+    have too many; the caller's check of the rules decides), and ``bounds`` receives
+    each reach's proven lower bound by (first node, last node): a bound on its pipes
+    with its tanks fixed, since only ``max_changes`` (a rule over the whole route) is
+    left out."""
     study = data.study
     tanks = data.tanks
     assert tanks is not None
@@ -131,6 +135,8 @@ def design_by_reaches(data: ProblemData, sites: list[int], time_limit_s: float,
                             time_limit_s=max(time_limit_s * share, 1.0))
         except SolverError:  # no design of this reach within its time
             return None
+        if bounds is not None and changes is None and outcome.lower_bound is not None:
+            bounds[first, last] = float(outcome.lower_bound)
         if outcome.design is None:
             return None
         start, end = float(route.chainage_m[first]), float(route.chainage_m[last])

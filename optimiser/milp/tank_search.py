@@ -9,20 +9,24 @@ own, shorter plan on the full model of :mod:`optimiser.milp.tank_rows`:
    (:func:`~optimiser.milp.tank_data.with_sites_named`), and the diagnosis without a
    solver (the lowest static line any choice of tanks gives; tanks
    only lower the energy line, so its energy findings stand);
-2. the LP relaxation of the model with tanks, rules relaxed: a bound;
+2. with the study's own tanks only (no site): the LP relaxation of the model, a bound;
 3. with new tanks allowed and no tank of the study's own, the best design without new
    tanks from the plan without tanks (the whole search of :func:`optimise_design` on the
    study with new tanks not allowed): a first design, the warm start of the next stage,
    and the figure the saving is stated against;
-4. without a design yet: tanks placed by rule, each reach between tanks designed by the
+4. with sites: the shortest path over Lagrangian bounds on every reach between two tank
+   nodes (:mod:`optimiser.milp.tank_path_stage`): a bound, and each set of tanks it
+   chooses designed reach by reach by the plan without tanks; on the long routes this
+   proves the design;
+5. without a design yet: tanks placed by rule, each reach between tanks designed by the
    plan without tanks (:mod:`optimiser.milp.tank_reaches`): a first design, and the
    warm start of the next stages;
-5. with the rules: the model with tanks and the rules relaxed (a relaxation: its bound
+6. with the rules: the model with tanks and the rules relaxed (a relaxation: its bound
    counts; its design is offered, and kept if it happens to meet the rules); its tanks
    fixed, each reach designed the same way; then its tanks fixed and the rules on,
    restricted to the options near its design: designs with the rules (HiGHS alone
    seldom finds one on the full model);
-6. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
+7. the full model with the tanks chosen with the pipes (binaries at the sites), warm-
    started from the best design so far, for the rest of the time: its bound is the
    run's bound, its design is checked with its tanks.
 
@@ -50,6 +54,7 @@ from optimiser.milp.search.masks import widened, window_mask
 from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.milp.solvers import SolveReport
 from optimiser.milp.tank_data import with_sites_named
+from optimiser.milp.tank_path_stage import run_tank_paths
 from optimiser.milp.tank_reaches import design_by_reaches, greedy_sites
 from optimiser.milp.tank_rows import chosen_nodes
 from optimiser.model import TRUNK, BreakPressureTank, Design, Study, TankRules
@@ -82,18 +87,15 @@ def search_with_tanks(study: Study, settings: Settings, clock: Clock,
     if findings:
         run.finished = state.infeasible(findings)
         return run
-    begun = time.perf_counter()
-    relaxed = build(data, with_rules=False, relaxed=True)
-    report = state.run_solver(StageKind.TANK_LP, StageKind.TANK_LP.label, relaxed, None,
-                              0.4, time.perf_counter() - begun)
-    if report.status == Status.INFEASIBLE:
-        run.finished = state.infeasible(diagnose_after(data, rules_relaxed_feasible=False))
+    candidates = data.tanks is not None and data.tanks.any_candidate
+    if not candidates and _tank_lp(run):
         return run
-    if report.objective is not None:
-        state.lp_bound = report.objective
-        state.raise_bound(report.bound)
-    if data.tanks is not None and data.tanks.any_candidate and not study.tanks:
+    if candidates and not study.tanks:
         _without_new_tanks(run, plain)
+    if candidates:
+        run.finished = run_tank_paths(state, plain)
+        if run.finished is not None:
+            return run
     if data.tanks is not None and state.best is None:
         _greedy_reaches(run, plain)
     if state.with_rules and not _proven(state):
@@ -101,6 +103,24 @@ def search_with_tanks(study: Study, settings: Settings, clock: Clock,
     if not _proven(state):
         _full_model(run)
     return run
+
+
+def _tank_lp(run: TankRun) -> bool:
+    """The LP relaxation of the model with the study's own tanks (rules relaxed): a
+    bound; True when it proves that no design exists (the run is then finished)."""
+    state = run.state
+    begun = time.perf_counter()
+    relaxed = build(state.data, with_rules=False, relaxed=True)
+    report = state.run_solver(StageKind.TANK_LP, StageKind.TANK_LP.label, relaxed, None,
+                              0.4, time.perf_counter() - begun)
+    if report.status == Status.INFEASIBLE:
+        run.finished = state.infeasible(diagnose_after(state.data,
+                                                       rules_relaxed_feasible=False))
+        return True
+    if report.objective is not None:
+        state.lp_bound = report.objective
+        state.raise_bound(report.bound)
+    return False
 
 
 def _proven(state: SearchState) -> bool:

@@ -56,6 +56,9 @@ class StageKind(Enum):
     """MILP with the rules, those tanks fixed, options near that design: a design."""
     TANK_MODEL = "tank_model"
     """The full model with the tanks chosen with the pipes: bound and design."""
+    TANK_PATHS = "tank_paths"
+    """Shortest path over bounds on every reach between tanks: a bound, and its tanks
+    designed reach by reach."""
 
     @property
     def label(self) -> str:
@@ -86,4 +89,5 @@ _LABELS = {
     StageKind.TANK_RULES_RELAXED: "MILP with break-pressure tanks, rules relaxed",
     StageKind.TANK_FIXED_NEARBY: "MILP with the rules, those tanks fixed, options nearby",
     StageKind.TANK_MODEL: "MILP, full model with break-pressure tanks",
+    StageKind.TANK_PATHS: "tanks by shortest path over bounds on every reach",
 }
