@@ -129,3 +129,15 @@ def test_cli_design_and_check_of_a_scheme_with_a_tank(tmp_path):
     checked = CliRunner().invoke(app, ["check", str(study_path), "--design",
                                        str(out / "design.csv")])
     assert checked.exit_code == 0, checked.output
+
+
+def test_no_design_below_the_tank_is_diagnosed_there(tmp_path):
+    # Branch "b" asks for 130 m at its end, above the tank's water level (123 m): no
+    # pipe can deliver it (energy only falls below the tank, contract section 8).
+    study_path = _write(tmp_path)
+    study_path.write_text(study_path.read_text(encoding="utf-8").replace(
+        "required_head_m = 80.0", "required_head_m = 130.0"), encoding="utf-8")
+    outcome = optimise_design(load_study(study_path))
+    assert outcome.status.value == "infeasible" and outcome.design is None
+    text = " ".join(outcome.diagnosis)
+    assert "below the tank at 1000 m of 'b'" in text and "130 m" in text

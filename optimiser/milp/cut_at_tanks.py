@@ -179,9 +179,12 @@ def optimise_scheme_with_tanks(study: Study, settings: Settings, started: float,
     where = f"tank at {tank.chainage_m:g} m of {tank.branch!r}"
     stages = named_stages(f"above the {where}", first[0]) + \
         named_stages(f"below the {where} (chainages from the tank)", first[1])
-    for outcome, side in zip(first, ("above", "below"), strict=True):
+    below_name = "" if tank.branch == TRUNK else \
+        f"; there 'main' is the rest of {tank.branch!r}"
+    for outcome, side in zip(first, (f"above the {where}", f"below the {where} (chainages "
+                                     f"from the tank{below_name})"), strict=True):
         if outcome.status == Status.INFEASIBLE:
-            return infeasible_outcome(settings, started, stages, f"{side} the {where}", outcome)
+            return infeasible_outcome(settings, started, stages, side, outcome)
     design = _best_joined(study, above, below, tank, first, run, stages)
     if design is None:
         raise InputError(f"{study.path or 'the study file'}: no design of the lines above and "
