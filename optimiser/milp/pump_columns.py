@@ -32,12 +32,11 @@ import numpy as np
 from optimiser.analysis.flows import inflow_m3_s
 from optimiser.analysis.surge import surge_head_m, water_density_kg_m3, wave_speeds_m_s
 from optimiser.hydraulics.pumping import present_worth_factor, pump_power_kw
-from optimiser.milp.built_model import MARGIN_M, Formulation
+from optimiser.milp.built_model import Formulation
 from optimiser.milp.data import ProblemData
-from optimiser.milp.matrix import Affine
 from optimiser.model import Study, SurgeMethod
 
-__all__ = ["PumpCosts", "add_pump_columns", "add_pumping_class_rows", "head_bounds_m",
+__all__ = ["PumpCosts", "add_pump_columns", "head_bounds_m",
            "head_caps_m",
            "pump_costs", "working_limits_m"]
 
@@ -127,75 +126,3 @@ def add_pump_columns(form: Formulation) -> None:
         power = model.add_column(0.0, np.inf, costs.station_cost_per_kw)
         for k, head in enumerate(form.pump_heads):
             model.add_row([(power, 1.0), (head, -float(costs.kw_per_m[k]))], lower=0.0)
-
-
-def add_pumping_class_rows(form: Formulation) -> None:
-    """Classes under pumping pressure (see the module docstring); nothing without a
-    pump or where no class can be exceeded."""
-    data = form.data
-    if data.study.pump is None:
-        return
-    model = form.model
-    n = data.n_sections
-    limits = working_limits_m(form)
-    lowest = np.minimum(data.node_pipe_level_m[:-1], data.node_pipe_level_m[1:])
-    upper = head_bounds_m(form)
-    # Highest energy each section start can have (friction at its least, per scenario).
-    least_loss = np.where(data.admissible[None], data.section_loss_m, np.inf).min(axis=2)
-    top = (data.source_level_m + upper)[:, None] - np.concatenate(
-        [np.zeros((data.n_scenarios, 1)), np.cumsum(least_loss, axis=1)[:, :-1]], axis=1)
-    w_top = top.max(axis=0)  # (n,)
-    need = [s for s in range(n)
-            if np.any(form.allowed[s] & (limits + lowest[s] + MARGIN_M < w_top[s]))]
-    if not need:
-        return
-    energy = [Affine([(form.pump_heads[k], 1.0)], float(data.source_level_m[k]))
-              for k in range(data.n_scenarios)]
-    wanted = set(need)
-    for s in range(max(need) + 1):
-        if s in wanted:
-            _section_class_rows(form, s, energy, limits, float(lowest[s]), float(w_top[s]))
-        for k in range(data.n_scenarios):
-            terms = [(form.x[s, j], -float(data.section_loss_m[k, s, j]))
-                     for j in range(data.n_options) if (s, j) in form.x]
-            column = model.add_column(-np.inf, np.inf)
-            model.equal(Affine([(column, 1.0)]) - (energy[k] + Affine(terms)), 0.0)
-            energy[k] = Affine([(column, 1.0)])
-
-
-def _section_class_rows(form: Formulation, s: int, energy: list[Affine],
-                        limits: np.ndarray, lowest_m: float, w_top: float) -> None:
-    """``w >= energy[k]`` for every scenario, and the incremental (staircase) form of
-    the classes: with the working limits L1 < L2 < ... of the options of section s
-    that ``w`` could exceed and indicators d1 >= d2 >= ... (binary unless relaxed),
-    ``w - lowest level <= L1 + (L2 - L1) d1 + (L3 - L2) d2 + ...`` (the last step up to
-    the most ``w`` can be), and the options of limit <= Lt laid on at most ``1 - dt``
-    of the section. The convex hull of the choice of a class level for one section,
-    tighter than a big-M row per level."""
-    model = form.model
-    options = [j for j in range(form.data.n_options) if (s, j) in form.x]
-    top = w_top - lowest_m
-    levels = sorted({float(limits[j]) - MARGIN_M for j in options})
-    below = [level for level in levels if level < top]
-    w = model.add_column(-np.inf, np.inf)
-    for expr in energy:
-        model.at_least(Affine([(w, 1.0)]) - expr, 0.0)
-    ceiling = min(levels[-1], top)  # no option takes more than the largest limit
-    steps = [*below[1:], ceiling] if below and below[-1] < ceiling else below[1:]
-    if not below:
-        return
-    terms: list[tuple[int, float]] = [(w, 1.0)]
-    previous = None
-    for level, upper in zip(below, [*steps, ceiling][:len(below)], strict=True):
-        if upper <= level:
-            break
-        over = model.add_column(0.0, 1.0, integer=not form.relaxed)
-        form.pump_indicators.append(over)
-        terms.append((over, -(upper - level)))
-        weak = [(form.x[s, j], 1.0) for j in options if limits[j] - MARGIN_M <= level]
-        model.at_most(Affine([*weak, (over, 1.0)]), 1.0)
-        if previous is not None:  # a higher limit exceeded only if the lower one is
-            model.add_row([(previous, 1.0), (over, -1.0)], lower=0.0)
-        previous = over
-    # w - lowest <= L1 + sum (next - this) d
-    model.at_most(Affine(terms), below[0] + lowest_m)
