@@ -36,9 +36,8 @@ from optimiser.milp.built_model import Formulation
 from optimiser.milp.data import ProblemData
 from optimiser.model import Study, SurgeMethod
 
-__all__ = ["PumpCosts", "add_pump_columns", "head_bounds_m",
-           "head_caps_m",
-           "pump_costs", "working_limits_m"]
+__all__ = ["PumpCosts", "add_pump_columns", "head_bounds_m", "head_caps_m",
+           "head_upper_m", "option_limits_m", "pump_costs", "working_limits_m"]
 
 
 @dataclass(frozen=True)
@@ -64,30 +63,41 @@ def pump_costs(study: Study) -> PumpCosts:
 
 
 def working_limits_m(form: Formulation) -> np.ndarray:
+    """(m,) the most pumping pressure head each option takes with its surge (see
+    :func:`option_limits_m`)."""
+    return option_limits_m(form.data)
+
+
+def option_limits_m(data: ProblemData) -> np.ndarray:
     """(m,) the most pumping pressure head each option takes with its surge: the
     allowable head less the allowance, or by wave speed the smaller of the allowable
     head and the surge limit less the surge at the option's largest velocity anywhere."""
-    study = form.data.study
+    study = data.study
     catalogue = study.catalogue
     if study.surge.method is SurgeMethod.ALLOWANCE:
         return catalogue.allowable_head_m - study.surge_allowance_m
-    fastest = form.data.velocity_m_s.max(axis=(0, 1))
+    fastest = data.velocity_m_s.max(axis=(0, 1))
     surge = surge_head_m(study, wave_speeds_m_s(study, catalogue), fastest)
     return np.minimum(catalogue.allowable_head_m, catalogue.surge_limit_head_m - surge)
 
 
 def head_bounds_m(form: Formulation) -> np.ndarray:
-    """(K,) upper bound of each station head: max_head_m, and the head at which even the
-    strongest admissible option at the station could not take the pressure there."""
-    data = form.data
+    """(K,) upper bound of each station head in ``form`` (see :func:`head_upper_m`)."""
+    return head_upper_m(form.data, form.pump_head_cap_m)
+
+
+def head_upper_m(data: ProblemData, cap_m: np.ndarray | None = None) -> np.ndarray:
+    """(K,) upper bound of each station head: max_head_m, ``cap_m`` (None: none), and
+    the head at which even the strongest admissible option at the station could not
+    take the pressure there."""
     study = data.study
-    limit = float(np.max(working_limits_m(form)[data.admissible[0]]))
+    limit = float(np.max(option_limits_m(data)[data.admissible[0]]))
     entrance = (1.0 + study.source.entrance_k) * data.velocity_head_m[:, 0, :].max(axis=1)
     bound = limit + data.node_pipe_level_m[0] - data.source_level_m + entrance + 1.0
     if study.pump.max_head_m is not None:
         bound = np.minimum(bound, study.pump.max_head_m)
-    if form.pump_head_cap_m is not None:
-        bound = np.minimum(bound, form.pump_head_cap_m)
+    if cap_m is not None:
+        bound = np.minimum(bound, cap_m)
     return np.maximum(bound, 0.0)
 
 

@@ -41,6 +41,7 @@ from optimiser.milp.outcome import DesignOutcome, Stage
 from optimiser.milp.pumps.designs import uniform_designs
 from optimiser.milp.pumps.fine_models import run_fine_models
 from optimiser.milp.pumps.reach_rounds import Refinement, run_reach_rounds
+from optimiser.milp.pumps.two_pieces import run_two_pieces
 from optimiser.milp.search.finish import finish, no_design_error
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, SearchState, Settings
@@ -68,7 +69,9 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
     report = run_reach_rounds(state, Refinement.start(data), lp=True, share=0.3, rounds=2)
     if report is not None and report.status == Status.INFEASIBLE:
         return state.infeasible(_why_infeasible(study))
-    uniform_designs(state)
+    run_two_pieces(state)  # a proof when the rules allow at most one change
+    if not state.proven():
+        uniform_designs(state)
     if not state.proven() and not state.clock.nearly_out():
         run_reach_rounds(state, Refinement.start(data), lp=False, share=0.6)
     if not state.proven() and not state.clock.nearly_out():

@@ -83,6 +83,7 @@ def add_class_rows(form: Formulation, levels: ReachLevels) -> None:
     energy = [Affine([(form.pump_heads[k], 1.0)], float(data.source_level_m[k]))
               for k in range(data.n_scenarios)]
     wanted = set(need)
+    earlier: dict[float, int] = {}
     for s in range(max(need) + 1):
         after = []
         for k in range(data.n_scenarios):
@@ -91,12 +92,26 @@ def add_class_rows(form: Formulation, levels: ReachLevels) -> None:
             column = model.add_column(-np.inf, np.inf)
             model.equal(Affine([(column, 1.0)]) - (energy[k] + Affine(terms)), 0.0)
             after.append(Affine([(column, 1.0)]))
+        current: dict[float, int] = {}
         if s in wanted:
-            section_class_rows(form, s, after if levels.at_end[s] else energy, limits,
-                               float(levels.level_m[s]), float(top[s]))
+            current = section_class_rows(form, s, after if levels.at_end[s] else energy,
+                                         limits, float(levels.level_m[s]), float(top[s]))
+        if s > 0 and levels.level_m[s - 1] <= levels.level_m[s]:
+            _ordered(form, earlier, current)
+        earlier = current
         energy = after
     if not form.relaxed:
         form.n_binaries += len(form.pump_indicators) - before
+
+
+def _ordered(form: Formulation, upstream: dict[float, int],
+             downstream: dict[float, int]) -> None:
+    """A class level exceeded downstream is exceeded upstream too: the energy falls along
+    the route and, here, the level the rows use does not, so the least energy each row
+    must take falls as well (the indicators a design needs are ordered)."""
+    for level, column in downstream.items():
+        if level in upstream:
+            form.model.add_row([(upstream[level], 1.0), (column, -1.0)], lower=0.0)
 
 
 def _top_energy_m(form: Formulation) -> np.ndarray:
@@ -137,14 +152,15 @@ def add_pumping_class_rows(form: Formulation) -> None:
 
 
 def section_class_rows(form: Formulation, s: int, energy: list[Affine],
-                        limits: np.ndarray, lowest_m: float, w_top: float) -> None:
+                       limits: np.ndarray, lowest_m: float, w_top: float
+                       ) -> dict[float, int]:
     """``w >= energy[k]`` for every scenario, and the incremental (staircase) form of
     the classes: with the working limits L1 < L2 < ... of the options of section s
     that ``w`` could exceed and indicators d1 >= d2 >= ... (binary unless relaxed),
     ``w - lowest level <= L1 + (L2 - L1) d1 + (L3 - L2) d2 + ...`` (the last step up to
     the most ``w`` can be), and the options of limit <= Lt laid on at most ``1 - dt``
     of the section. The convex hull of the choice of a class level for one section,
-    tighter than a big-M row per level."""
+    tighter than a big-M row per level. Returns the indicator of each level."""
     model = form.model
     options = [j for j in range(form.data.n_options) if (s, j) in form.x]
     top = w_top - lowest_m
@@ -155,8 +171,9 @@ def section_class_rows(form: Formulation, s: int, energy: list[Affine],
         model.at_least(Affine([(w, 1.0)]) - expr, 0.0)
     ceiling = min(levels[-1], top)  # no option takes more than the largest limit
     steps = [*below[1:], ceiling] if below and below[-1] < ceiling else below[1:]
+    indicators: dict[float, int] = {}
     if not below:
-        return
+        return indicators
     terms: list[tuple[int, float]] = [(w, 1.0)]
     previous = None
     for level, upper in zip(below, [*steps, ceiling][:len(below)], strict=True):
@@ -164,6 +181,7 @@ def section_class_rows(form: Formulation, s: int, energy: list[Affine],
             break
         over = model.add_column(0.0, 1.0, integer=not form.relaxed)
         form.pump_indicators.append(over)
+        indicators[level] = over
         terms.append((over, -(upper - level)))
         weak = [(form.x[s, j], 1.0) for j in options if limits[j] - MARGIN_M <= level]
         model.at_most(Affine([*weak, (over, 1.0)]), 1.0)
@@ -172,3 +190,4 @@ def section_class_rows(form: Formulation, s: int, energy: list[Affine],
         previous = over
     # w - lowest <= L1 + sum (next - this) d
     model.at_most(Affine(terms), below[0] + lowest_m)
+    return indicators

@@ -56,6 +56,9 @@ class StageKind(Enum):
     """MILP with the rules, those tanks fixed, options near that design: a design."""
     TANK_MODEL = "tank_model"
     """The full model with the tanks chosen with the pipes: bound and design."""
+    PUMP_TWO_PIECES = "pump_two_pieces"
+    """Pumped main, at most one change: every pair and place of change bounded in closed
+    form (a relaxation: bound), the cheapest node changes (designs)."""
 
     @property
     def label(self) -> str:
@@ -86,4 +89,5 @@ _LABELS = {
     StageKind.TANK_RULES_RELAXED: "MILP with break-pressure tanks, rules relaxed",
     StageKind.TANK_FIXED_NEARBY: "MILP with the rules, those tanks fixed, options nearby",
     StageKind.TANK_MODEL: "MILP, full model with break-pressure tanks",
+    StageKind.PUMP_TWO_PIECES: "every design of at most two pieces, bounded in closed form",
 }
