@@ -14,17 +14,27 @@ they are left out (recorded as skipped). The plan here, after Alperovits & Shami
    (:mod:`optimiser.milp.pumps.class_rows`), reaches split where the LP used a class
    the pressure at their start breaks, pressure points added where its design came
    close: the LP bound;
-3. the same rounds for the mixed-integer programme with the rules (each a relaxation:
-   its bound counts), warm-started from the best design; each round's design judged by
-   the check, and again with the stretches whose class the pumping pressure breaks
-   raised (:mod:`optimiser.milp.pumps.designs`);
-4. if not yet proven, the models of the fine sections (:mod:`optimiser.milp.pumps.fine_models`):
+3. when the rules allow at most one change, every pair of options and place of change
+   bounded in closed form (:mod:`optimiser.milp.pumps.two_pieces`, a relaxation: its
+   bound counts), its cheapest node changes checked as designs;
+4. if not proven, first designs that obey every rule: each option over the whole route,
+   and the weakest class of each size with the stretches whose class the pressure
+   breaks raised (:mod:`optimiser.milp.pumps.designs`);
+5. on a long route (more than ``FINE_SECTIONS`` sections), rounds of the reach model
+   with the rules (each a relaxation: its bound counts), warm-started from the best
+   design; each round's design judged by the check, and again with its stretches
+   raised;
+6. if not yet proven, the models of the fine sections (:mod:`optimiser.milp.pumps.fine_models`):
    without the rules, with them around that design, the full model.
 
 Every design is judged by the check (:func:`optimiser.analysis.check_design`) and
 priced at its life-cycle cost there, with the least station head per scenario.
 ``total_cost`` stays the capital of the pipes and changes (contract section 9);
 ``lower_bound``, ``lp_bound`` and ``gap`` are those of the life-cycle cost, the objective.
+The bounds are over the designs of the model, which judges a section's classes at the
+energy at its start; a design with its stretches raised may change class inside a
+section, outside the model, and cost less than them: the bounds are then capped at its
+cost (as for the any-order model of a gravity main, docs/method.md).
 """
 
 from __future__ import annotations
@@ -48,6 +58,9 @@ from optimiser.milp.search.state import Clock, SearchState, Settings
 from optimiser.model import Study
 from optimiser.model.status import Status
 
+FINE_SECTIONS = 200
+"""Up to this many sections the models of the fine sections run at once: the reach
+rounds only pay where those models are too large to solve in the time."""
 SKIPPED_STAGES = ("cheapest uniform design, priced dynamic programme, reach and any-order "
                   "models: they price pipes only, not the energy of a pump")
 
@@ -72,7 +85,8 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
     run_two_pieces(state)  # a proof when the rules allow at most one change
     if not state.proven():
         uniform_designs(state)
-    if not state.proven() and not state.clock.nearly_out():
+    if data.n_sections > FINE_SECTIONS and not state.proven() \
+            and not state.clock.nearly_out():
         run_reach_rounds(state, Refinement.start(data), lp=False, share=0.6)
     if not state.proven() and not state.clock.nearly_out():
         run_fine_models(state)
