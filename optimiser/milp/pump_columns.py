@@ -1,4 +1,4 @@
-"""Columns and rows of a pumped main (contract section 9) in the split-pipe programme.
+"""Columns of a pumped main (contract section 9) in the split-pipe programme.
 
 Pipes and pump heads in one linear programme, after Alperovits, E. & Shamir, U. (1977),
 Design of optimal water distribution systems, *Water Resources Research* 13(6),
@@ -12,15 +12,9 @@ present value of its energy); with ``station_cost_per_kw > 0`` one column ``P`` 
 installed power, P >= rho g Q_k H[k] / (1000 eff) for every k, at that cost per kW.
 Both are exact: the power is linear in H.
 
-Pressure classes under pumping (every piece takes the largest pressure head in it
-while pumping, plus its surge): ``w[s]`` is at least the energy at the start of section
-s in every scenario, counting friction and the per-km allowance exactly (one running
-energy row per section and scenario) and no point loss (so it is an upper bound of the
-energy); and for every option j used in s (``y[s, j] = 1``),
-``w[s] - lowest pipe level of s <= its working limit``, a big-M row. Conservative in
-two ways: the energy at the start of the section is taken with the lowest pipe level
-of the section, and the velocity head is not deducted (both overstate the pressure).
-Rows that cannot bind (the limit is above the most ``w[s]`` can be) are left out.
+The working limit of each option under pumping (:func:`option_limits_m`) and the
+upper bounds of the station heads are here; the rows of the classes under pumping, on
+sections and on merged reaches, are in :mod:`optimiser.milp.pumps.class_rows`.
 """
 
 from __future__ import annotations

@@ -1,5 +1,6 @@
 """Designs of a pumped main: judged by the check at their least station heads and priced
-at their life-cycle cost; classes raised where the pumping pressure breaks them."""
+at their life-cycle cost; first designs that obey every rule; classes raised over the
+stretch where the pressure breaks them."""
 
 from __future__ import annotations
 
@@ -13,7 +14,7 @@ from optimiser.milp.outcome import VerificationError
 from optimiser.milp.search.state import Candidate, SearchState
 from optimiser.model import Design, Piece, Study
 
-__all__ = ["consider", "uniform_designs", "with_classes_raised", "with_stretch_raised"]
+__all__ = ["consider", "uniform_designs", "with_stretch_raised"]
 
 
 def consider(state: SearchState, design: Design, source: str, must_pass: bool
@@ -34,20 +35,6 @@ def consider(state: SearchState, design: Design, source: str, must_pass: bool
     if best is None or cost < best.cost - 1e-9 * abs(best.cost):
         state.best = Candidate(design, result, cost, source)
     return result
-
-
-def with_classes_raised(study: Study, design: Design) -> Design | None:
-    """``design`` with the class of every piece the pumping pressure breaks raised
-    within its material and size until the check passes (None if it cannot)."""
-    for _ in range(4):
-        result = check_design(study, design, capacity=False)
-        if result.ok:
-            return design
-        raised = _raise_classes(study, design, result)
-        if raised is None:
-            return None
-        design = raised
-    return None
 
 
 def with_stretch_raised(study: Study, design: Design) -> Design | None:
@@ -108,24 +95,6 @@ def _next_class(study: Study, piece: Piece):
     higher = [o for o in study.catalogue if o.material == option.material
               and o.dn_mm == option.dn_mm and o.allowable_head_m > option.allowable_head_m]
     return min(higher, key=lambda o: o.allowable_head_m) if higher else None
-
-
-def _raise_classes(study: Study, design: Design, result: CheckResult) -> Design | None:
-    """Every piece with a class violation in the next class of its material and size
-    (None if one has no higher class, or something else fails)."""
-    failing = {v.chainage_m for v in result.violations if v.kind == "max_pressure"}
-    if not failing:
-        return None
-    pieces = []
-    for index, piece in enumerate(design.pieces):
-        row = result.pieces.iloc[index]
-        option = piece.option
-        if row["lowest_chainage_m"] in failing:
-            option = _next_class(study, piece)
-            if option is None:
-                return None
-        pieces.append(dataclasses.replace(piece, option=option))
-    return Design(tuple(pieces))
 
 
 def uniform_designs(state: SearchState) -> None:
