@@ -101,7 +101,8 @@ def _model_rule_cheapest(main, study) -> float:
                 if not data.admissible[np.arange(n), choice].all():
                     continue
                 loss = data.section_loss_m[:, np.arange(n), choice]  # (K, n)
-                head = np.maximum(need + loss.sum(axis=1), 0.0)
+                # the model's 0.01 mm safety margin on the outlet head (docs/method.md)
+                head = np.maximum(need + loss.sum(axis=1) + 1e-5, 0.0)
                 start = (data.source_level_m + head)[:, None] - np.concatenate(
                     [np.zeros((len(head), 1)), np.cumsum(loss, axis=1)[:, :-1]], axis=1)
                 if (start.max(axis=0) - lowest > limits[choice] + 1e-9).any():
