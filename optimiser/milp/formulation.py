@@ -121,7 +121,8 @@ from optimiser.milp.columns import add_section_columns
 from optimiser.milp.data import ProblemData
 from optimiser.milp.matrix import LinearModel, Term
 from optimiser.milp.pressure_rows import add_pressure_rows
-from optimiser.milp.pump_columns import add_pump_columns, add_pumping_class_rows
+from optimiser.milp.pump_columns import add_pump_columns
+from optimiser.milp.pumps.class_rows import add_pumping_class_rows
 from optimiser.milp.rule_rows import add_rule_rows
 from optimiser.milp.tank_rows import add_static_rows
 

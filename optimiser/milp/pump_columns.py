@@ -1,4 +1,4 @@
-"""Columns and rows of a pumped main (contract section 9) in the split-pipe programme.
+"""Columns of a pumped main (contract section 9) in the split-pipe programme.
 
 Pipes and pump heads in one linear programme, after Alperovits, E. & Shamir, U. (1977),
 Design of optimal water distribution systems, *Water Resources Research* 13(6),
@@ -12,15 +12,9 @@ present value of its energy); with ``station_cost_per_kw > 0`` one column ``P`` 
 installed power, P >= rho g Q_k H[k] / (1000 eff) for every k, at that cost per kW.
 Both are exact: the power is linear in H.
 
-Pressure classes under pumping (every piece takes the largest pressure head in it
-while pumping, plus its surge): ``w[s]`` is at least the energy at the start of section
-s in every scenario, counting friction and the per-km allowance exactly (one running
-energy row per section and scenario) and no point loss (so it is an upper bound of the
-energy); and for every option j used in s (``y[s, j] = 1``),
-``w[s] - lowest pipe level of s <= its working limit``, a big-M row. Conservative in
-two ways: the energy at the start of the section is taken with the lowest pipe level
-of the section, and the velocity head is not deducted (both overstate the pressure).
-Rows that cannot bind (the limit is above the most ``w[s]`` can be) are left out.
+The working limit of each option under pumping (:func:`option_limits_m`) and the
+upper bounds of the station heads are here; the rows of the classes under pumping, on
+sections and on merged reaches, are in :mod:`optimiser.milp.pumps.class_rows`.
 """
 
 from __future__ import annotations
@@ -32,14 +26,12 @@ import numpy as np
 from optimiser.analysis.flows import inflow_m3_s
 from optimiser.analysis.surge import surge_head_m, water_density_kg_m3, wave_speeds_m_s
 from optimiser.hydraulics.pumping import present_worth_factor, pump_power_kw
-from optimiser.milp.built_model import MARGIN_M, Formulation
+from optimiser.milp.built_model import Formulation
 from optimiser.milp.data import ProblemData
-from optimiser.milp.matrix import Affine
 from optimiser.model import Study, SurgeMethod
 
-__all__ = ["PumpCosts", "add_pump_columns", "add_pumping_class_rows", "head_bounds_m",
-           "head_caps_m",
-           "pump_costs", "working_limits_m"]
+__all__ = ["PumpCosts", "add_pump_columns", "head_bounds_m", "head_caps_m",
+           "head_upper_m", "option_limits_m", "pump_costs", "working_limits_m"]
 
 
 @dataclass(frozen=True)
@@ -65,30 +57,41 @@ def pump_costs(study: Study) -> PumpCosts:
 
 
 def working_limits_m(form: Formulation) -> np.ndarray:
+    """(m,) the most pumping pressure head each option takes with its surge (see
+    :func:`option_limits_m`)."""
+    return option_limits_m(form.data)
+
+
+def option_limits_m(data: ProblemData) -> np.ndarray:
     """(m,) the most pumping pressure head each option takes with its surge: the
     allowable head less the allowance, or by wave speed the smaller of the allowable
     head and the surge limit less the surge at the option's largest velocity anywhere."""
-    study = form.data.study
+    study = data.study
     catalogue = study.catalogue
     if study.surge.method is SurgeMethod.ALLOWANCE:
         return catalogue.allowable_head_m - study.surge_allowance_m
-    fastest = form.data.velocity_m_s.max(axis=(0, 1))
+    fastest = data.velocity_m_s.max(axis=(0, 1))
     surge = surge_head_m(study, wave_speeds_m_s(study, catalogue), fastest)
     return np.minimum(catalogue.allowable_head_m, catalogue.surge_limit_head_m - surge)
 
 
 def head_bounds_m(form: Formulation) -> np.ndarray:
-    """(K,) upper bound of each station head: max_head_m, and the head at which even the
-    strongest admissible option at the station could not take the pressure there."""
-    data = form.data
+    """(K,) upper bound of each station head in ``form`` (see :func:`head_upper_m`)."""
+    return head_upper_m(form.data, form.pump_head_cap_m)
+
+
+def head_upper_m(data: ProblemData, cap_m: np.ndarray | None = None) -> np.ndarray:
+    """(K,) upper bound of each station head: max_head_m, ``cap_m`` (None: none), and
+    the head at which even the strongest admissible option at the station could not
+    take the pressure there."""
     study = data.study
-    limit = float(np.max(working_limits_m(form)[data.admissible[0]]))
+    limit = float(np.max(option_limits_m(data)[data.admissible[0]]))
     entrance = (1.0 + study.source.entrance_k) * data.velocity_head_m[:, 0, :].max(axis=1)
     bound = limit + data.node_pipe_level_m[0] - data.source_level_m + entrance + 1.0
     if study.pump.max_head_m is not None:
         bound = np.minimum(bound, study.pump.max_head_m)
-    if form.pump_head_cap_m is not None:
-        bound = np.minimum(bound, form.pump_head_cap_m)
+    if cap_m is not None:
+        bound = np.minimum(bound, cap_m)
     return np.maximum(bound, 0.0)
 
 
@@ -127,75 +130,3 @@ def add_pump_columns(form: Formulation) -> None:
         power = model.add_column(0.0, np.inf, costs.station_cost_per_kw)
         for k, head in enumerate(form.pump_heads):
             model.add_row([(power, 1.0), (head, -float(costs.kw_per_m[k]))], lower=0.0)
-
-
-def add_pumping_class_rows(form: Formulation) -> None:
-    """Classes under pumping pressure (see the module docstring); nothing without a
-    pump or where no class can be exceeded."""
-    data = form.data
-    if data.study.pump is None:
-        return
-    model = form.model
-    n = data.n_sections
-    limits = working_limits_m(form)
-    lowest = np.minimum(data.node_pipe_level_m[:-1], data.node_pipe_level_m[1:])
-    upper = head_bounds_m(form)
-    # Highest energy each section start can have (friction at its least, per scenario).
-    least_loss = np.where(data.admissible[None], data.section_loss_m, np.inf).min(axis=2)
-    top = (data.source_level_m + upper)[:, None] - np.concatenate(
-        [np.zeros((data.n_scenarios, 1)), np.cumsum(least_loss, axis=1)[:, :-1]], axis=1)
-    w_top = top.max(axis=0)  # (n,)
-    need = [s for s in range(n)
-            if np.any(form.allowed[s] & (limits + lowest[s] + MARGIN_M < w_top[s]))]
-    if not need:
-        return
-    energy = [Affine([(form.pump_heads[k], 1.0)], float(data.source_level_m[k]))
-              for k in range(data.n_scenarios)]
-    wanted = set(need)
-    for s in range(max(need) + 1):
-        if s in wanted:
-            _section_class_rows(form, s, energy, limits, float(lowest[s]), float(w_top[s]))
-        for k in range(data.n_scenarios):
-            terms = [(form.x[s, j], -float(data.section_loss_m[k, s, j]))
-                     for j in range(data.n_options) if (s, j) in form.x]
-            column = model.add_column(-np.inf, np.inf)
-            model.equal(Affine([(column, 1.0)]) - (energy[k] + Affine(terms)), 0.0)
-            energy[k] = Affine([(column, 1.0)])
-
-
-def _section_class_rows(form: Formulation, s: int, energy: list[Affine],
-                        limits: np.ndarray, lowest_m: float, w_top: float) -> None:
-    """``w >= energy[k]`` for every scenario, and the incremental (staircase) form of
-    the classes: with the working limits L1 < L2 < ... of the options of section s
-    that ``w`` could exceed and indicators d1 >= d2 >= ... (binary unless relaxed),
-    ``w - lowest level <= L1 + (L2 - L1) d1 + (L3 - L2) d2 + ...`` (the last step up to
-    the most ``w`` can be), and the options of limit <= Lt laid on at most ``1 - dt``
-    of the section. The convex hull of the choice of a class level for one section,
-    tighter than a big-M row per level."""
-    model = form.model
-    options = [j for j in range(form.data.n_options) if (s, j) in form.x]
-    top = w_top - lowest_m
-    levels = sorted({float(limits[j]) - MARGIN_M for j in options})
-    below = [level for level in levels if level < top]
-    w = model.add_column(-np.inf, np.inf)
-    for expr in energy:
-        model.at_least(Affine([(w, 1.0)]) - expr, 0.0)
-    ceiling = min(levels[-1], top)  # no option takes more than the largest limit
-    steps = [*below[1:], ceiling] if below and below[-1] < ceiling else below[1:]
-    if not below:
-        return
-    terms: list[tuple[int, float]] = [(w, 1.0)]
-    previous = None
-    for level, upper in zip(below, [*steps, ceiling][:len(below)], strict=True):
-        if upper <= level:
-            break
-        over = model.add_column(0.0, 1.0, integer=not form.relaxed)
-        form.pump_indicators.append(over)
-        terms.append((over, -(upper - level)))
-        weak = [(form.x[s, j], 1.0) for j in options if limits[j] - MARGIN_M <= level]
-        model.at_most(Affine([*weak, (over, 1.0)]), 1.0)
-        if previous is not None:  # a higher limit exceeded only if the lower one is
-            model.add_row([(previous, 1.0), (over, -1.0)], lower=0.0)
-        previous = over
-    # w - lowest <= L1 + sum (next - this) d
-    model.at_most(Affine(terms), below[0] + lowest_m)

@@ -59,6 +59,9 @@ class StageKind(Enum):
     TANK_PATHS = "tank_paths"
     """Shortest path over bounds on every reach between tanks: a bound, and its tanks
     designed reach by reach."""
+    PUMP_TWO_PIECES = "pump_two_pieces"
+    """Pumped main, at most one change: every pair and place of change bounded in closed
+    form (a relaxation: bound), the cheapest node changes (designs)."""
 
     @property
     def label(self) -> str:
@@ -90,4 +93,5 @@ _LABELS = {
     StageKind.TANK_FIXED_NEARBY: "MILP with the rules, those tanks fixed, options nearby",
     StageKind.TANK_MODEL: "MILP, full model with break-pressure tanks",
     StageKind.TANK_PATHS: "tanks by shortest path over bounds on every reach",
+    StageKind.PUMP_TWO_PIECES: "every design of at most two pieces, bounded in closed form",
 }
