@@ -269,3 +269,15 @@ def write_study(
 def flow_text_m3_s(flow_m3_s: float) -> str:
     """A flow as the study file wants it, exactly: ``"0.0123456789 m^3/s"``."""
     return f"{flow_m3_s!r} m^3/s"
+
+
+def write_pvc_catalogue(folder: Path, sizes: list[tuple] | tuple[tuple, ...],
+                        pressure_class: str = "PN100",
+                        allowable_head_m: float = 1000.0) -> Path:
+    """An invented PVC catalogue of one class, Hazen-Williams C 140, from (DN, internal
+    diameter mm, cost per m) rows; written to ``catalogue.csv`` in ``folder``."""
+    rows = [("PVC", dn, d, pressure_class, allowable_head_m, 0.01, 140, cost, "invented")
+            for dn, d, cost in sizes]
+    path = folder / "catalogue.csv"
+    path.write_text(csv_text(rows, CATALOGUE_COLUMNS), encoding="utf-8")
+    return path

@@ -16,7 +16,7 @@ import math
 
 import numpy as np
 import pytest
-from builders import csv_text, toml_text
+from builders import csv_text, toml_text, write_pvc_catalogue
 from pump_reference import water_density_kg_m3
 from scipy.optimize import linprog
 from typer.testing import CliRunner
@@ -40,11 +40,7 @@ def _write(folder, *, outlet=80.0, inlet_k=0.0, rules=None, sizes=SIZES, design=
     folder.mkdir(parents=True, exist_ok=True)
     (folder / "profile.csv").write_text(csv_text(PROFILE, ("chainage_m", "ground_m")),
                                         encoding="utf-8")
-    columns = ("material", "dn_mm", "internal_diameter_mm", "pressure_class",
-               "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m", "note")
-    rows = [("PVC", dn, d, "PN100", 1000.0, 0.01, 140, cost, "invented")
-            for dn, d, cost in sizes]
-    (folder / "catalogue.csv").write_text(csv_text(rows, columns), encoding="utf-8")
+    write_pvc_catalogue(folder, sizes)
     study = {"title": "Invented rising main to a tank, gravity below", "currency": "USD",
              "water": {"temperature_c": 15.0},
              "source": {"level_m": 100.0, "entrance_k": 0.0},
@@ -188,11 +184,7 @@ def _write_scheme(folder):
                        "b.csv": [(0.0, 100.0), (500.0, 80.0)]}.items():
         (folder / name).write_text(csv_text(rows, ("chainage_m", "ground_m")),
                                    encoding="utf-8")
-    columns = ("material", "dn_mm", "internal_diameter_mm", "pressure_class",
-               "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m", "note")
-    rows = [("PVC", dn, d, "PN100", 1000.0, 0.01, 140, cost, "invented")
-            for dn, d, cost in SIZES]
-    (folder / "catalogue.csv").write_text(csv_text(rows, columns), encoding="utf-8")
+    write_pvc_catalogue(folder, SIZES)
     study = {"title": "Invented rising main to a tank, a branched scheme below",
              "currency": "USD", "water": {"temperature_c": 15.0},
              "source": {"level_m": 100.0, "entrance_k": 0.0},
@@ -258,11 +250,7 @@ def _write_steep(folder, extra_tanks=(), new_tanks=True):
                (3000.0, 200.0, "yes"), (4000.0, 140.0, "")]
     (folder / "profile.csv").write_text(csv_text(profile, ("chainage_m", "ground_m",
                                                            "tank_site")), encoding="utf-8")
-    columns = ("material", "dn_mm", "internal_diameter_mm", "pressure_class",
-               "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m", "note")
-    rows = [("PVC", dn, d, "PN15", 150.0, 0.01, 140, cost, "invented")
-            for dn, d, cost in SIZES]
-    (folder / "catalogue.csv").write_text(csv_text(rows, columns), encoding="utf-8")
+    write_pvc_catalogue(folder, SIZES, "PN15", 150.0)
     tanks = [{"chainage_m": 1000.0, "water_level_m": 331.0}]
     tanks += [{"chainage_m": c} for c in extra_tanks]
     rules = {"inlet_k": 0.0, "outlet_k": 0.0, "sites": "marked"}

@@ -14,7 +14,7 @@ import json
 
 import numpy as np
 import pytest
-from builders import csv_text, toml_text
+from builders import csv_text, toml_text, write_pvc_catalogue
 from scipy.optimize import linprog
 from typer.testing import CliRunner
 
@@ -25,9 +25,6 @@ from optimiser.milp import optimise_design
 HW = 10.67  # contract section 5, SI Hazen-Williams
 SIZES = ((100, 100.0, 20.0), (150, 150.0, 32.0), (200, 200.0, 48.0), (250, 250.0, 70.0))
 TANK_LEVEL = 123.0
-CATALOGUE_COLUMNS = ("material", "dn_mm", "internal_diameter_mm", "pressure_class",
-                     "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m",
-                     "note")
 
 
 def _write(folder, rules=None):
@@ -41,9 +38,7 @@ def _write(folder, rules=None):
                 "c.csv": [(0.0, 91.0), (500.0, 70.0)]}
     for name, rows in profiles.items():
         (folder / name).write_text(csv_text(rows, ("chainage_m", "ground_m")), encoding="utf-8")
-    rows = [("PVC", dn, d, "PN100", 1000.0, 0.01, 140, cost, "invented")
-            for dn, d, cost in SIZES]
-    (folder / "catalogue.csv").write_text(csv_text(rows, CATALOGUE_COLUMNS), encoding="utf-8")
+    write_pvc_catalogue(folder, SIZES)
     branch = {"exit_k": 0.0, "junction_k": 0.0}
     study = {"title": "Invented scheme with a tank on a branch", "currency": "USD",
              "water": {"temperature_c": 15.0},
