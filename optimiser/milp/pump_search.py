@@ -41,8 +41,6 @@ from __future__ import annotations
 
 import dataclasses
 
-import numpy as np
-
 from optimiser.analysis.static_line import static_line_m
 from optimiser.milp.class_limits import split_at_class_limits
 from optimiser.milp.data import prepare
@@ -110,17 +108,10 @@ def _why_infeasible(study: Study) -> list[str]:
     assert pump is not None
     reasons = ["no design meets every limit even with the pump: a pressure class that "
                "takes the static line held by the non-return valve (the higher of the top "
-               "water level and the outlet's required head) or the pumping pressure "
+               "water level and the level the main delivers to) or the pumping pressure "
                "needed, or the velocity window, rules out every option somewhere"]
     if pump.max_head_m is not None:
         reasons.append(f"or max_head_m ({pump.max_head_m:g} m) is too little head for the "
                        "largest pipes of the catalogue")
     return reasons
 
-
-def life_cycle_of(outcome: DesignOutcome) -> float | None:
-    """The life-cycle cost of a design outcome (None without a pump or a design)."""
-    if outcome.check is None:
-        return None
-    value = outcome.check.life_cycle_cost
-    return None if value is None or not np.isfinite(value) else float(value)
