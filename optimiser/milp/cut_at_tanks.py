@@ -48,7 +48,6 @@ from optimiser.model import (
     Design,
     Outlet,
     Piece,
-    Route,
     Source,
     Study,
 )
@@ -56,14 +55,6 @@ from optimiser.model.lines import Line, line_of, study_lines
 from optimiser.model.status import Status
 
 Plain = Callable[..., DesignOutcome]
-
-
-def sliced(route: Route, first: int, last: int) -> Route:
-    """Nodes ``first`` to ``last`` of ``route``, chainage from 0."""
-    start = float(route.chainage_m[first])
-    return Route(route.chainage_m[first:last + 1] - start, route.ground_m[first:last + 1].copy(),
-                 route.cover_m, list(route.labels[first:last + 1]), list(route.zones[first:last]),
-                 route.slope_length)
 
 
 def below_branches(study: Study, line: str, chainage_m: float) -> set[str]:
@@ -93,7 +84,7 @@ def part_above(study: Study, tank: BreakPressureTank, line: Line, node: int,
     c = tank.chainage_m
     flows = through_flows_m3_s(study, line, node)
     inlet = Outlet(tank.water_level_m, study.tank_rules.inlet_k)
-    kept = dict(route=sliced(line.route, 0, node),
+    kept = dict(route=line.route.between(0, node),
                 offtakes=tuple(o for o in line.offtakes if o.chainage_m < c),
                 fittings=tuple(f for f in line.fittings if f.chainage_m < c - 1e-6))
     if line.is_trunk:
@@ -132,7 +123,7 @@ def part_below(study: Study, tank: BreakPressureTank, line: Line, node: int,
                   if t.branch == line.name else t for t in study.tanks
                   if t.branch in gone or (t.branch == line.name and t.chainage_m > c))
     return dataclasses.replace(
-        study, route=sliced(line.route, node, line.route.n_sections),
+        study, route=line.route.between(node, line.route.n_sections),
         source=Source(level, level, study.tank_rules.outlet_k),
         outlet=Outlet(line.required_head_m, line.exit_k), min_pressure_m=line.min_pressure_m,
         local_k_per_km=line.local_k_per_km, scenarios=scenarios, branches=branches,

@@ -32,7 +32,6 @@ from optimiser.model import (
     Design,
     Outlet,
     Piece,
-    Route,
     Source,
     Study,
     TankRules,
@@ -72,10 +71,7 @@ def reach_study(study: Study, first: int, last: int, changes: int | None) -> Stu
     start, end = float(route.chainage_m[first]), float(route.chainage_m[last])
     tanks = {round(t.chainage_m, 6): t for t in study.tanks}
     rules = study.tank_rules
-    sub_route = Route(route.chainage_m[first:last + 1] - start,
-                      route.ground_m[first:last + 1].copy(), route.cover_m,
-                      list(route.labels[first:last + 1]), list(route.zones[first:last]),
-                      route.slope_length)
+    sub_route = route.between(first, last)
     scenarios = []
     for scenario in study.scenarios:
         beyond = sum(o.flow_m3_s for o in study.offtakes if o.chainage_m > end + 1e-9)

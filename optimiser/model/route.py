@@ -123,6 +123,15 @@ class Route:
     def ground_at(self, chainage_m: np.ndarray) -> np.ndarray:
         return np.interp(chainage_m, self.chainage_m, self.ground_m)
 
+    def between(self, first: int, last: int) -> Route:
+        """Nodes ``first`` to ``last`` of this route as a route of its own, chainage
+        from 0 (each section keeps its zone; every other field is carried over)."""
+        start = float(self.chainage_m[first])
+        return dataclasses.replace(
+            self, chainage_m=self.chainage_m[first:last + 1] - start,
+            ground_m=self.ground_m[first:last + 1].copy(),
+            labels=list(self.labels[first:last + 1]), zones=list(self.zones[first:last]))
+
     def with_nodes(self, chainage_m: list[float] | np.ndarray,
                    tolerance_m: float = 1e-6) -> Route:
         """This route with a node at each chainage not already one (within
