@@ -147,12 +147,20 @@ def cut(study: Study) -> tuple[Study, Study, BreakPressureTank]:
 
 def joined_design(study: Study, above: Design, below: Design, tank: BreakPressureTank
                   ) -> Design:
-    """The two parts' designs as one design of ``study`` (lines in the study's order)."""
-    moved = [Piece(p.from_m + tank.chainage_m, p.to_m + tank.chainage_m, p.option, tank.branch)
-             if p.branch == TRUNK else p for p in below.pieces]
+    """The two parts' designs as one design of ``study`` (lines in the study's order):
+    the part below's trunk is the rest of the tank's line, its new tanks too."""
+    c = tank.chainage_m
+    end = line_of(study, tank.branch).route.total_chainage_m
+    moved = [Piece(p.from_m + c, p.to_m + c, p.option, tank.branch) if p.branch == TRUNK
+             else p for p in below.pieces]
+    last = max((i for i, p in enumerate(below.pieces) if p.branch == TRUNK), default=None)
+    if last is not None:  # end exactly at the line's end, whatever the rounding of c
+        moved[last] = dataclasses.replace(moved[last], to_m=end)
     order = {line.name: i for i, line in enumerate(study_lines(study))}
     pieces = sorted([*above.pieces, *moved], key=lambda p: (order[p.branch], p.from_m))
-    return Design(tuple(pieces)).merged()
+    tanks = tuple(dataclasses.replace(t, chainage_m=t.chainage_m + c, branch=tank.branch)
+                  if t.branch == TRUNK else t for t in below.tanks)
+    return Design(tuple(pieces), (*above.tanks, *tanks)).merged()
 
 
 def optimise_scheme_with_tanks(study: Study, settings: Settings, started: float,

@@ -34,6 +34,7 @@ from collections.abc import Callable
 
 import numpy as np
 
+from optimiser.milp.cut_at_tanks import joined_design
 from optimiser.milp.extract import rule_problems
 from optimiser.milp.joined import (
     bound_sum,
@@ -46,16 +47,16 @@ from optimiser.milp.joined import (
 from optimiser.milp.outcome import DesignOutcome, SolverError
 from optimiser.milp.search.state import Settings
 from optimiser.milp.tank_reaches import reach_study
-from optimiser.model import TRUNK, Design, Piece, Study
+from optimiser.model import BreakPressureTank, Design, Study
 from optimiser.model.status import Status
 
 Plain = Callable[..., DesignOutcome]
 RISING, ONWARD = "rising main", "gravity main below the tank"
 
 
-def split_at_first_tank(study: Study) -> tuple[Study, Study, int]:
+def split_at_first_tank(study: Study) -> tuple[Study, Study, BreakPressureTank]:
     """The rising main (to the first tank) and the gravity main below it as studies of
-    their own, and the route node of that tank."""
+    their own, and that tank."""
     tanks = sorted(study.tanks, key=lambda t: t.chainage_m)
     first = tanks[0]
     route = study.route
@@ -69,7 +70,7 @@ def split_at_first_tank(study: Study) -> tuple[Study, Study, int]:
     rules = dataclasses.replace(rules, marked_chainages_m=tuple(
         c - first.chainage_m for c in rules.marked_chainages_m if c > first.chainage_m + 1e-6))
     onward = dataclasses.replace(onward, pump=None, tanks=below, tank_rules=rules)
-    return rising, onward, node
+    return rising, onward, first
 
 
 def optimise_pumped_to_tank(study: Study, settings: Settings, started: float,
@@ -79,8 +80,8 @@ def optimise_pumped_to_tank(study: Study, settings: Settings, started: float,
     refusal = slow_closure_refusal(study, "a pump with break-pressure tanks")
     if refusal is not None:
         raise refusal
-    rising, onward, node = split_at_first_tank(study)
-    offset = float(study.route.chainage_m[node])
+    rising, onward, tank = split_at_first_tank(study)
+    offset = tank.chainage_m
     runs = _PartRuns(rising, onward, settings, started + settings.time_limit_s, plain)
     whole = study.rules.max_changes
     first = (runs.get(0, whole), runs.get(1, whole))
@@ -91,9 +92,9 @@ def optimise_pumped_to_tank(study: Study, settings: Settings, started: float,
                      "tank)")
             return infeasible_outcome(settings, started, runs.stages(), where, outcome)
     bound = bound_sum(first)
-    best = _joined(study, first, offset)
+    best = _joined(study, first, tank)
     if best is None and whole is not None:
-        best, bound = _shared_budget(study, runs, whole, offset, first)
+        best, bound = _shared_budget(study, runs, whole, tank, first)
     if best is None:
         raise SolverError("no design of the rising main and the gravity main below its tank "
                           f"together meets max_changes = {whole} within the time limit "
@@ -142,24 +143,17 @@ class _PartRuns:
         return found
 
 
-def _joined(study: Study, outcomes: tuple[DesignOutcome, DesignOutcome], offset: float
-            ) -> Design | None:
+def _joined(study: Study, outcomes: tuple[DesignOutcome, DesignOutcome],
+            tank: BreakPressureTank) -> Design | None:
     """The two parts' designs as one design of ``study`` if it meets the rules."""
     above, below = (o.design for o in outcomes)
     if above is None or below is None:
         return None
-    pieces = [*above.pieces[:-1], Piece(above.pieces[-1].from_m, offset, above.pieces[-1].option)]
-    end = study.route.total_chainage_m
-    laid = below.pieces
-    pieces += [Piece(p.from_m + offset, end if i == len(laid) - 1 else p.to_m + offset,
-                     p.option, TRUNK) for i, p in enumerate(laid)]
-    new_tanks = tuple(dataclasses.replace(t, chainage_m=t.chainage_m + offset)
-                      for t in below.tanks)
-    design = Design(tuple(pieces), new_tanks).merged()
+    design = joined_design(study, above, below, tank)
     return None if rule_problems(study, design) else design
 
 
-def _shared_budget(study: Study, runs: _PartRuns, whole: int, offset: float,
+def _shared_budget(study: Study, runs: _PartRuns, whole: int, tank: BreakPressureTank,
                    first: tuple[DesignOutcome, DesignOutcome]) -> tuple[Design | None, float]:
     """Every split of ``max_changes`` between the parts: the cheapest joined design that
     meets the rules, and the least sum of the parts' bounds over the splits."""
@@ -176,7 +170,7 @@ def _shared_budget(study: Study, runs: _PartRuns, whole: int, offset: float,
         if any(o.status == Status.INFEASIBLE for o in pair):
             continue
         bound = min(bound, bound_sum(pair))
-        design = _joined(study, pair, offset)
+        design = _joined(study, pair, tank)
         if design is not None:
             cost = objective_of(study, design)
             if cost is not None and (best is None or cost < best[0]):
