@@ -224,8 +224,12 @@ def darcy_friction_factor(reynolds: ArrayLike, relative_roughness: ArrayLike) ->
     turbulent = colebrook_white(np.maximum(re, TURBULENT_LIMIT_RE), rr)
     laminar = laminar_friction_factor(np.maximum(re, np.finfo(float).tiny))
     f_laminar_end = 64.0 / LAMINAR_LIMIT_RE
-    f_turbulent_start = colebrook_white(np.full_like(re, TURBULENT_LIMIT_RE), rr)
     weight = (re - LAMINAR_LIMIT_RE) / (TURBULENT_LIMIT_RE - LAMINAR_LIMIT_RE)
+    # The blend's end point costs a second Colebrook solve: only where Re needs it.
+    in_blend = (re >= LAMINAR_LIMIT_RE) & (re < TURBULENT_LIMIT_RE)
+    f_turbulent_start = np.full_like(re, f_laminar_end)
+    if np.any(in_blend):
+        f_turbulent_start[in_blend] = colebrook_white(TURBULENT_LIMIT_RE, rr[in_blend])
     transition = f_laminar_end + weight * (f_turbulent_start - f_laminar_end)
     return np.where(
         re < LAMINAR_LIMIT_RE, laminar, np.where(re < TURBULENT_LIMIT_RE, transition, turbulent)
