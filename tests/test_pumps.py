@@ -302,14 +302,3 @@ def test_tradeoff_pump_variable_needs_a_pump(tmp_path):
                                    "--from", "100", "--to", "200", "--out",
                                    str(tmp_path / "o")])
     assert run.exit_code == 2 and "[pump]" in run.output
-
-
-def test_robust_roughness_design_of_a_pumped_main_is_refused(tmp_path):
-    # Its programme would price each scenario's energy once per roughness value; the
-    # station across the range is tests/test_sensitivity_pump.py's.
-    study_path, design_path = _write(tmp_path)
-    run = CliRunner().invoke(app, ["sensitivity", str(study_path), "--design",
-                                   str(design_path), "--roughness-from", "0.01",
-                                   "--roughness-to", "0.5", "--robust",
-                                   "--out", str(tmp_path / "o")])
-    assert run.exit_code == 2 and "[pump]" in run.output

@@ -173,21 +173,6 @@ def monte_carlo_problems(samples: int | None, seed: int | None, distribution: st
     return problems
 
 
-def pump_problems(study: Study, robust: bool) -> list[str]:
-    """What ``sensitivity`` does not do on a pumped main (contract section 9)."""
-    if study.pump is None:
-        return []
-    problems = []
-    if robust:
-        # Every (scenario, roughness) pair would run its hours a year: the robust
-        # programme would price the energy once per roughness value.
-        problems.append(f"{study.path}: [pump]: --robust is not available on a pumped "
-                        "main (its life-cycle cost would count each scenario's energy once "
-                        "per roughness); the fixed design's station across the range and "
-                        "the re-optimised least life-cycle cost are: leave out --robust")
-    return problems
-
-
 def study_problems(study: Study, rates: dict[str, float]) -> list[str]:
     """What the loaded study must allow: Colebrook-White friction, the aged materials."""
     from optimiser.model import Friction

@@ -30,7 +30,6 @@ from optimiser.cli.sweep_options import (
     out_problems,
     parse_ageing,
     parse_range,
-    pump_problems,
     roughness_problems,
     solver_problems,
     study_problems,
@@ -301,8 +300,6 @@ def sensitivity(
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
-    if study is not None:
-        problems += pump_problems(study, robust)
     given = None if problems else _given_design(study, design_path, rates, problems)
     if problems:
         fail_input(InputError(problems))

@@ -54,9 +54,12 @@ def _solved_summary(solved: SolvedDesign | None) -> dict[str, Any] | None:
     if solved is None:
         return None
     row = solved.row
-    return {"status": row["status"], "total_cost": row["cost"], "gap": row["gap"],
-            "lower_bound": row["lower_bound"], "pieces": row["pieces"],
-            "verified": row["verified"], "note": row["note"]}
+    summary = {"status": row["status"], "total_cost": row["cost"], "gap": row["gap"],
+               "lower_bound": row["lower_bound"], "pieces": row["pieces"],
+               "verified": row["verified"], "note": row["note"]}
+    if solved.study.pump is not None:  # the objective, which the premium compares
+        summary["life_cycle_cost"] = solved.objective
+    return summary
 
 
 def sensitivity_dict(result: SensitivityResult) -> dict[str, Any]:
@@ -125,10 +128,14 @@ def _robust_figure_note(runs: RoughnessRuns, currency: str) -> str:
     premium = runs.premium
     if premium is None:
         return f"Robust design: {runs.robust.row['status']}."
-    nominal = runs.nominal.cost if runs.nominal else None
-    return (f"Robust design: {money(runs.robust.cost, currency)}, premium "
+    nominal = runs.nominal.objective if runs.nominal else None
+    what = "life-cycle cost " if runs.robust.study.pump is not None else ""
+    energy = (" The robust design's energy is the mean over the roughness range, the "
+              "nominal design's that at the catalogue's roughness."
+              if runs.robust.study.pump is not None else "")
+    return (f"Robust design: {what}{money(runs.robust.objective, currency)}, premium "
             f"{money(premium, currency)} ({100 * (runs.premium_fraction or 0):.1f} %) over "
-            f"the nominal design's {money(nominal, currency)}.")
+            f"the nominal design's {money(nominal, currency)}.{energy}")
 
 
 def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]]:
@@ -158,7 +165,10 @@ def sensitivity_figures(result: SensitivityResult) -> list[tuple[str, go.Figure]
     elif reoptimised is not None:
         figures.append(("Re-optimised least cost across roughness",
                         _reoptimised_figure(reoptimised, currency)))
-    if result.robust_sweep is not None:
+    if result.robust_sweep is not None and result.pumped:
+        figures.append(("Robust design and its pump station across roughness",
+                        station_figure(result.robust_sweep, currency)))
+    elif result.robust_sweep is not None:
         figures.append(("Robust design across roughness",
                         roughness_figure(result.robust_sweep, result.design_flows_m3_s)))
     if result.monte_carlo is not None and result.pumped:

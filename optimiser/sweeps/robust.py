@@ -4,7 +4,9 @@ The *robust design* is one design feasible at every roughness of a range: every 
 of the study is repeated at each listed roughness (:func:`variants.with_roughness_range`)
 and all of them enter one MILP. Its *premium* is its cost less that of the nominal
 design (the least-cost design of the study as written, with the catalogue's roughness
-and the scenarios' own overrides).
+and the scenarios' own overrides). With a pump both are life-cycle costs: the robust
+design's energy is the mean over the range (:func:`robust_study`), the nominal design's
+that at the catalogue's roughness.
 
 Friction loss at a given flow grows with absolute roughness (Colebrook, C.F. (1939),
 Turbulent flow in pipes, J. Inst. Civil Eng. 11; laminar loss does not depend on it), so
@@ -42,9 +44,15 @@ if TYPE_CHECKING:
 
 
 def robust_study(study: Study, roughness_mm: Sequence[float]) -> Study:
-    """The study whose scenarios are every (scenario, roughness) pair of the range."""
+    """The study whose scenarios are every (scenario, roughness) pair of the range.
+
+    With a pump (contract section 9) each pair is a scenario of its own with its own
+    station head, and the station must meet every one (its installed power is the largest
+    over all of them). A scenario's hours a year are shared equally among its roughness
+    values: the energy is priced as the mean over the range, as for a pipe that ages
+    evenly through it over its life, not once per value."""
     values = sorted({float(r) for r in roughness_mm})
-    return with_roughness_range(study, values)
+    return with_roughness_range(study, values, share_hours=study.pump is not None)
 
 
 @dataclass(frozen=True)
@@ -58,6 +66,14 @@ class SolvedDesign:
     @property
     def cost(self) -> float | None:
         return None if self.outcome is None else self.outcome.total_cost
+
+    @property
+    def objective(self) -> float | None:
+        """What the run minimised: the life-cycle cost with a pump, else ``cost``."""
+        if self.outcome is None or self.study.pump is None:
+            return self.cost
+        check = self.outcome.check
+        return None if check is None else check.life_cycle_cost
 
     @property
     def failed(self) -> bool:
@@ -76,19 +92,20 @@ class RoughnessRuns:
 
     @property
     def premium(self) -> float | None:
-        """Robust cost less nominal cost (None unless both have a design)."""
+        """Robust less nominal :attr:`SolvedDesign.objective` (None unless both have a
+        design)."""
         if self.robust is None or self.nominal is None:
             return None
-        if self.robust.cost is None or self.nominal.cost is None:
+        if self.robust.objective is None or self.nominal.objective is None:
             return None
-        return self.robust.cost - self.nominal.cost
+        return self.robust.objective - self.nominal.objective
 
     @property
     def premium_fraction(self) -> float | None:
         premium = self.premium
-        if premium is None or self.nominal is None or not self.nominal.cost:
+        if premium is None or self.nominal is None or not self.nominal.objective:
             return None
-        return premium / self.nominal.cost
+        return premium / self.nominal.objective
 
     @property
     def failures(self) -> list[str]:

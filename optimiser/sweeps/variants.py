@@ -82,17 +82,23 @@ def with_roughness(study: Study, roughness_mm: float) -> Study:
     return dataclasses.replace(study, scenarios=scenarios)
 
 
-def with_roughness_range(study: Study, roughness_mm: list[float]) -> Study:
+def with_roughness_range(study: Study, roughness_mm: list[float], *,
+                         share_hours: bool = False) -> Study:
     """One scenario per (scenario, roughness) pair: a design feasible for all of them is
     feasible at every listed roughness (the robust design's study). A scenario with its
-    own ``roughness_mm`` does not move with the roughness and enters once, unchanged."""
+    own ``roughness_mm`` does not move with the roughness and enters once, unchanged.
+    With ``share_hours``, each moving scenario's ``hours_per_year`` is shared equally
+    among its copies, so a pump's energy a year is the mean over the range."""
     scenarios = []
+    share = 1.0 / len(roughness_mm) if share_hours else 1.0
     for s in study.scenarios:
         if s.roughness_mm is not None:
             scenarios.append(s)
             continue
         times = "" if s.roughness_factor is None else f" x {s.roughness_factor:g}"
-        scenarios += [at_roughness(s, r, f"{s.name} @ {r:g} mm{times}") for r in roughness_mm]
+        scenarios += [dataclasses.replace(at_roughness(s, r, f"{s.name} @ {r:g} mm{times}"),
+                                          hours_per_year=s.hours_per_year * share)
+                      for r in roughness_mm]
     return dataclasses.replace(study, scenarios=tuple(scenarios))
 
 
