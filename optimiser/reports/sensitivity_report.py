@@ -289,13 +289,12 @@ def print_sensitivity(console: Console, result: SensitivityResult) -> None:
             console.print(f"[red]{infeasible} roughness step(s) infeasible[/red]: "
                           f"{INFEASIBLE_NOTE}")
     if runs.nominal is not None:
-        row = runs.nominal.row
-        console.print(f"Nominal design (study as written): {row['status']}, "
-                      f"{money(row['cost'], currency)}")
+        console.print(f"Nominal design (study as written): {runs.nominal.row['status']}, "
+                      f"{_costs_text(runs.nominal, currency)}")
     if runs.robust is not None:
         row = runs.robust.row
         console.print(f"Robust design over {low:g}-{high:g} mm: {row['status']}, "
-                      f"{money(row['cost'], currency)}"
+                      f"{_costs_text(runs.robust, currency)}"
                       + (f"; premium {money(runs.premium, currency)} "
                          f"({100 * (runs.premium_fraction or 0):.1f} %) over nominal"
                          if runs.premium is not None else "")
@@ -303,6 +302,14 @@ def print_sensitivity(console: Console, result: SensitivityResult) -> None:
     print_monte_carlo(console, result)
     for note in result.notes:
         console.print(f"note: {note}", markup=False, highlight=False)
+
+
+def _costs_text(solved: SolvedDesign, currency: str) -> str:
+    """The capital cost, and with a pump the life-cycle cost the premium compares."""
+    text = money(solved.row["cost"], currency)
+    if solved.study.pump is not None and solved.objective is not None:
+        text = f"pipes {text}, life-cycle cost {money(solved.objective, currency)}"
+    return text
 
 
 def _print_fixed_sweep(console: Console, result: SensitivityResult) -> None:
