@@ -302,3 +302,17 @@ def test_tradeoff_pump_variable_needs_a_pump(tmp_path):
                                    "--from", "100", "--to", "200", "--out",
                                    str(tmp_path / "o")])
     assert run.exit_code == 2 and "[pump]" in run.output
+
+
+def test_a_pumped_main_no_class_can_hold_is_infeasible_with_the_reach_named(tmp_path):
+    # Static line held by the non-return valve at the 180 m the tank needs, pipe at 99 m:
+    # 81 m of static head on a class taking 50 m (contract section 9; invented data).
+    # The station's head cannot mend that: infeasible with the reach, not an error.
+    from test_sensitivity_pump import _write as write_level_main
+
+    study_path, _ = write_level_main(tmp_path, allowable_head_m=50.0)
+    run = CliRunner().invoke(app, ["design", str(study_path), "--time-limit", "10"])
+    assert run.exit_code == 1, run.output
+    assert run.exception is None or isinstance(run.exception, SystemExit)
+    text = " ".join(run.output.split())
+    assert "exceeds every pressure class" in text and "0+000.0 to 2+000.0" in text

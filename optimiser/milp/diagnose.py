@@ -49,6 +49,12 @@ def _ranges(mask: np.ndarray) -> list[tuple[int, int]]:
 
 def diagnose(data: ProblemData) -> list[str]:
     """Findings that prove no design exists (empty list: none found before solving)."""
+    return admissibility_findings(data) or _energy_shortfalls(data)
+
+
+def admissibility_findings(data: ProblemData) -> list[str]:
+    """Reaches where no option is admissible: no class takes the static head (with
+    surge), no size keeps the velocity in its window, or no option does both."""
     study = data.study
     chainage = data.node_chainage_m
     findings: list[str] = []
@@ -81,9 +87,6 @@ def diagnose(data: ProblemData) -> list[str]:
             f"chainage {chainage_label(chainage[first])} to {chainage_label(chainage[last + 1])}:"
             " the options whose class takes the static head are not those whose velocity "
             "is within the window; no option meets both.")
-    if findings:
-        return findings
-    findings.extend(_energy_shortfalls(data))
     return findings
 
 

@@ -44,6 +44,7 @@ import dataclasses
 from optimiser.analysis.static_line import static_line_m
 from optimiser.milp.class_limits import split_at_class_limits
 from optimiser.milp.data import prepare
+from optimiser.milp.diagnose import admissibility_findings
 from optimiser.milp.formulation import rules_active
 from optimiser.milp.outcome import DesignOutcome, Stage
 from optimiser.milp.pumps.designs import uniform_designs
@@ -77,6 +78,9 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
                         with_rules=rules_active(data))
     state.stages.append(Stage(StageKind.ANY_ORDER, SKIPPED_STAGES, Status.SKIPPED, None,
                               None, 0.0, 0, 0, 0, "pumped main"))
+    findings = admissibility_findings(data)  # the station's head cannot mend these
+    if findings:
+        return state.infeasible(findings)
     report = run_reach_rounds(state, Refinement.start(data), lp=True, share=0.3, rounds=2)
     if report is not None and report.status == Status.INFEASIBLE:
         return state.infeasible(_why_infeasible(study))
