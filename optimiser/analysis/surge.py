@@ -137,8 +137,11 @@ def segment_surges_m(study: Study, tanks: Sequence[BreakPressureTank], line: Lin
     :class:`optimiser.analysis.grid.Grid`): its piece's wave speed and largest velocity
     (``wave_speed_m_s`` per piece, ``fastest_m_s`` per segment), its own length L."""
     piece = grid.segment_piece
+    surge = study.surge
+    # L only matters to a slow closure by wave speed (0: the formulas ignore it).
     lengths = segment_reflection_lengths_m(study, tanks, line, grid.start_m,
-                                           grid.segment_length_m)
+                                           grid.segment_length_m) \
+        if surge.method is SurgeMethod.JOUKOWSKY and surge.closure_time_s > 0 else 0.0
     by_piece = np.full(len(wave_speed_m_s), -np.inf)
     np.maximum.at(by_piece, piece, fastest_m_s)
     return surge_head_m(study, wave_speed_m_s[piece], by_piece[piece], length_m=lengths)

@@ -154,14 +154,10 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
             velocity_ok &= within_velocity_window(v, rules)
     lowest = np.minimum(pipe[:-1], pipe[1:])
     static_head = static_head_m(study.source.top_water_level_m, lowest, 0.0)
-    tanks = None
-    reflection = None  # the slow-closure length L of the study (a tank restarts it)
-    if has_tanks(study):  # the lowest static line any choice of tanks gives (section 8)
-        tanks = tank_data(study, lowest, lambda head, length=None: _class_ok(
-            study, head, np.array(velocities), velocity_ok, length),
-            np.array(velocities).max(axis=0))
+    tanks = _tank_data_of(study, lowest, np.array(velocities), velocity_ok)
+    reflection = None if tanks is None else tanks.reflection_min_m  # L restarts at tanks
+    if tanks is not None:  # the lowest static line any choice of tanks gives (section 8)
         static_head = tanks.static_min_m - lowest
-        reflection = tanks.reflection_min_m
     static_demand = static_head + study.surge_allowance_m
     class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok, reflection)
     admissible = class_ok & velocity_ok
@@ -189,6 +185,16 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
         screened_interior=np.zeros(n, dtype=bool), surge_m=surge, surge_own_m=surge_own,
         tanks=tanks)
     return screened(data)
+
+
+def _tank_data_of(study: Study, lowest_m: np.ndarray, velocity_m_s: np.ndarray,
+                  velocity_ok: np.ndarray) -> TankData | None:
+    """The tanks of ``study`` on its route with the data's own class rule (None: the
+    study has no tank and lets ``design`` add none)."""
+    if not has_tanks(study):
+        return None
+    return tank_data(study, lowest_m, lambda head, length=None: _class_ok(
+        study, head, velocity_m_s, velocity_ok, length), velocity_m_s.max(axis=0))
 
 
 def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.ndarray,
