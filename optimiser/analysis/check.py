@@ -19,6 +19,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from optimiser.analysis import surge as surge_rule
 from optimiser.analysis import violation_text as text
 from optimiser.analysis.design_hydraulics import DesignHydraulics, ScenarioArrays
 from optimiser.analysis.flows import inflow_m3_s
@@ -36,7 +37,6 @@ from optimiser.analysis.pumping import (
 )
 from optimiser.analysis.scheme_check import DeliveryPoint, SchemeHydraulics
 from optimiser.analysis.static_line import static_line_m
-from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.analysis.tanks import piece_static_heads, tank_cost, tanks_short
 from optimiser.hydraulics.gradeline import static_head_m
 from optimiser.model import (
@@ -125,9 +125,10 @@ class CheckResult:
         return self.total_cost + self.station.capital_and_energy
 
 
-def _line_piece_rows(study: Study, part: DesignHydraulics,
-                     evaluated: list[ScenarioArrays]) -> list[dict]:
-    """Rows of the piece table for the pieces of one line (trunk or branch)."""
+def _line_piece_rows(study: Study, part: DesignHydraulics, evaluated: list[ScenarioArrays],
+                     segment_surges: dict[str, np.ndarray]) -> list[dict]:
+    """Rows of the piece table for the pieces of one line (trunk or branch); with tanks
+    and surge by wave speed, each segment's surge into ``segment_surges``."""
     grid = part.grid
     zone_factor = np.array([study.costs.factor(z) for z in grid.segment_zone])
     rows = []
@@ -135,7 +136,9 @@ def _line_piece_rows(study: Study, part: DesignHydraulics,
     # Largest velocity of each grid segment in any scenario (contract section 10).
     fastest = np.max([arrays.velocity_m_s for arrays in evaluated], axis=0)
     pieces = [part.design.pieces[i] for i in part.piece_index]
-    wave_speed = wave_speeds_m_s(study, [piece.option for piece in pieces])
+    wave_speed = surge_rule.wave_speeds_m_s(study, [piece.option for piece in pieces])
+    surges = surge_rule.segment_surges_m(study, (*study.tanks, *part.design.tanks),
+                                         part.line, grid, wave_speed, fastest)
     for index, piece in enumerate(pieces):
         mask = grid.segment_piece == index
         nodes = np.flatnonzero(mask)
@@ -157,7 +160,7 @@ def _line_piece_rows(study: Study, part: DesignHydraulics,
             "allowable_head_m": option.allowable_head_m,
             "max_velocity_m_s": velocity,
             "wave_speed_m_s": float(wave_speed[index]),
-            "surge_head_m": float(surge_head_m(study, wave_speed[index], velocity, part.line)),
+            "surge_head_m": float(surges[mask].max()),
             # With the allowance method section 5 holds: static + allowance against the
             # working limit; by wave speed the surge limit of the option where it has one.
             "allowable_surge_head_m": (option.allowable_head_m
@@ -173,15 +176,23 @@ def _line_piece_rows(study: Study, part: DesignHydraulics,
         for row, head, level, at in zip(rows, heads, levels, where, strict=True):
             row["static_head_m"], row["lowest_pipe_level_m"] = float(head), float(level)
             row["lowest_chainage_m"] = float(at)
+        if study.surge.method is SurgeMethod.JOUKOWSKY:  # each side its own L (section 10)
+            segment_surges[part.line.name] = surges
+            for row, surge in zip(rows, surge_rule.piece_surges_m(
+                    grid.segment_piece, part.static_level_m, grid.node_pipe_level_m, surges,
+                    heads), strict=True):
+                row["surge_head_m"] = float(surge)
     return rows
 
 
 def _piece_table(study: Study, scheme: SchemeHydraulics,
-                 evaluated: list[dict[str, ScenarioArrays]]) -> pd.DataFrame:
+                 evaluated: list[dict[str, ScenarioArrays]],
+                 segment_surges: dict[str, np.ndarray]) -> pd.DataFrame:
     """Every piece of the design, in the design's order, with its class and surge."""
     rows = []
     for name, part in scheme.parts.items():
-        rows += _line_piece_rows(study, part, [arrays[name] for arrays in evaluated])
+        rows += _line_piece_rows(study, part, [arrays[name] for arrays in evaluated],
+                                 segment_surges)
     table = pd.DataFrame(rows).sort_values("piece", kind="stable")
     table = table.drop(columns="piece").reset_index(drop=True)
     surge_margin = (table["allowable_surge_head_m"] - table["static_head_m"]
@@ -328,7 +339,8 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     """
     scheme = SchemeHydraulics(study, design)
     evaluated = [scheme.evaluate(scenario) for scenario in study.scenarios]
-    pieces = _piece_table(study, scheme, evaluated)
+    segment_surges: dict[str, np.ndarray] = {}
+    pieces = _piece_table(study, scheme, evaluated, segment_surges)
     surge_by_piece = pieces["surge_head_m"].to_numpy()
     scenarios, station = list(study.scenarios), None
     if study.pump is not None:  # the least station head per scenario (section 9)
@@ -346,7 +358,8 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     for scenario, arrays in zip(scenarios, evaluated, strict=True):
         result = _scenario_result(study, scheme, scenario, arrays, capacity)
         points = result.points
-        points["surge_head_m"] = surge_by_piece[points["piece"].to_numpy()]
+        points["surge_head_m"] = surge_rule.point_surges_m(points, scheme.parts,
+                                                           segment_surges, surge_by_piece)
         points["transient_pressure_m"] = points["pressure_m"] - points["surge_head_m"]
         violations.extend(_pressure_violations(study, scenario, points, surge_by_piece))
         if scenario.velocity_limits:

@@ -41,9 +41,11 @@ def tank_rules(path: Path, spec: StudyFile, profile_path: Path,
     table = spec.break_pressure_tanks
     sites = TankSites(table.sites)
     marked: tuple[float, ...] = ()
-    if table.cost is not None and spec.surge.method != "allowance":
-        problems.add(f"{path}: [break_pressure_tanks] cost: new tanks chosen by design are "
-                     "not yet supported with [surge] method = \"joukowsky\"; give the tanks "
+    branched = bool(spec.branch) or spec.network is not None
+    if table.cost is not None and spec.surge.method != "allowance" and branched:
+        problems.add(f"{path}: [break_pressure_tanks] cost: new tanks chosen by design in a "
+                     "branched scheme are not yet supported with [surge] method = "
+                     "\"joukowsky\" (on a single route they are); give the scheme's tanks "
                      "as [[break_pressure_tank]], or use the allowance method")
     if sites is TankSites.MARKED:
         marked = marked_sites(path, profile_path, problems)

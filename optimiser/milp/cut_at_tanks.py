@@ -38,7 +38,7 @@ from optimiser.milp.joined import (
     joined_outcome,
     named_stages,
     objective_of,
-    slow_closure_refusal,
+    with_whole_lengths,
 )
 from optimiser.milp.outcome import DesignOutcome
 from optimiser.milp.search.state import Settings
@@ -167,11 +167,12 @@ def optimise_scheme_with_tanks(study: Study, settings: Settings, started: float,
                                plain: Plain) -> DesignOutcome:
     """The cheapest design of a scheme with break-pressure tanks of its own (``plain``
     is :func:`optimiser.milp.optimise_design`)."""
-    for refusal in (_new_tank_refusal(study), slow_closure_refusal(
-            study, "break-pressure tanks in a branched scheme")):
-        if refusal is not None:
-            raise refusal
+    refusal = _new_tank_refusal(study)
+    if refusal is not None:
+        raise refusal
     above, below, tank = cut(study)
+    above, below = with_whole_lengths(study, above, below, tank,
+                                      "break-pressure tanks in a branched scheme")
     deadline = started + settings.time_limit_s
     run = _Runner(settings, deadline, plain)
     first = (run(above, 0.5), run(below, 1.0))

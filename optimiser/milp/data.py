@@ -154,13 +154,12 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
             velocity_ok &= within_velocity_window(v, rules)
     lowest = np.minimum(pipe[:-1], pipe[1:])
     static_head = static_head_m(study.source.top_water_level_m, lowest, 0.0)
-    tanks = None
-    if has_tanks(study):  # the lowest static line any choice of tanks gives (section 8)
-        tanks = tank_data(study, lowest, lambda head: _class_ok(
-            study, head, np.array(velocities), velocity_ok))
+    tanks = _tank_data_of(study, lowest, np.array(velocities), velocity_ok)
+    reflection = None if tanks is None else tanks.reflection_min_m  # L restarts at tanks
+    if tanks is not None:  # the lowest static line any choice of tanks gives (section 8)
         static_head = tanks.static_min_m - lowest
     static_demand = static_head + study.surge_allowance_m
-    class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok)
+    class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok, reflection)
     admissible = class_ok & velocity_ok
 
     # Descending internal diameter; ties by ascending cost then catalogue position, so
@@ -171,7 +170,7 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
     rank[order] = np.arange(m)
 
     head = np.array(heads)
-    surge, surge_own = _transient_surges(study, np.array(velocities), admissible)
+    surge, surge_own = _transient_surges(study, np.array(velocities), admissible, reflection)
     data = ProblemData(
         study=study, n_sections=n, n_options=m, node_chainage_m=chainage.copy(),
         node_pipe_level_m=pipe, node_min_pressure_m=node_min, node_point_k=node_k,
@@ -188,20 +187,33 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
     return screened(data)
 
 
-def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.ndarray
+def _tank_data_of(study: Study, lowest_m: np.ndarray, velocity_m_s: np.ndarray,
+                  velocity_ok: np.ndarray) -> TankData | None:
+    """The tanks of ``study`` on its route with the data's own class rule (None: the
+    study has no tank and lets ``design`` add none)."""
+    if not has_tanks(study):
+        return None
+    return tank_data(study, lowest_m, lambda head, length=None: _class_ok(
+        study, head, velocity_m_s, velocity_ok, length), velocity_m_s.max(axis=0))
+
+
+def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.ndarray,
+                      length_m: np.ndarray | None = None
                       ) -> tuple[np.ndarray | None, np.ndarray | None]:
     """Surge heads of the down-surge rows (contract section 10), or (None, None) when
     the study sets no ``min_transient_pressure_m``: (n, m) conservative (the largest
     velocity of each option over its run of admissible sections, as the check takes a
-    piece's largest velocity) and (n, m) the section's own."""
+    piece's largest velocity) and (n, m) the section's own. ``length_m``: (n,) L per
+    section where break-pressure tanks restart it (the least any choice gives)."""
     if study.surge.min_transient_pressure_m is None:
         return None, None
     fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
     wave_speed = wave_speeds_m_s(study, study.catalogue)
     run = np.column_stack([_run_max(fastest[:, j], admissible[:, j])
                            for j in range(fastest.shape[1])]) if fastest.size else fastest
-    return (surge_head_m(study, wave_speed[None, :], run),
-            surge_head_m(study, wave_speed[None, :], fastest))
+    length = None if length_m is None else length_m[:, None]
+    return (surge_head_m(study, wave_speed[None, :], run, length_m=length),
+            surge_head_m(study, wave_speed[None, :], fastest, length_m=length))
 
 
 def _surge_limit_m(study: Study) -> np.ndarray:
@@ -213,7 +225,7 @@ def _surge_limit_m(study: Study) -> np.ndarray:
 
 
 def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
-              velocity_ok: np.ndarray) -> np.ndarray:
+              velocity_ok: np.ndarray, length_m: np.ndarray | None = None) -> np.ndarray:
     """(n, m) option j's class takes section s's static head (and its surge).
 
     Allowance (contract section 5): static + allowance <= allowable_head_m. By wave speed
@@ -224,7 +236,8 @@ def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
     sections; sections that fail leave, runs split, the largest velocities fall, until
     nothing changes (the largest set with this property). Conservative, like the class
     decided at the section's lowest pipe level: every piece of a design built from these
-    sections passes the check's class test.
+    sections passes the check's class test. ``length_m``: (n,) or (n, 1) slow-closure
+    length L per section where break-pressure tanks restart it (else the study's).
     """
     catalogue = study.catalogue
     # The check's tolerance: a part of the route split exactly at a class limit has its
@@ -237,15 +250,17 @@ def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
                                        limit[None, :])
     fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
     wave_speed = wave_speeds_m_s(study, catalogue)
-    own = operating & (static_head_m[:, None] + surge_head_m(study, wave_speed[None, :], fastest)
-                       <= limit[None, :])
+    length = None if length_m is None else np.reshape(length_m, (-1, 1))
+    own = operating & (static_head_m[:, None] + surge_head_m(
+        study, wave_speed[None, :], fastest, length_m=length) <= limit[None, :])
     ok = own.copy()
     for j in range(len(catalogue)):
         keep = own[:, j] & velocity_ok[:, j]
         while True:
             bound = _run_max(fastest[:, j], keep)
-            still = keep & (static_head_m + surge_head_m(study, wave_speed[j], bound)
-                            <= limit[j])
+            still = keep & (static_head_m + surge_head_m(
+                study, wave_speed[j], bound, length_m=None if length is None else length[:, 0])
+                <= limit[j])
             if (still == keep).all():
                 break
             keep = still

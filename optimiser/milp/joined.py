@@ -21,7 +21,8 @@ from optimiser.milp.extract import rule_problems
 from optimiser.milp.outcome import DesignOutcome, Stage, VerificationError, binding_points
 from optimiser.milp.search.state import Settings
 from optimiser.milp.solvers import relative_gap
-from optimiser.model import Design, Study, SurgeMethod
+from optimiser.model import TRUNK, BreakPressureTank, Design, Study, SurgeMethod
+from optimiser.model.lines import line_of
 from optimiser.model.status import Status
 
 
@@ -75,15 +76,42 @@ def infeasible_outcome(settings: Settings, started: float, stages: list[Stage], 
                          stages=stages, rules_on=outcome.rules_on)
 
 
-def slow_closure_refusal(study: Study, what: str) -> InputError | None:
-    """A study cut at a tank cannot be designed in parts under a slow closure: its surge
-    (2 L V / g T, L the pipe length from the source through the tank, as the check takes
-    it) would differ in the parts. Sudden closure and the allowance are the same in both."""
+def with_whole_lengths(study: Study, above: Study, below: Study, tank: BreakPressureTank,
+                       what: str) -> tuple[Study, Study]:
+    """The parts of ``study`` cut at ``tank`` with the slow-closure length L the whole
+    study gives their pipes (contract section 10: from the free surface upstream, the
+    source or the last tank, to the end of the piece's branch): above, the cut line's L
+    runs on past the tank to the line's end (:attr:`Study.pipe_length_beyond_m`); below,
+    the tank is the free surface and the rest of the line keeps what the study carries
+    beyond the line's end. Sudden closure and the allowance do not depend on L.
+
+    A part that is a scheme is designed line by line on views of each line as a route,
+    which carry one length beyond the end (the trunk's): a slow closure there with lines
+    whose lengths beyond differ is refused (``what`` names the study's kind)."""
+    beyond = dict(study.pipe_length_beyond_m)
+    line = line_of(study, tank.branch)
+    route = line.route.with_nodes([tank.chainage_m])
+    rest = float(route.length_m[route.chainage_m[:-1] >= tank.chainage_m - 1e-6].sum())
+    upper = {**beyond, tank.branch: beyond.get(tank.branch, 0.0) + rest}
+    names = {b.name for b in below.branches}
+    lower = {name: v for name, v in beyond.items() if name in names}
+    if beyond.get(tank.branch):
+        lower[TRUNK] = beyond[tank.branch]
+    parts = tuple(dataclasses.replace(part, pipe_length_beyond_m=tuple(sorted(given.items())))
+                  for part, given in ((above, upper), (below, lower)))
     surge = study.surge
-    if surge.method is not SurgeMethod.JOUKOWSKY or surge.closure_time_s <= 0:
-        return None
-    where = study.path or "the study file"
-    return InputError(f"{where}: {what} with [surge] method = \"joukowsky\" and "
-                      f"closure_time_s = {surge.closure_time_s:g} s is not available in this "
-                      "version: design with closure_time_s = 0 (sudden, the larger surge) "
-                      "and check the design with the slow closure")
+    if surge.method is SurgeMethod.JOUKOWSKY and surge.closure_time_s > 0 and any(
+            _views_differ(part) for part in parts):
+        raise InputError(f"{study.path or 'the study file'}: {what} with [surge] method = "
+                         f"\"joukowsky\" and closure_time_s = {surge.closure_time_s:g} s is "
+                         "not available in this version where a part above a tank still has "
+                         "branches: design with closure_time_s = 0 (sudden, the larger "
+                         "surge) and check the design with the slow closure")
+    return parts[0], parts[1]
+
+
+def _views_differ(part: Study) -> bool:
+    """A scheme part whose lines carry different lengths beyond their ends."""
+    beyond = dict(part.pipe_length_beyond_m)
+    trunk = beyond.get(TRUNK, 0.0)
+    return any(beyond.get(b.name, 0.0) != trunk for b in part.branches)

@@ -42,7 +42,6 @@ from optimiser.milp.joined import (
     joined_outcome,
     named_stages,
     objective_of,
-    slow_closure_refusal,
 )
 from optimiser.milp.outcome import DesignOutcome, SolverError
 from optimiser.milp.search.state import Settings
@@ -77,9 +76,7 @@ def optimise_pumped_to_tank(study: Study, settings: Settings, started: float,
                             plain: Plain) -> DesignOutcome:
     """The design of least life-cycle cost of a pumped study with break-pressure tanks
     of its own (``plain`` is :func:`optimiser.milp.optimise_design`)."""
-    refusal = slow_closure_refusal(study, "a pump with break-pressure tanks")
-    if refusal is not None:
-        raise refusal
+    # The rising main's slow-closure length runs on past the tank (``reach_study``).
     rising, onward, tank = split_at_first_tank(study)
     offset = tank.chainage_m
     runs = _PartRuns(rising, onward, settings, started + settings.time_limit_s, plain)

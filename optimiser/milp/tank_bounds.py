@@ -34,7 +34,12 @@ non-increasing and non-negative, so the same profile bounds every pair at once; 
 duals of a reach's own LP (:mod:`optimiser.milp.tank_reach_lp`) it gives that reach's LP
 value exactly. The minima depend on a only through the static line, whose class limits
 fall into a few bands (one per distinct allowable head), so a profile costs tables of
-(sections x bands) minima and one cumulative sum per start node.
+(sections x bands) minima and one cumulative sum per start node. With surge by wave
+speed (contract section 10) a class limit depends on the section (its velocities) and
+on a (the slow-closure length L runs from the tank at a to the route's end), so a band
+is instead each distinct set of options usable in a section from some start
+(:func:`wave_bands`): the class test at the start's static line and L, with the
+section's own largest velocity (at most the piece's, so a relaxation).
 """
 
 from __future__ import annotations
@@ -43,7 +48,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from optimiser.analysis.limits import CHECK_TOLERANCE, class_holds
+from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.milp.data import ProblemData
+from optimiser.model import SurgeMethod
 
 TOLERANCE_M = 1e-7
 """An option counts as admissible under a static line this much above its limit (so
@@ -89,6 +97,9 @@ class ReachRelaxation:
     """(n+1,) the study's own tank stands at node i (every reach stops there)."""
     new: np.ndarray
     """(n+1,) node i is a site where ``design`` may add a tank."""
+    band_of: np.ndarray | None = None
+    """(n+1, n) the band of a reach starting at node a over section s (surge by wave
+    speed: :func:`wave_bands`); None: by ``margins_m``."""
 
 
 def relaxation(data: ProblemData) -> ReachRelaxation:
@@ -114,16 +125,57 @@ def relaxation(data: ProblemData) -> ReachRelaxation:
     static[0] = study.source.top_water_level_m
     starts = tanks.at_node.copy()
     starts[0], starts[n] = True, False
-    margin = study.catalogue.allowable_head_m - study.surge_allowance_m
-    margins = np.unique(margin)
-    rank = np.searchsorted(margins, margin)
-    bands = np.arange(len(margins) + 1)
-    usable = data.admissible[:, :, None] & (~tanks.conditional[:, :, None]
-                                            | (rank[None, :, None] >= bands[None, None, :]))
+    band_of = None
+    if study.surge.method is SurgeMethod.JOUKOWSKY:
+        margins = np.zeros(0)
+        usable, band_of = wave_bands(data, static, starts)
+    else:
+        margin = study.catalogue.allowable_head_m - study.surge_allowance_m
+        margins = np.unique(margin)
+        rank = np.searchsorted(margins, margin)
+        bands = np.arange(len(margins) + 1)
+        usable = data.admissible[:, :, None] & (
+            ~tanks.conditional[:, :, None] | (rank[None, :, None] >= bands[None, None, :]))
     return ReachRelaxation(data.section_cost, data.section_loss_m, data.velocity_head_m,
                            usable, margins, np.minimum(pipe[:-1], pipe[1:]), need, end,
                            end_k, start, start_k, static, starts, tanks.fixed.copy(),
-                           tanks.candidate.copy())
+                           tanks.candidate.copy(), band_of)
+
+
+def wave_bands(data: ProblemData, static_m: np.ndarray, starts: np.ndarray
+               ) -> tuple[np.ndarray, np.ndarray]:
+    """Surge by wave speed: (n, m, bands) the options usable in section s in each band,
+    and (n+1, n) the band of a reach from start a over section s. Option j is usable
+    from a if admissible and its class takes the static head of a's static line over
+    the section's lowest pipe level, and that head plus its surge (the section's own
+    largest velocity, L from a to the route's end) within its surge limit."""
+    study = data.study
+    tanks = data.tanks
+    assert tanks is not None and tanks.node_reflection_m is not None
+    catalogue = study.catalogue
+    pipe = data.node_pipe_level_m
+    lowest = np.minimum(pipe[:-1], pipe[1:])
+    fastest = data.velocity_m_s.max(axis=0)
+    wave = wave_speeds_m_s(study, catalogue)
+    first = np.flatnonzero(starts)
+    n = data.n_sections
+    band_of = np.zeros((n + 1, n), dtype=np.int32)
+    found: list[np.ndarray] = []
+    for s in range(n):
+        a = first[first <= s]
+        head = (static_m[a] - lowest[s])[:, None]
+        surge = surge_head_m(study, wave[None, :], fastest[s][None, :],
+                             length_m=tanks.node_reflection_m[a][:, None])
+        ok = data.admissible[s][None, :] & class_holds(
+            head, catalogue.allowable_head_m[None, :], CHECK_TOLERANCE) & class_holds(
+            head + surge, catalogue.surge_limit_head_m[None, :], CHECK_TOLERANCE)
+        patterns, which = np.unique(ok, axis=0, return_inverse=True)
+        band_of[a, s] = which.ravel()
+        found.append(patterns)
+    usable = np.zeros((n, len(catalogue), max(len(p) for p in found)), dtype=bool)
+    for s, patterns in enumerate(found):
+        usable[s, :, :len(patterns)] = patterns.T
+    return usable, band_of
 
 
 @dataclass(frozen=True)
@@ -177,12 +229,16 @@ def pair_frame(relax: ReachRelaxation) -> PairFrame:
 def reach_bands(relax: ReachRelaxation, a: int, sections: np.ndarray) -> np.ndarray:
     """Band of the static line of start a over ``sections``: how many distinct margins
     the static head there exceeds (their classes need a lower static line)."""
+    if relax.band_of is not None:
+        return relax.band_of[a, sections]
     head = relax.static_m[a] - relax.lowest_m[sections] - TOLERANCE_M
     return np.searchsorted(relax.margins_m, head, side="left")
 
 
 def _bands_table(relax: ReachRelaxation, first: np.ndarray, section: np.ndarray
                  ) -> np.ndarray:
+    if relax.band_of is not None:
+        return relax.band_of[first[:, None], section]
     head = relax.static_m[first][:, None] - relax.lowest_m[section] - TOLERANCE_M
     return np.searchsorted(relax.margins_m, head, side="left")
 

@@ -11,6 +11,16 @@ tank). An option admissible at the lowest static level but not at the highest is
 *conditional*: the model may use it only while its static-line variable is at most
 ``threshold_m`` (:mod:`optimiser.milp.tank_rows`).
 
+Surge by wave speed (contract section 10): the slow-closure length L of a pipe runs from
+the last free surface above it (the source or a tank) to the route's end, so a tank
+lowers the surge below it as well as the static line. ``reflection_max_m`` is L with no
+new tank, ``reflection_min_m`` the least L any choice of tanks gives (a tank at the last
+site at or above the section); the admissibility at (``static_min_m``,
+``reflection_min_m``) is the union over every choice (both only lower the class
+demand), a relaxation. With the study's own tanks only both are exact. The conditional
+options' ``threshold_m`` is then taken at the least L, so the model with new tanks is a
+relaxation, exact only when the surge does not depend on L (``exact_classes``).
+
 Sites (contract section 8): every node of the loader's route (profile points, offtake
 and fitting nodes) except the first and the last and the offtakes; or with
 ``sites = "marked"`` the profile rows marked in column ``tank_site``. A site whose water
@@ -24,9 +34,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from optimiser.analysis.flows import flow_below_m3_s
+from optimiser.analysis.surge import reflection_length_m, surge_head_m, wave_speeds_m_s
 from optimiser.analysis.tanks import SAME_POINT_M
 from optimiser.milp.class_limits import MIN_SPACING_M, crossing_chainages_m, limit_levels_m
-from optimiser.model import TRUNK, Study, TankSites
+from optimiser.model import TRUNK, Study, SurgeMethod, TankSites
 
 
 def has_tanks(study: Study) -> bool:
@@ -56,6 +68,16 @@ class TankData:
     max_count: int | None
     inlet_k: float
     outlet_k: float
+    reflection_max_m: np.ndarray | None = None
+    """(n,) slow-closure length L over section s with no new tank [m] (None: the surge
+    does not depend on where the tanks stand)."""
+    reflection_min_m: np.ndarray | None = None
+    """(n,) least L over section s any choice of new tanks gives [m]."""
+    node_reflection_m: np.ndarray | None = None
+    """(n+1,) L below a free surface (the source or a tank) at node i [m]."""
+    exact_classes: bool = True
+    """The conditional options' thresholds are exact (else a relaxation: a design of
+    the model with new tanks must still pass the check)."""
 
     @property
     def at_node(self) -> np.ndarray:
@@ -131,6 +153,9 @@ SPLIT_CAP = 3
 """The route is split at the class limits under every tank level only while that adds
 at most this many nodes per section (else the classes below a new tank are judged at a
 section's lowest pipe level, which is conservative)."""
+WAVE_SPLIT_CAP = 50
+"""The same with surge by wave speed, whose limits differ with every section's velocity
+and every start's slow-closure length, so they are many more."""
 
 
 def with_sites_named(study: Study) -> Study:
@@ -139,20 +164,64 @@ def with_sites_named(study: Study) -> Study:
     static line of the study's own tanks, and under the level of every site above (the
     static line a new tank there would set): on each part an option's class then holds
     at every metre or at none, whichever tanks are chosen. Over ``SPLIT_CAP`` new nodes
-    per section, only the first split is made."""
+    per section, only the first split is made. With surge by wave speed the limits
+    also depend on the slow-closure length L of each start (:func:`_wave_crossings`)."""
     route = study.route
     fixed, candidate, level = tank_nodes(study, route.chainage_m)
-    high, _ = static_lines_m(study.source.top_water_level_m, fixed, candidate, level)
-    # Every limit level is a static level minus a constant (per option and section).
-    drop = study.source.top_water_level_m - limit_levels_m(study)  # (n, 2m)
-    found = crossing_chainages_m(route, high[:, None] - drop)
-    extra = _site_crossings(route, fixed, candidate, level, np.unique(drop))
-    if len(extra) <= SPLIT_CAP * route.n_sections:
+    cap = SPLIT_CAP
+    if study.surge.method is SurgeMethod.JOUKOWSKY:
+        found = _wave_crossings(study, fixed, fixed, level)
+        extra = _wave_crossings(study, fixed, candidate, level)
+        cap = WAVE_SPLIT_CAP
+    else:
+        high, _ = static_lines_m(study.source.top_water_level_m, fixed, candidate, level)
+        # Every limit level is a static level minus a constant (per option and section).
+        drop = study.source.top_water_level_m - limit_levels_m(study)  # (n, 2m)
+        found = crossing_chainages_m(route, high[:, None] - drop)
+        extra = _site_crossings(route, fixed, candidate, level, np.unique(drop))
+    if len(extra) <= cap * route.n_sections:
         found = crossing_filter(route, np.union1d(found, extra))
     rules = dataclasses.replace(study.tank_rules, sites=TankSites.MARKED,
                                 marked_chainages_m=tuple(route.chainage_m[candidate].tolist()))
     new_route = route.with_nodes(found, tolerance_m=0.0) if len(found) else route
     return dataclasses.replace(study, route=new_route, tank_rules=rules)
+
+
+def _wave_crossings(study: Study, fixed: np.ndarray, starts: np.ndarray, level: np.ndarray
+                    ) -> np.ndarray:
+    """Surge by wave speed: chainages where the pipe crosses a class limit of an option
+    below a free surface (the source, or a tank at a node of ``starts``) down to the
+    next tank of the study's own: its static line less the allowable head, and its
+    static line plus the option's surge (largest velocity in the section, L from that
+    surface, contract section 10) less its surge limit."""
+    route = study.route
+    n = route.n_sections
+    catalogue = study.catalogue
+    wave = wave_speeds_m_s(study, catalogue)
+    _, _, below = reflection_lengths_m(study, fixed, starts)
+    area = np.pi * catalogue.internal_diameter_m ** 2 / 4.0
+    flows = np.max([flow_below_m3_s(study, s, route.chainage_m[:-1]) for s in study.scenarios],
+                   axis=0)
+    fastest = flows[:, None] / area[None, :]
+    pipe = route.pipe_level_m
+    deepest = float(catalogue.allowable_head_m.max())
+    found = [np.zeros(0)]
+    for a in np.flatnonzero(starts | (np.arange(n + 1) == 0)).tolist():
+        if a >= n:
+            continue
+        static = study.source.top_water_level_m if a == 0 else float(level[a])
+        later = np.flatnonzero(fixed[a + 1:n])
+        stop = a + 1 + int(later[0]) if len(later) else n
+        too_deep = np.flatnonzero(static - np.minimum(pipe[a:stop], pipe[a + 1:stop + 1])
+                                  > deepest + 1.0)
+        stop = a + int(too_deep[0]) + 1 if len(too_deep) else stop
+        surge = surge_head_m(study, wave[None, :], fastest[a:stop], length_m=below[a])
+        levels = np.hstack([np.broadcast_to(static - catalogue.allowable_head_m,
+                                             surge.shape),
+                            static + surge - catalogue.surge_limit_head_m[None, :]])
+        found.append(crossing_chainages_m(route.between(a, stop), levels)
+                     + route.chainage_m[a])
+    return crossing_filter(route, np.concatenate(found))
 
 
 def _site_crossings(route, fixed: np.ndarray, candidate: np.ndarray, level: np.ndarray,
@@ -194,20 +263,58 @@ def crossing_filter(route, found: np.ndarray) -> np.ndarray:
     return found
 
 
-def tank_data(study: Study, lowest_m: np.ndarray, class_ok_at) -> TankData:
+def reflection_lengths_m(study: Study, fixed: np.ndarray, candidate: np.ndarray
+                         ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(n,) L over each section with no new tank, (n,) the least any choice of tanks
+    gives, (n+1,) L below a free surface at each node [m] (contract section 10: from
+    the free surface to the route's end)."""
+    node_length = study.upstream_pipe_length_m + np.concatenate(
+        [[0.0], np.cumsum(study.route.length_m)])
+    below = reflection_length_m(study) - node_length  # (n+1,)
+    below[0] = reflection_length_m(study)
+    index = np.arange(len(fixed) - 1)
+    last_fixed = np.maximum.accumulate(np.where(fixed[:-1] | (index == 0), index, 0))
+    last_any = np.maximum.accumulate(np.where((fixed | candidate)[:-1] | (index == 0),
+                                              index, 0))
+    return below[last_fixed], below[last_any], below
+
+
+def tank_data(study: Study, lowest_m: np.ndarray, class_ok_at,
+              fastest_m_s: np.ndarray | None = None) -> TankData:
     """The tanks of ``study`` on its (split) route. ``lowest_m``: (n,) lowest pipe level
-    of each section; ``class_ok_at(static_head)``: (n, m) admissibility of the classes
-    at a static head per section (the data's own rule)."""
+    of each section; ``class_ok_at(static_head, length_m=None)``: (n, m) admissibility
+    of the classes at a static head per section, and with surge by wave speed a
+    slow-closure length L per section (the data's own rule); ``fastest_m_s``: (n, m)
+    largest velocity of each option in each section over the scenarios."""
     fixed, candidate, level = tank_nodes(study, study.route.chainage_m)
     high, low = static_lines_m(study.source.top_water_level_m, fixed, candidate, level)
-    ok_high = class_ok_at(high - lowest_m)
-    ok_low = class_ok_at(low - lowest_m)
     catalogue = study.catalogue
-    # With the allowance method a class holds while static + allowance <= allowable
-    # (new tanks are refused by the loader with surge by wave speed, so only the study's
-    # own tanks, with no conditional option, meet the other method).
-    margin = catalogue.allowable_head_m[None, :] - study.surge_allowance_m
     rules = study.tank_rules
-    return TankData(fixed, candidate, level, high, low, ok_low & ~ok_high,
-                    lowest_m[:, None] + margin, float(rules.cost or 0.0), rules.max_count,
-                    rules.inlet_k, rules.outlet_k)
+    if study.surge.method is not SurgeMethod.JOUKOWSKY:
+        # With the allowance method a class holds while static + allowance <= allowable.
+        margin = catalogue.allowable_head_m[None, :] - study.surge_allowance_m
+        return TankData(fixed, candidate, level, high, low,
+                        class_ok_at(low - lowest_m) & ~class_ok_at(high - lowest_m),
+                        lowest_m[:, None] + margin, float(rules.cost or 0.0),
+                        rules.max_count, rules.inlet_k, rules.outlet_k)
+    long, short, below = reflection_lengths_m(study, fixed, candidate)
+    assert fastest_m_s is not None
+    ok_low = class_ok_at(low - lowest_m, short[:, None])
+    threshold = lowest_m[:, None] + wave_margins_m(study, fastest_m_s, short)
+    sudden = study.surge.closure_time_s <= 0
+    return TankData(fixed, candidate, level, high, low,
+                    ok_low & ~class_ok_at(high - lowest_m, long[:, None]), threshold,
+                    float(rules.cost or 0.0), rules.max_count, rules.inlet_k, rules.outlet_k,
+                    long, short, below, sudden or not candidate.any())
+
+
+def wave_margins_m(study: Study, fastest_m_s: np.ndarray, length_m: np.ndarray
+                   ) -> np.ndarray:
+    """(n, m) the largest static head option j takes in section s by wave speed: its
+    allowable head, and its surge limit less its surge at the section's own largest
+    velocity ``fastest_m_s`` (n, m) with L ``length_m`` (n,) (contract section 10)."""
+    catalogue = study.catalogue
+    surge = surge_head_m(study, wave_speeds_m_s(study, catalogue)[None, :], fastest_m_s,
+                         length_m=length_m[:, None])
+    return np.minimum(catalogue.allowable_head_m[None, :],
+                      catalogue.surge_limit_head_m[None, :] - surge)

@@ -66,7 +66,10 @@ def greedy_sites(data: ProblemData) -> list[int] | None:
 
 def reach_study(study: Study, first: int, last: int, changes: int | None) -> Study:
     """The reach from node ``first`` to node ``last`` of ``study`` (with the tanks of
-    ``study.tanks`` at its ends) as a study of its own, without tanks."""
+    ``study.tanks`` at its ends) as a study of its own, without tanks. Its slow-closure
+    length L (contract section 10) is the whole study's: from its free surface (the
+    source, or the tank at ``first``) on to the end of the route, past a tank at
+    ``last`` (:func:`reach_lengths`)."""
     route = study.route
     start, end = float(route.chainage_m[first]), float(route.chainage_m[last])
     tanks = {round(t.chainage_m, 6): t for t in study.tanks}
@@ -96,7 +99,18 @@ def reach_study(study: Study, first: int, last: int, changes: int | None) -> Stu
         fittings=tuple(dataclasses.replace(f, chainage_m=f.chainage_m - start)
                        for f in study.fittings if start - 1e-9 <= f.chainage_m < inside),
         rules=dataclasses.replace(study.rules, max_changes=changes),
-        tanks=(), tank_rules=TankRules(), branches=())
+        tanks=(), tank_rules=TankRules(), branches=(), **reach_lengths(study, first, last))
+
+
+def reach_lengths(study: Study, first: int, last: int) -> dict:
+    """The pipe lengths before and beyond the reach from node ``first`` to node ``last``
+    that keep its slow-closure length L the whole route's: none before a tank (the
+    study's own before the source), the rest of the route and what the study carries
+    beyond its end after it."""
+    beyond = float(study.route.length_m[last:].sum()) + dict(
+        study.pipe_length_beyond_m).get(TRUNK, 0.0)
+    return {"upstream_pipe_length_m": study.upstream_pipe_length_m if first == 0 else 0.0,
+            "pipe_length_beyond_m": ((TRUNK, beyond),) if beyond > 0 else ()}
 
 
 def design_by_reaches(data: ProblemData, sites: list[int], time_limit_s: float,

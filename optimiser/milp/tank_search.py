@@ -231,8 +231,9 @@ def _solve(run: TankRun, kind: StageKind, *, with_rules: bool, share: float,
     assert tanks is not None
     new = tuple(BreakPressureTank(float(data.node_chainage_m[i]), float(tanks.level_m[i]),
                                   TRUNK, NEW_TANK_LABEL, True) for i in chosen_nodes(form))
+    # With surge by wave speed and new tanks the model's classes are a relaxation.
     state.consider(Design(design.pieces, new), kind.label,
-                   must_pass=with_rules or not state.with_rules)
+                   must_pass=(with_rules or not state.with_rules) and tanks.exact_classes)
     return form, report
 
 

@@ -136,6 +136,11 @@ class Study:
     for a study's own trunk; a branch seen as a route of its own (the optimiser's view of
     a scheme's line) has its path from the source through the junctions above it, which
     the slow-closure surge formula needs."""
+    pipe_length_beyond_m: tuple[tuple[str, float], ...] = ()
+    """Pipe length [m] beyond the end of a named line (``"main"``: the route) on to the end
+    of that line in the whole study this one was cut from (a part above a
+    break-pressure tank designed on its own); the slow-closure surge formula runs its
+    length L on to there (contract section 10). Empty for a whole study."""
 
     @property
     def is_scheme(self) -> bool:
