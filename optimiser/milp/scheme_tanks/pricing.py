@@ -20,6 +20,8 @@ from collections import Counter
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from optimiser.io.errors import InputError
 from optimiser.milp.outcome import DesignOutcome, SolverError, Stage
 from optimiser.milp.scheme_tanks.placement import Choice
@@ -110,9 +112,12 @@ class Prices:
         limit = max(self.clock.left() * share, 1.0)
         extra = len(choice) * self.tank_cost
         try:
-            outcome = self.plain(with_new_tanks(self.study, choice),
-                                 solver_name=self.settings.solver_name,
-                                 mip_gap=self.settings.mip_gap, time_limit_s=limit)
+            # a set that leaves a reach with no class makes the scheme's diagnosis
+            # multiply 0 by inf there (its finding is right; the warning is noise)
+            with np.errstate(invalid="ignore"):
+                outcome = self.plain(with_new_tanks(self.study, choice),
+                                     solver_name=self.settings.solver_name,
+                                     mip_gap=self.settings.mip_gap, time_limit_s=limit)
         except (InputError, SolverError) as error:
             priced = Priced(choice, Status.FEASIBLE, None, None, -math.inf)
             self._record(priced, time.perf_counter() - begun, str(error))

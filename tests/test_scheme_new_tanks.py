@@ -1,0 +1,199 @@
+"""New break-pressure tanks chosen by ``design`` on a branched scheme (contract sections 7
+and 8).
+
+Check values: the cheapest over an enumeration of every fixed set of sites, each set
+written as ``[[break_pressure_tank]]`` tables of a study of its own (loaded by the
+loader, designed with its tanks fixed; that design is itself tested against an
+independent scipy programme in tests/test_scheme_tanks.py), plus the set's count x the
+tank cost (contract section 8: ``total_cost`` includes cost x new tanks). A bound must
+never be above that optimum; every design must pass the check. All study data are
+invented: a scheme falling about 200 m, more than the highest class of its invented
+catalogue takes (tests/random_trees.py), so it has no design without tanks.
+"""
+
+from __future__ import annotations
+
+import csv
+import itertools
+import json
+
+import pytest
+from builders import toml_text
+from random_trees import catalogue_text
+from typer.testing import CliRunner
+
+from optimiser import load_study
+from optimiser.analysis import check_design
+from optimiser.cli import app
+from optimiser.milp import optimise_design
+from optimiser.milp.scheme_tanks import search
+from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
+from optimiser.milp.scheme_tanks.sites import scheme_sites
+from optimiser.milp.search.state import Clock, Settings
+
+TANK_COST = 3000.0
+TRUNK = [(0.0, 495.0), (500.0, 470.0), (1000.0, 430.0), (1500.0, 400.0), (2000.0, 360.0),
+         (2500.0, 330.0), (3000.0, 300.0)]
+BRANCH = [(0.0, 430.0), (500.0, 390.0), (1000.0, 350.0), (1500.0, 310.0), (2000.0, 280.0)]
+MARKED = {"main": (1500.0, 2000.0), "b": (500.0,)}
+"""The marked sites (three: eight sets of sites)."""
+
+
+def _profile(rows, marked) -> str:
+    lines = ["chainage_m,ground_m,tank_site"]
+    lines += [f"{c},{g},{'yes' if c in marked else ''}" for c, g in rows]
+    return "\n".join(lines) + "\n"
+
+
+def _write(folder, *, marked=MARKED, own=(), cost=TANK_COST, tanks_extra=None,
+           rules=None):
+    """Trunk 3 km from a source at 500 m (6 L/s to 330 m); branch "b" leaves it at
+    1,000 m and falls to 280 m (4 L/s to 300 m). ``own``: (line, chainage) of tanks of
+    the study's own; ``cost`` None: no new tank."""
+    folder.mkdir(parents=True, exist_ok=True)
+    (folder / "trunk.csv").write_text(_profile(TRUNK, marked.get("main", ())), "utf-8")
+    (folder / "b.csv").write_text(_profile(BRANCH, marked.get("b", ())), "utf-8")
+    (folder / "catalogue.csv").write_text(catalogue_text((90, 110, 125, 160, 200)), "utf-8")
+    tanks = {"height_m": 5.0} | ({} if cost is None else {"cost": cost, "sites": "marked"})
+    study = {"title": "Invented falling scheme", "currency": "USD",
+             "source": {"level_m": 500.0},
+             "outlet": {"required_head_m": 330.0},
+             "route": {"profile": "trunk.csv", "min_pressure_m": 2.0},
+             "branch": [{"name": "b", "at_chainage_m": 1000.0, "profile": "b.csv",
+                         "flow": "4 L/s", "required_head_m": 300.0}],
+             "scenario": [{"name": "peak", "flow": "6 L/s"}],
+             "catalogue": {"file": "catalogue.csv"},
+             "break_pressure_tanks": tanks | (tanks_extra or {})}
+    if own:
+        study["break_pressure_tank"] = [{"branch": b, "chainage_m": c} for b, c in own]
+    if rules:
+        study["rules"] = rules
+    (folder / "study.toml").write_text(toml_text(study), encoding="utf-8")
+    return folder / "study.toml"
+
+
+def _sites(marked=MARKED) -> list[tuple[str, float]]:
+    return [(line, c) for line, chainages in marked.items() for c in chainages]
+
+
+def _enumerated(tmp_path, own=(), marked=MARKED, most=None, rules=None) -> float:
+    """The cheapest over every fixed set of sites: each set as the study's own tanks,
+    designed with them fixed, plus its count x cost."""
+    best = float("inf")
+    sites = _sites(marked)
+    for count in range(len(sites) + 1 if most is None else most + 1):
+        for index, chosen in enumerate(itertools.combinations(sites, count)):
+            path = _write(tmp_path / f"set-{count}-{index}", own=(*own, *chosen), cost=None,
+                          rules=rules)
+            outcome = optimise_design(load_study(path), mip_gap=1e-7)
+            if outcome.design is not None:
+                assert outcome.status.value == "optimal"
+                best = min(best, outcome.total_cost + count * TANK_COST)
+    return best
+
+
+def test_design_equals_the_cheapest_fixed_set_of_sites(tmp_path):
+    study = load_study(_write(tmp_path / "study"))
+    outcome = optimise_design(study, mip_gap=1e-7)
+    expected = _enumerated(tmp_path)
+    assert outcome.verified and outcome.status.value == "optimal"
+    assert outcome.total_cost == pytest.approx(expected, rel=1e-6)
+    assert outcome.lower_bound <= expected * (1 + 1e-9)
+    # no design exists without new tanks: the design got them, priced in total_cost
+    assert outcome.no_new_tank_status.value == "infeasible"
+    new = [t for t in outcome.design.tanks if t.new]
+    assert len(new) >= 2 and {t.branch for t in new} == {"main", "b"}
+    check = check_design(study, outcome.design)
+    assert check.ok and check.tank_cost_total == pytest.approx(len(new) * TANK_COST)
+
+
+def test_relaxation_is_never_above_any_fixed_set(tmp_path):
+    # The bound for every choice of tanks (no tank's energy, classes against the lowest
+    # static line) must be at most the pipe cost of each fixed set's design.
+    study = load_study(_write(tmp_path / "study"))
+    sites = scheme_sites(study)
+    assert sorted((s.line, s.chainage_m) for s in sites) == sorted(_sites())
+    relaxed = relaxed_bound(study, sites, Settings("highs", 30.0, 1e-7), Clock(0.0, 1e12))
+    assert not relaxed.diagnosis
+    for count in range(len(sites) + 1):
+        for index, chosen in enumerate(itertools.combinations(_sites(), count)):
+            path = _write(tmp_path / f"set-{count}-{index}", own=chosen, cost=None)
+            outcome = optimise_design(load_study(path), mip_gap=1e-7)
+            if outcome.design is not None:
+                assert relaxed.bound <= outcome.total_cost * (1 + 1e-9)
+
+
+def test_placement_and_moves_never_claim_more_than_they_prove(tmp_path, monkeypatch):
+    # Without enumeration (forced off): sets placed by rule and moved; the design passes
+    # the check, costs no less than the enumerated optimum, and the bound stays below it.
+    monkeypatch.setattr(search, "ENUMERATE_MAX", 0)
+    study = load_study(_write(tmp_path / "study"))
+    outcome = optimise_design(study, mip_gap=1e-7)
+    expected = _enumerated(tmp_path)
+    assert outcome.verified
+    assert outcome.total_cost >= expected * (1 - 1e-9)
+    assert outcome.lower_bound <= expected * (1 + 1e-9)
+    if outcome.status.value == "optimal":
+        assert outcome.total_cost <= outcome.lower_bound * (1 + 1e-6)
+
+
+def test_with_a_tank_of_the_study_and_at_most_one_new(tmp_path):
+    # The scheme's own tank at 2,000 m of the trunk cuts it; new tanks are chosen in
+    # each part, at most one in all (max_count shared by the parts).
+    own = (("main", 2000.0),)
+    marked = {"main": (1500.0,), "b": (500.0, 1000.0)}
+    path = _write(tmp_path / "study", own=own, marked=marked, tanks_extra={"max_count": 1})
+    outcome = optimise_design(load_study(path), mip_gap=1e-7)
+    expected = _enumerated(tmp_path, own=own, marked=marked, most=1)
+    assert outcome.verified
+    assert sum(1 for t in outcome.design.tanks if t.new) <= 1
+    assert outcome.total_cost == pytest.approx(expected, rel=1e-6)
+    assert outcome.lower_bound <= expected * (1 + 1e-9)
+
+
+def test_cli_writes_the_tanks_with_their_branch_and_check_takes_them(tmp_path):
+    study_path = _write(tmp_path / "study")
+    out = tmp_path / "out"
+    result = CliRunner().invoke(app, ["design", str(study_path), "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    with (out / "break_pressure_tanks.csv").open(encoding="utf-8") as handle:
+        rows = list(csv.DictReader(handle))
+    assert list(rows[0]) == ["branch", "chainage_m", "water_level_m", "new", "cost", "label"]
+    assert {r["branch"] for r in rows} == {"main", "b"}
+    assert all(r["new"] == "True" and float(r["cost"]) == TANK_COST for r in rows)
+    data = json.loads((out / "result.json").read_text(encoding="utf-8"))
+    assert len(data["break_pressure_tanks"]) == len(rows)
+    assert all(t["new"] for t in data["break_pressure_tanks"])
+    checked = CliRunner().invoke(app, ["check", str(study_path), "--design",
+                                       str(out / "design.csv"), "--tanks",
+                                       str(out / "break_pressure_tanks.csv")])
+    assert checked.exit_code == 0, checked.output
+    # without the tanks the same pipes fail (the static head passes every class)
+    bare = CliRunner().invoke(app, ["check", str(study_path), "--design",
+                                    str(out / "design.csv")])
+    assert bare.exit_code == 1
+
+
+def test_a_marked_site_at_a_junction_is_refused(tmp_path):
+    # Contract section 8: a tank may not stand at a junction.
+    path = _write(tmp_path / "study", marked={"main": (1000.0, 1500.0), "b": (500.0,)})
+    result = CliRunner().invoke(app, ["design", str(path), "--out", str(tmp_path / "out")])
+    text = " ".join(result.output.split())
+    assert result.exit_code == 2 and "trunk.csv" in text and "line 4" in text
+    assert "a junction" in text
+    assert "Traceback" not in text and not (tmp_path / "out").exists()
+
+
+def test_bad_marks_and_surge_by_wave_speed_are_refused(tmp_path):
+    path = _write(tmp_path / "study")
+    (path.parent / "b.csv").write_text(
+        (path.parent / "b.csv").read_text("utf-8").replace("500.0,390.0,yes", "500.0,390.0,maybe"),
+        "utf-8")
+    result = CliRunner().invoke(app, ["design", str(path), "--out", str(tmp_path / "out")])
+    text = " ".join(result.output.split())
+    assert result.exit_code == 2 and "b.csv" in text and "'maybe'" in text
+    surge = _write(tmp_path / "surge")
+    surge.write_text(surge.read_text("utf-8") + '\n[surge]\nmethod = "joukowsky"\n', "utf-8")
+    result = CliRunner().invoke(app, ["design", str(surge), "--out", str(tmp_path / "o2")])
+    text = " ".join(result.output.split())
+    assert result.exit_code == 2 and "joukowsky" in text and "Traceback" not in text
