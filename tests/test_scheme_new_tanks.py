@@ -27,6 +27,7 @@ from optimiser.analysis import check_design
 from optimiser.cli import app
 from optimiser.milp import optimise_design
 from optimiser.milp.scheme_tanks import search
+from optimiser.milp.scheme_tanks.count import fewest_tanks
 from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
 from optimiser.milp.scheme_tanks.sites import scheme_sites
 from optimiser.milp.search.state import Clock, Settings
@@ -107,20 +108,25 @@ def test_design_equals_the_cheapest_fixed_set_of_sites(tmp_path):
     assert check.ok and check.tank_cost_total == pytest.approx(len(new) * TANK_COST)
 
 
-def test_relaxation_is_never_above_any_fixed_set(tmp_path):
+def test_relaxation_and_fewest_tanks_are_never_above_any_fixed_set(tmp_path):
     # The bound for every choice of tanks (no tank's energy, classes against the lowest
-    # static line) must be at most the pipe cost of each fixed set's design.
+    # static line) must be at most the pipe cost of each fixed set's design, and the
+    # fewest tanks any design needs at most the count of each set that has one.
     study = load_study(_write(tmp_path / "study"))
     sites = scheme_sites(study)
     assert sorted((s.line, s.chainage_m) for s in sites) == sorted(_sites())
     relaxed = relaxed_bound(study, sites, Settings("highs", 30.0, 1e-7), Clock(0.0, 1e12))
     assert not relaxed.diagnosis
+    counts = []
     for count in range(len(sites) + 1):
         for index, chosen in enumerate(itertools.combinations(_sites(), count)):
             path = _write(tmp_path / f"set-{count}-{index}", own=chosen, cost=None)
             outcome = optimise_design(load_study(path), mip_gap=1e-7)
             if outcome.design is not None:
+                counts.append(count)
                 assert relaxed.bound <= outcome.total_cost * (1 + 1e-9)
+    # here the static head alone needs a tank on the trunk and one on the branch
+    assert fewest_tanks(study, sites) == min(counts) == 2
 
 
 def test_placement_and_moves_never_claim_more_than_they_prove(tmp_path, monkeypatch):

@@ -7,8 +7,9 @@ exactly these tanks; adding the tanks' cost gives the set's total and its bound.
 
 :class:`Prices` keeps every set priced and states the bound over every choice of
 tanks: each set not priced (or priced without a bound) is bounded by the relaxation of
-:mod:`~.relaxation` plus its count x the cost of a tank, so the bound is the least of
-the priced sets' bounds and, for the smallest count of which some set is left, the
+:mod:`~.relaxation` plus its count x the cost of a tank (no bound at all, ``inf``, for
+fewer tanks than any design needs, :mod:`~.count`), so the bound is the least of the
+priced sets' bounds and, for the smallest count of which some set is left, the
 relaxation plus that count x cost (exact by enumeration when every set is priced).
 """
 
@@ -24,6 +25,7 @@ import numpy as np
 
 from optimiser.io.errors import InputError
 from optimiser.milp.outcome import DesignOutcome, SolverError, Stage
+from optimiser.milp.scheme_tanks.count import covers
 from optimiser.milp.scheme_tanks.placement import Choice
 from optimiser.milp.scheme_tanks.sites import Site, new_tanks, with_new_tanks
 from optimiser.milp.search.kinds import StageKind
@@ -65,6 +67,8 @@ class Prices:
     sites: list[Site]
     relaxed_m: float
     """The relaxation's bound (pipes only, any tanks)."""
+    fewest: float = 0.0
+    """The fewest new tanks any design needs (:mod:`~.count`)."""
     priced: dict[Choice, Priced] = field(default_factory=dict)
     stages: list[Stage] = field(default_factory=list)
 
@@ -84,7 +88,10 @@ class Prices:
         return min(found, key=lambda p: (p.cost, len(p.choice))) if found else None
 
     def floor(self, count: int) -> float:
-        """The relaxation's bound for a set of ``count`` tanks."""
+        """The relaxation's bound for a set of ``count`` tanks (``inf`` below the
+        fewest any design needs)."""
+        if count < self.fewest:
+            return math.inf
         return self.relaxed_m + count * self.tank_cost
 
     def worth(self, choice: Choice) -> bool:
@@ -108,6 +115,9 @@ class Prices:
         """Design the scheme with ``choice`` fixed, with ``share`` of the time left."""
         if choice in self.priced:
             return self.priced[choice]
+        if not covers(self.study, list(choice)):
+            return self.proven_none(choice, "some reach has no class under these tanks' "
+                                    "static line")
         begun = time.perf_counter()
         limit = max(self.clock.left() * share, 1.0)
         extra = len(choice) * self.tank_cost
@@ -132,6 +142,12 @@ class Prices:
                                                            new_tanks(choice)),
                             outcome.total_cost + extra, bound)
         self._record(priced, time.perf_counter() - begun, f"{len(outcome.stages)} stages")
+        return priced
+
+    def proven_none(self, choice: Choice, why: str) -> Priced:
+        """Record ``choice`` as proven to have no design (``why``), without a run."""
+        priced = Priced(choice, Status.INFEASIBLE, None, None, math.inf)
+        self._record(priced, 0.0, why)
         return priced
 
     def _record(self, priced: Priced, seconds: float, message: str) -> None:

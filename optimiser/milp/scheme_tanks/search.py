@@ -5,7 +5,9 @@ The plan, top to bottom:
 1. The sites (:mod:`~.sites`) and the relaxation (:mod:`~.relaxation`): the scheme with
    the energy line of no tank and the classes against the lowest static line any choice
    of tanks gives, new tanks free. Its bound holds for every choice of tanks; when it
-   has no design, no choice has one (``infeasible``, with its diagnosis).
+   has no design, no choice has one (``infeasible``, with its diagnosis). The fewest
+   tanks any design needs for its classes (:mod:`~.count`): each costs at least that
+   many tanks, and more than ``max_count`` is ``infeasible``.
 2. The scheme without new tanks, designed as usual (the reports compare with it).
 3. If every set of at most ``max_count`` sites is few (at most ``ENUMERATE_MAX``
    sets): each set is priced (:mod:`~.pricing`: the scheme designed with those tanks
@@ -37,6 +39,7 @@ from optimiser.milp.outcome import (
     VerificationError,
     binding_points,
 )
+from optimiser.milp.scheme_tanks.count import fewest_tanks
 from optimiser.milp.scheme_tanks.placement import class_heads_m, moves, placed_by_head
 from optimiser.milp.scheme_tanks.pricing import Plain, Prices
 from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
@@ -70,8 +73,15 @@ def optimise_scheme_new_tanks(study: Study, settings: Settings, started: float,
         return _infeasible(settings, started, stages, relaxed.state.with_rules, [
             f"even with a new tank at every allowed site ({len(sites)} sites) and no "
             f"energy lost at any: {line}" for line in relaxed.diagnosis])
-    prices = Prices(study, settings, clock, plain, sites, relaxed.bound)
-    no_tank = prices.price(frozenset(), NO_TANK_SHARE)
+    fewest = fewest_tanks(study, sites)
+    prices = Prices(study, settings, clock, plain, sites, relaxed.bound, fewest)
+    if fewest > prices.most:
+        return _infeasible(settings, started, stages, relaxed.state.with_rules, [
+            f"the static head needs at least {fewest:g} new break-pressure tanks at the "
+            f"allowed sites for every section to have a pressure class, and at most "
+            f"{prices.most} may be added ([break_pressure_tanks] max_count, or the sites)"])
+    no_tank = prices.price(frozenset(), NO_TANK_SHARE) if fewest < 1 else \
+        prices.proven_none(frozenset(), f"needs at least {fewest:g} new tanks")
     if _set_count(len(sites), prices.most) <= ENUMERATE_MAX:
         _enumerate(prices)
     else:
@@ -86,8 +96,9 @@ def _set_count(sites: int, most: int) -> int:
 
 def _enumerate(prices: Prices) -> None:
     """Every set of sites, fewest tanks first, while the time lasts."""
-    left = _set_count(len(prices.sites), prices.most)
-    for count in range(1, prices.most + 1):
+    left = _set_count(len(prices.sites), prices.most) - _set_count(
+        len(prices.sites), max(0, math.ceil(prices.fewest) - 1))
+    for count in range(max(1, math.ceil(prices.fewest)), prices.most + 1):
         for chosen in itertools.combinations(prices.sites, count):
             left -= 1
             if prices.clock.left() < 1.0:
