@@ -14,8 +14,11 @@ catalogue takes (tests/random_trees.py), so it has no design without tanks.
 from __future__ import annotations
 
 import csv
+import dataclasses
 import itertools
 import json
+import math
+import random
 
 import pytest
 from builders import toml_text
@@ -28,9 +31,11 @@ from optimiser.cli import app
 from optimiser.milp import optimise_design
 from optimiser.milp.scheme_tanks import search
 from optimiser.milp.scheme_tanks.count import fewest_tanks
+from optimiser.milp.scheme_tanks.pricing import Priced, Prices
 from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
-from optimiser.milp.scheme_tanks.sites import scheme_sites
+from optimiser.milp.scheme_tanks.sites import Site, scheme_sites
 from optimiser.milp.search.state import Clock, Settings
+from optimiser.model.status import Status
 
 TANK_COST = 3000.0
 TRUNK = [(0.0, 495.0), (500.0, 470.0), (1000.0, 430.0), (1500.0, 400.0), (2000.0, 360.0),
@@ -203,3 +208,31 @@ def test_bad_marks_and_surge_by_wave_speed_are_refused(tmp_path):
     result = CliRunner().invoke(app, ["design", str(surge), "--out", str(tmp_path / "o2")])
     text = " ".join(result.output.split())
     assert result.exit_code == 2 and "joukowsky" in text and "Traceback" not in text
+
+
+@pytest.fixture(scope="module")
+def small_study(tmp_path_factory):
+    return load_study(_write(tmp_path_factory.mktemp("scheme") / "study"))
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_bound_over_every_choice_equals_the_least_over_every_set(seed, small_study):
+    # Prices.bound stands for the least, over every set of at most max_count sites, of
+    # that set's bound: its own run's (if priced with one), never below the relaxation
+    # plus its count x cost, infinite below the fewest tanks needed. Checked here by
+    # listing every set (common practice, no source: a minimum over a finite family).
+    rng = random.Random(seed)
+    sites = [Site("main", float(100 * i), 400.0 - i) for i in range(1, rng.randint(2, 6))]
+    rules = dataclasses.replace(small_study.tank_rules, max_count=rng.choice([None, 1, 2, 3]))
+    prices = Prices(dataclasses.replace(small_study, tank_rules=rules),
+                    Settings("highs", 1.0, 1e-4), Clock(0.0, 1.0), optimise_design, sites,
+                    relaxed_m=rng.uniform(1e4, 2e4), fewest=rng.choice([0, 1, 2]))
+    every = [frozenset(c) for k in range(prices.most + 1)
+             for c in itertools.combinations(sites, k)]
+    for choice in every:
+        if rng.random() < 0.6:
+            bound = rng.choice([math.inf, -math.inf, rng.uniform(1e4, 4e4)])
+            prices.priced[choice] = Priced(choice, Status.FEASIBLE, None, None, bound)
+    listed = [max(prices.floor(len(choice)), prices.priced[choice].bound
+                  if choice in prices.priced else -math.inf) for choice in every]
+    assert prices.bound() == min(listed)

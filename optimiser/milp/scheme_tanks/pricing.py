@@ -105,7 +105,8 @@ class Prices:
         values = [max(p.bound, self.floor(len(p.choice))) for p in self.priced.values()]
         done = Counter(len(choice) for choice, p in self.priced.items()
                        if math.isfinite(p.bound) or p.bound == math.inf)
-        for count in range(self.most + 1):
+        first = self.most + 1 if self.fewest > self.most else math.ceil(self.fewest)
+        for count in range(first, self.most + 1):
             if done[count] < math.comb(len(self.sites), count):
                 values.append(self.floor(count))
                 break
