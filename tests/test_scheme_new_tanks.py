@@ -236,3 +236,51 @@ def test_bound_over_every_choice_equals_the_least_over_every_set(seed, small_stu
     listed = [max(prices.floor(len(choice)), prices.priced[choice].bound
                   if choice in prices.priced else -math.inf) for choice in every]
     assert prices.bound() == min(listed)
+
+
+def _two_forms(folder):
+    """The same invented scheme as [[branch]] tables and as the compact form (nodes and
+    links): sites at every point, at most two new tanks."""
+    folder.mkdir(parents=True, exist_ok=True)
+    (folder / "catalogue.csv").write_text(catalogue_text((90, 110, 125, 160, 200)), "utf-8")
+    common = {"title": "Invented falling scheme, two forms", "currency": "USD",
+              "source": {"level_m": 500.0}, "catalogue": {"file": "catalogue.csv"},
+              "break_pressure_tanks": {"cost": TANK_COST, "height_m": 5.0, "max_count": 2}}
+    (folder / "nodes.csv").write_text(
+        "name,ground_m,demand,required_head_m\nsrc,495,,\nn1,430,,\nn2,400,,\nn3,360,,\n"
+        "end,300,6 L/s,330\nb1,390,,\nb2,350,,\nbend,280,4 L/s,300\n", "utf-8")
+    (folder / "links.csv").write_text(
+        "from,to,length_m\nsrc,n1,1000\nn1,n2,500\nn2,n3,500\nn3,end,1000\n"
+        "n1,b1,500\nb1,b2,500\nb2,bend,1000\n", "utf-8")
+    network = common | {"route": {"min_pressure_m": 2.0},
+                        "network": {"nodes": "nodes.csv", "links": "links.csv",
+                                    "source": "src"},
+                        "scenario": [{"name": "peak"}]}
+    (folder / "network.toml").write_text(toml_text(network), "utf-8")
+    (folder / "trunk.csv").write_text(
+        "chainage_m,ground_m\n0,495\n1000,430\n1500,400\n2000,360\n3000,300\n", "utf-8")
+    (folder / "b.csv").write_text("chainage_m,ground_m\n0,430\n500,390\n1000,350\n2000,280\n",
+                                  "utf-8")
+    tables = common | {"route": {"profile": "trunk.csv", "min_pressure_m": 2.0},
+                       "outlet": {"required_head_m": 330.0, "exit_k": 1.0},
+                       "branch": [{"name": "bend", "at_chainage_m": 1000.0, "profile": "b.csv",
+                                   "flow": "4 L/s", "required_head_m": 300.0}],
+                       "scenario": [{"name": "peak", "flow": "6 L/s"}]}
+    (folder / "tables.toml").write_text(toml_text(tables), "utf-8")
+    return folder / "tables.toml", folder / "network.toml"
+
+
+def test_both_forms_of_a_scheme_get_the_same_tanks(tmp_path):
+    tables, network = _two_forms(tmp_path)
+    outcomes = [optimise_design(load_study(path), mip_gap=1e-7) for path in (tables, network)]
+    for outcome in outcomes:
+        assert outcome.verified and outcome.status.value == "optimal"
+    assert outcomes[0].total_cost == pytest.approx(outcomes[1].total_cost, rel=1e-9)
+    assert [(t.branch, t.chainage_m) for t in outcomes[0].design.tanks] == \
+        [(t.branch, t.chainage_m) for t in outcomes[1].design.tanks]
+    # marked sites have no profile rows to mark in the compact form: refused plainly
+    network.write_text(network.read_text("utf-8").replace(
+        "max_count = 2", 'max_count = 2\nsites = "marked"'), "utf-8")
+    result = CliRunner().invoke(app, ["design", str(network), "--out", str(tmp_path / "o")])
+    text = " ".join(result.output.split())
+    assert result.exit_code == 2 and "network.toml" in text and "[network]" in text
