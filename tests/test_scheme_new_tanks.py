@@ -31,6 +31,7 @@ from optimiser.cli import app
 from optimiser.milp import optimise_design
 from optimiser.milp.scheme_tanks import search
 from optimiser.milp.scheme_tanks.count import fewest_tanks
+from optimiser.milp.scheme_tanks.lines_bound import lines_bound
 from optimiser.milp.scheme_tanks.pricing import Priced, Prices
 from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
 from optimiser.milp.scheme_tanks.sites import Site, scheme_sites
@@ -98,7 +99,12 @@ def _enumerated(tmp_path, own=(), marked=MARKED, most=None, rules=None) -> float
     return best
 
 
-def test_design_equals_the_cheapest_fixed_set_of_sites(tmp_path):
+@pytest.mark.parametrize("lines_apart", [True, False])
+def test_design_equals_the_cheapest_fixed_set_of_sites(tmp_path, monkeypatch, lines_apart):
+    # With the bound of the lines apart (which closes the gap at once here) and without
+    # it (the proof then comes from pricing every set that could be cheaper).
+    if not lines_apart:
+        monkeypatch.setattr(search, "lines_bound", lambda *args: (-math.inf, []))
     study = load_study(_write(tmp_path / "study"))
     outcome = optimise_design(study, mip_gap=1e-7)
     expected = _enumerated(tmp_path)
@@ -132,6 +138,17 @@ def test_relaxation_and_fewest_tanks_are_never_above_any_fixed_set(tmp_path):
                 assert relaxed.bound <= outcome.total_cost * (1 + 1e-9)
     # here the static head alone needs a tank on the trunk and one on the branch
     assert fewest_tanks(study, sites) == min(counts) == 2
+
+
+def test_bound_of_the_lines_apart_is_never_above_the_enumerated_optimum(tmp_path):
+    # Each line alone as a route with its own new tanks, fed at the source's level
+    # under the lowest static line: the sum must bound every design with any tanks.
+    study = load_study(_write(tmp_path / "study"))
+    sites = scheme_sites(study)
+    bound, stages = lines_bound(study, sites, Settings("highs", 60.0, 1e-7),
+                                Clock(0.0, 1e12), optimise_design)
+    assert len(stages) == 2 and bound > 0.0
+    assert bound <= _enumerated(tmp_path) * (1 + 1e-9)
 
 
 def test_placement_and_moves_never_claim_more_than_they_prove(tmp_path, monkeypatch):

@@ -26,6 +26,7 @@ import numpy as np
 from optimiser.io.errors import InputError
 from optimiser.milp.outcome import DesignOutcome, SolverError, Stage
 from optimiser.milp.scheme_tanks.count import covers
+from optimiser.milp.scheme_tanks.memo import PartMemo
 from optimiser.milp.scheme_tanks.placement import Choice
 from optimiser.milp.scheme_tanks.sites import Site, new_tanks, with_new_tanks
 from optimiser.milp.search.kinds import StageKind
@@ -69,8 +70,12 @@ class Prices:
     """The relaxation's bound (pipes only, any tanks)."""
     fewest: float = 0.0
     """The fewest new tanks any design needs (:mod:`~.count`)."""
+    lines_m: float = -math.inf
+    """A bound on every design, tanks included (:mod:`~.lines_bound`)."""
     priced: dict[Choice, Priced] = field(default_factory=dict)
     stages: list[Stage] = field(default_factory=list)
+    memo: PartMemo | None = None
+    """Each part of the cut at tanks designed once (made on first use)."""
 
     @property
     def tank_cost(self) -> float:
@@ -88,11 +93,11 @@ class Prices:
         return min(found, key=lambda p: (p.cost, len(p.choice))) if found else None
 
     def floor(self, count: int) -> float:
-        """The relaxation's bound for a set of ``count`` tanks (``inf`` below the
-        fewest any design needs)."""
+        """The relaxation's bound for a set of ``count`` tanks, or the lines' bound if
+        higher (``inf`` below the fewest any design needs)."""
         if count < self.fewest:
             return math.inf
-        return self.relaxed_m + count * self.tank_cost
+        return max(self.relaxed_m + count * self.tank_cost, self.lines_m)
 
     def worth(self, choice: Choice) -> bool:
         """``choice`` may beat the best set priced (by the relaxation)."""
@@ -125,8 +130,10 @@ class Prices:
         try:
             # a set that leaves a reach with no class makes the scheme's diagnosis
             # multiply 0 by inf there (its finding is right; the warning is noise)
+            if self.memo is None:
+                self.memo = PartMemo(self.plain)
             with np.errstate(invalid="ignore"):
-                outcome = self.plain(with_new_tanks(self.study, choice),
+                outcome = self.memo(with_new_tanks(self.study, choice),
                                      solver_name=self.settings.solver_name,
                                      mip_gap=self.settings.mip_gap, time_limit_s=limit)
         except (InputError, SolverError) as error:

@@ -37,6 +37,7 @@ from optimiser.analysis.limits import CHECK_TOLERANCE, class_holds
 from optimiser.milp.class_limits import crossing_chainages_m, limit_levels_m
 from optimiser.milp.data import ProblemData, prepare
 from optimiser.milp.formulation import rules_active
+from optimiser.milp.outcome import SolverError
 from optimiser.milp.reaches import ActivePoints
 from optimiser.milp.scheme_tanks.sites import Site, lowest_static_m, start_levels_m
 from optimiser.milp.search.state import Candidate, Clock, SearchState, Settings
@@ -120,8 +121,11 @@ def relaxed_bound(study: Study, sites: list[Site], settings: Settings,
     if findings:
         return RelaxedBound(math.inf, None, findings, state)
     run_tree_dominance(state, problem)
-    lp, actives, finished = run_tree_lp(state, problem,
-                                        [ActivePoints.none(d) for d in problem.datas])
+    try:
+        lp, actives, finished = run_tree_lp(state, problem,
+                                            [ActivePoints.none(d) for d in problem.datas])
+    except SolverError:  # no bound from it; the sets priced still give designs
+        return RelaxedBound(-math.inf, None, [], state)
     if finished is not None:
         return RelaxedBound(math.inf, None, finished.diagnosis, state)
     if lp is not None and state.with_rules and not state.clock.nearly_out():

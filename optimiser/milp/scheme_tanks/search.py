@@ -7,7 +7,9 @@ The plan, top to bottom:
    of tanks gives, new tanks free. Its bound holds for every choice of tanks; when it
    has no design, no choice has one (``infeasible``, with its diagnosis). The fewest
    tanks any design needs for its classes (:mod:`~.count`): each costs at least that
-   many tanks, and more than ``max_count`` is ``infeasible``.
+   many tanks, and more than ``max_count`` is ``infeasible``. The bound of the lines
+   apart (:mod:`~.lines_bound`: each line a route with its own tanks, fed at the
+   source's level under the lowest static line), which sees each tank take head away.
 2. The scheme without new tanks, designed as usual (the reports compare with it).
 3. If every set of at most ``max_count`` sites is few (at most ``ENUMERATE_MAX``
    sets): each set is priced (:mod:`~.pricing`: the scheme designed with those tanks
@@ -40,6 +42,7 @@ from optimiser.milp.outcome import (
     binding_points,
 )
 from optimiser.milp.scheme_tanks.count import fewest_tanks
+from optimiser.milp.scheme_tanks.lines_bound import lines_bound
 from optimiser.milp.scheme_tanks.placement import class_heads_m, moves, placed_by_head
 from optimiser.milp.scheme_tanks.pricing import Plain, Prices
 from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
@@ -53,6 +56,8 @@ ENUMERATE_MAX = 64
 """Every set of sites is priced when there are at most this many."""
 RELAXATION_SHARE = 0.3
 """Share of the run's time the relaxation may take."""
+LINES_SHARE = 0.25
+"""Share of the time left the bound of the lines apart may take."""
 NO_TANK_SHARE = 0.3
 """Share of the time left the scheme without new tanks may take."""
 RELAXATION_LABEL = "relaxation for any new tanks (no tank's energy, lowest static line)"
@@ -82,6 +87,9 @@ def optimise_scheme_new_tanks(study: Study, settings: Settings, started: float,
             f"{prices.most} may be added ([break_pressure_tanks] max_count, or the sites)"])
     no_tank = prices.price(frozenset(), NO_TANK_SHARE) if fewest < 1 else \
         prices.proven_none(frozenset(), f"needs at least {fewest:g} new tanks")
+    prices.lines_m, line_stages = lines_bound(study, sites, settings, Clock(
+        started, time.perf_counter() + LINES_SHARE * clock.left()), plain)
+    stages += line_stages
     if _set_count(len(sites), prices.most) <= ENUMERATE_MAX:
         _enumerate(prices)
     else:
