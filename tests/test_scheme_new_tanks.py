@@ -301,3 +301,20 @@ def test_both_forms_of_a_scheme_get_the_same_tanks(tmp_path):
     result = CliRunner().invoke(app, ["design", str(network), "--out", str(tmp_path / "o")])
     text = " ".join(result.output.split())
     assert result.exit_code == 2 and "network.toml" in text and "[network]" in text
+
+
+def test_a_part_is_known_again_by_its_fields_only(small_study):
+    # Two studies with equal fields have one digest; any field changed gives another
+    # (common practice, no source: a memo keyed on every input).
+    from optimiser.milp.scheme_tanks.memo import fingerprint
+
+    same = dataclasses.replace(small_study, tanks=tuple(small_study.tanks))
+    assert fingerprint(same) == fingerprint(small_study)
+    moved = dataclasses.replace(small_study, source=dataclasses.replace(
+        small_study.source, level_m=small_study.source.level_m - 0.001))
+    assert fingerprint(moved) != fingerprint(small_study)
+    ground = small_study.route.ground_m.copy()
+    ground[2] += 0.001
+    changed = dataclasses.replace(small_study, route=dataclasses.replace(
+        small_study.route, ground_m=ground))
+    assert fingerprint(changed) != fingerprint(small_study)
