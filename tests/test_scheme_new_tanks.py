@@ -318,3 +318,21 @@ def test_a_part_is_known_again_by_its_fields_only(small_study):
     changed = dataclasses.replace(small_study, route=dataclasses.replace(
         small_study.route, ground_m=ground))
     assert fingerprint(changed) != fingerprint(small_study)
+
+
+def test_a_pump_to_its_tank_then_a_scheme_gets_new_tanks_below_only(tmp_path):
+    # Contract section 9 with section 8: the station fills the study's tank at 500 m;
+    # new tanks go below it only (never on the rising main), on the trunk and the branch.
+    path = _write(tmp_path / "study", own=(("main", 500.0),),
+                  marked={"main": (1500.0, 2000.0), "b": (500.0,)})
+    text = path.read_text("utf-8").replace("level_m = 500.0", "level_m = 480.0")
+    text = text.replace('chainage_m = 500.0\n', 'chainage_m = 500.0\nwater_level_m = 498.0\n')
+    path.write_text(text + "\n[pump]\nefficiency = 0.7\nenergy_price = 0.15\n"
+                    "max_head_m = 100.0\n", "utf-8")
+    trunk = path.parent / "trunk.csv"
+    trunk.write_text(trunk.read_text("utf-8").replace("0.0,495.0,", "0.0,470.0,")
+                     .replace("500.0,470.0,", "500.0,493.0,"), "utf-8")
+    outcome = optimise_design(load_study(path), mip_gap=1e-7)
+    assert outcome.verified and outcome.status.value == "optimal"
+    new = [t for t in outcome.design.tanks if t.new]
+    assert new and all(t.branch == "b" or t.chainage_m > 500.0 for t in new)
