@@ -336,3 +336,21 @@ def test_a_pump_to_its_tank_then_a_scheme_gets_new_tanks_below_only(tmp_path):
     assert outcome.verified and outcome.status.value == "optimal"
     new = [t for t in outcome.design.tanks if t.new]
     assert new and all(t.branch == "b" or t.chainage_m > 500.0 for t in new)
+
+
+def test_a_site_below_the_energy_needed_under_it_is_never_used(tmp_path):
+    # A tank's water level caps the energy below it (contract section 8: the energy
+    # leaving is the level less the outlet loss); at 2,500 m of the trunk the level
+    # (330 + 5 m) is below the outlet's required 340 m, so no design can have a tank
+    # there: the site is left out, and a tank fixed there leaves no design.
+    marked = {"main": (1500.0, 2500.0), "b": (500.0,)}
+    path = _write(tmp_path / "study", marked=marked)
+    path.write_text(path.read_text("utf-8").replace("required_head_m = 330.0",
+                                                    "required_head_m = 340.0"), "utf-8")
+    sites = scheme_sites(load_study(path))
+    assert sorted((s.line, s.chainage_m) for s in sites) == [("b", 500.0), ("main", 1500.0)]
+    fixed = _write(tmp_path / "fixed", marked=marked, cost=None,
+                   own=(("main", 1500.0), ("main", 2500.0), ("b", 500.0)))
+    fixed.write_text(fixed.read_text("utf-8").replace("required_head_m = 330.0",
+                                                      "required_head_m = 340.0"), "utf-8")
+    assert optimise_design(load_study(fixed)).status.value == "infeasible"

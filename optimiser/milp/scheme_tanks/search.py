@@ -47,6 +47,7 @@ from optimiser.milp.scheme_tanks.placement import class_heads_m, moves, placed_b
 from optimiser.milp.scheme_tanks.pricing import Plain, Prices
 from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
 from optimiser.milp.scheme_tanks.sites import scheme_sites
+from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, Settings
 from optimiser.milp.solvers import relative_gap
 from optimiser.model import Study
@@ -70,6 +71,8 @@ def optimise_scheme_new_tanks(study: Study, settings: Settings, started: float,
     fixed). ``study`` has no tank of its own (those cut the scheme first)."""
     clock = Clock(started, started + settings.time_limit_s)
     sites = scheme_sites(study)
+    if not sites:
+        return _without_sites(study, settings, started, plain)
     relaxed = relaxed_bound(study, sites, settings, Clock(
         started, time.perf_counter() + RELAXATION_SHARE * clock.left()))
     stages = [dataclasses.replace(s, name=f"{RELAXATION_LABEL}: {s.name}")
@@ -96,6 +99,24 @@ def optimise_scheme_new_tanks(study: Study, settings: Settings, started: float,
         _placed_and_moved(prices)
     return _outcome(prices, relaxed.lp_bound, stages, relaxed.state.with_rules,
                     no_tank.cost, no_tank.status, started)
+
+
+def _without_sites(study: Study, settings: Settings, started: float,
+                   plain: Plain) -> DesignOutcome:
+    """No site can hold a tank (each is above every source level, or below the energy
+    some point under it needs): the scheme designed as it is."""
+    outcome = plain(dataclasses.replace(study, tank_rules=dataclasses.replace(
+        study.tank_rules, cost=None)), solver_name=settings.solver_name,
+        mip_gap=settings.mip_gap, time_limit_s=max(settings.time_limit_s -
+                                                   (time.perf_counter() - started), 1.0))
+    kind = StageKind.SCHEME_TANK_SETS
+    note = Stage(kind, f"{kind.label}: no new tank", Status.DONE, None, None, 0.0, 0, 0, 0,
+                 "no site can hold a tank: each is above every source level or below the "
+                 "energy some point under it needs")
+    return dataclasses.replace(outcome, stages=[note, *outcome.stages],
+                               solve_time_s=time.perf_counter() - started,
+                               no_new_tank_cost=outcome.total_cost,
+                               no_new_tank_status=outcome.status)
 
 
 def _set_count(sites: int, most: int) -> int:

@@ -6,7 +6,9 @@ last point, its offtakes and the junctions of the branches leaving it; with
 ``sites = "marked"`` only the nodes of profile rows marked in column ``tank_site`` (the
 trunk's in ``TankRules.marked_chainages_m``, the branches' in
 ``TankRules.marked_on_branches``). A site whose water level (ground + ``height_m``) is
-at or above every scenario's source level could never fill and is left out.
+at or above every scenario's source level could never fill and is left out; so is a
+site whose level is below the energy some point at or below it needs
+(:func:`energy_needed_below_m`): no design can have a tank there.
 
 With a set of sites chosen, the scheme is one with those tanks as its own
 (:func:`with_new_tanks`): the cut at its tanks (:mod:`optimiser.milp.cut_at_tanks`)
@@ -48,6 +50,7 @@ def scheme_sites(study: Study) -> list[Site]:
     """Every site of ``study`` (lines in the study's order, each by chainage)."""
     rules = study.tank_rules
     highest_source = max(s.source_level_m for s in study.scenarios)
+    needs = energy_needed_below_m(study)
     found: list[Site] = []
     for line in study_lines(study):
         blocked = np.array([*(o.chainage_m for o in line.offtakes),
@@ -59,9 +62,31 @@ def scheme_sites(study: Study) -> list[Site]:
             if rules.sites is TankSites.MARKED and not _near(chainage, marked_on(study, line)):
                 continue
             level = float(line.route.ground_at(chainage)) + rules.height_m
-            if level < highest_source:
+            node = int(np.argmin(np.abs(line.route.chainage_m - chainage)))
+            if level < highest_source and level >= needs[line.name][node] - 1e-6:
                 found.append(Site(line.name, float(chainage), level))
     return found
+
+
+def energy_needed_below_m(study: Study) -> dict[str, np.ndarray]:
+    """(n+1,) per line: the most energy any point at or below each node needs, on the
+    line and on every branch leaving it further down: a pipe's level plus its minimum
+    pressure head, a delivery point's required head. The energy at and below a tank is
+    at most its water level (the energy leaving it is its level less the outlet loss,
+    friction and further tanks only lower it), so a site whose level is below this can
+    hold no tank in any design (it is left out)."""
+    needs: dict[str, np.ndarray] = {}
+    lines = study_lines(study)
+    for line in reversed(lines):  # children before parents
+        lowest_minimum = min([line.min_pressure_m, *(o.min_pressure_m for o in line.offtakes
+                                                   if o.min_pressure_m is not None)])
+        need = line.route.pipe_level_m + lowest_minimum
+        need[-1] = max(need[-1], line.required_head_m)
+        for child in children_of(study, line.name):
+            node = int(np.argmin(np.abs(line.route.chainage_m - child.at_chainage_m)))
+            need[node] = max(need[node], float(needs[child.name].max()))
+        needs[line.name] = np.maximum.accumulate(need[::-1])[::-1]
+    return needs
 
 
 def marked_on(study: Study, line: Line) -> tuple[float, ...]:
