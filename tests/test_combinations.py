@@ -1,9 +1,9 @@
 """Additions of contract version 2 that are not yet available together are refused
 plainly (exit 2, the study file named, nothing written) rather than designed wrongly:
-new break-pressure tanks chosen by ``design`` in a branched scheme, and a pump with
-branches or with tanks chosen by ``design``. (A pump with the study's own tanks is
-modelled, tests/test_rising_main_tank.py; so are a scheme's own tanks,
-tests/test_scheme_tanks.py.)
+a pump with branches or with tanks chosen by ``design``. (A pump with the study's own
+tanks is modelled, tests/test_rising_main_tank.py; so are a scheme's own tanks,
+tests/test_scheme_tanks.py, and new tanks chosen by ``design`` in a scheme,
+tests/test_scheme_new_tanks.py.)
 
 Invented test studies; the facts checked are the tool's own stated limits (common
 practice, no source: refuse what is not modelled rather than ignore it).
@@ -25,16 +25,6 @@ def _design(study_path, tmp_path):
     out = tmp_path / "out"
     result = CliRunner().invoke(app, ["design", str(study_path), "--out", str(out)])
     return result, out
-
-
-def test_new_tanks_in_a_scheme_are_refused(tmp_path):
-    files = write_branch_scheme(tmp_path, study={"break_pressure_tanks": {"cost": 5000.0}})
-    result, out = _design(files.study, tmp_path)
-    assert result.exit_code == 2, result.output
-    text = " ".join(result.output.split())
-    assert "new break-pressure tanks chosen by design in a branched scheme" in text
-    assert str(files.study.name) in text and "Traceback" not in text
-    assert not out.exists()
 
 
 def test_a_pump_with_branches_or_new_tanks_is_refused(tmp_path):

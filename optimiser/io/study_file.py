@@ -29,6 +29,7 @@ from optimiser.io.limits import out_of_range
 from optimiser.io.network_paths import NetworkScheme, load_network
 from optimiser.io.profile_file import load_catalogue, load_profile
 from optimiser.io.schema import StudyFile, describe_location
+from optimiser.io.scheme_tank_sites import scheme_tank_sites
 from optimiser.io.surge_inputs import surge_problems, surge_settings
 from optimiser.io.tables import decode_text
 from optimiser.io.tank_inputs import study_tanks, tank_lines, tank_rules
@@ -91,8 +92,9 @@ def load_study(path: str | Path) -> Study:
                                 problems)
     first_tank = min((t.chainage_m for t in tanks if t.branch == TRUNK), default=None)
     lifted = bool(branches) and (first_tank is None or min(junctions) < first_tank)
-    _combination_problems(path, spec, bool(branches), rules_of_tanks.cost is not None,
-                          lifted, problems)
+    rules_of_tanks = scheme_tank_sites(path, spec, rules_of_tanks, route, offtakes, branches,
+                                       problems)
+    _combination_problems(path, spec, rules_of_tanks.cost is not None, lifted, problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
                              [f.chainage_m for f in fittings] + junctions +
@@ -125,17 +127,12 @@ def load_study(path: str | Path) -> Study:
     )
 
 
-def _combination_problems(path: Path, spec: StudyFile, branched: bool, new_tanks: bool,
+def _combination_problems(path: Path, spec: StudyFile, new_tanks: bool,
                           lifted: bool, problems: ProblemList) -> None:
-    """Additions not yet available together: tanks chosen by ``design`` in a scheme; a
-    pump with tanks chosen by ``design``, or with branches its head would reach
-    (``lifted``: a branch leaves the trunk above its first tank). With the study's own
-    tanks a pump is a rising main to the first tank, gravity below it (section 9)."""
-    if branched and new_tanks:
-        problems.add(f"{path}: new break-pressure tanks chosen by design in a branched "
-                     "scheme are not available in this version: leave out "
-                     "[break_pressure_tanks] cost and give the tanks as "
-                     "[[break_pressure_tank]] of the study")
+    """Additions not yet available together: a pump with tanks chosen by ``design``, or
+    with branches its head would reach (``lifted``: a branch leaves the trunk above its
+    first tank). With the study's own tanks a pump is a rising main to the first tank,
+    gravity below it (section 9)."""
     if spec.pump is not None and lifted:
         problems.add(f"{path}: [pump] with branches that leave the trunk above its first "
                      "break-pressure tank is not available in this version (the station's "

@@ -20,6 +20,12 @@ by its two parts: both are first designed with the whole budget (a relaxation, s
 sum of their bounds bounds the scheme); if the joined line has too many changes, the
 part below and then the part above are designed again with what the other left (those
 designs are offered, the bound stays the relaxation's).
+
+New tanks chosen by ``design`` (``[break_pressure_tanks] cost``) are chosen in each
+part (the part below keeps the marked sites below the tank, its trunk's chainages from
+the tank); ``max_count`` is shared like ``max_changes``: each part first may add up to
+``max_count`` (a relaxation), and if the two together add more, each part is designed
+again within what the other left.
 """
 
 from __future__ import annotations
@@ -104,8 +110,11 @@ def part_above(study: Study, tank: BreakPressureTank, line: Line, node: int,
             for b in study.branches)
     tanks = tuple(t for t in study.tanks if t is not tank and t.branch not in gone
                   and not (t.branch == line.name and t.chainage_m > c))
+    # a pump's rising main (above its first tank) gets no new tank (section 9)
+    rules = study.tank_rules if study.pump is None else \
+        dataclasses.replace(study.tank_rules, cost=None)
     return dataclasses.replace(changed, branches=tuple(b for b in branches if b.name not in gone),
-                               tanks=tanks)
+                               tanks=tanks, tank_rules=rules)
 
 
 def part_below(study: Study, tank: BreakPressureTank, line: Line, node: int,
@@ -125,6 +134,7 @@ def part_below(study: Study, tank: BreakPressureTank, line: Line, node: int,
     return dataclasses.replace(
         study, route=line.route.between(node, line.route.n_sections),
         source=Source(level, level, study.tank_rules.outlet_k),
+        tank_rules=_marked_below(study, line.name, c, gone),
         outlet=Outlet(line.required_head_m, line.exit_k), min_pressure_m=line.min_pressure_m,
         local_k_per_km=line.local_k_per_km, scenarios=scenarios, branches=branches,
         tanks=tanks, pump=None, upstream_pipe_length_m=0.0,
@@ -132,6 +142,18 @@ def part_below(study: Study, tank: BreakPressureTank, line: Line, node: int,
                        for o in line.offtakes if o.chainage_m > c),
         fittings=tuple(dataclasses.replace(f, chainage_m=f.chainage_m - c)
                        for f in line.fittings if f.chainage_m >= c - 1e-6))
+
+
+def _marked_below(study: Study, name: str, chainage_m: float, gone: set[str]):
+    """The marked sites of the part below a tank at ``chainage_m`` of line ``name``:
+    that line's below the tank become the trunk's (chainages from the tank), the
+    branches below keep theirs."""
+    rules = study.tank_rules
+    own = rules.marked_chainages_m if name == TRUNK else tuple(
+        c for n, c in rules.marked_on_branches if n == name)
+    return dataclasses.replace(
+        rules, marked_chainages_m=tuple(c - chainage_m for c in own if c > chainage_m),
+        marked_on_branches=tuple((n, c) for n, c in rules.marked_on_branches if n in gone))
 
 
 def cut(study: Study) -> tuple[Study, Study, BreakPressureTank]:
@@ -167,9 +189,6 @@ def optimise_scheme_with_tanks(study: Study, settings: Settings, started: float,
                                plain: Plain) -> DesignOutcome:
     """The cheapest design of a scheme with break-pressure tanks of its own (``plain``
     is :func:`optimiser.milp.optimise_design`)."""
-    refusal = _new_tank_refusal(study)
-    if refusal is not None:
-        raise refusal
     above, below, tank = cut(study)
     above, below = with_whole_lengths(study, above, below, tank,
                                       "break-pressure tanks in a branched scheme")
@@ -189,7 +208,8 @@ def optimise_scheme_with_tanks(study: Study, settings: Settings, started: float,
     if design is None:
         raise InputError(f"{study.path or 'the study file'}: no design of the lines above and "
                          f"below the {where} together meets max_changes = "
-                         f"{study.rules.max_changes} (each part alone does); raise it")
+                         f"{study.rules.max_changes} and [break_pressure_tanks] max_count = "
+                         f"{study.tank_rules.max_count} (each part alone does); raise them")
     return joined_outcome(study, settings, started, stages, design, bound_sum(first),
                           bound_sum(first, lp=True), first[0].rules_on or first[1].rules_on)
 
@@ -209,38 +229,55 @@ class _Runner:
 def _best_joined(study: Study, above: Study, below: Study, tank: BreakPressureTank,
                  first: tuple[DesignOutcome, DesignOutcome], run: _Runner,
                  stages: list) -> Design | None:
-    """The joined design if it meets the rules; else the cheaper of the part below and
-    the part above designed again within what the other part's cut line left."""
+    """The joined design if it meets the rules and ``max_count``; else the cheaper of
+    the part below and the part above designed again within what the other part left
+    (changes on the cut line, new tanks)."""
     assert first[0].design is not None and first[1].design is not None
     design = joined_design(study, first[0].design, first[1].design, tank)
-    if objective_of(study, design) is not None:
+    if _objective(study, design) is not None:
         return design
-    budget = study.rules.max_changes
-    if budget is None:
-        return None
-    used_above = len(first[0].design.merged().on(tank.branch).pieces) - 1
-    used_below = len(first[1].design.merged().on(TRUNK).pieces) - 1
     offers = []
-    for part, other_used, index in ((below, used_above, 1), (above, used_below, 0)):
-        left = budget - other_used - 1  # a change at the tank counts
-        if left < 0:
+    for part, index in ((below, 1), (above, 0)):
+        limited = _within_left(study, part, tank, first[1 - index].design, index == 1)
+        if limited is None:
             continue
-        again = run(dataclasses.replace(part, rules=dataclasses.replace(
-            part.rules, max_changes=left)), 0.5)
-        stages += named_stages(f"{'below' if index else 'above'} the tank again, at most "
-                               f"{left} changes", again)
+        again = run(limited, 0.5)
+        stages += named_stages(f"{'below' if index else 'above'} the tank again, within "
+                               "what the other part left", again)
         if again.design is None:
             continue
         pair = [first[0].design, first[1].design]
         pair[index] = again.design
         offers.append(joined_design(study, pair[0], pair[1], tank))
-    priced = [(cost, d) for d in offers if (cost := objective_of(study, d)) is not None]
+    priced = [(cost, d) for d in offers if (cost := _objective(study, d)) is not None]
     return min(priced, key=lambda item: item[0])[1] if priced else None
 
 
-def _new_tank_refusal(study: Study) -> InputError | None:
-    if study.tank_rules.cost is None:
+def _objective(study: Study, design: Design) -> float | None:
+    """The joined design's objective if it meets the rules and at most ``max_count``
+    new tanks (None: it does not)."""
+    most = study.tank_rules.max_count
+    if most is not None and sum(1 for t in design.tanks if t.new) > most:
         return None
-    return InputError(f"{study.path or 'the study file'}: [break_pressure_tanks] cost (new "
-                      "tanks chosen by design) in a branched scheme is not available in this "
-                      "version; give the tanks as [[break_pressure_tank]] of the study")
+    return objective_of(study, design)
+
+
+def _within_left(study: Study, part: Study, tank: BreakPressureTank, other: Design,
+                 is_below: bool) -> Study | None:
+    """``part`` allowed only the changes on the cut line (a change at the tank counts)
+    and the new tanks that ``other``, the other part's design, leaves; None when
+    nothing is left."""
+    rules, tank_rules = part.rules, part.tank_rules
+    if study.rules.max_changes is not None:
+        # the cut line in ``other``: the tank's line above, the trunk of the part below
+        used = len(other.merged().on(tank.branch if is_below else TRUNK).pieces)
+        left = study.rules.max_changes - (used - 1) - 1
+        if left < 0:
+            return None
+        rules = dataclasses.replace(rules, max_changes=left)
+    if study.tank_rules.max_count is not None and study.tank_rules.cost is not None:
+        left = study.tank_rules.max_count - sum(1 for t in other.tanks if t.new)
+        if left < 0:
+            return None
+        tank_rules = dataclasses.replace(tank_rules, max_count=left)
+    return dataclasses.replace(part, rules=rules, tank_rules=tank_rules)

@@ -52,6 +52,7 @@ from optimiser.milp.outcome import (
 )
 from optimiser.milp.pump_search import optimise_pumped
 from optimiser.milp.pumped_to_tank import optimise_pumped_to_tank
+from optimiser.milp.scheme_tanks import optimise_scheme_new_tanks
 from optimiser.milp.search.any_order import run_any_order
 from optimiser.milp.search.dominance import run_dominance
 from optimiser.milp.search.finish import finish, no_design_error
@@ -88,6 +89,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
     if study.is_scheme and study.tanks:  # cut at a tank: the parts do not see each other
         return optimise_scheme_with_tanks(study, settings, started, optimise_design)
+    if study.is_scheme and study.tank_rules.cost is not None:  # new tanks on a tree
+        return optimise_scheme_new_tanks(study, settings, started, optimise_design)
     if study.is_scheme:  # one model for the whole tree (contract section 7)
         return optimise_scheme(study, settings, started)
     if study.pump is not None and study.tanks:  # a rising main to a tank, gravity below

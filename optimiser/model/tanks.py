@@ -44,3 +44,6 @@ class TankRules:
     marked_chainages_m: tuple[float, ...] = ()
     """Chainages of the profile rows whose ``tank_site`` column is yes/true/1 (used with
     ``sites = "marked"``)."""
+    marked_on_branches: tuple[tuple[str, float], ...] = ()
+    """In a scheme with ``sites = "marked"``: (branch, chainage) of the rows marked in
+    the branches' own profiles (the trunk's are ``marked_chainages_m``)."""

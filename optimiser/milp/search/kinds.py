@@ -59,6 +59,11 @@ class StageKind(Enum):
     TANK_PATHS = "tank_paths"
     """Shortest path over bounds on every reach between tanks: a bound, and its tanks
     designed reach by reach."""
+    SCHEME_TANK_SETS = "scheme_tank_sets"
+    """A branched scheme designed with a set of new tanks fixed (a design, and a bound
+    for that set)."""
+    SCHEME_TANK_LINES = "scheme_tank_lines"
+    """A line of a scheme alone as a route with its own new tanks: a bound on its cost."""
     PUMP_TWO_PIECES = "pump_two_pieces"
     """Pumped main, at most one change: every pair and place of change bounded in closed
     form (a relaxation: bound), the cheapest node changes (designs)."""
@@ -93,5 +98,7 @@ _LABELS = {
     StageKind.TANK_FIXED_NEARBY: "MILP with the rules, those tanks fixed, options nearby",
     StageKind.TANK_MODEL: "MILP, full model with break-pressure tanks",
     StageKind.TANK_PATHS: "tanks by shortest path over bounds on every reach",
+    StageKind.SCHEME_TANK_SETS: "scheme designed with these new tanks fixed",
+    StageKind.SCHEME_TANK_LINES: "line alone as a route with new tanks, a bound",
     StageKind.PUMP_TWO_PIECES: "every design of at most two pieces, bounded in closed form",
 }
