@@ -37,7 +37,10 @@ def best_energy_m(data: ProblemData) -> np.ndarray:
     for k in range(data.n_scenarios):
         loss = np.where(data.admissible, data.section_loss_m[k], np.inf).min(axis=1)
         head = np.where(data.admissible, data.velocity_head_m[k], np.inf).min(axis=1)
-        point = data.node_point_k[:-1] * head
+        # A section with no admissible option (infinite head) leaves the energies below
+        # it undefined (nan), so nothing is concluded downstream of it from them.
+        with np.errstate(invalid="ignore"):
+            point = data.node_point_k[:-1] * head
         point[0] += data.study.source.entrance_k * head[0]
         energies[k, 0] = data.source_level_m[k]
         energies[k, 1:] = data.source_level_m[k] - np.cumsum(point + loss)
