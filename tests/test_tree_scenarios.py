@@ -15,6 +15,7 @@ import dataclasses
 
 import numpy as np
 import pytest
+from independent_tree import tree_lower_bound
 from random_trees import random_tree
 
 from optimiser.analysis import check_design
@@ -93,5 +94,6 @@ def test_scheme_design_with_the_reduction_is_the_full_optimum(tmp_path, seed) ->
     # the fine model is conservative in places (formulation docstring), so a verified
     # design may be cheaper than its optimum, never dearer when proven optimal
     assert outcome.lower_bound <= min(full, outcome.total_cost) * (1 + 1e-9)
+    assert outcome.total_cost >= tree_lower_bound(study) * (1 - 1e-6)
     if outcome.status == Status.OPTIMAL:
         assert outcome.total_cost <= full * (1 + 1e-6)
