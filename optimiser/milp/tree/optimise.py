@@ -7,7 +7,9 @@ The plan, top to bottom (stages in :mod:`optimiser.milp.tree.stages`):
 1. Diagnosis per branch without a solver (:mod:`optimiser.milp.tree.diagnosis`): which
    line, where, by how much, per scenario, and whether the branch itself or the lines
    upstream are short; a finding ends the run as ``infeasible``.
-2. Options dominated wherever they are admissible set aside, line by line (exact).
+2. A scenario that dominates every other on every line kept alone in the models
+   (:mod:`optimiser.milp.tree.scenarios`, exact: its rows imply the others'); then
+   options dominated wherever they are admissible set aside, line by line (exact).
 3. The LP relaxation of the whole tree, rules relaxed: the LP bound.
 4. First designs: the LP's own (optimal if it passes the check and the rules within the
    gap), else every line repaired to the rules.
@@ -40,6 +42,7 @@ from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.tree.diagnosis import diagnose_scheme
 from optimiser.milp.tree.lp_stage import TreeLp, run_tree_lp
 from optimiser.milp.tree.problem import TreeProblem, prepare_tree
+from optimiser.milp.tree.scenarios import run_scenario_reduction
 from optimiser.milp.tree.stages import (
     around_design,
     around_lp,
@@ -94,6 +97,7 @@ def optimise_scheme(study: Study, settings: Settings, started: float) -> DesignO
     findings = diagnose_scheme(problem)
     if findings:
         return state.infeasible(findings)
+    run_scenario_reduction(state, problem)
     run_tree_dominance(state, problem)
     lp, actives, finished = run_tree_lp(state, problem,
                                         [ActivePoints.none(d) for d in problem.datas])
