@@ -54,7 +54,9 @@ def test_two_piece_bound_never_above_the_full_model(tmp_path, seed):
                         min(rules.min_piece_length_m, study.route.total_chainage_m),
                         rules.sizes_non_increasing, True)
     full = solve(build(data, with_rules=True), "highs", time_limit_s=60, mip_gap=1e-9)
-    assert full.status == "optimal"
+    # Optimal: its objective is the optimum. Stopped by the limit on a loaded machine:
+    # its design still costs at least the optimum, so the bound must stay below it too.
+    assert full.status.has_design and full.objective is not None
     assert found.bound <= full.objective * (1 + 1e-9) + 1e-6
 
 
