@@ -139,9 +139,10 @@ def test_no_design_below_the_tank_is_diagnosed_there(tmp_path):
 
 
 def test_slow_closure_with_tanks_designed_in_parts_is_refused(tmp_path):
-    # The slow-closure surge 2 L V / (g T) takes L from the source through the tank (as
-    # the check does); parts designed on their own would take another L, so design
-    # refuses plainly (common practice, no source: refuse what is not modelled).
+    # The slow-closure surge 2 L V / (g T) of the pipes above the tank on "b" takes L
+    # through the tank to b's end, the trunk's to the trunk's end; the part above the
+    # tank, designed line by line, cannot carry both yet, so design refuses plainly
+    # (common practice, no source: refuse what is not modelled).
     import dataclasses
 
     from optimiser.io import InputError

@@ -16,13 +16,15 @@ import time
 from collections.abc import Sequence
 
 from optimiser.analysis import check_design
+from optimiser.analysis.surge import reflection_length_m
 from optimiser.io.errors import InputError
 from optimiser.milp.extract import rule_problems
 from optimiser.milp.outcome import DesignOutcome, Stage, VerificationError, binding_points
 from optimiser.milp.search.state import Settings
 from optimiser.milp.solvers import relative_gap
+from optimiser.milp.tree.line_study import line_study
 from optimiser.model import TRUNK, BreakPressureTank, Design, Study, SurgeMethod
-from optimiser.model.lines import line_of
+from optimiser.model.lines import line_of, study_lines
 from optimiser.model.status import Status
 
 
@@ -86,8 +88,9 @@ def with_whole_lengths(study: Study, above: Study, below: Study, tank: BreakPres
     beyond the line's end. Sudden closure and the allowance do not depend on L.
 
     A part that is a scheme is designed line by line on views of each line as a route,
-    which carry one length beyond the end (the trunk's): a slow closure there with lines
-    whose lengths beyond differ is refused (``what`` names the study's kind)."""
+    which carry the part's length beyond the trunk's end: a slow closure there with a
+    line whose view would take another length is refused (``what`` names the study's
+    kind)."""
     beyond = dict(study.pipe_length_beyond_m)
     line = line_of(study, tank.branch)
     route = line.route.with_nodes([tank.chainage_m])
@@ -111,7 +114,9 @@ def with_whole_lengths(study: Study, above: Study, below: Study, tank: BreakPres
 
 
 def _views_differ(part: Study) -> bool:
-    """A scheme part whose lines carry different lengths beyond their ends."""
-    beyond = dict(part.pipe_length_beyond_m)
-    trunk = beyond.get(TRUNK, 0.0)
-    return any(beyond.get(b.name, 0.0) != trunk for b in part.branches)
+    """A scheme part some of whose lines, seen as routes of their own for the search
+    (:func:`optimiser.milp.tree.line_study.line_study`), would take another slow-closure
+    length than the part gives them."""
+    return part.is_scheme and any(
+        abs(reflection_length_m(line_study(part, line)) - reflection_length_m(part, line))
+        > 1e-6 for line in study_lines(part))

@@ -153,9 +153,10 @@ SPLIT_CAP = 3
 """The route is split at the class limits under every tank level only while that adds
 at most this many nodes per section (else the classes below a new tank are judged at a
 section's lowest pipe level, which is conservative)."""
-WAVE_SPLIT_CAP = 50
-"""The same with surge by wave speed, whose limits differ with every section's velocity
-and every start's slow-closure length, so they are many more."""
+WAVE_SPLIT_NODES = 2000
+"""With surge by wave speed the limits differ with every section's velocity and every
+start's slow-closure length, so they are many more: the split under every site is made
+while it adds at most ``SPLIT_CAP`` nodes per section or this many in all."""
 
 
 def with_sites_named(study: Study) -> Study:
@@ -168,18 +169,18 @@ def with_sites_named(study: Study) -> Study:
     also depend on the slow-closure length L of each start (:func:`_wave_crossings`)."""
     route = study.route
     fixed, candidate, level = tank_nodes(study, route.chainage_m)
-    cap = SPLIT_CAP
+    cap = SPLIT_CAP * route.n_sections
     if study.surge.method is SurgeMethod.JOUKOWSKY:
-        found = _wave_crossings(study, fixed, fixed, level)
-        extra = _wave_crossings(study, fixed, candidate, level)
-        cap = WAVE_SPLIT_CAP
+        cap = max(cap, WAVE_SPLIT_NODES)
+        found = _wave_crossings(study, fixed, fixed, level, np.inf)
+        extra = _wave_crossings(study, fixed, candidate, level, cap)
     else:
         high, _ = static_lines_m(study.source.top_water_level_m, fixed, candidate, level)
         # Every limit level is a static level minus a constant (per option and section).
         drop = study.source.top_water_level_m - limit_levels_m(study)  # (n, 2m)
         found = crossing_chainages_m(route, high[:, None] - drop)
         extra = _site_crossings(route, fixed, candidate, level, np.unique(drop))
-    if len(extra) <= cap * route.n_sections:
+    if len(extra) <= cap:
         found = crossing_filter(route, np.union1d(found, extra))
     rules = dataclasses.replace(study.tank_rules, sites=TankSites.MARKED,
                                 marked_chainages_m=tuple(route.chainage_m[candidate].tolist()))
@@ -187,13 +188,14 @@ def with_sites_named(study: Study) -> Study:
     return dataclasses.replace(study, route=new_route, tank_rules=rules)
 
 
-def _wave_crossings(study: Study, fixed: np.ndarray, starts: np.ndarray, level: np.ndarray
-                    ) -> np.ndarray:
+def _wave_crossings(study: Study, fixed: np.ndarray, starts: np.ndarray, level: np.ndarray,
+                    most: float) -> np.ndarray:
     """Surge by wave speed: chainages where the pipe crosses a class limit of an option
     below a free surface (the source, or a tank at a node of ``starts``) down to the
     next tank of the study's own: its static line less the allowable head, and its
     static line plus the option's surge (largest velocity in the section, L from that
-    surface, contract section 10) less its surge limit."""
+    surface, contract section 10) less its surge limit. The search stops once it has
+    found more than ``most``."""
     route = study.route
     n = route.n_sections
     catalogue = study.catalogue
@@ -204,23 +206,28 @@ def _wave_crossings(study: Study, fixed: np.ndarray, starts: np.ndarray, level: 
                    axis=0)
     fastest = flows[:, None] / area[None, :]
     pipe = route.pipe_level_m
-    deepest = float(catalogue.allowable_head_m.max())
-    found = [np.zeros(0)]
-    for a in np.flatnonzero(starts | (np.arange(n + 1) == 0)).tolist():
-        if a >= n:
-            continue
+    low, high = np.minimum(pipe[:-1], pipe[1:]), np.maximum(pipe[:-1], pipe[1:])
+    deepest = float(catalogue.allowable_head_m.max()) + 1.0
+    next_fixed = np.minimum.accumulate(np.where(fixed, np.arange(n + 1), n)[::-1])[::-1]
+    found: list[np.ndarray] = [np.zeros(0)]
+    count = 0
+    for a in np.flatnonzero(starts[:n] | (np.arange(n) == 0)).tolist():
         static = study.source.top_water_level_m if a == 0 else float(level[a])
-        later = np.flatnonzero(fixed[a + 1:n])
-        stop = a + 1 + int(later[0]) if len(later) else n
-        too_deep = np.flatnonzero(static - np.minimum(pipe[a:stop], pipe[a + 1:stop + 1])
-                                  > deepest + 1.0)
-        stop = a + int(too_deep[0]) + 1 if len(too_deep) else stop
-        surge = surge_head_m(study, wave[None, :], fastest[a:stop], length_m=below[a])
-        levels = np.hstack([np.broadcast_to(static - catalogue.allowable_head_m,
-                                             surge.shape),
+        stop = int(next_fixed[a + 1])
+        deep = np.flatnonzero(static - low[a:stop] > deepest)  # no class reaches past
+        reach = slice(a, a + int(deep[0]) + 1 if len(deep) else stop)
+        surge = surge_head_m(study, wave[None, :], fastest[reach], length_m=below[a])
+        levels = np.hstack([np.broadcast_to(static - catalogue.allowable_head_m, surge.shape),
                             static + surge - catalogue.surge_limit_head_m[None, :]])
-        found.append(crossing_chainages_m(route.between(a, stop), levels)
-                     + route.chainage_m[a])
+        inside = (levels > low[reach, None]) & (levels < high[reach, None])
+        section, _ = np.nonzero(inside)
+        fraction = (levels[inside] - pipe[a + section]) / (pipe[a + section + 1]
+                                                             - pipe[a + section])
+        found.append(route.chainage_m[a + section]
+                     + fraction * route.chainage_length_m[a + section])
+        count += len(section)
+        if count > 2 * most:  # the filter below may merge a few; well past the cap
+            break
     return crossing_filter(route, np.concatenate(found))
 
 
