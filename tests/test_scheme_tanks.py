@@ -136,19 +136,3 @@ def test_no_design_below_the_tank_is_diagnosed_there(tmp_path):
     assert outcome.status.value == "infeasible" and outcome.design is None
     text = " ".join(outcome.diagnosis)
     assert "below the tank at 1000 m of 'b'" in text and "130 m" in text
-
-
-def test_slow_closure_with_tanks_designed_in_parts_is_refused(tmp_path):
-    # The slow-closure surge 2 L V / (g T) of the pipes above the tank on "b" takes L
-    # through the tank to b's end, the trunk's to the trunk's end; the part above the
-    # tank, designed line by line, cannot carry both yet, so design refuses plainly
-    # (common practice, no source: refuse what is not modelled).
-    import dataclasses
-
-    from optimiser.io import InputError
-    from optimiser.model import SurgeMethod, SurgeSettings
-
-    study = load_study(_write(tmp_path))
-    slow = dataclasses.replace(study, surge=SurgeSettings(SurgeMethod.JOUKOWSKY, 30.0))
-    with pytest.raises(InputError, match="closure_time_s = 30 s"):
-        optimise_design(slow)

@@ -15,7 +15,7 @@ from __future__ import annotations
 import dataclasses
 
 from optimiser.analysis.surge import length_above_m
-from optimiser.model import Design, Piece, Study
+from optimiser.model import TRUNK, Design, Piece, Study
 from optimiser.model.lines import Line, study_lines
 from optimiser.model.study import Outlet, Source
 
@@ -30,8 +30,16 @@ def line_study(study: Study, line: Line) -> Study:
         route=line.route, fittings=line.fittings, offtakes=line.offtakes,
         min_pressure_m=line.min_pressure_m, local_k_per_km=line.local_k_per_km,
         branches=(), tanks=tuple(t for t in study.tanks if t.branch == line.name),
-        # The slow-closure surge of a branch's pipes takes the whole path from the source.
-        upstream_pipe_length_m=0.0 if line.is_trunk else length_above_m(study, line))
+        # The slow-closure surge of a branch's pipes takes the whole path from the source,
+        # and what the study carries past the line's end (a part cut at a tank).
+        upstream_pipe_length_m=0.0 if line.is_trunk else length_above_m(study, line),
+        pipe_length_beyond_m=_beyond(study, line))
+
+
+def _beyond(study: Study, line: Line) -> tuple[tuple[str, float], ...]:
+    """The line's length carried past its end, as the route view's own (its trunk)."""
+    beyond = dict(study.pipe_length_beyond_m).get(line.name, 0.0)
+    return ((TRUNK, beyond),) if beyond > 0 else ()
 
 
 def line_studies(study: Study) -> list[tuple[Line, Study]]:
