@@ -41,7 +41,7 @@ def best_energy_m(data: ProblemData) -> np.ndarray:
         # it undefined (nan), so nothing is concluded downstream of it from them.
         with np.errstate(invalid="ignore"):
             point = data.node_point_k[:-1] * head
-        point[0] += data.study.source.entrance_k * head[0]
+            point[0] += data.study.source.entrance_k * head[0]
         energies[k, 0] = data.source_level_m[k]
         energies[k, 1:] = data.source_level_m[k] - np.cumsum(point + loss)
     return energies
