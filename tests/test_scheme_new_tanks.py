@@ -165,11 +165,15 @@ def test_placement_and_moves_never_claim_more_than_they_prove(tmp_path, monkeypa
         assert outcome.total_cost <= outcome.lower_bound * (1 + 1e-6)
 
 
-def test_with_a_tank_of_the_study_and_at_most_one_new(tmp_path):
-    # The scheme's own tank at 2,000 m of the trunk cuts it; new tanks are chosen in
-    # each part, at most one in all (max_count shared by the parts).
-    own = (("main", 2000.0),)
-    marked = {"main": (1500.0,), "b": (500.0, 1000.0)}
+@pytest.mark.parametrize(("own_m", "marked"), [
+    (2000.0, {"main": (1500.0,), "b": (500.0, 1000.0)}),
+    (1200.0, {"main": (1500.0, 2500.0), "b": (500.0,)}),
+])
+def test_with_a_tank_of_the_study_and_at_most_one_new(tmp_path, own_m, marked):
+    # The scheme's own tank on the trunk cuts it; new tanks are chosen in each part
+    # (below 1,200 m the trunk's marked sites are counted from the tank), at most one in
+    # all (max_count shared by the parts).
+    own = (("main", own_m),)
     path = _write(tmp_path / "study", own=own, marked=marked, tanks_extra={"max_count": 1})
     outcome = optimise_design(load_study(path), mip_gap=1e-7)
     expected = _enumerated(tmp_path, own=own, marked=marked, most=1)
