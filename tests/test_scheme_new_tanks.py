@@ -358,3 +358,24 @@ def test_a_site_below_the_energy_needed_under_it_is_never_used(tmp_path):
     fixed.write_text(fixed.read_text("utf-8").replace("required_head_m = 330.0",
                                                       "required_head_m = 340.0"), "utf-8")
     assert optimise_design(load_study(fixed)).status.value == "infeasible"
+
+
+def test_marks_on_a_branch_alone_and_marks_nowhere(tmp_path):
+    # Contract section 8: in a scheme the marked rows may lie on any line's profile, so
+    # a trunk profile without the column (or without a mark) is fine when a branch has
+    # one; with no mark on any profile the study is refused, naming the column.
+    only_branch = {"b": (500.0,)}
+    path = _write(tmp_path / "branch", marked=only_branch)
+    trunk = path.parent / "trunk.csv"
+    trunk.write_text("\n".join(line.rsplit(",", 1)[0] for line in
+                               trunk.read_text("utf-8").splitlines()) + "\n", "utf-8")
+    # Loaded; with the one site on the branch the trunk's fall (200 m) still breaks every
+    # class, so no design exists, as the enumeration of both sets says too.
+    outcome = optimise_design(load_study(path), mip_gap=1e-7)
+    assert outcome.status.value == "infeasible" and outcome.design is None
+    assert _enumerated(tmp_path / "sets", marked=only_branch) == float("inf")
+    nowhere = _write(tmp_path / "nowhere", marked={})
+    result = CliRunner().invoke(app, ["design", str(nowhere), "--out", str(tmp_path / "o")])
+    text = " ".join(result.output.split())
+    assert result.exit_code == 2 and "tank_site" in text and "Traceback" not in text
+    assert not (tmp_path / "o").exists()

@@ -45,6 +45,10 @@ def scheme_tank_sites(path: Path, spec: StudyFile, rules: TankRules, route: Rout
         if name not in lines:
             continue  # a branch the loader refused already
         found += [(name, c) for c in _marked_rows(profile, lines[name], problems)]
+    if not found and not problems:
+        problems.add(f"{path}: [break_pressure_tanks] sites = \"marked\": no row of the "
+                     f"trunk's or any branch's profile is marked yes/true/1 in column "
+                     f"{SITE_COLUMN}")
     return dataclasses.replace(rules, marked_on_branches=tuple(
         (name, c) for name, c in found if name != TRUNK))
 

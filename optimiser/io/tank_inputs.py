@@ -48,17 +48,24 @@ def tank_rules(path: Path, spec: StudyFile, profile_path: Path,
                      "\"joukowsky\" (on a single route they are); give the scheme's tanks "
                      "as [[break_pressure_tank]], or use the allowance method")
     if sites is TankSites.MARKED:
-        marked = marked_sites(path, profile_path, problems)
+        # In a scheme the branches' profiles may carry the marks instead (read by
+        # :mod:`optimiser.io.scheme_tank_sites`, which wants one mark somewhere).
+        marked = marked_sites(path, profile_path, problems,
+                              required=not (spec.branch or spec.network))
     return TankRules(table.cost, sites, table.height_m, table.inlet_k, table.outlet_k,
                      table.max_count, marked)
 
 
-def marked_sites(path: Path, profile_path: Path, problems: ProblemList) -> tuple[float, ...]:
-    """Chainages of the profile rows marked yes/true/1 in column ``tank_site``."""
+def marked_sites(path: Path, profile_path: Path, problems: ProblemList,
+                 required: bool = True) -> tuple[float, ...]:
+    """Chainages of the profile rows marked yes/true/1 in column ``tank_site`` (unless
+    ``required``, a profile without the column or without a mark has none)."""
     try:
         rows, header = read_rows(profile_path, [], what="profile")
     except InputError:
         return ()  # the profile loader reports the same problem
+    if not required and SITE_COLUMN not in header:
+        return ()
     if "chainage_m" not in header or SITE_COLUMN not in header:
         problems.add(f"{path}: [break_pressure_tanks] sites = \"marked\" needs a column "
                      f"{SITE_COLUMN} (yes/true/1 at each allowed site) beside chainage_m in "
@@ -75,7 +82,7 @@ def marked_sites(path: Path, profile_path: Path, problems: ProblemList) -> tuple
         elif cell not in _NO:
             problems.add(f"{profile_path}: line {row.line}: column {SITE_COLUMN}: "
                          f"'{row.cells[SITE_COLUMN]}' is not yes/true/1 or no/false/0/empty")
-    if not marked and not problems:
+    if not marked and not problems and required:
         problems.add(f"{profile_path}: column {SITE_COLUMN} marks no row, and "
                      f"{path} sets [break_pressure_tanks] sites = \"marked\"")
     return tuple(marked)
