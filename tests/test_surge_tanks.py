@@ -26,6 +26,7 @@ import math
 import numpy as np
 import pytest
 from builders import CATALOGUE_COLUMNS, DELETE, csv_text, toml_text
+from test_tanks_design import _profile  # the same invented falling route
 
 from optimiser import load_design, load_study
 from optimiser.analysis import check_design
@@ -143,14 +144,6 @@ def _catalogue() -> list[dict]:
                                                      cost * base, "invented"), strict=True),
                              wave_speed_m_s=WAVE_SPEED, allowable_surge_head_m=1.25 * head))
     return rows
-
-
-def _profile(seed: int, n: int) -> list[tuple]:
-    rng = np.random.default_rng(seed)
-    chainage = np.linspace(0.0, 6000.0, n + 1)
-    ground = 600.0 - 340.0 * chainage / 6000.0 + rng.normal(0.0, 6.0, n + 1)
-    ground[0] = 600.0
-    return [(float(c), float(g), "", "") for c, g in zip(chainage, ground, strict=True)]
 
 
 def _route_study(make_study, seed: int, n: int, closure: float, **extra):
