@@ -23,9 +23,11 @@ The model lets a piece change inside a section (:mod:`optimiser.milp.formulation
 every piece longer than any section (checked by the caller) a section holds at most one
 change, and a section shared by A (upstream) and B holds both classes at its start and
 costs at least ``min(value_A, value_B)`` with loss at least ``min(loss_A, loss_B)``.
-The programme takes that bound for the section a new piece begins in (which covers the
-change at either node of it too), with lengths counted over whole sections (a piece is
-no longer than the sections it touches). Before a label is offered to the next piece, it
+The section a new piece A begins in is taken wholly A (the change at its downstream
+node) or, where B's class takes the loss at its start even so, at that bound (which
+covers every share of A and B in it, the change at its upstream node included), with
+lengths counted over whole sections (a piece is no longer than the sections it
+touches). Before a label is offered to the next piece, it
 is dropped only if another label *robustly* dominates it (whatever the next option, as
 computed from the shared section's best and worst cases), so no design of the model is
 lost: the least value is a lower bound of the model's optimum. Labels whose value plus
@@ -231,8 +233,7 @@ def _changes(tables: PieceTables, labels: Labels, x: int, arena: _Arena,
     if not len(offered):
         return Labels.empty()
     b = offered.option
-    share_loss = np.minimum(tables.loss[s][None, :], tables.loss[s, b][:, None])  # (u, m)
-    share_value = np.minimum(tables.value[s][None, :], tables.value[s, b][:, None])
+    share_loss, share_value = _shared_section(tables, offered, s)
     rel_loss = loss[:, None] + share_loss - tables.tail_loss[s][None, :]
     rel_value = value[:, None] + share_value + tables.change_cost \
         - tables.tail_value[s][None, :]
@@ -250,12 +251,28 @@ def _changes(tables: PieceTables, labels: Labels, x: int, arena: _Arena,
     return made
 
 
+def _shared_section(tables: PieceTables, offered: Labels, s: int
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """(u, m) loss and value of section s for the label's option B below and the new
+    option A above: A over all of s, or shared, ``min(A, B)`` of each, where B's class
+    can take the loss at the start of s even then (both classes hold there)."""
+    b = offered.option
+    own_loss, own_value = tables.loss[s, b][:, None], tables.value[s, b][:, None]
+    share_loss = np.minimum(tables.loss[s][None, :], own_loss)
+    share_value = np.minimum(tables.value[s][None, :], own_value)
+    b_holds = offered.loss[:, None] + share_loss - own_loss \
+        <= tables.room[s, b][:, None] + 1e-12
+    return (np.where(b_holds, share_loss, tables.loss[s][None, :]),
+            np.where(b_holds, share_value, tables.value[s][None, :]))
+
+
 def _robust_front(tables: PieceTables, offered: Labels, loss: np.ndarray,
                   value: np.ndarray, s: int) -> tuple[Labels, np.ndarray, np.ndarray]:
     """The offered labels (absolute loss and value at node s+1) that no other of the same
     level dominates whatever the next option: the other's worst case after the shared
-    section s (its own option over all of s) against this one's best (the least loss and
-    value of any option whose class can take the loss there); with sizes_non_increasing
+    section s (its own option over all of s, if its class takes that) against this
+    one's best (the least loss and value of any option whose class can take the loss
+    there); with sizes_non_increasing
     only between labels of one internal diameter. Labels no option can follow are
     dropped."""
     count = np.sum(tables.free_theta[s][None, :] >= loss[:, None] - 1e-12, axis=1)
@@ -264,8 +281,10 @@ def _robust_front(tables: PieceTables, offered: Labels, loss: np.ndarray,
         count[alive]
     best_loss = loss + tables.free_loss[s, count - 1]
     best_value = value + tables.free_value[s, count - 1]
-    worst_loss = loss + tables.loss[s, offered.option]
-    worst_value = value + tables.value[s, offered.option]
+    # a label whose own option cannot cover s may have to leave s to the next one
+    covers = offered.loss <= tables.room[s, offered.option] + 1e-12
+    worst_loss = np.where(covers, loss + tables.loss[s, offered.option], np.inf)
+    worst_value = np.where(covers, value + tables.value[s, offered.option], np.inf)
     keep = np.ones(len(offered), dtype=bool)
     group = offered.level.copy()
     if tables.non_increasing:  # the next options of one must be open to the other
