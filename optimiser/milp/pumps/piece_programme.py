@@ -84,18 +84,19 @@ class _Arena:
     start: list[np.ndarray] = field(default_factory=list)
     count: int = 0
 
-    def add(self, parent: np.ndarray, option: np.ndarray, start: int) -> np.ndarray:
+    def add(self, parent: np.ndarray, option: np.ndarray, start: np.ndarray) -> np.ndarray:
         ident = np.arange(self.count, self.count + len(parent))
         self.count += len(parent)
-        self.parent.append(parent)
-        self.option.append(option)
-        self.start.append(np.full(len(parent), start))
+        self.parent.append(parent.astype(np.int32))  # int32: long runs keep millions
+        self.option.append(option.astype(np.int16))
+        self.start.append(start.astype(np.int32))
         return ident
 
     def chain(self, ident: int) -> list[tuple[int, int]]:
         """(option, start node) of the label and its ancestors, upstream first."""
-        parent, option, start = (np.concatenate(x) for x in (self.parent, self.option,
-                                                             self.start))
+        for name in ("parent", "option", "start"):  # joined once, kept joined
+            setattr(self, name, [np.concatenate(getattr(self, name))])
+        parent, option, start = self.parent[0], self.option[0], self.start[0]
         chain = []
         while ident >= 0:
             chain.append((int(option[ident]), int(start[ident])))
@@ -144,15 +145,18 @@ class _Finals:
         return self.best[0][0] if self.best else np.inf
 
     def offer(self, tables: PieceTables, made: Labels, parent: np.ndarray, x: int) -> None:
-        """The labels ``made`` at change node x (``parent``: their parents), finished."""
+        """The labels ``made`` at change node x (``parent``: their parents), carried on
+        to the pump unchanged."""
         ok = made.loss <= tables.head_room[x, made.option] + 1e-12
-        if not ok.any():
-            return
-        total = np.where(ok, made.value + tables.tail_value[0, made.option], np.inf) \
-            + tables.constant
+        total = np.where(ok, made.value + tables.tail_value[0, made.option], np.inf)
+        self.add(total + tables.constant, parent, made.option, x)
+
+    def add(self, total: np.ndarray, parent: np.ndarray, option: np.ndarray, x: int) -> None:
+        """Finished designs: their values, parent labels and last options (from node x
+        to the pump)."""
         for i in np.argsort(total)[:self.keep].tolist():
             if np.isfinite(total[i]):
-                self.best.append((float(total[i]), int(parent[i]), int(made.option[i]), x))
+                self.best.append((float(total[i]), int(parent[i]), int(option[i]), x))
         self.best = sorted(self.best)[:self.keep]
 
 
@@ -164,9 +168,9 @@ def run_programme(tables: PieceTables, ceiling: float, keep_chains: int = 3,
     arena = _Arena()
     finals = _Finals(keep_chains)
     pending: dict[int, list[Labels]] = {}
-    first = _first_pieces(tables, arena, finals)
+    first = _first_pieces(tables, finals)
     if first is not None:
-        pending.setdefault(int(tables.complete_at[n]), []).append(first)
+        pending.setdefault(int(tables.complete_at[n]), []).append((first, n))
     labels = Labels.empty()
     complete = True
     for x in range(n, 0, -1):
@@ -177,14 +181,14 @@ def run_programme(tables: PieceTables, ceiling: float, keep_chains: int = 3,
         if x < n and len(labels):
             labels = labels.take(labels.loss <= tables.room[x, labels.option] + 1e-12)
         if x in pending:
-            labels = _pareto(Labels.joined([labels, *pending.pop(x)]), m)
+            labels = _arrived(labels, pending.pop(x), arena, m)
         if len(labels):
             labels = labels.take(_hopeful(tables, labels, x, limit))
         target = int(tables.complete_at[x])
         if target >= 1 and len(labels):
-            new = _changes(tables, labels, x, arena, limit, finals)
+            new = _changes(tables, labels, x, limit, finals)
             if len(new):
-                pending.setdefault(target, []).append(new)
+                pending.setdefault(target, []).append((new, x))
     chains = [[(option, start), *arena.chain(parent)] for _, parent, option, start
               in finals.best]
     bound = min(finals.least, ceiling) if complete else None
@@ -201,7 +205,23 @@ def _hopeful(tables: PieceTables, labels: Labels, x: int, limit: float) -> np.nd
     return value + tables.rest[np.maximum(level, 0), left, x] < limit
 
 
-def _first_pieces(tables: PieceTables, arena: _Arena, finals: _Finals) -> Labels | None:
+def _arrived(labels: Labels, fresh: list[tuple[Labels, int]], arena: _Arena,
+             m: int) -> Labels:
+    """``labels`` joined by the new pieces that complete here (each with its parent as
+    ``ident`` and the node it began at), dominated ones dropped; those kept are
+    recorded (only they can be traced back)."""
+    batch = Labels.joined([part for part, _ in fresh])
+    parents = batch.ident
+    starts = np.concatenate([np.full(len(part), start) for part, start in fresh])
+    batch.ident = -1 - np.arange(len(batch))
+    labels = _pareto(Labels.joined([labels, batch]), m)
+    new = labels.ident < 0
+    which = -1 - labels.ident[new]
+    labels.ident[new] = arena.add(parents[which], labels.option[new], starts[which])
+    return labels
+
+
+def _first_pieces(tables: PieceTables, finals: _Finals) -> Labels | None:
     """The piece at the outlet, one label per option (each laid over the whole route is
     a final); None if no piece can change."""
     n = tables.loss.shape[0]
@@ -213,17 +233,21 @@ def _first_pieces(tables: PieceTables, arena: _Arena, finals: _Finals) -> Labels
     if tables.complete_at[n] < 1 or tables.max_changes < 1:
         return None
     whole = whole.take(tables.window[n] >= 0.0)
-    whole.ident = arena.add(np.full(len(whole), -1), whole.option, n)
+    whole.ident = np.full(len(whole), -1)
     return whole
 
 
-def _changes(tables: PieceTables, labels: Labels, x: int, arena: _Arena,
-             limit: float, finals: _Finals) -> Labels:
+def _changes(tables: PieceTables, labels: Labels, x: int, limit: float,
+             finals: _Finals) -> Labels:
     """New pieces beginning at node x (section x-1 shared with the label's piece, or
     wholly theirs), one per label offered and next option, each also finished (carried
-    on to the pump); those that may change again are returned, complete at
-    ``complete_at[x]``."""
+    on to the pump); those that may change again are returned (``ident``: their
+    parent), complete at ``complete_at[x]``."""
     offered = labels.take(labels.level < tables.max_changes)
+    last = offered.level == tables.max_changes - 1
+    if last.any():
+        _last_changes(tables, offered.take(last), x, finals)
+    offered = offered.take(~last)
     if not len(offered):
         return Labels.empty()
     s = x - 1
@@ -247,8 +271,42 @@ def _changes(tables: PieceTables, labels: Labels, x: int, arena: _Arena,
     made = made.take(_hopeful(tables, made, s, limit))
     finals.offer(tables, made, offered.ident[made.ident], x)
     made = made.take(made.level < tables.max_changes)
-    made.ident = arena.add(offered.ident[made.ident], made.option, x)
+    made.ident = offered.ident[made.ident]  # the parent, until recorded on arrival
     return made
+
+
+def _last_changes(tables: PieceTables, last: Labels, x: int, finals: _Finals) -> None:
+    """The last change, at node x, of labels with one change left, each new option run
+    on to the pump: for a label's option B and a new option A, the cases open to a
+    label (A over all of section x-1, or shared as in :func:`_shared_section`) are those
+    with loss at most a threshold, so the cheapest label of B in each case is found by
+    one search in B's labels sorted by loss (the same finals as expanding every label)."""
+    s = x - 1
+    m = tables.loss.shape[1]
+    loss = last.loss + tables.tail_loss[x, last.option]
+    value = last.value + tables.tail_value[x, last.option]
+    loss_a, value_a = tables.loss[s], tables.value[s]
+    room_a = tables.head_room[x] + tables.tail_loss[s]  # loss at x + shift below it
+    price = tables.change_cost - tables.tail_value[s] + tables.tail_value[0] + tables.constant
+    for b in np.unique(last.option).tolist():
+        mine = np.flatnonzero(last.option == b)
+        mine = mine[np.argsort(loss[mine], kind="stable")]
+        least = np.minimum.accumulate(value[mine])
+        where = np.maximum.accumulate(np.where(value[mine] <= least, np.arange(len(mine)), 0))
+        own_loss, own_value = tables.loss[s, b], tables.value[s, b]
+        share = np.minimum(loss_a, own_loss)
+        theta_b = tables.room[s, b] + tables.tail_loss[s, b]
+        threshold = np.concatenate([room_a - loss_a,
+                                    np.minimum(room_a, theta_b) - share])
+        shift = np.concatenate([value_a, np.minimum(value_a, own_value)]) + np.tile(price, 2)
+        allowed = np.isfinite(loss_a) & (np.arange(m) != b)
+        if tables.non_increasing:
+            allowed &= tables.diameter >= tables.diameter[b] - 1e-12
+        at = np.searchsorted(loss[mine], threshold + 1e-12, side="right") - 1
+        ok = (at >= 0) & np.tile(allowed, 2)
+        pick = np.maximum(at, 0)
+        total = np.where(ok, least[pick] + shift, np.inf)
+        finals.add(total, last.ident[mine[where[pick]]], np.tile(np.arange(m), 2), x)
 
 
 def _shared_section(tables: PieceTables, offered: Labels, s: int
