@@ -3,13 +3,16 @@ when the rules allow two changes or more: a bound of the model with the rules, a
 cheapest chains of pieces offered as designs (each judged by the check).
 
 It runs when every piece must be longer than any section (so a section holds at most
-one change, as the programme assumes). The scenario that sets the installed power is
+one change, as the programme assumes). With three changes or more allowed it first
+runs over designs of at most two changes (much faster), whose best design then prunes
+the full run (labels that cannot beat it). The scenario that sets the installed power is
 taken from the best design so far; if the programme's own design is set by another,
 it runs once more with that one (each run is a valid bound; the larger counts).
 """
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 import time
 
@@ -58,12 +61,16 @@ def station_scenario(data: ProblemData, options: np.ndarray) -> int:
 
 
 def piece_bound(data: ProblemData, ceiling: float, station: int,
-                deadline: float = np.inf) -> PieceResult:
-    """One run of the programme with ``station`` setting the installed power."""
+                deadline: float = np.inf, changes: int | None = None) -> PieceResult:
+    """One run of the programme with ``station`` setting the installed power; with
+    ``changes`` below the rules' limit, over designs with at most that many changes
+    (designs only: no bound of the study then)."""
     study = data.study
     shortest = min(study.rules.min_piece_length_m, study.route.total_chainage_m)
     tables = piece_tables(data, head_upper_m(data), scenario_weights(data, station),
                           class_scenario(data), shortest)
+    if changes is not None and changes < tables.max_changes:
+        tables = dataclasses.replace(tables, max_changes=changes)
     return run_programme(tables, ceiling, deadline=deadline)
 
 
@@ -101,6 +108,8 @@ def run_piece_programme(state: SearchState) -> None:
     if not applies(data):
         return
     begun = time.perf_counter()
+    if data.study.rules.max_changes > 2:  # a good first design: it prunes the full run
+        _fewer_changes(state, data)
     seen: set[int] = set()
     station = class_scenario(data) if state.best is None else _design_station(state)
     made, status, bound = 0, Status.OPTIMAL, None
@@ -125,6 +134,15 @@ def run_piece_programme(state: SearchState) -> None:
     note = f"{made:,} labels" + ("" if bound is not None else "; out of time, no bound")
     state.stages.append(Stage(StageKind.PUMP_TWO_PIECES, NAME, status, best, bound,
                               time.perf_counter() - begun, 0, 0, 0, note))
+
+
+def _fewer_changes(state: SearchState, data: ProblemData) -> None:
+    """Designs of the programme over at most two changes (fast; no bound)."""
+    station = class_scenario(data) if state.best is None else _design_station(state)
+    ceiling = np.inf if state.best is None else state.best.cost
+    result = piece_bound(data, ceiling, station, state.clock.deadline - 1.0, changes=2)
+    for chain in result.chains:
+        _offer(state, data, chain)
 
 
 def _design_station(state: SearchState) -> int:
