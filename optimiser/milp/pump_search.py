@@ -16,10 +16,12 @@ they are left out (recorded as skipped). The plan here, after Alperovits & Shami
    close: the LP bound;
 3. when the rules allow at most one change, every pair of options and place of change
    bounded in closed form (:mod:`optimiser.milp.pumps.two_pieces`, a relaxation: its
-   bound counts), its cheapest node changes checked as designs; with two changes or
-   more and pieces longer than any section, a dynamic programme over pieces from the
-   outlet (:mod:`optimiser.milp.pumps.piece_stage`, a relaxation: its bound counts when
-   it runs to the end), its cheapest chains checked as designs;
+   bound counts), its cheapest node changes checked as designs; on a long route (more
+   than ``FINE_SECTIONS`` sections) with two changes or more and pieces longer than any
+   section, a dynamic programme over pieces from the outlet
+   (:mod:`optimiser.milp.pumps.piece_stage`, a relaxation: its bound counts when it
+   runs to the end), its cheapest chains checked as designs (on short routes the models
+   of the fine sections do better: they also place a change inside a section);
 4. if not proven, first designs that obey every rule: each option over the whole route,
    and the weakest class of each size with the stretches whose class the pressure
    breaks raised (:mod:`optimiser.milp.pumps.designs`);
@@ -62,7 +64,8 @@ from optimiser.model.status import Status
 
 FINE_SECTIONS = 200
 """Up to this many sections the models of the fine sections run at once: the reach
-rounds only pay where those models are too large to solve in the time."""
+rounds and the programme over pieces only pay where those models are too large to
+solve in the time."""
 SKIPPED_STAGES = ("cheapest uniform design, priced dynamic programme, reach and any-order "
                   "models: they price pipes only, not the energy of a pump")
 
@@ -85,7 +88,7 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
     if report is not None and report.status == Status.INFEASIBLE:
         return state.infeasible(_why_infeasible(study))
     run_two_pieces(state)  # a proof when the rules allow at most one change
-    if not state.proven():
+    if data.n_sections > FINE_SECTIONS and not state.proven():
         run_piece_programme(state)  # a proof with two changes or more (long pieces)
     if not state.proven():
         uniform_designs(state)

@@ -116,7 +116,7 @@ def run_piece_programme(state: SearchState) -> None:
     while station not in seen and not state.clock.nearly_out():
         seen.add(station)
         ceiling = np.inf if state.best is None else state.best.cost
-        result = piece_bound(data, ceiling, station, state.clock.deadline - 1.0)
+        result = piece_bound(data, ceiling, station, _deadline(state))
         made += result.labels_made
         if result.bound is not None:
             bound = result.bound if bound is None else max(bound, result.bound)
@@ -136,11 +136,20 @@ def run_piece_programme(state: SearchState) -> None:
                               time.perf_counter() - begun, 0, 0, 0, note))
 
 
+SHARE = 0.8
+"""Of the time left, what one run of the programme may take (the later stages keep the
+rest when it runs out)."""
+
+
+def _deadline(state: SearchState) -> float:
+    return time.perf_counter() + max(state.clock.left() - 1.0, 0.0) * SHARE
+
+
 def _fewer_changes(state: SearchState, data: ProblemData) -> None:
     """Designs of the programme over at most two changes (fast; no bound)."""
     station = class_scenario(data) if state.best is None else _design_station(state)
     ceiling = np.inf if state.best is None else state.best.cost
-    result = piece_bound(data, ceiling, station, state.clock.deadline - 1.0, changes=2)
+    result = piece_bound(data, ceiling, station, _deadline(state), changes=2)
     for chain in result.chains:
         _offer(state, data, chain)
 
