@@ -136,7 +136,7 @@ def run_piece_programme(state: SearchState) -> None:
                               time.perf_counter() - begun, 0, 0, 0, note))
 
 
-SHARE = 0.8
+SHARE = 0.9
 """Of the time left, what one run of the programme may take (the later stages keep the
 rest when it runs out)."""
 
