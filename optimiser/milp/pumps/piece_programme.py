@@ -116,19 +116,49 @@ class PieceResult:
 
 
 def _pareto(labels: Labels, m: int) -> Labels:
-    """The labels no other of the same option and level dominates (both no larger)."""
+    """The labels no other of the same option and level dominates (both no larger),
+    sorted by option and level, then loss."""
     if len(labels) == 0:
         return labels
     key = labels.level * m + labels.option
     order = np.lexsort((labels.value, labels.loss, key))
-    labels = labels.take(order)
-    key = key[order]
+    return _front(labels.take(order), key[order])
+
+
+def _front(labels: Labels, key: np.ndarray) -> Labels:
+    """Of labels sorted by key then loss, those with less value than every label before
+    them of their key (each key's Pareto front; a tie may keep both)."""
     spread = float(np.ptp(labels.value)) * 2.0 + 1.0
     shifted = labels.value - key * spread  # later keys lie wholly below earlier ones
     running = np.minimum.accumulate(shifted)
     keep = np.ones(len(labels), dtype=bool)
     keep[1:] = shifted[1:] < running[:-1] - 1e-9 * (1.0 + np.abs(labels.value[1:]))
     return labels.take(keep)
+
+
+def _merged(old: Labels, new: Labels, m: int) -> Labels:
+    """The Pareto fronts of ``old`` (already fronts, sorted as :func:`_pareto` leaves
+    them) joined with ``new``: the new ones sorted alone, then merged in order (no sort
+    of the whole)."""
+    new = _pareto(new, m)
+    if not len(old) or not len(new):
+        return new if not len(old) else old
+    old_key = old.level * m + old.option
+    new_key = new.level * m + new.option
+    low = min(float(old.loss.min()), float(new.loss.min()))
+    span = max(float(old.loss.max()), float(new.loss.max())) - low + 1.0
+    at = np.searchsorted(old_key * span + (old.loss - low), new_key * span + (new.loss - low))
+    slots = at + np.arange(len(new))
+    mine = np.ones(len(old) + len(new), dtype=bool)
+    mine[slots] = False
+    fields = {}
+    for name in ("option", "level", "loss", "value", "ident"):
+        column = np.empty(len(mine), dtype=getattr(old, name).dtype)
+        column[mine] = getattr(old, name)
+        column[slots] = getattr(new, name)
+        fields[name] = column
+    joined = Labels(**fields)
+    return _front(joined, joined.level * m + joined.option)
 
 
 @dataclass
@@ -214,7 +244,7 @@ def _arrived(labels: Labels, fresh: list[tuple[Labels, int]], arena: _Arena,
     parents = batch.ident
     starts = np.concatenate([np.full(len(part), start) for part, start in fresh])
     batch.ident = -1 - np.arange(len(batch))
-    labels = _pareto(Labels.joined([labels, batch]), m)
+    labels = _merged(labels, batch, m)
     new = labels.ident < 0
     which = -1 - labels.ident[new]
     labels.ident[new] = arena.add(parents[which], labels.option[new], starts[which])
@@ -287,7 +317,9 @@ def _last_changes(tables: PieceTables, last: Labels, x: int, finals: _Finals) ->
     value = last.value + tables.tail_value[x, last.option]
     loss_a, value_a = tables.loss[s], tables.value[s]
     room_a = tables.head_room[x] + tables.tail_loss[s]  # loss at x + shift below it
-    price = tables.change_cost - tables.tail_value[s] + tables.tail_value[0] + tables.constant
+    price = np.tile(tables.change_cost - tables.tail_value[s] + tables.tail_value[0]
+                    + tables.constant, 2)
+    options = np.tile(np.arange(m), 2)
     for b in np.unique(last.option).tolist():
         mine = np.flatnonzero(last.option == b)
         mine = mine[np.argsort(loss[mine], kind="stable")]
@@ -298,7 +330,7 @@ def _last_changes(tables: PieceTables, last: Labels, x: int, finals: _Finals) ->
         theta_b = tables.room[s, b] + tables.tail_loss[s, b]
         threshold = np.concatenate([room_a - loss_a,
                                     np.minimum(room_a, theta_b) - share])
-        shift = np.concatenate([value_a, np.minimum(value_a, own_value)]) + np.tile(price, 2)
+        shift = np.concatenate([value_a, np.minimum(value_a, own_value)]) + price
         allowed = np.isfinite(loss_a) & (np.arange(m) != b)
         if tables.non_increasing:
             allowed &= tables.diameter >= tables.diameter[b] - 1e-12
@@ -306,7 +338,7 @@ def _last_changes(tables: PieceTables, last: Labels, x: int, finals: _Finals) ->
         ok = (at >= 0) & np.tile(allowed, 2)
         pick = np.maximum(at, 0)
         total = np.where(ok, least[pick] + shift, np.inf)
-        finals.add(total, last.ident[mine[where[pick]]], np.tile(np.arange(m), 2), x)
+        finals.add(total, last.ident[mine[where[pick]]], options, x)
 
 
 def _shared_section(tables: PieceTables, offered: Labels, s: int
