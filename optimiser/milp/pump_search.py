@@ -16,7 +16,12 @@ they are left out (recorded as skipped). The plan here, after Alperovits & Shami
    close: the LP bound;
 3. when the rules allow at most one change, every pair of options and place of change
    bounded in closed form (:mod:`optimiser.milp.pumps.two_pieces`, a relaxation: its
-   bound counts), its cheapest node changes checked as designs;
+   bound counts), its cheapest node changes checked as designs; on a long route (more
+   than ``FINE_SECTIONS`` sections) with two changes or more and pieces longer than any
+   section, a dynamic programme over pieces from the outlet
+   (:mod:`optimiser.milp.pumps.piece_stage`, a relaxation: its bound counts when it
+   runs to the end), its cheapest chains checked as designs (on short routes the models
+   of the fine sections do better: they also place a change inside a section);
 4. if not proven, first designs that obey every rule: each option over the whole route,
    and the weakest class of each size with the stretches whose class the pressure
    breaks raised (:mod:`optimiser.milp.pumps.designs`);
@@ -49,6 +54,7 @@ from optimiser.milp.formulation import rules_active
 from optimiser.milp.outcome import DesignOutcome, Stage
 from optimiser.milp.pumps.designs import uniform_designs
 from optimiser.milp.pumps.fine_models import run_fine_models
+from optimiser.milp.pumps.piece_stage import run_piece_programme
 from optimiser.milp.pumps.reach_rounds import Refinement, run_reach_rounds
 from optimiser.milp.pumps.two_pieces import run_two_pieces
 from optimiser.milp.search.finish import finish, no_design_error
@@ -59,7 +65,8 @@ from optimiser.model.status import Status
 
 FINE_SECTIONS = 200
 """Up to this many sections the models of the fine sections run at once: the reach
-rounds only pay where those models are too large to solve in the time."""
+rounds and the programme over pieces only pay where those models are too large to
+solve in the time."""
 SKIPPED_STAGES = ("cheapest uniform design, priced dynamic programme, reach and any-order "
                   "models: they price pipes only, not the energy of a pump")
 
@@ -85,6 +92,8 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
     if report is not None and report.status == Status.INFEASIBLE:
         return state.infeasible(_why_infeasible(study))
     run_two_pieces(state)  # a proof when the rules allow at most one change
+    if data.n_sections > FINE_SECTIONS and not state.proven():
+        run_piece_programme(state)  # a proof with two changes or more (long pieces)
     if not state.proven():
         uniform_designs(state)
     if data.n_sections > FINE_SECTIONS and not state.proven() \
