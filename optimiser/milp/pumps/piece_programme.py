@@ -42,6 +42,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from optimiser.milp.pumps.piece_last import last_changes
 from optimiser.milp.pumps.piece_tables import PieceTables
 
 __all__ = ["Labels", "PieceResult", "run_programme"]
@@ -276,7 +277,9 @@ def _changes(tables: PieceTables, labels: Labels, x: int, limit: float,
     offered = labels.take(labels.level < tables.max_changes)
     last = offered.level == tables.max_changes - 1
     if last.any():
-        _last_changes(tables, offered.take(last), x, finals)
+        final = offered.take(last)
+        finals.add(*last_changes(tables, final.option, final.loss, final.value,
+                                 final.ident, x), x)
     offered = offered.take(~last)
     if not len(offered):
         return Labels.empty()
@@ -303,42 +306,6 @@ def _changes(tables: PieceTables, labels: Labels, x: int, limit: float,
     made = made.take(made.level < tables.max_changes)
     made.ident = offered.ident[made.ident]  # the parent, until recorded on arrival
     return made
-
-
-def _last_changes(tables: PieceTables, last: Labels, x: int, finals: _Finals) -> None:
-    """The last change, at node x, of labels with one change left, each new option run
-    on to the pump: for a label's option B and a new option A, the cases open to a
-    label (A over all of section x-1, or shared as in :func:`_shared_section`) are those
-    with loss at most a threshold, so the cheapest label of B in each case is found by
-    one search in B's labels sorted by loss (the same finals as expanding every label)."""
-    s = x - 1
-    m = tables.loss.shape[1]
-    loss = last.loss + tables.tail_loss[x, last.option]
-    value = last.value + tables.tail_value[x, last.option]
-    loss_a, value_a = tables.loss[s], tables.value[s]
-    room_a = tables.head_room[x] + tables.tail_loss[s]  # loss at x + shift below it
-    price = np.tile(tables.change_cost - tables.tail_value[s] + tables.tail_value[0]
-                    + tables.constant, 2)
-    options = np.tile(np.arange(m), 2)
-    for b in np.unique(last.option).tolist():
-        mine = np.flatnonzero(last.option == b)
-        mine = mine[np.argsort(loss[mine], kind="stable")]
-        least = np.minimum.accumulate(value[mine])
-        where = np.maximum.accumulate(np.where(value[mine] <= least, np.arange(len(mine)), 0))
-        own_loss, own_value = tables.loss[s, b], tables.value[s, b]
-        share = np.minimum(loss_a, own_loss)
-        theta_b = tables.room[s, b] + tables.tail_loss[s, b]
-        threshold = np.concatenate([room_a - loss_a,
-                                    np.minimum(room_a, theta_b) - share])
-        shift = np.concatenate([value_a, np.minimum(value_a, own_value)]) + price
-        allowed = np.isfinite(loss_a) & (np.arange(m) != b)
-        if tables.non_increasing:
-            allowed &= tables.diameter >= tables.diameter[b] - 1e-12
-        at = np.searchsorted(loss[mine], threshold + 1e-12, side="right") - 1
-        ok = (at >= 0) & np.tile(allowed, 2)
-        pick = np.maximum(at, 0)
-        total = np.where(ok, least[pick] + shift, np.inf)
-        finals.add(total, last.ident[mine[where[pick]]], options, x)
 
 
 def _shared_section(tables: PieceTables, offered: Labels, s: int
