@@ -32,7 +32,7 @@ from optimiser.model.status import Status
 
 __all__ = ["applies", "chain_designs", "piece_bound", "run_piece_programme"]
 
-NAME = "every design of the rules, by a dynamic programme over pieces from the outlet"
+NAME = StageKind.PUMP_PIECES.label
 
 
 def applies(data: ProblemData) -> bool:
@@ -132,7 +132,7 @@ def run_piece_programme(state: SearchState) -> None:
         station = station_scenario(data, chain_options(data, result.chains[0]))
     best = None if state.best is None else state.best.cost
     note = f"{made:,} labels" + ("" if bound is not None else "; out of time, no bound")
-    state.stages.append(Stage(StageKind.PUMP_TWO_PIECES, NAME, status, best, bound,
+    state.stages.append(Stage(StageKind.PUMP_PIECES, NAME, status, best, bound,
                               time.perf_counter() - begun, 0, 0, 0, note))
 
 

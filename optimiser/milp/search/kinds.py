@@ -67,6 +67,9 @@ class StageKind(Enum):
     PUMP_TWO_PIECES = "pump_two_pieces"
     """Pumped main, at most one change: every pair and place of change bounded in closed
     form (a relaxation: bound), the cheapest node changes (designs)."""
+    PUMP_PIECES = "pump_pieces"
+    """Pumped main, two changes or more: a dynamic programme over pieces from the outlet
+    (a relaxation: bound), its cheapest chains (designs)."""
 
     @property
     def label(self) -> str:
@@ -101,4 +104,6 @@ _LABELS = {
     StageKind.SCHEME_TANK_SETS: "scheme designed with these new tanks fixed",
     StageKind.SCHEME_TANK_LINES: "line alone as a route with new tanks, a bound",
     StageKind.PUMP_TWO_PIECES: "every design of at most two pieces, bounded in closed form",
+    StageKind.PUMP_PIECES: "every design of the rules, by a dynamic programme over pieces "
+                           "from the outlet",
 }
