@@ -45,7 +45,8 @@ def _catalogue(allowable_branch_m: float) -> list[tuple]:
 
 
 def _write(folder, *, allowable_branch_m: float = 250.0, pump: dict | None = None,
-           tank: dict | None = None, main_required: float = REQUIRED["main"]):
+           tank: dict | None = None, main_required: float = REQUIRED["main"],
+           extra: dict | None = None):
     """The invented pumped scheme: trunk 2,000 m, "hill" leaving at 500 m, "east" at
     1,000 m; Hazen-Williams, no local losses; the trunk DN200, the branches DN150."""
     folder.mkdir(parents=True, exist_ok=True)
@@ -75,6 +76,8 @@ def _write(folder, *, allowable_branch_m: float = 250.0, pump: dict | None = Non
     }
     if tank is not None:
         study["break_pressure_tank"] = [tank]
+    for key, value in (extra or {}).items():
+        study[key] = {**study.get(key, {}), **value}
     (folder / "study.toml").write_text(toml_text(study), encoding="utf-8")
     rows = [(0.0, 2000.0, "PVC", 200, "PN25", "main"), (0.0, 1000.0, "PVC", 150, "PNX", "hill"),
             (0.0, 800.0, "PVC", 150, "PNX", "east")]
@@ -177,6 +180,33 @@ def test_classes_judged_under_pumping_on_every_line(tmp_path):
     kinds = {(v.kind, v.branch) for v in result.violations}
     assert ("max_pressure", "hill") in kinds and ("max_pressure", "east") in kinds
     assert all("pumping head" in v.message for v in result.violations)
+
+
+def test_the_down_surge_limit_on_a_branch_raises_the_station_head(tmp_path):
+    # Allowance method: the down-surge of a pump trip is the pressure less the surge
+    # allowance (10 m), to stay at least -5 m (contract section 10): at the crest of
+    # "hill" the pressure must be 5 m, 3 m more than its 2 m minimum (by hand).
+    head = max(_hand_deficits().values())
+    _, result = _checked(*_write(tmp_path, extra={
+        "catalogue": {"surge_allowance_m": 10.0},
+        "surge": {"min_transient_pressure_m": -5.0}}))
+    assert result.station.head_m["duty"] == pytest.approx(head + 3.0, abs=1e-9)
+    assert result.ok, [v.message for v in result.violations]
+
+
+def test_max_head_leaves_branches_short_as_violations(tmp_path):
+    head = max(_hand_deficits().values())
+    _, result = _checked(*_write(tmp_path, pump={"efficiency": 0.7, "energy_price": 0.15,
+                                                 "max_head_m": 60.0}))
+    station = result.station
+    assert station.head_m["duty"] == 60.0
+    assert station.needed_head_m["duty"] == pytest.approx(head, abs=1e-9)
+    short = {(v.kind, v.branch) for v in result.violations}
+    # 60 m leaves the crest of "hill" and the delivery of "east" short (by hand: their
+    # deficits, 74.3 m and 66.9 m, exceed 60 m; the trunk's 57.1 m does not).
+    assert ("min_pressure", "hill") in short and ("outlet_head", "east") in short
+    assert ("outlet_head", "main") not in short
+    assert "max_head_m" in result.notes[0]
 
 
 def test_a_tank_on_the_trunk_below_a_junction_ends_the_rising_main_there(tmp_path):
