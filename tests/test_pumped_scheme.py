@@ -22,6 +22,7 @@ from optimiser import load_design, load_study
 from optimiser.analysis import check_design
 from optimiser.cli import app
 from optimiser.hydraulics.water import density_kg_m3
+from optimiser.milp import optimise_design
 
 G = 9.80665  # standard gravity [m/s^2] (contract section 5)
 HW = 10.67  # SI Hazen-Williams constant (contract section 12, the study's default)
@@ -46,17 +47,18 @@ def _catalogue(allowable_branch_m: float) -> list[tuple]:
 
 def _write(folder, *, allowable_branch_m: float = 250.0, pump: dict | None = None,
            tank: dict | None = None, main_required: float = REQUIRED["main"],
-           extra: dict | None = None):
+           extra: dict | None = None, hill: list[tuple] = HILL, east: list[tuple] = EAST,
+           catalogue: list[tuple] | None = None, scenarios: list[dict] | None = None):
     """The invented pumped scheme: trunk 2,000 m, "hill" leaving at 500 m, "east" at
     1,000 m; Hazen-Williams, no local losses; the trunk DN200, the branches DN150."""
     folder.mkdir(parents=True, exist_ok=True)
-    for name, rows in (("profile", TRUNK), ("hill", HILL), ("east", EAST)):
+    for name, rows in (("profile", TRUNK), ("hill", hill), ("east", east)):
         (folder / f"{name}.csv").write_text(csv_text(rows, ("chainage_m", "ground_m")),
                                             encoding="utf-8")
     columns = ("material", "dn_mm", "internal_diameter_mm", "pressure_class",
                "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m", "note")
-    (folder / "catalogue.csv").write_text(csv_text(_catalogue(allowable_branch_m), columns),
-                                          encoding="utf-8")
+    (folder / "catalogue.csv").write_text(
+        csv_text(catalogue or _catalogue(allowable_branch_m), columns), encoding="utf-8")
     branch = {"junction_k": 0.0, "exit_k": 0.0}
     study = {
         "title": "Invented pumped scheme", "currency": "USD",
@@ -65,7 +67,8 @@ def _write(folder, *, allowable_branch_m: float = 250.0, pump: dict | None = Non
         "outlet": {"required_head_m": main_required, "exit_k": 0.0},
         "route": {"profile": "profile.csv", "length": "chainage", "cover_m": COVER,
                   "min_pressure_m": MIN_PRESSURE, "local_k_per_km": 0.0},
-        "scenario": [{"name": "duty", "flow": "20 L/s", "hours_per_year": 4000.0}],
+        "scenario": scenarios or [{"name": "duty", "flow": "20 L/s",
+                                   "hours_per_year": 4000.0}],
         "catalogue": {"file": "catalogue.csv", "friction": "hazen-williams"},
         "pump": pump or {"efficiency": 0.7, "energy_price": 0.15},
         "branch": [
@@ -79,8 +82,9 @@ def _write(folder, *, allowable_branch_m: float = 250.0, pump: dict | None = Non
     for key, value in (extra or {}).items():
         study[key] = {**study.get(key, {}), **value}
     (folder / "study.toml").write_text(toml_text(study), encoding="utf-8")
-    rows = [(0.0, 2000.0, "PVC", 200, "PN25", "main"), (0.0, 1000.0, "PVC", 150, "PNX", "hill"),
-            (0.0, 800.0, "PVC", 150, "PNX", "east")]
+    rows = [(0.0, 2000.0, "PVC", 200, "PN25", "main"),
+            (0.0, hill[-1][0], "PVC", 150, "PNX", "hill"),
+            (0.0, east[-1][0], "PVC", 150, "PNX", "east")]
     (folder / "design.csv").write_text(csv_text(
         rows, ("from_m", "to_m", "material", "dn_mm", "pressure_class", "branch")),
         encoding="utf-8")
@@ -232,7 +236,7 @@ def test_a_tank_on_the_trunk_below_a_junction_ends_the_rising_main_there(tmp_pat
     assert outlet.branch == "main" and outlet.energy_m == pytest.approx(below, abs=1e-9)
 
 
-def test_cli_check_writes_pump_and_design_is_refused_plainly(tmp_path):
+def test_cli_check_and_design_write_pump(tmp_path):
     study_path, design_path = _write(tmp_path)
     out = tmp_path / "check.json"
     run = CliRunner().invoke(app, ["check", str(study_path), "--design", str(design_path),
@@ -242,12 +246,24 @@ def test_cli_check_writes_pump_and_design_is_refused_plainly(tmp_path):
     assert data["pump"]["head_m"]["duty"] == pytest.approx(max(_hand_deficits().values()),
                                                            abs=1e-9)
     assert data["life_cycle_cost"] > data["total_cost"] > 0
+    out = tmp_path / "design.json"
+    run = CliRunner().invoke(app, ["design", str(study_path), "--json", str(out)])
+    assert run.exit_code == 0, run.output
+    data = json.loads(out.read_text(encoding="utf-8"))
+    assert data["verified"] and data["ok"]
+    assert set(data["pump"]["head_m"]) == {"duty"}
+    assert data["life_cycle_cost"] >= data["lower_bound"] - 1e-9 * data["life_cycle_cost"]
+
+
+def test_design_of_a_pumped_scheme_with_tanks_is_refused_plainly(tmp_path):
+    study_path, _ = _write(tmp_path, main_required=110.0,
+                           tank={"chainage_m": 1500.0, "water_level_m": 130.0})
     folder = tmp_path / "out"
     run = CliRunner().invoke(app, ["design", str(study_path), "--out", str(folder)])
     text = " ".join(run.output.split())
     assert run.exit_code == 2 and "Traceback" not in text
-    assert "design of a pumped scheme is not available" in text and "'hill'" in text
-    assert not folder.exists()
+    assert "design of such a pumped scheme is not available" in text
+    assert "study.toml" in text and not folder.exists()
 
 
 def test_bad_pump_input_of_a_scheme_exits_2(tmp_path):
@@ -256,3 +272,117 @@ def test_bad_pump_input_of_a_scheme_exits_2(tmp_path):
     run = CliRunner().invoke(app, ["check", str(study_path), "--design", str(design_path)])
     assert run.exit_code == 2 and "efficiency" in run.output
     assert "Traceback" not in run.output
+
+
+# ------------------------------------------------------------------ design against an LP
+
+LEVEL_HILL = [(0.0, 100.0), (1000.0, 100.0)]
+LEVEL_EAST = [(0.0, 100.0), (800.0, 100.0)]
+SIZES = [(200, 0.2, 60.0), (150, 0.15, 40.0), (100, 0.1, 25.0)]  # DN, d [m], cost [/m]
+SCENARIOS = [{"name": "duty", "flow": "20 L/s", "hours_per_year": 4000.0},
+             {"name": "peak", "flow": "30 L/s", "branch_factor": 1.5,
+              "hours_per_year": 500.0}]
+STATION = {"efficiency": 0.7, "energy_price": 0.15, "station_cost_per_kw": 800.0}
+
+
+def _independent_lp() -> float:
+    """Least life-cycle cost of the level scheme by scipy.optimize.linprog, written here
+    from the contract (sections 5, 7 and 9) and independent of the optimiser: per line,
+    survey segment and size a length; per scenario a station head H; the installed power
+    P >= rho g Q H / (1000 eff). Rows: each segment's lengths add up to it; at each
+    delivery point (no exit, junction or entrance loss) source + H - the Hazen-Williams
+    losses along its path >= its required head. On level ground 99 m below the energy
+    line, no pressure minimum can bind (pressure >= required head - 99 m - V^2/2g >= 20 m).
+    Classes take any pressure, rules off (the split-pipe LP of Karmeli et al. (1968),
+    with pump heads as Alperovits & Shamir (1977))."""
+    from scipy.optimize import linprog
+
+    scen = [(TRUNK_FLOW, 1.0, 4000.0), (0.030, 1.5, 500.0)]  # trunk flow, branch factor, h
+    segments = [("main", 0, 500.0), ("main", 1, 500.0), ("main", 2, 1000.0),
+                ("hill", 0, 1000.0), ("east", 0, 800.0)]
+
+    def flow(line: str, index: int, k: int) -> float:
+        trunk, factor, _ = scen[k]
+        east, hill = EAST_FLOW * factor, HILL_FLOW * factor
+        return {("main", 0): trunk + east + hill, ("main", 1): trunk + east,
+                ("main", 2): trunk, ("hill", 0): hill, ("east", 0): east}[line, index]
+
+    paths = {"main": [0, 1, 2], "hill": [0, 3], "east": [0, 1, 4]}
+    required = {"main": 150.0, "hill": 125.0, "east": 160.0}
+    n_len = len(segments) * len(SIZES)
+    n = n_len + len(scen) + 1
+    rho = float(density_kg_m3(15.0))
+    pwf = (1 - 1.05 ** -30) / 0.05
+    cost = [c for _ in segments for _, _, c in SIZES]
+    kw_per_m = [rho * G * flow("main", 0, k) / (1000.0 * 0.7) for k in range(len(scen))]
+    cost += [pwf * 0.15 * scen[k][2] * kw_per_m[k] for k in range(len(scen))] + [800.0]
+    a_eq = [[0.0] * n for _ in segments]
+    for i in range(len(segments)):
+        for j in range(len(SIZES)):
+            a_eq[i][i * len(SIZES) + j] = 1.0
+    b_eq = [length for _, _, length in segments]
+    a_ub, b_ub = [], []
+    for k in range(len(scen)):
+        for line, path in paths.items():
+            row = [0.0] * n
+            for i in path:
+                name, index, _ = segments[i]
+                for j, (_, d, _) in enumerate(SIZES):
+                    row[i * len(SIZES) + j] = _j(flow(name, index, k), d)
+            row[n_len + k] = -1.0  # losses - H <= source - required
+            a_ub.append(row)
+            b_ub.append(SOURCE - required[line])
+        power = [0.0] * n
+        power[n_len + k], power[-1] = kw_per_m[k], -1.0
+        a_ub.append(power)
+        b_ub.append(0.0)
+    solved = linprog(cost, A_ub=a_ub, b_ub=b_ub, A_eq=a_eq, b_eq=b_eq,
+                     bounds=[(0, None)] * n, method="highs")
+    assert solved.status == 0
+    return float(solved.fun)
+
+
+def _catalogue_of(classes: list[tuple[str, float, float]]) -> list[tuple]:
+    """Every size in every class (name, allowable head [m], extra cost [/m])."""
+    return [("PVC", dn, d * 1000, name, allowable, 0.01, C, cost + extra, "invented")
+            for dn, d, cost in SIZES for name, allowable, extra in classes]
+
+
+def test_design_equals_an_independent_linear_programme(tmp_path):
+    reference = _independent_lp()
+    study_path, _ = _write(tmp_path, hill=LEVEL_HILL, east=LEVEL_EAST,
+                           catalogue=_catalogue_of([("PN100", 1000.0, 0.0)]),
+                           scenarios=SCENARIOS, pump=STATION,
+                           extra={"rules": {"velocity_max_m_s": 10.0}})
+    study = load_study(study_path)
+    outcome = optimise_design(study)
+    assert outcome.verified and outcome.check.ok
+    cost = outcome.check.life_cycle_cost
+    assert cost == pytest.approx(reference, rel=1e-6)
+    assert cost >= reference * (1 - 1e-9)  # never below the LP optimum
+    assert outcome.lower_bound <= cost * (1 + 1e-9)
+    assert outcome.status.value == "optimal"
+
+
+def test_design_with_rules_and_classes_never_below_the_lp_and_passes(tmp_path):
+    # Two classes per size; the cheaper (60 m) cannot take the pumping pressure near the
+    # station (about 70 m above the pipe there), the dearer can: classes change along
+    # the rising main. Rules on: at most one change per line, pieces of 300 m or more.
+    reference = _independent_lp()
+    study_path, _ = _write(
+        tmp_path, hill=LEVEL_HILL, east=LEVEL_EAST,
+        catalogue=_catalogue_of([("PN6", 65.0, 0.0), ("PN10", 250.0, 8.0)]),
+        scenarios=SCENARIOS, pump=STATION,
+        extra={"rules": {"velocity_max_m_s": 10.0, "min_piece_length_m": 300.0,
+                         "max_changes": 1},
+               "costs": {"change_cost": 200.0}})
+    study = load_study(study_path)
+    outcome = optimise_design(study)
+    assert outcome.verified
+    result = check_design(study, outcome.design)
+    assert result.ok, [v.message for v in result.violations]
+    cost = result.life_cycle_cost
+    assert cost >= reference * (1 - 1e-9)
+    assert outcome.lower_bound >= reference * (1 - 1e-9) - 1e-6
+    assert outcome.lower_bound <= cost * (1 + 1e-9)
+    assert {p.option.pressure_class for p in outcome.design.pieces} >= {"PN10"}

@@ -1,30 +1,134 @@
-"""Design of a pumped scheme (contract sections 7 and 9): not available in this version.
+"""``optimise_pumped_scheme``: the design of least life-cycle cost of a pumped scheme.
 
-A station at the source whose head reaches branches (a branch leaves the trunk above its
-first break-pressure tank, or the scheme has no tank) lifts every line it reaches by the
-same head; ``optimiser check`` judges such a design (the least head per scenario,
-:mod:`optimiser.analysis.pumping`). The tree's models (:mod:`optimiser.milp.tree`) do
-not yet carry the station-head columns, the energy objective and the classes under
-pumping on every line, so ``design`` refuses such a study with a clear message rather
-than return a design priced without its energy.
+A station at the source whose head reaches branches (a branch leaves the trunk above
+its first break-pressure tank, or the scheme has no tank) lifts every line by the same
+head (contract sections 7 and 9). The tree's model (:mod:`optimiser.milp.tree.model`)
+takes one station-head column per scenario on the trunk, carried into every branch
+through the junction energies, the energy and station costs in the objective, and the
+classes under pumping on every line (:mod:`optimiser.milp.tree.pump_rows`), after
+Alperovits & Shamir (1977). The plan:
+
+1. every line split at the class limits of the static line held by the non-return valve
+   (the higher of the top water level and the highest level the scheme delivers to,
+   :func:`optimiser.analysis.static_line.static_line_m`);
+2. the LP relaxation of the whole tree on its fine sections, rules relaxed: the LP bound
+   (a relaxation); its design judged by the check;
+3. unless that design proves itself, the full model of the tree with the rules: its
+   bound raises the lower bound, its design is judged by the check.
+
+Every design is judged by :func:`optimiser.analysis.check_design` at its least station
+heads and priced at its life-cycle cost (:func:`optimiser.milp.pumps.designs.consider`);
+``total_cost`` stays the capital, the bounds and the gap are those of the life-cycle
+cost. The bounds are over the designs of the model, which judges each section's class
+at the energy at its start and a branch's junction loss with its first section's
+smallest pipe (conservative, as for a gravity scheme and a pumped route).
+With break-pressure tanks of the study's own or chosen by ``design``, a pumped scheme
+is refused (not modelled in this version).
 """
 
 from __future__ import annotations
 
-from optimiser.analysis.static_line import pump_reaches_branches, pumped_lines
+import dataclasses
+import time
+
+from optimiser.analysis.static_line import pump_reaches_branches
 from optimiser.io.errors import InputError
+from optimiser.milp.formulation import rules_active
+from optimiser.milp.outcome import DesignOutcome, SolverError
+from optimiser.milp.pump_search import static_study
+from optimiser.milp.pumps.designs import consider
+from optimiser.milp.search.finish import finish, no_design_error
+from optimiser.milp.search.kinds import StageKind
+from optimiser.milp.search.state import Clock, SearchState, Settings
+from optimiser.milp.tree.model import build_tree
+from optimiser.milp.tree.problem import TreeProblem, design_from_tree, prepare_tree
 from optimiser.model import Study
+from optimiser.model.status import Status
+
+__all__ = ["is_pumped_scheme", "optimise_pumped_scheme"]
+
+LP_SHARE = 0.3
+"""Share of the time left the LP may take (the rest goes to the full model)."""
 
 
-def refuse_pumped_scheme(study: Study) -> None:
-    """Raise :class:`InputError` when ``study``'s station head reaches a branch."""
-    if not pump_reaches_branches(study):
+def is_pumped_scheme(study: Study) -> bool:
+    """A pumped study whose station's head reaches a branch."""
+    return pump_reaches_branches(study)
+
+
+def optimise_pumped_scheme(study: Study, settings: Settings, started: float
+                           ) -> DesignOutcome:
+    """The design of least life-cycle cost of the pumped scheme ``study`` that passes
+    the check and the rules (see the module docstring)."""
+    _refuse_tanks(study)
+    problem = prepare_tree(static_study(study))
+    problem = dataclasses.replace(problem, study=study)  # the check judges the study as given
+    state = SearchState(study, problem.datas[0], settings,
+                        Clock(started, started + settings.time_limit_s),
+                        with_rules=rules_active(problem.datas[0]))
+    if not _run_model(state, problem, relaxed=True):
+        return state.infeasible(_why_infeasible(study, rules=False))
+    if not state.proven() and not state.clock.nearly_out() \
+            and not _run_model(state, problem, relaxed=False):
+        return state.infeasible(_why_infeasible(study, rules=True))
+    if state.best is None:
+        raise no_design_error(state, "design of the pumped scheme")
+    return finish(state, capital_from_check=True)
+
+
+def _run_model(state: SearchState, problem: TreeProblem, relaxed: bool) -> bool:
+    """The LP relaxation (``relaxed``: rules relaxed too) or the full model of the tree:
+    its bound raises the lower bound, its design is judged; False if infeasible."""
+    begun = time.perf_counter()
+    form = build_tree(problem.lines, problem.datas, with_rules=state.with_rules and not relaxed,
+                      relaxed=relaxed, pumped=problem.study)
+    kind = StageKind.LP_RELAXATION if relaxed else StageKind.FULL_MODEL
+    name = (f"{kind.label}, pumped tree: {len(problem.lines)} lines, "
+            f"{sum(d.n_sections for d in problem.datas)} sections")
+    report = state.run_solver(kind, name, form, None, LP_SHARE if relaxed else 0.9,
+                              time.perf_counter() - begun)
+    if report.status == Status.INFEASIBLE:
+        return False
+    if relaxed and (not report.has_solution or report.objective is None):
+        raise SolverError(f"the LP relaxation of the pumped scheme did not solve "
+                          f"({report.status}: {report.message})")
+    if relaxed:
+        state.lp_bound = report.objective
+        state.raise_bound(report.objective)
+    else:
+        state.full_report = report
+        state.raise_bound(report.bound)
+    if report.has_solution:
+        consider(state, design_from_tree(problem, form), kind.label, must_pass=False)
+    return True
+
+
+def _why_infeasible(study: Study, rules: bool) -> list[str]:
+    """What can make a pumped scheme infeasible (the station head itself is free)."""
+    pump = study.pump
+    assert pump is not None
+    reasons = ["no design meets every limit of every line even with the pump: a pressure "
+               "class that takes the static line held by the non-return valve (the higher "
+               "of the top water level and the highest level the scheme delivers to) or "
+               "the pumping pressure needed, or the velocity window, rules out every "
+               "option somewhere"]
+    if pump.max_head_m is not None:
+        reasons.append(f"or max_head_m ({pump.max_head_m:g} m) is too little head for the "
+                       "largest pipes of the catalogue")
+    if rules:
+        reasons.append("or the design rules (min_piece_length_m, max_changes, "
+                       "sizes_downstream) leave no design that the relaxed model had")
+    return reasons
+
+
+def _refuse_tanks(study: Study) -> None:
+    """Raise :class:`InputError` for a pumped scheme with break-pressure tanks."""
+    if not study.tanks and study.tank_rules.cost is None:
         return
     where = study.path or "the study file"
-    names = ", ".join(f"'{line.name}'" for line in pumped_lines(study)[1:])
     raise InputError(
-        f"{where}: [pump] with branches its head reaches ({names} leave above the "
-        "trunk's first break-pressure tank): design of a pumped scheme is not available "
-        "in this version; check a design of it with `optimiser check` (the least station "
-        "head per scenario), or give the tank the rising main fills as a "
-        "[[break_pressure_tank]] on the trunk above every junction")
+        f"{where}: [pump] with branches its head reaches and break-pressure tanks: "
+        "design of such a pumped scheme is not available in this version; check a design "
+        "of it with `optimiser check` (the least station head per scenario), or give the "
+        "tank the rising main fills as a [[break_pressure_tank]] on the trunk above every "
+        "junction")
