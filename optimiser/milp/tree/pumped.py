@@ -13,8 +13,12 @@ Alperovits & Shamir (1977). The plan:
    :func:`optimiser.analysis.static_line.static_line_m`);
 2. the LP relaxation of the whole tree on its fine sections, rules relaxed: the LP bound
    (a relaxation); its design judged by the check;
-3. unless that design proves itself, the full model of the tree with the rules: its
-   bound raises the lower bound, its design is judged by the check.
+3. with the rules, first designs: the LP's design repaired to them line by line, and
+   every line's covering design (:mod:`optimiser.milp.tree.pump_stages`);
+4. the model with the rules restricted to the options near the LP's and the best
+   design's (designs only, warm-started);
+5. unless proven, the full model of the tree with the rules, warm-started from the best
+   design: its bound raises the lower bound, its design is judged by the check.
 
 Every design is judged by :func:`optimiser.analysis.check_design` at its least station
 heads and priced at its life-cycle cost (:func:`optimiser.milp.pumps.designs.consider`);
@@ -29,26 +33,31 @@ is refused (not modelled in this version).
 from __future__ import annotations
 
 import dataclasses
-import time
 
 from optimiser.analysis.static_line import pump_reaches_branches
 from optimiser.io.errors import InputError
 from optimiser.milp.formulation import rules_active
 from optimiser.milp.outcome import DesignOutcome, SolverError
 from optimiser.milp.pump_search import static_study
-from optimiser.milp.pumps.designs import consider
 from optimiser.milp.search.finish import finish, no_design_error
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, SearchState, Settings
-from optimiser.milp.tree.model import build_tree
-from optimiser.milp.tree.problem import TreeProblem, design_from_tree, prepare_tree
+from optimiser.milp.tree.problem import prepare_tree
+from optimiser.milp.tree.pump_stages import (
+    first_designs,
+    near_design,
+    near_lp,
+    run_pumped_model,
+)
 from optimiser.model import Study
 from optimiser.model.status import Status
 
 __all__ = ["is_pumped_scheme", "optimise_pumped_scheme"]
 
 LP_SHARE = 0.3
-"""Share of the time left the LP may take (the rest goes to the full model)."""
+"""Share of the time left the LP may take."""
+NEARBY_SHARE = 0.4
+"""Share of the time left the model near the LP's options may take (designs only)."""
 
 
 def is_pumped_scheme(study: Study) -> bool:
@@ -66,41 +75,30 @@ def optimise_pumped_scheme(study: Study, settings: Settings, started: float
     state = SearchState(study, problem.datas[0], settings,
                         Clock(started, started + settings.time_limit_s),
                         with_rules=rules_active(problem.datas[0]))
-    if not _run_model(state, problem, relaxed=True):
+    lp = run_pumped_model(state, problem, StageKind.LP_RELAXATION, LP_SHARE, relaxed=True)
+    if lp.report.status == Status.INFEASIBLE:
         return state.infeasible(_why_infeasible(study, rules=False))
-    if not state.proven() and not state.clock.nearly_out() \
-            and not _run_model(state, problem, relaxed=False):
-        return state.infeasible(_why_infeasible(study, rules=True))
+    if not lp.report.has_solution or lp.report.objective is None:
+        raise SolverError(f"the LP relaxation of the pumped scheme did not solve "
+                          f"({lp.report.status}: {lp.report.message})")
+    state.lp_bound = lp.report.objective
+    state.raise_bound(lp.report.objective)
+    first_designs(state, problem, lp)
+    if not state.proven() and state.with_rules and not state.clock.nearly_out():
+        near = near_lp(problem, lp)
+        if state.best is not None:
+            near = [a | b for a, b in zip(near, near_design(problem, state.best.design),
+                                          strict=True)]
+        run_pumped_model(state, problem, StageKind.LP_NEARBY, NEARBY_SHARE, allowed=near)
+    if not state.proven() and not state.clock.nearly_out():
+        full = run_pumped_model(state, problem, StageKind.FULL_MODEL, 0.9)
+        if full.report.status == Status.INFEASIBLE:
+            return state.infeasible(_why_infeasible(study, rules=True))
+        state.full_report = full.report
+        state.raise_bound(full.report.bound)
     if state.best is None:
         raise no_design_error(state, "design of the pumped scheme")
     return finish(state, capital_from_check=True)
-
-
-def _run_model(state: SearchState, problem: TreeProblem, relaxed: bool) -> bool:
-    """The LP relaxation (``relaxed``: rules relaxed too) or the full model of the tree:
-    its bound raises the lower bound, its design is judged; False if infeasible."""
-    begun = time.perf_counter()
-    form = build_tree(problem.lines, problem.datas, with_rules=state.with_rules and not relaxed,
-                      relaxed=relaxed, pumped=problem.study)
-    kind = StageKind.LP_RELAXATION if relaxed else StageKind.FULL_MODEL
-    name = (f"{kind.label}, pumped tree: {len(problem.lines)} lines, "
-            f"{sum(d.n_sections for d in problem.datas)} sections")
-    report = state.run_solver(kind, name, form, None, LP_SHARE if relaxed else 0.9,
-                              time.perf_counter() - begun)
-    if report.status == Status.INFEASIBLE:
-        return False
-    if relaxed and (not report.has_solution or report.objective is None):
-        raise SolverError(f"the LP relaxation of the pumped scheme did not solve "
-                          f"({report.status}: {report.message})")
-    if relaxed:
-        state.lp_bound = report.objective
-        state.raise_bound(report.objective)
-    else:
-        state.full_report = report
-        state.raise_bound(report.bound)
-    if report.has_solution:
-        consider(state, design_from_tree(problem, form), kind.label, must_pass=False)
-    return True
 
 
 def _why_infeasible(study: Study, rules: bool) -> list[str]:
