@@ -16,9 +16,9 @@ Alperovits & Shamir (1977). The plan:
 3. with the rules, first designs: the LP's design repaired to them line by line, and
    every line's covering design (:mod:`optimiser.milp.tree.pump_stages`);
 4. the model with the rules restricted to the options near the LP's and the best
-   design's (designs only, warm-started);
-5. unless proven, the full model of the tree with the rules, warm-started from the best
-   design: its bound raises the lower bound, its design is judged by the check.
+   design's (designs only);
+5. unless proven, the full model of the tree with the rules: its bound raises the lower
+   bound, its design is judged by the check.
 
 Every design is judged by :func:`optimiser.analysis.check_design` at its least station
 heads and priced at its life-cycle cost (:func:`optimiser.milp.pumps.designs.consider`);
