@@ -1,6 +1,7 @@
 """Additions of contract version 2 that are not yet available together are refused
 plainly (exit 2, the study file named, nothing written) rather than designed wrongly:
-a pump with branches or with tanks chosen by ``design``. (A pump with the study's own
+a pump with tanks chosen by ``design`` but no tank of its own. (A pumped scheme is
+designed, tests/test_pumped_scheme.py; a pump with the study's own
 tanks is modelled, tests/test_rising_main_tank.py; so are a scheme's own tanks,
 tests/test_scheme_tanks.py, and new tanks chosen by ``design`` in a scheme,
 tests/test_scheme_new_tanks.py.)
@@ -12,7 +13,6 @@ practice, no source: refuse what is not modelled rather than ignore it).
 from __future__ import annotations
 
 from builders import write_study
-from scheme_builders import write_branch_scheme
 from typer.testing import CliRunner
 
 from optimiser.cli.app import app
@@ -27,12 +27,7 @@ def _design(study_path, tmp_path):
     return result, out
 
 
-def test_a_pump_with_branches_or_new_tanks_is_refused(tmp_path):
-    scheme = write_branch_scheme(tmp_path, folder="pumped-scheme", study={"pump": PUMP})
-    result, _ = _design(scheme.study, tmp_path)
-    assert result.exit_code == 2
-    assert "[pump] with branches that leave the trunk above its first" in " ".join(
-        result.output.split())
+def test_a_pump_with_new_tanks_but_no_tank_of_its_own_is_refused(tmp_path):
     route = write_study(tmp_path, folder="pumped-new-tanks",
                         study={"pump": PUMP, "break_pressure_tanks": {"cost": 5000.0}})
     result, out = _design(route.study, tmp_path)

@@ -29,12 +29,7 @@ from optimiser.analysis.limits import (
     below_velocity_min,
     class_holds,
 )
-from optimiser.analysis.pumping import (
-    StationResult,
-    run_station,
-    station_notes,
-    with_pumping_heads,
-)
+from optimiser.analysis.pumping import StationResult, pump_the_scheme, station_notes
 from optimiser.analysis.scheme_check import DeliveryPoint, SchemeHydraulics
 from optimiser.analysis.static_line import static_line_m
 from optimiser.analysis.tanks import piece_static_heads, tank_cost, tanks_short
@@ -344,14 +339,10 @@ def check_design(study: Study, design: Design, *, capacity: bool = True) -> Chec
     surge_by_piece = pieces["surge_head_m"].to_numpy()
     scenarios, station = list(study.scenarios), None
     if study.pump is not None:  # the least station head per scenario (section 9)
-        # The station lifts the trunk (the loader admits branches only below a tank it
-        # fills, so they do not see its head); the lines are run again with it.
-        trunk = scheme.trunk
-        station, scenarios, pumped = run_station(trunk, [e[TRUNK] for e in evaluated],
-                                                 surge_by_piece)
-        evaluated = [{TRUNK: arrays} for arrays in pumped] if not study.is_scheme else \
-            [scheme.evaluate(scenario) for scenario in scenarios]
-        pieces = with_pumping_heads(pieces, trunk, pumped)
+        # The station lifts every line its head reaches (above each line's first tank);
+        # every line is run again with it.
+        station, scenarios, evaluated, pieces = pump_the_scheme(scheme, evaluated, pieces,
+                                                                segment_surges)
     violations = _class_violations(study, pieces)
 
     results: list[ScenarioResult] = []

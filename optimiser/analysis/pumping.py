@@ -28,6 +28,7 @@ pressures (and is one of the limits the least H must meet).
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -35,6 +36,7 @@ import pandas as pd
 
 from optimiser.analysis.design_hydraulics import DesignHydraulics, ScenarioArrays
 from optimiser.analysis.flows import inflow_m3_s
+from optimiser.analysis.scheme_check import SchemeHydraulics
 from optimiser.analysis.static_line import static_line_m
 from optimiser.analysis.surge import water_density_kg_m3
 from optimiser.hydraulics.pumping import (
@@ -44,8 +46,9 @@ from optimiser.hydraulics.pumping import (
 )
 from optimiser.model import Scenario, Study
 
-__all__ = ["StationResult", "least_head_m", "pumped_scenario", "run_station",
-           "static_line_m", "station_notes", "station_result", "with_pumping_heads"]
+__all__ = ["StationResult", "least_head_m", "pump_the_scheme", "pumped_scenario",
+           "reached_lines", "run_station", "segment_surges_m", "static_line_m",
+           "station_notes", "station_result", "with_pumping_heads"]
 
 
 @dataclass(frozen=True)
@@ -83,31 +86,79 @@ class StationResult:
                 "energy_kwh_per_year": dict(self.energy_kwh_per_year)}
 
 
-def least_head_m(hydraulics: DesignHydraulics, arrays: ScenarioArrays,
-                 surge_by_piece: np.ndarray) -> float:
-    """Least head [m] the station must add to this gravity energy line so that every
-    pressure minimum, the outlet head and the down-surge limit hold (0 if none is
-    short).
+def reached_lines(scheme: SchemeHydraulics) -> dict[str, int | None]:
+    """The lines the station's head reaches, each with the grid node of its first
+    break-pressure tank (None: no tank on it, the head reaches its delivery point).
 
-    With break-pressure tanks on the route the station lifts only to the first of them
-    (the rising main; the energy restarts at the tank, section 8): the limits that count
-    are those of the points above that tank and the tank's inflow, arriving energy less
-    the inlet loss at least its water level, in place of the outlet head.
-    """
-    study = hydraulics.study
-    points = hydraulics.point_arrays(arrays)
-    pressure = hydraulics.pressure_m(points)
+    The trunk is always reached; a branch is reached when its parent is and its
+    junction lies above the parent's first tank (the energy restarts at a tank,
+    contract section 8, so nothing below it sees the station)."""
+    reached: dict[str, int | None] = {}
+    for line in scheme.lines:
+        part = scheme.parts[line.name]
+        first = int(part.tanks.node[0]) if part.tanks.any else None
+        if line.parent is not None:
+            if line.parent not in reached:
+                continue
+            above = reached[line.parent]
+            parent_nodes = scheme.parts[line.parent].grid.node_chainage_m
+            if above is not None and line.at_chainage_m >= parent_nodes[above]:
+                continue
+        reached[line.name] = first
+    return reached
+
+
+def _line_deficits(part: DesignHydraulics, arrays: ScenarioArrays, first_tank: int | None,
+                   surge_at_segment: np.ndarray) -> list[float]:
+    """Deficits [m] of one reached line's gravity energy line: its pressure minimums
+    and down-surge limit above its first tank, and its delivery (the outlet's required
+    head, or the first tank's inflow: arriving energy less the inlet loss at least its
+    water level)."""
+    points = part.point_arrays(arrays)
+    pressure = part.pressure_m(points)
     rising = np.ones(len(pressure), dtype=bool)
-    delivery = study.outlet.required_head_m - arrays.outlet_energy_m
-    if hydraulics.tanks.any and arrays.tank_inflow_energy_m is not None:
-        rising = points.segment < hydraulics.tanks.node[0]
-        delivery = float(hydraulics.tanks.level_m[0] - arrays.tank_inflow_energy_m[0])
-    short = hydraulics.node_min_pressure_m[points.node] - pressure
-    deficits = [0.0, delivery, float(np.max(short[rising]))]
-    limit = study.surge.min_transient_pressure_m
+    delivery = part.line.required_head_m - arrays.outlet_energy_m
+    if first_tank is not None and arrays.tank_inflow_energy_m is not None:
+        rising = points.segment < first_tank
+        delivery = float(part.tanks.level_m[0] - arrays.tank_inflow_energy_m[0])
+    short = part.node_min_pressure_m[points.node] - pressure
+    deficits = [float(delivery), float(np.max(short[rising], initial=-np.inf))]
+    limit = part.study.surge.min_transient_pressure_m
     if limit is not None:  # the pump trip's down-surge, on the rising main
-        surge = surge_by_piece[hydraulics.grid.segment_piece[points.segment]]
-        deficits.append(float(np.max((limit - (pressure - surge))[rising])))
+        low = limit - (pressure - surge_at_segment[points.segment])
+        deficits.append(float(np.max(low[rising], initial=-np.inf)))
+    return deficits
+
+
+def segment_surges_m(part: DesignHydraulics, segment_surges: Mapping[str, np.ndarray],
+                     surge_by_piece: np.ndarray) -> np.ndarray:
+    """Surge head [m] of each grid segment of a line: its own where the check worked
+    it per segment (tanks with surge by wave speed), else its piece's (as
+    :func:`optimiser.analysis.surge.point_surges_m`)."""
+    own = segment_surges.get(part.line.name)
+    if own is not None:
+        return np.asarray(own, dtype=float)
+    return surge_by_piece[part.piece_index[part.grid.segment_piece]].astype(float)
+
+
+def least_head_m(scheme: SchemeHydraulics, arrays: Mapping[str, ScenarioArrays],
+                 surges: Mapping[str, np.ndarray]) -> float:
+    """Least head [m] the station must add to this scenario's gravity energy lines so
+    that every limit the head reaches holds (0 if none is short).
+
+    H lifts the energy of every reached line (:func:`reached_lines`) by the same amount,
+    flows fixed, so H is the largest deficit over the reached lines: every pressure
+    minimum and the down-surge limit above each line's first tank, each reached
+    delivery point's required head, and the inflow of each line's first tank:
+
+        H = max(0, max over reached lines and points of the deficit)
+
+    ``surges``: each line's surge head by grid segment (:func:`segment_surges_m`).
+    """
+    deficits = [0.0]
+    for name, first_tank in reached_lines(scheme).items():
+        deficits += _line_deficits(scheme.parts[name], arrays[name], first_tank,
+                                   surges[name])
     return max(deficits)
 
 
@@ -139,44 +190,60 @@ def station_result(study: Study, head_m: dict[str, float],
                          pump.station_cost_per_kw * installed)
 
 
-def run_station(hydraulics: DesignHydraulics, evaluated: list[ScenarioArrays],
-                surge_by_piece: np.ndarray
-                ) -> tuple[StationResult, list[Scenario], list[ScenarioArrays]]:
+def run_station(scheme: SchemeHydraulics, evaluated: list[dict[str, ScenarioArrays]],
+                surges: Mapping[str, np.ndarray]
+                ) -> tuple[StationResult, list[Scenario], list[dict[str, ScenarioArrays]]]:
     """The least head of every scenario (capped at ``max_head_m``), the scenarios run
-    with it and their energy lines."""
-    study = hydraulics.study
+    with it and the energy lines of every line of the scheme."""
+    study = scheme.study
     pump = study.pump
     assert pump is not None
     needed: dict[str, float] = {}
     heads: dict[str, float] = {}
     scenarios: list[Scenario] = []
-    pumped: list[ScenarioArrays] = []
+    pumped: list[dict[str, ScenarioArrays]] = []
     for scenario, arrays in zip(study.scenarios, evaluated, strict=True):
-        need = least_head_m(hydraulics, arrays, surge_by_piece)
+        need = least_head_m(scheme, arrays, surges)
         head = need if pump.max_head_m is None else min(need, pump.max_head_m)
         needed[scenario.name], heads[scenario.name] = need, head
         scenarios.append(pumped_scenario(scenario, head))
-        pumped.append(hydraulics.evaluate(scenarios[-1]))
+        pumped.append(scheme.evaluate(scenarios[-1]))
     return station_result(study, heads, needed), scenarios, pumped
 
 
-def with_pumping_heads(pieces: pd.DataFrame, hydraulics: DesignHydraulics,
-                       pumped: list[ScenarioArrays]) -> pd.DataFrame:
+def with_pumping_heads(pieces: pd.DataFrame, scheme: SchemeHydraulics,
+                       pumped: list[dict[str, ScenarioArrays]]) -> pd.DataFrame:
     """The piece table with the largest pressure head of each piece while pumping
-    (``pumping_head_m``, any scenario); ``static_head_m`` becomes the larger of it and
-    the static head, which the class check judges (``class_head`` says which)."""
+    (``pumping_head_m``, any scenario, any line); ``static_head_m`` becomes the larger
+    of it and the static head, which the class check judges (``class_head`` says
+    which)."""
     table = pieces.copy()
     largest = np.full(len(table), -np.inf)
     for arrays in pumped:
-        points = hydraulics.point_arrays(arrays)
-        piece = hydraulics.piece_index[hydraulics.grid.segment_piece[points.segment]]
-        np.maximum.at(largest, piece, hydraulics.pressure_m(points))
+        for name, line_arrays in arrays.items():
+            part = scheme.parts[name]
+            points = part.point_arrays(line_arrays)
+            piece = part.piece_index[part.grid.segment_piece[points.segment]]
+            np.maximum.at(largest, piece, part.pressure_m(points))
     table["still_head_m"] = table["static_head_m"]
     table["pumping_head_m"] = largest
     governs = largest > table["still_head_m"].to_numpy()
     table["static_head_m"] = np.maximum(largest, table["still_head_m"].to_numpy())
     table["class_head"] = np.where(governs, "pumping head", "static head")
     return table
+
+
+def pump_the_scheme(scheme: SchemeHydraulics, evaluated: list[dict[str, ScenarioArrays]],
+                    pieces: pd.DataFrame, segment_surges: Mapping[str, np.ndarray]
+                    ) -> tuple[StationResult, list[Scenario], list[dict[str, ScenarioArrays]],
+                               pd.DataFrame]:
+    """The station in the check (contract section 9): its least head per scenario, the
+    scenarios and energy lines with it, and the piece table with the pumping heads."""
+    surge_by_piece = pieces["surge_head_m"].to_numpy()
+    surges = {name: segment_surges_m(part, segment_surges, surge_by_piece)
+              for name, part in scheme.parts.items()}
+    station, scenarios, pumped = run_station(scheme, evaluated, surges)
+    return station, scenarios, pumped, with_pumping_heads(pieces, scheme, pumped)
 
 
 def station_notes(station: StationResult, study: Study) -> list[str]:

@@ -129,16 +129,16 @@ def load_study(path: str | Path) -> Study:
 
 def _combination_problems(path: Path, spec: StudyFile, new_tanks: bool,
                           lifted: bool, problems: ProblemList) -> None:
-    """Additions not yet available together: a pump with tanks chosen by ``design``, or
-    with branches its head would reach (``lifted``: a branch leaves the trunk above its
-    first tank). With the study's own tanks a pump is a rising main to the first tank,
-    gravity below it (section 9)."""
-    if spec.pump is not None and lifted:
-        problems.add(f"{path}: [pump] with branches that leave the trunk above its first "
-                     "break-pressure tank is not available in this version (the station's "
-                     "head would reach them): give the tank the rising main fills as a "
-                     "[[break_pressure_tank]] on the trunk above every junction, or design "
-                     "the rising main as a study of its own (docs/user-guide.md)")
+    """Additions not yet available together: a pump with tanks chosen by ``design``
+    when the station's head reaches branches (``lifted``: a branch leaves the trunk above
+    its first tank, or no tank). With the study's own tanks a pump is a rising main to
+    the first tank of each line it reaches, gravity below it (section 9)."""
+    if spec.pump is not None and lifted and new_tanks:
+        problems.add(f"{path}: [pump] with [break_pressure_tanks] cost (new tanks chosen by "
+                     "design) and branches that leave the trunk above its first "
+                     "break-pressure tank is not available in this version: give the "
+                     "tanks as [[break_pressure_tank]] of the study, or design the rising "
+                     "main as a study of its own (docs/user-guide.md)")
     if spec.pump is not None and new_tanks and not spec.break_pressure_tank:
         problems.add(f"{path}: [pump] with [break_pressure_tanks] cost (new tanks chosen by "
                      "design) needs the tank the rising main fills: give it as a "

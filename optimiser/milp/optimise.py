@@ -64,6 +64,7 @@ from optimiser.milp.solvers import SOLVERS
 from optimiser.milp.tank_data import has_tanks
 from optimiser.milp.tank_search import search_with_tanks
 from optimiser.milp.tree.optimise import optimise_scheme
+from optimiser.milp.tree.pumped import is_pumped_scheme, optimise_pumped_scheme
 from optimiser.milp.uniform import UniformDesign
 from optimiser.model import Study
 
@@ -87,6 +88,8 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     time_limit_s = float(study.solver.time_limit_s if time_limit_s is None else time_limit_s)
     settings = Settings(solver_name, time_limit_s,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
+    if is_pumped_scheme(study):  # a pump whose head reaches branches (milp/tree/pumped.py)
+        return optimise_pumped_scheme(study, settings, started)
     if study.is_scheme and study.tanks:  # cut at a tank: the parts do not see each other
         return optimise_scheme_with_tanks(study, settings, started, optimise_design)
     if study.is_scheme and study.tank_rules.cost is not None:  # new tanks on a tree

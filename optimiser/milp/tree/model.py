@@ -37,6 +37,8 @@ from optimiser.milp.data import ProblemData
 from optimiser.milp.matrix import Affine, LinearModel
 from optimiser.milp.pressure_rows import add_pressure_rows
 from optimiser.milp.rule_rows import add_rule_rows
+from optimiser.milp.tree.pump_rows import add_line_class_rows, add_station_columns
+from optimiser.model import Study
 from optimiser.model.lines import Line
 
 
@@ -98,20 +100,26 @@ def junction_nodes(lines: list[Line], datas: list[ProblemData], index: int
 
 def build_tree(lines: list[Line], datas: list[ProblemData], *,
                allowed: list[np.ndarray | None] | None = None, with_rules: bool = True,
-               relaxed: bool = False) -> TreeFormulation:
+               relaxed: bool = False, pumped: Study | None = None) -> TreeFormulation:
     """Build the tree's model (lines parents before children, as
     :func:`optimiser.model.lines.study_lines` gives them). ``allowed[i]`` restricts line
     i's options (None: all admissible); ``with_rules`` and ``relaxed`` as
-    :func:`optimiser.milp.formulation.build`."""
+    :func:`optimiser.milp.formulation.build`; ``pumped``: the whole pumped scheme, whose
+    station heads and classes under pumping the model then takes
+    (:mod:`optimiser.milp.tree.pump_rows`, fine sections only)."""
     model = LinearModel()
     root = TreeFormulation(model, datas[0], datas[0].admissible, with_rules, relaxed)
     starts: dict[str, list[Affine]] = {}
+    tops: dict[str, np.ndarray] = {}  # most energy per scenario at each junction (pumped)
     offset = 0
     for index, (line, data) in enumerate(zip(lines, datas, strict=True)):
         mask = None if allowed is None else allowed[index]
         form = Formulation(model, data, data.admissible if mask is None
                            else data.admissible & mask, with_rules, relaxed)
         columns = add_section_columns(form, 0.0)
+        if pumped is not None and line.is_trunk:  # before the energy rows, which use them
+            add_station_columns(form, pumped)
+            root.pump_heads = form.pump_heads
         children = junction_nodes(lines, datas, index)
         tapped = add_pressure_rows(form, columns, None if line.is_trunk else starts[line.name],
                                    tuple(node for _, node in children))
@@ -124,6 +132,10 @@ def build_tree(lines: list[Line], datas: list[ProblemData], *,
             model.add_cost((c, v * change_cost) for c, v in change_terms)
             root.objective_offset -= change_cost
         form.n_binaries = 0 if relaxed else len(form.y)
+        if pumped is not None:
+            top = add_line_class_rows(form, None if line.is_trunk else starts[line.name],
+                                      tops.get(line.name))
+            tops.update((child, top[:, node]) for child, node in children)
         root.n_binaries += form.n_binaries
         root.pressure_rows.extend(form.pressure_rows)
         root.parts.append(form)

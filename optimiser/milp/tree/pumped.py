@@ -1,0 +1,132 @@
+"""``optimise_pumped_scheme``: the design of least life-cycle cost of a pumped scheme.
+
+A station at the source whose head reaches branches (a branch leaves the trunk above
+its first break-pressure tank, or the scheme has no tank) lifts every line by the same
+head (contract sections 7 and 9). The tree's model (:mod:`optimiser.milp.tree.model`)
+takes one station-head column per scenario on the trunk, carried into every branch
+through the junction energies, the energy and station costs in the objective, and the
+classes under pumping on every line (:mod:`optimiser.milp.tree.pump_rows`), after
+Alperovits & Shamir (1977). The plan:
+
+1. every line split at the class limits of the static line held by the non-return valve
+   (the higher of the top water level and the highest level the scheme delivers to,
+   :func:`optimiser.analysis.static_line.static_line_m`);
+2. the LP relaxation of the whole tree on its fine sections, rules relaxed: the LP bound
+   (a relaxation); its design judged by the check;
+3. with the rules, first designs: the LP's design repaired to them line by line, and
+   every line's covering design (:mod:`optimiser.milp.tree.pump_stages`);
+4. the model with the rules restricted to the options near the LP's and the best
+   design's (designs only);
+5. unless proven, the full model of the tree with the rules: its bound raises the lower
+   bound, its design is judged by the check.
+
+Every design is judged by :func:`optimiser.analysis.check_design` at its least station
+heads and priced at its life-cycle cost (:func:`optimiser.milp.pumps.designs.consider`);
+``total_cost`` stays the capital, the bounds and the gap are those of the life-cycle
+cost. The bounds are over the designs of the model, which judges each section's class
+at the energy at its start and a branch's junction loss with its first section's
+smallest pipe (conservative, as for a gravity scheme and a pumped route).
+With break-pressure tanks of the study's own or chosen by ``design``, a pumped scheme
+is refused (not modelled in this version).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+from optimiser.analysis.static_line import pump_reaches_branches
+from optimiser.io.errors import InputError
+from optimiser.milp.formulation import rules_active
+from optimiser.milp.outcome import DesignOutcome, SolverError
+from optimiser.milp.pump_search import static_study
+from optimiser.milp.search.finish import finish, no_design_error
+from optimiser.milp.search.kinds import StageKind
+from optimiser.milp.search.state import Clock, SearchState, Settings
+from optimiser.milp.tree.problem import prepare_tree
+from optimiser.milp.tree.pump_stages import (
+    first_designs,
+    near_design,
+    near_lp,
+    run_pumped_model,
+)
+from optimiser.model import Study
+from optimiser.model.status import Status
+
+__all__ = ["is_pumped_scheme", "optimise_pumped_scheme"]
+
+LP_SHARE = 0.3
+"""Share of the time left the LP may take."""
+NEARBY_SHARE = 0.4
+"""Share of the time left the model near the LP's options may take (designs only)."""
+
+
+def is_pumped_scheme(study: Study) -> bool:
+    """A pumped study whose station's head reaches a branch."""
+    return pump_reaches_branches(study)
+
+
+def optimise_pumped_scheme(study: Study, settings: Settings, started: float
+                           ) -> DesignOutcome:
+    """The design of least life-cycle cost of the pumped scheme ``study`` that passes
+    the check and the rules (see the module docstring)."""
+    _refuse_tanks(study)
+    problem = prepare_tree(static_study(study))
+    problem = dataclasses.replace(problem, study=study)  # the check judges the study as given
+    state = SearchState(study, problem.datas[0], settings,
+                        Clock(started, started + settings.time_limit_s),
+                        with_rules=rules_active(problem.datas[0]))
+    lp = run_pumped_model(state, problem, StageKind.LP_RELAXATION, LP_SHARE, relaxed=True)
+    if lp.report.status == Status.INFEASIBLE:
+        return state.infeasible(_why_infeasible(study, rules=False))
+    if not lp.report.has_solution or lp.report.objective is None:
+        raise SolverError(f"the LP relaxation of the pumped scheme did not solve "
+                          f"({lp.report.status}: {lp.report.message})")
+    state.lp_bound = lp.report.objective
+    state.raise_bound(lp.report.objective)
+    first_designs(state, problem, lp)
+    if not state.proven() and state.with_rules and not state.clock.nearly_out():
+        near = near_lp(problem, lp)
+        if state.best is not None:
+            near = [a | b for a, b in zip(near, near_design(problem, state.best.design),
+                                          strict=True)]
+        run_pumped_model(state, problem, StageKind.LP_NEARBY, NEARBY_SHARE, allowed=near)
+    if not state.proven() and not state.clock.nearly_out():
+        full = run_pumped_model(state, problem, StageKind.FULL_MODEL, 0.9)
+        if full.report.status == Status.INFEASIBLE:
+            return state.infeasible(_why_infeasible(study, rules=True))
+        state.full_report = full.report
+        state.raise_bound(full.report.bound)
+    if state.best is None:
+        raise no_design_error(state, "design of the pumped scheme")
+    return finish(state, capital_from_check=True)
+
+
+def _why_infeasible(study: Study, rules: bool) -> list[str]:
+    """What can make a pumped scheme infeasible (the station head itself is free)."""
+    pump = study.pump
+    assert pump is not None
+    reasons = ["no design meets every limit of every line even with the pump: a pressure "
+               "class that takes the static line held by the non-return valve (the higher "
+               "of the top water level and the highest level the scheme delivers to) or "
+               "the pumping pressure needed, or the velocity window, rules out every "
+               "option somewhere"]
+    if pump.max_head_m is not None:
+        reasons.append(f"or max_head_m ({pump.max_head_m:g} m) is too little head for the "
+                       "largest pipes of the catalogue")
+    if rules:
+        reasons.append("or the design rules (min_piece_length_m, max_changes, "
+                       "sizes_downstream) leave no design that the relaxed model had")
+    return reasons
+
+
+def _refuse_tanks(study: Study) -> None:
+    """Raise :class:`InputError` for a pumped scheme with break-pressure tanks."""
+    if not study.tanks and study.tank_rules.cost is None:
+        return
+    where = study.path or "the study file"
+    raise InputError(
+        f"{where}: [pump] with branches its head reaches and break-pressure tanks: "
+        "design of such a pumped scheme is not available in this version; check a design "
+        "of it with `optimiser check` (the least station head per scenario), or give the "
+        "tank the rising main fills as a [[break_pressure_tank]] on the trunk above every "
+        "junction")
