@@ -266,6 +266,24 @@ def test_design_of_a_pumped_scheme_with_tanks_is_refused_plainly(tmp_path):
     assert "study.toml" in text and not folder.exists()
 
 
+@pytest.mark.parametrize("command", [
+    ["compare", "{study}", "--out", "{out}"],
+    ["tradeoff", "{study}", "--vary", "flow", "--from", "5 L/s", "--to", "6 L/s",
+     "--steps", "2", "--out", "{out}"]])
+def test_the_same_refusal_from_compare_and_tradeoff_exits_2(tmp_path, command):
+    # A refusal raised inside the optimiser reaches every command as bad input (exit 2,
+    # the file named, no traceback, nothing written), not only `design`.
+    study_path, _ = _write(tmp_path, main_required=110.0,
+                           tank={"chainage_m": 1500.0, "water_level_m": 130.0})
+    folder = tmp_path / "out"
+    args = [a.format(study=study_path, out=folder) for a in command]
+    run = CliRunner().invoke(app, args)
+    text = " ".join(run.output.split())
+    assert run.exit_code == 2, text
+    assert "design of such a pumped scheme is not available" in text
+    assert "Traceback" not in text and not folder.exists()
+
+
 def test_bad_pump_input_of_a_scheme_exits_2(tmp_path):
     study_path, design_path = _write(tmp_path, pump={"efficiency": 0.0,
                                                      "energy_price": 0.15})

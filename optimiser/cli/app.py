@@ -7,7 +7,9 @@ inside themselves, so the help appears without loading pandas, plotly or the sol
 
 from __future__ import annotations
 
+import functools
 import sys
+from collections.abc import Callable
 from typing import Any
 
 import typer
@@ -55,8 +57,25 @@ def _root() -> None:
     """Least-cost sizing and checking of gravity water mains (preliminary design aid)."""
 
 
+def _input_errors_exit_2(command: Callable[..., None]) -> Callable[..., None]:
+    """``command`` with every :class:`~optimiser.io.InputError` that escapes it (a
+    refusal raised deep in a run, e.g. a combination the optimiser does not design)
+    printed plainly with exit 2, as the loaders' are: one home for every command."""
+
+    @functools.wraps(command)
+    def run(*args: Any, **kwargs: Any) -> None:
+        from optimiser.cli.common import fail_input
+        from optimiser.io import InputError
+
+        try:
+            command(*args, **kwargs)
+        except InputError as error:
+            fail_input(error)
+    return run
+
+
 for command in (check, design, report, compare, tradeoff, sensitivity):
-    app.command(cls=PlainHelpCommand)(command)
+    app.command(cls=PlainHelpCommand)(_input_errors_exit_2(command))
 
 
 def main() -> None:

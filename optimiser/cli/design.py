@@ -83,8 +83,6 @@ def design(
     try:
         outcome = optimise_design(study, solver_name=solver, time_limit_s=time_limit_s,
                                   mip_gap=gap)
-    except InputError as error:  # a combination the optimiser refuses (a pumped scheme)
-        fail_input(error)
     except (SolverError, VerificationError) as error:
         fail_solver(str(error))
     notes: list[str] = []
