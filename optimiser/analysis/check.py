@@ -316,7 +316,8 @@ def _scenario_result(study: Study, scheme: SchemeHydraulics, scenario: Scenario,
                             scenario.outlet_flow_m3_s, arrays[trunk.name].outlet_energy_m,
                             study.outlet.required_head_m, points, segments, outlets=outlets)
     if capacity:
-        result.capacity_m3_s = scheme.capacity_m3_s(scenario, trunk.name, outlet_only=False)
+        result.capacity_m3_s = scheme.capacity_m3_s(scenario, trunk.name, outlet_only=False,
+                                                     arrays=arrays)
         result.capacity_outlet_only_m3_s = outlets[0].uncontrolled_flow_m3_s
         if result.capacity_m3_s is not None and result.capacity_outlet_only_m3_s is not None:
             # More limits can only lower the capacity; keep root-solve noise from

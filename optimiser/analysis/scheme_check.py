@@ -21,15 +21,22 @@ the tree. Like the rest of the check it reads only the study and the design.
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 from scipy.optimize import brentq
 
+from optimiser.analysis.delivery_flow import (
+    PathStart,
+    delivery_paths,
+    path_starts,
+    uncontrolled_flows_m3_s,
+)
 from optimiser.analysis.design_hydraulics import DesignHydraulics, ScenarioArrays
 from optimiser.analysis.flows import line_flows_m3_s
+from optimiser.analysis.tree_capacity import tree_margins
 from optimiser.model import Design, Scenario, Study
 from optimiser.model.lines import Line, study_lines
 
@@ -81,6 +88,7 @@ class SchemeHydraulics:
             self.parts[line.name] = DesignHydraulics(study, design, line, static)
         self._by_name = {line.name: line for line in self.lines}
         self._inflows: dict[Scenario, dict[str, float]] = {}
+        self._paths: dict[str, PathStart] | None = None
 
     @property
     def trunk(self) -> DesignHydraulics:
@@ -142,12 +150,23 @@ class SchemeHydraulics:
 
     def delivery_points(self, scenario: Scenario, arrays: dict[str, ScenarioArrays],
                         capacity: bool) -> list[DeliveryPoint]:
-        """The delivery point of every line; with ``capacity``, its uncontrolled flow."""
+        """The delivery point of every line; with ``capacity``, its uncontrolled flow (on
+        a scheme all at once on the paths to the delivery points,
+        :mod:`.delivery_flow`; on a single route by the general search)."""
+        flows: list[float | None] = [None] * len(self.lines)
+        if capacity and self.study.is_scheme:
+            if self._paths is None:
+                self._paths = path_starts(self.parts, self.lines,
+                                          self.study.tank_rules.outlet_k)
+            flows = uncontrolled_flows_m3_s(self.study, delivery_paths(
+                self.parts, self._by_name, self._paths, scenario, arrays))
+        elif capacity:
+            flows = [self.capacity_m3_s(scenario, line.name, outlet_only=True)
+                     for line in self.lines]
         return [DeliveryPoint(
             line.name, line.route.total_chainage_m, line.delivery_flow_m3_s(scenario),
-            arrays[line.name].outlet_energy_m, line.required_head_m,
-            self.capacity_m3_s(scenario, line.name, outlet_only=True) if capacity else None)
-            for line in self.lines]
+            arrays[line.name].outlet_energy_m, line.required_head_m, flow)
+            for line, flow in zip(self.lines, flows, strict=True)]
 
     def least_margin_m(self, scenario: Scenario, name: str, flow_m3_s: float,
                        outlet_only: bool) -> float:
@@ -166,17 +185,41 @@ class SchemeHydraulics:
         margins += [self.parts[n].least_pressure_margin_m(part) for n, part in arrays.items()]
         return min(margins)
 
-    def capacity_m3_s(self, scenario: Scenario, name: str, outlet_only: bool
-                      ) -> float | None:
+    def _trunk_tree_margin(self, scenario: Scenario,
+                           arrays: dict[str, ScenarioArrays] | None
+                           ) -> Callable[[float], float]:
+        """The least margin of the whole tree as a function of the trunk's delivery
+        flow, re-running only the trunk (:mod:`.tree_capacity`); ``arrays`` are the
+        scenario's (evaluated here if not given)."""
+        branches = tree_margins(self.parts, self.lines,
+                                self.evaluate(scenario) if arrays is None else arrays)
+        trunk, line = self.trunk, self.lines[0]
+        if scenario not in self._inflows:
+            self._inflows[scenario] = self.inflows_m3_s(scenario)
+        inflows = self._inflows[scenario]
+
+        def least(q: float) -> float:
+            own = trunk.evaluate(scenario, outlet_flow_m3_s=q, inflows_m3_s=inflows)
+            return min(own.outlet_energy_m - line.required_head_m,
+                       trunk.least_pressure_margin_m(own), branches.least_m(own.energy_end_m))
+        return least
+
+    def capacity_m3_s(self, scenario: Scenario, name: str, outlet_only: bool,
+                      arrays: dict[str, ScenarioArrays] | None = None) -> float | None:
         """Largest delivery flow of line ``name`` meeting its outlet head (and, unless
         ``outlet_only``, every outlet head and pressure minimum of the tree), by Brent's
         method on a margin that falls monotonically with that flow. None if even zero
-        delivery fails; every other flow stays at the scenario's."""
+        delivery fails; every other flow stays at the scenario's. ``arrays``: the
+        scenario's, where already evaluated."""
         seen: dict[float, float] = {}  # Brent's method asks again for its bracket's ends
+        least: Callable[[float], float] = \
+            lambda q: self.least_margin_m(scenario, name, q, outlet_only)  # noqa: E731
+        if self.study.is_scheme and not outlet_only and name == self.lines[0].name:
+            least = self._trunk_tree_margin(scenario, arrays)
 
         def margin(q: float) -> float:
             if q not in seen:
-                seen[q] = self.least_margin_m(scenario, name, q, outlet_only)
+                seen[q] = least(q)
             return seen[q]
         at_zero = margin(0.0)
         if at_zero < 0.0:
