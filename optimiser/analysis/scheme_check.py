@@ -185,7 +185,7 @@ class SchemeHydraulics:
         margins += [self.parts[n].least_pressure_margin_m(part) for n, part in arrays.items()]
         return min(margins)
 
-    def _trunk_tree_margin(self, scenario: Scenario,
+    def trunk_tree_margin(self, scenario: Scenario,
                            arrays: dict[str, ScenarioArrays] | None
                            ) -> Callable[[float], float]:
         """The least margin of the whole tree as a function of the trunk's delivery
@@ -215,7 +215,7 @@ class SchemeHydraulics:
         least: Callable[[float], float] = \
             lambda q: self.least_margin_m(scenario, name, q, outlet_only)  # noqa: E731
         if self.study.is_scheme and not outlet_only and name == self.lines[0].name:
-            least = self._trunk_tree_margin(scenario, arrays)
+            least = self.trunk_tree_margin(scenario, arrays)
 
         def margin(q: float) -> float:
             if q not in seen:
