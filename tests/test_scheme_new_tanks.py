@@ -299,7 +299,7 @@ def test_both_forms_of_a_scheme_get_the_same_tanks(tmp_path):
     assert outcomes[0].total_cost == pytest.approx(outcomes[1].total_cost, rel=1e-9)
     assert [(t.branch, t.chainage_m) for t in outcomes[0].design.tanks] == \
         [(t.branch, t.chainage_m) for t in outcomes[1].design.tanks]
-    # marked sites have no profile rows to mark in the compact form: refused plainly
+    # marked sites with no node marked in the compact form: refused plainly
     network.write_text(network.read_text("utf-8").replace(
         "max_count = 2", 'max_count = 2\nsites = "marked"'), "utf-8")
     result = CliRunner().invoke(app, ["design", str(network), "--out", str(tmp_path / "o")])

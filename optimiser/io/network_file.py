@@ -3,7 +3,8 @@
 For networks of many short links, where a profile per branch is a burden::
 
     [network]
-    nodes = "nodes.csv"    # name, ground_m, demand, min_pressure_m, required_head_m, x_m, y_m
+    nodes = "nodes.csv"    # name, ground_m, demand, min_pressure_m, required_head_m, x_m,
+                           # y_m, tank_site
     links = "links.csv"    # from, to, length_m, profile, zone
     source = "reservoir"   # the node at the source's outlet (chainage 0 of the trunk)
 
@@ -12,6 +13,11 @@ downstream, from the source; every node but the source is reached by exactly one
 :mod:`optimiser.io.network_paths` turns the tree into the trunk and branches of a
 scheme, the same records as the ``[[branch]]`` form (docs/file-formats.md states the
 rule).
+
+With ``[break_pressure_tanks] sites = "marked"`` the sites for new tanks are the nodes
+whose optional column ``tank_site`` is yes/true/1 and the inner rows of a link's own
+profile marked in the same column (contract section 8, as a profile's; where a marked
+node may not hold a tank is judged per path, :func:`optimiser.io.network_paths.tank_marks`).
 """
 
 from __future__ import annotations
@@ -29,13 +35,23 @@ from optimiser.io.tables import Row, number, read_rows
 from optimiser.io.units import parse_flow_m3_s
 
 NODE_COLUMNS = ["name", "ground_m"]
-NODE_OPTIONAL = ["demand", "min_pressure_m", "required_head_m", "x_m", "y_m"]
+NODE_OPTIONAL = ["demand", "min_pressure_m", "required_head_m", "x_m", "y_m", "tank_site"]
 LINK_COLUMNS = ["from", "to"]
 LINK_OPTIONAL = ["length_m", "profile", "zone"]
 END_GROUND_TOLERANCE_M = 0.5
 """A link profile's ground at its ends must agree with its nodes' within this [m]."""
 LENGTH_TOLERANCE_M = 0.5
 """A link's length_m must agree with the last chainage of its profile within this [m]."""
+SITE_COLUMN = "tank_site"
+MARK_YES = frozenset({"yes", "true", "1", "y"})
+MARK_NO = frozenset({"", "no", "false", "0", "n"})
+"""Cells of a ``tank_site`` column (as the profile's, contract section 8)."""
+
+
+def site_mark(cell: str) -> bool | None:
+    """A ``tank_site`` cell: True (yes/true/1), False (no/false/0/empty), None (neither)."""
+    text = cell.strip().lower()
+    return True if text in MARK_YES else False if text in MARK_NO else None
 
 
 @dataclass
@@ -50,6 +66,8 @@ class Node:
     required_head_m: float | None = None
     x_m: float | None = None
     y_m: float | None = None
+    tank_site: bool = False
+    """Marked yes/true/1 in column ``tank_site``: a site for a new tank."""
 
 
 @dataclass(eq=False)  # links are compared by identity
@@ -64,6 +82,9 @@ class Link:
     zone: str = ""
     profile_name: str = ""
     """The file of its own profile, or "" when the link is straight between its nodes."""
+    marked_m: tuple[float, ...] = ()
+    """Chainages (from its ``from`` node) of its profile's inner rows marked in column
+    ``tank_site`` (read only with ``sites = "marked"``)."""
 
     @property
     def length_m(self) -> float:
@@ -130,6 +151,10 @@ def _read_nodes(path: Path, problems: ProblemList) -> dict[str, Node]:
         y = number(path, row, "y_m", problems, allow_empty=True)
         if bool(row.cells.get("x_m")) != bool(row.cells.get("y_m")):
             problems.add(f"{path}: line {row.line}: give both x_m and y_m, or neither")
+        marked = site_mark(row.cells.get(SITE_COLUMN, ""))
+        if marked is None:
+            problems.add(f"{path}: line {row.line}: column {SITE_COLUMN}: "
+                         f"'{row.cells[SITE_COLUMN]}' is not yes/true/1 or no/false/0/empty")
         if not name:
             problems.add(f"{path}: line {row.line}: column name is empty")
             continue
@@ -140,7 +165,7 @@ def _read_nodes(path: Path, problems: ProblemList) -> dict[str, Node]:
         # A node with a bad cell is kept (its problem is reported) so that its links
         # are not also reported as naming an unknown node.
         nodes[name] = Node(row.line, name, math.nan if ground is None else ground,
-                           demand or 0.0, minimum, required, x, y)
+                           demand or 0.0, minimum, required, x, y, bool(marked))
     return nodes
 
 
@@ -198,6 +223,33 @@ def _link_profile(path: Path, row: Row, link: Link, spec: StudyFile, length: flo
                      "agree")
     link.chainage_m, link.ground_m = route.chainage_m, route.ground_m
     link.profile_name = profile_path.name
+    if spec.break_pressure_tanks.sites == "marked":
+        link.marked_m = _inner_marks(profile_path, end, problems)
+
+
+def _inner_marks(profile_path: Path, end_m: float, problems: ProblemList
+                 ) -> tuple[float, ...]:
+    """Chainages of a link profile's rows marked in column ``tank_site``; a mark on its
+    first or last row (a node: marked in the nodes file) or a bad cell is a problem."""
+    rows, header = read_rows(profile_path, [], what="profile")
+    if SITE_COLUMN not in header:
+        return ()
+    marked: list[float] = []
+    for row in rows:
+        where = f"{profile_path}: line {row.line}: column {SITE_COLUMN}"
+        mark = site_mark(row.cells[SITE_COLUMN])
+        if mark is None:
+            problems.add(f"{where}: '{row.cells[SITE_COLUMN]}' is not yes/true/1 or "
+                         "no/false/0/empty")
+        if not mark:
+            continue
+        chainage = float(row.cells["chainage_m"])  # the profile loader read it already
+        if chainage <= 0.0 or chainage >= end_m:
+            problems.add(f"{where}: marks an end of the link (a node); mark nodes in the "
+                         "nodes file's tank_site column")
+        else:
+            marked.append(chainage)
+    return tuple(marked)
 
 
 def _link_problems(path: Path, nodes: dict[str, Node], links: list[Link],

@@ -24,6 +24,10 @@ The rule (documented in docs/file-formats.md):
   ``[route] min_pressure_m``), with exit_k = 1: the hydraulic grade line at the end
   node stands at least that minimum pressure above the ground (residual pressure at a
   tap or a tank inlet at ground level).
+- Sites for new tanks with ``sites = "marked"`` (contract section 8): the marked nodes
+  and the marked inner rows of link profiles, each on the path it lies inside. A marked
+  node where a tank may not stand (the source or a path's last node, a junction, an
+  offtake) is a problem naming the node.
 """
 
 from __future__ import annotations
@@ -176,16 +180,61 @@ def end_problems(tree: NetworkTree, found: list[NetworkPath]) -> list[str]:
     return problems
 
 
+def tank_marks(tree: NetworkTree, found: list[NetworkPath]
+               ) -> tuple[tuple[tuple[str, float], ...], tuple[str, ...]]:
+    """The marked sites as (line, chainage), and a problem for every marked node that
+    cannot hold a tank (module text). Each node is judged on the path it lies inside (a
+    branch's first node is its parent's junction)."""
+    sites: list[tuple[str, float]] = []
+    problems: list[str] = []
+    for index, path in enumerate(found):
+        line = TRUNK if index == 0 else path.end
+        nodes = path.node_chainages()
+        for position, (name, chainage) in enumerate(nodes):
+            node = tree.nodes[name]
+            if (position == 0 and index > 0) or not node.tank_site:
+                continue
+            why = _no_tank_because(tree, node, position == 0, position == len(nodes) - 1)
+            if why:
+                problems.append(f"{tree.nodes_path}: line {node.line}: column tank_site: "
+                                f"node {name!r} is {why}; a tank may not stand there "
+                                "(unmark it)")
+            else:
+                sites.append((line, chainage))
+        offset = 0.0
+        for link in path.links:
+            sites.extend((line, offset + c) for c in link.marked_m)
+            offset += link.length_m
+    return tuple(sites), tuple(problems)
+
+
+def _no_tank_because(tree: NetworkTree, node: Node, first: bool, last: bool) -> str:
+    """Why a tank may not stand at a node of a path ("" when it may)."""
+    if first:
+        return "the source"
+    if last:
+        return "the end of a path (a delivery point)"
+    if len(tree.leaving[node.name]) > 1:
+        return "a junction (a branch leaves it)"
+    if node.demand_m3_s > 0.0 or node.min_pressure_m is not None:
+        return "an offtake (it has a demand or a minimum pressure of its own)"
+    return ""
+
+
 @dataclass
 class NetworkScheme:
-    """The compact form resolved: the trunk with its offtakes and outlet, and the
-    branches as drafts for :func:`optimiser.io.branches.resolve_branches`."""
+    """The compact form resolved: the trunk with its offtakes and outlet, the branches
+    as drafts for :func:`optimiser.io.branches.resolve_branches`, and the sites marked
+    for new tanks with the problems of marked nodes (:func:`tank_marks`; reported only
+    when the study uses marked sites)."""
 
     route: Route
     offtakes: tuple[Offtake, ...]
     outlet: Outlet
     trunk_flow_m3_s: float
     drafts: list[BranchDraft]
+    marked_sites: tuple[tuple[str, float], ...] = ()
+    mark_problems: tuple[str, ...] = ()
 
     def with_trunk_flow(self, scenarios: list[Scenario]) -> list[Scenario]:
         """Scenarios without a ``flow`` of their own deliver the trunk's end demand times
@@ -215,7 +264,7 @@ def network_scheme(tree: NetworkTree, cover_m: float, slope_length: bool,
     end = tree.nodes[trunk.end]
     return NetworkScheme(routes[0], tuple(node_offtakes(tree, trunk)),
                          Outlet(end_head_m(end, min_pressure_m), EXIT_K), end.demand_m3_s,
-                         drafts)
+                         drafts, *tank_marks(tree, found))
 
 
 def load_network(study_path: Path, spec: StudyFile) -> NetworkScheme:

@@ -5,8 +5,10 @@ column ``tank_site`` is yes/true/1, on the trunk's profile (read with the other 
 keys, :mod:`optimiser.io.tank_inputs`) and on each ``[[branch]]``'s own profile (read
 here; a branch profile without the column has no site). A marked row at an offtake or
 at a junction (where a branch leaves) is refused: a tank may not stand there. The first
-and last rows of a line are never sites, marked or not. The compact form (``[network]``)
-has no profile rows to mark: there ``sites = "every point"`` is the only choice.
+and last rows of a line are never sites, marked or not. In the compact form
+(``[network]``) the marks are the nodes file's ``tank_site`` column and the inner rows
+of link profiles (read by :mod:`optimiser.io.network_file`, placed on their lines by
+:func:`optimiser.io.network_paths.tank_marks`).
 """
 
 from __future__ import annotations
@@ -15,6 +17,7 @@ import dataclasses
 from pathlib import Path
 
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.network_paths import NetworkScheme
 from optimiser.io.schema import StudyFile
 from optimiser.io.tables import read_rows
 from optimiser.io.tank_inputs import SITE_COLUMN, tank_lines
@@ -27,15 +30,15 @@ SAME_POINT_M = 1e-6
 
 def scheme_tank_sites(path: Path, spec: StudyFile, rules: TankRules, route: Route,
                       offtakes: list[Offtake], branches: tuple[Branch, ...],
-                      problems: ProblemList) -> TankRules:
+                      problems: ProblemList, network: NetworkScheme | None = None
+                      ) -> TankRules:
     """``rules`` with the branches' marked sites (module docstring); every marked row at
     an offtake or a junction is a problem naming its file and line."""
-    if not branches or rules.cost is None or rules.sites is not TankSites.MARKED:
+    if rules.cost is None or rules.sites is not TankSites.MARKED:
         return rules
-    if spec.network is not None:
-        problems.add(f"{path}: [break_pressure_tanks] sites = \"marked\" with [network]: the "
-                     "nodes and links files have no profile rows to mark; use sites = "
-                     "\"every point\"")
+    if network is not None:
+        return _network_sites(path, spec, rules, network, problems)
+    if not branches:
         return rules
     lines = tank_lines(route, offtakes, branches)
     profiles = {TRUNK: path.parent / str(spec.route.profile)} | {
@@ -51,6 +54,21 @@ def scheme_tank_sites(path: Path, spec: StudyFile, rules: TankRules, route: Rout
                      f"{SITE_COLUMN}")
     return dataclasses.replace(rules, marked_on_branches=tuple(
         (name, c) for name, c in found if name != TRUNK))
+
+
+def _network_sites(path: Path, spec: StudyFile, rules: TankRules, network: NetworkScheme,
+                   problems: ProblemList) -> TankRules:
+    """The compact form's marked nodes and link-profile rows as the sites of every line."""
+    problems.items.extend(network.mark_problems)
+    sites = network.marked_sites
+    if not sites and not network.mark_problems:
+        assert spec.network is not None
+        problems.add(f"{path}: [break_pressure_tanks] sites = \"marked\" with [network]: no "
+                     f"node of {spec.network.nodes} is marked yes/true/1 in column "
+                     f"{SITE_COLUMN}, nor any inner row of a link's profile")
+    return dataclasses.replace(
+        rules, marked_chainages_m=tuple(c for name, c in sites if name == TRUNK),
+        marked_on_branches=tuple((name, c) for name, c in sites if name != TRUNK))
 
 
 def _marked_rows(profile: Path, line: tuple[Route, list[Offtake]],

@@ -93,7 +93,7 @@ def load_study(path: str | Path) -> Study:
     first_tank = min((t.chainage_m for t in tanks if t.branch == TRUNK), default=None)
     lifted = bool(branches) and (first_tank is None or min(junctions) < first_tank)
     rules_of_tanks = scheme_tank_sites(path, spec, rules_of_tanks, route, offtakes, branches,
-                                       problems)
+                                       problems, network)
     _combination_problems(path, spec, rules_of_tanks.cost is not None, lifted, problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
