@@ -185,7 +185,8 @@ def outlet_margins_m(study: Study, paths: DeliveryPaths, flow_m3_s: np.ndarray,
 def uncontrolled_flows_m3_s(study: Study, paths: DeliveryPaths) -> list[float | None]:
     """The uncontrolled flow [m^3/s] of every path's delivery point: None where even no
     delivery meets the required head, inf where no flow up to 2^60 times the first guess
-    runs it short."""
+    runs it short, nan where the root search did not converge (the caller then asks the
+    general search)."""
     count = len(paths.head_m)
     which = np.arange(count)
 
@@ -227,7 +228,7 @@ def _roots(margin, low: np.ndarray, high: np.ndarray, at_zero: np.ndarray,
     if len(search):
         found = elementwise.find_root(margin, (low[search], high[search]),
                                       args=(search,))
-        result[search] = found.x
+        result[search] = np.where(found.status == 0, found.x, np.nan)
     result[never_short] = np.inf
     return [None if zero < 0.0 else float(root)
             for zero, root in zip(at_zero.tolist(), result.tolist(), strict=True)]

@@ -149,23 +149,29 @@ class SchemeHydraulics:
 
     def delivery_points(self, scenario: Scenario, arrays: dict[str, ScenarioArrays],
                         capacity: bool) -> list[DeliveryPoint]:
-        """The delivery point of every line; with ``capacity``, its uncontrolled flow (on
-        a scheme all at once on the paths to the delivery points,
-        :mod:`.delivery_flow`; on a single route by the general search)."""
-        flows: list[float | None] = [None] * len(self.lines)
-        if capacity and self.study.is_scheme:
-            if self._paths is None:
-                self._paths = path_starts(self.parts, self.lines,
-                                          self.study.tank_rules.outlet_k)
-            flows = uncontrolled_flows_m3_s(self.study, delivery_paths(
-                self.parts, self._by_name, self._paths, scenario, arrays))
-        elif capacity:
-            flows = [self.capacity_m3_s(scenario, line.name, outlet_only=True)
-                     for line in self.lines]
+        """The delivery point of every line; with ``capacity``, its uncontrolled flow."""
+        flows = self.uncontrolled_flows_m3_s(scenario, arrays) if capacity \
+            else [None] * len(self.lines)
         return [DeliveryPoint(
             line.name, line.route.total_chainage_m, line.delivery_flow_m3_s(scenario),
             arrays[line.name].outlet_energy_m, line.required_head_m, flow)
             for line, flow in zip(self.lines, flows, strict=True)]
+
+    def uncontrolled_flows_m3_s(self, scenario: Scenario, arrays: dict[str, ScenarioArrays]
+                                ) -> list[float | None]:
+        """Every line's uncontrolled flow in ``scenario`` (its arrays ``arrays``): on a
+        scheme all at once on the paths to the delivery points (:mod:`.delivery_flow`),
+        by the general search on a single route or where that search did not converge."""
+        if not self.study.is_scheme:
+            return [self.capacity_m3_s(scenario, line.name, outlet_only=True)
+                    for line in self.lines]
+        if self._paths is None:
+            self._paths = path_starts(self.parts, self.lines, self.study.tank_rules.outlet_k)
+        flows = uncontrolled_flows_m3_s(self.study, delivery_paths(
+            self.parts, self._by_name, self._paths, scenario, arrays))
+        return [self.capacity_m3_s(scenario, line.name, outlet_only=True)
+                if flow is not None and np.isnan(flow) else flow
+                for line, flow in zip(self.lines, flows, strict=True)]
 
     def least_margin_m(self, scenario: Scenario, name: str, flow_m3_s: float,
                        outlet_only: bool) -> float:
