@@ -4,22 +4,28 @@ A seeded, invented scheme: a 20 km trunk of 200 sections and 60 branches of 30 s
 each (2,000 sections in all), 3 scenarios, one pipe per line. The check runs without
 capacities (as the optimiser's search calls it) and with them (the delivery point of
 every line and its uncontrolled flow, as ``check`` and the final check of ``design``
-call it). Rewrites only its own section (``<!-- scheme-check:start -->`` and
-``<!-- scheme-check:end -->``) of ``benchmarks/RESULTS.md`` unless ``--no-write``.
+call it). For comparison, the same on the seeded 2,000-section single route of
+``generate.py`` (30 options, 3 scenarios) with a fixed design of three pieces. Rewrites
+only its own section (``<!-- scheme-check:start -->`` and ``<!-- scheme-check:end -->``)
+of ``benchmarks/RESULTS.md`` unless ``--no-write``.
 """
 
 from __future__ import annotations
 
 import argparse
 import dataclasses
+import os
 import statistics
+import tempfile
 import time
+from datetime import UTC, datetime
 from pathlib import Path
 
+import generate
 import numpy as np
 from results_file import update_section
 
-from optimiser import check_design
+from optimiser import check_design, load_study
 from optimiser.model import (
     Branch,
     Catalogue,
@@ -76,6 +82,29 @@ def scheme(seed: int = 1, branches: int = 60) -> tuple[Study, Design]:
     return dataclasses.replace(study, branches=tuple(lines)), Design(tuple(pieces))
 
 
+def single_route(folder: Path) -> tuple[Study, Design]:
+    """The seeded 2,000-section route of ``generate.py`` (rules on) and a design of three
+    pieces (DN600 PN16, DN500 PN25, DN450 PN25 by thirds; not its optimum)."""
+    study = load_study(generate.write(folder, 2000, rules=True))
+    option = {(o.dn_mm, o.pressure_class): o for o in study.catalogue.options}
+    end = float(study.route.chainage_m[-1])
+    cuts = [0.0, end / 3, 2 * end / 3, end]
+    chosen = [option[(600, "PN16")], option[(500, "PN25")], option[(450, "PN25")]]
+    return study, Design(tuple(Piece(a, b, o) for a, b, o in
+                               zip(cuts[:-1], cuts[1:], chosen, strict=True)))
+
+
+def median_times(study: Study, design: Design, runs: int) -> dict[bool, float]:
+    """Median wall time [s] of the check without and with capacities."""
+    times: dict[bool, list[float]] = {False: [], True: []}
+    for _ in range(runs):
+        for capacity in (False, True):
+            start = time.perf_counter()
+            check_design(study, design, capacity=capacity)
+            times[capacity].append(time.perf_counter() - start)
+    return {capacity: statistics.median(values) for capacity, values in times.items()}
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=3)
@@ -83,20 +112,23 @@ def main() -> None:
     args = parser.parse_args()
     study, design = scheme()
     sections = study.route.n_sections + sum(b.route.n_sections for b in study.branches)
-    times: dict[bool, list[float]] = {False: [], True: []}
-    for _ in range(args.runs):
-        for capacity in (False, True):
-            start = time.perf_counter()
-            check_design(study, design, capacity=capacity)
-            times[capacity].append(time.perf_counter() - start)
+    load = " / ".join(f"{value:.1f}" for value in os.getloadavg())
+    when = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
+    on_scheme = median_times(study, design, args.runs)
+    with tempfile.TemporaryDirectory() as folder:
+        route_study, route_design = single_route(Path(folder))
+        on_route = median_times(route_study, route_design, args.runs)
     text = "\n".join([
         "## Check of a branched scheme (`bench_scheme_check.py`)", "",
-        f"Seeded invented scheme: a trunk and {len(study.branches)} branches, {sections} "
-        f"sections, {len(study.scenarios)} scenarios; median of {args.runs} runs.", "",
-        "| check | median s |", "| --- | --- |",
-        f"| without capacities | {statistics.median(times[False]):.2f} |",
+        f"Measured {when}, load average {load} (1 / 5 / 15 min) at the start, on the "
+        f"shared 2-core machine. Seeded invented scheme: a trunk and "
+        f"{len(study.branches)} branches, {sections} sections, {len(study.scenarios)} "
+        f"scenarios; the 2,000-section single route of `generate.py` with a fixed "
+        f"three-piece design for comparison; median of {args.runs} runs.", "",
+        "| check | scheme, median s | single route, median s |", "| --- | --- | --- |",
+        f"| without capacities | {on_scheme[False]:.2f} | {on_route[False]:.2f} |",
         f"| with capacities and every delivery point's uncontrolled flow | "
-        f"{statistics.median(times[True]):.2f} |"])
+        f"{on_scheme[True]:.2f} | {on_route[True]:.2f} |"])
     print(text)
     if not args.no_write:
         update_section(RESULTS, "scheme-check", text)

@@ -21,15 +21,17 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from types import SimpleNamespace
 
 import numpy as np
 import pytest
 from fluids.friction import Colebrook
 from scheme_api_builders import two_branch_scheme
-from scipy.optimize import brentq
+from scipy.optimize import brentq, elementwise
 
 import optimiser
 from optimiser import check_design
+from optimiser.analysis import delivery_flow
 from optimiser.analysis.delivery_flow import (
     delivery_paths,
     path_starts,
@@ -326,3 +328,20 @@ def test_uncontrolled_flow_of_a_hazen_williams_pipe_by_the_closed_form(hazen_wil
                            study.scenarios[0], arrays)
     assert uncontrolled_flows_m3_s(study, paths) == [pytest.approx(closed, rel=REL)]
     assert closed > 0.020  # head to spare at the scenario's 20 L/s
+
+
+def test_a_root_search_that_does_not_converge_falls_back_to_the_general_search(monkeypatch):
+    study, design = random_scheme(2, tanks=True)
+    fast = check_design(study, design).scenarios
+
+    def no_convergence(*args, **kwargs):
+        found = elementwise.find_root(*args, **kwargs)
+        found.status[:] = -2  # as if out of iterations
+        found.x[:] = 0.5
+        return found
+    monkeypatch.setattr(delivery_flow, "elementwise", SimpleNamespace(find_root=no_convergence))
+    slow = check_design(study, design).scenarios
+    for first, second in zip(fast, slow, strict=True):
+        for a, b in zip(first.outlets, second.outlets, strict=True):
+            _assert_close(b.uncontrolled_flow_m3_s, a.uncontrolled_flow_m3_s)
+            assert b.uncontrolled_flow_m3_s != 0.5

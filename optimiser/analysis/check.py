@@ -268,27 +268,34 @@ def _pressure_violations(study: Study, scenario: Scenario, points: pd.DataFrame,
 
 def _velocity_violations(study: Study, scenario_name: str, segments: pd.DataFrame,
                          n_pieces: int, rules: DesignRules) -> list[Violation]:
-    """The fastest and slowest segment of each piece against the velocity window."""
+    """The fastest and slowest segment of each piece against the velocity window (the
+    first such segment where several tie)."""
+    piece = segments["piece"].to_numpy()
+    velocity = segments["velocity_m_s"].to_numpy()
+    start = segments["from_m"].to_numpy()
+    branches = segments["branch"].to_numpy()
+    order = np.argsort(piece, kind="stable")  # each piece's rows, in table order
+    bounds = np.searchsorted(piece[order], np.arange(n_pieces + 1))
     violations = []
     for index in range(n_pieces):
-        part = segments[segments["piece"] == index]
-        fastest = part["velocity_m_s"].idxmax()
-        slowest = part["velocity_m_s"].idxmin()
-        branch = str(part.at[fastest, "branch"])
+        rows = order[bounds[index]:bounds[index + 1]]
+        fastest = rows[np.nanargmax(velocity[rows])]
+        slowest = rows[np.nanargmin(velocity[rows])]
+        branch = str(branches[fastest])
         who = _who(study, scenario_name, branch)
-        if above_velocity_max(part.at[fastest, "velocity_m_s"], rules, CHECK_TOLERANCE):
+        if above_velocity_max(velocity[fastest], rules, CHECK_TOLERANCE):
             violations.append(Violation(
-                "velocity_max", scenario_name, float(part.at[fastest, "from_m"]),
-                float(part.at[fastest, "velocity_m_s"]), rules.velocity_max_m_s,
-                text.velocity_outside(who, index + 1, part.at[fastest, "velocity_m_s"],
-                                      rules.velocity_max_m_s, part.at[fastest, "from_m"], True),
+                "velocity_max", scenario_name, float(start[fastest]),
+                float(velocity[fastest]), rules.velocity_max_m_s,
+                text.velocity_outside(who, index + 1, velocity[fastest],
+                                      rules.velocity_max_m_s, start[fastest], True),
                 branch))
-        if below_velocity_min(part.at[slowest, "velocity_m_s"], rules, CHECK_TOLERANCE):
+        if below_velocity_min(velocity[slowest], rules, CHECK_TOLERANCE):
             violations.append(Violation(
-                "velocity_min", scenario_name, float(part.at[slowest, "from_m"]),
-                float(part.at[slowest, "velocity_m_s"]), rules.velocity_min_m_s,
-                text.velocity_outside(who, index + 1, part.at[slowest, "velocity_m_s"],
-                                      rules.velocity_min_m_s, part.at[slowest, "from_m"], False),
+                "velocity_min", scenario_name, float(start[slowest]),
+                float(velocity[slowest]), rules.velocity_min_m_s,
+                text.velocity_outside(who, index + 1, velocity[slowest],
+                                      rules.velocity_min_m_s, start[slowest], False),
                 branch))
     return violations
 

@@ -161,8 +161,26 @@ def _path_offsets(starts: Mapping[str, PathStart]) -> np.ndarray:
 
 def outlet_margins_m(study: Study, paths: DeliveryPaths, flow_m3_s: np.ndarray,
                      which: np.ndarray) -> np.ndarray:
-    """E_out(q) - required head [m] of the paths ``which`` with delivery flows
-    ``flow_m3_s`` (the module docstring's equation), all at once."""
+    """Margin at the delivery point of several paths at once.
+
+    Parameters
+    ----------
+    study : Study
+        For its friction method (:func:`optimiser.analysis.flows.gradient_with_roughness`).
+    paths : DeliveryPaths
+        The paths of one scenario (:func:`delivery_paths`).
+    flow_m3_s : array_like, shape (k,)
+        Trial delivery flow q [m^3/s] of each path in ``which``.
+    which : array_like of int, shape (k,)
+        Indices of the paths.
+
+    Returns
+    -------
+    numpy.ndarray, shape (k,)
+        E_out(q) - required head [m] (the module docstring's equation: Bernoulli with
+        losses, Streeter & Wylie 1985, ch. 3); positive while the delivery point has
+        head to spare.
+    """
     which = np.asarray(which).astype(int).reshape(-1)
     flow = np.asarray(flow_m3_s, dtype=float).reshape(-1)
     first, stop = paths.offsets[which], paths.offsets[which + 1]
@@ -183,9 +201,25 @@ def outlet_margins_m(study: Study, paths: DeliveryPaths, flow_m3_s: np.ndarray,
 
 
 def uncontrolled_flows_m3_s(study: Study, paths: DeliveryPaths) -> list[float | None]:
-    """The uncontrolled flow [m^3/s] of every path's delivery point: None where even no
-    delivery meets the required head, inf where no flow up to 2^60 times the first guess
-    runs it short."""
+    """The uncontrolled flow of every path's delivery point.
+
+    Parameters
+    ----------
+    study : Study
+        The study (its friction method).
+    paths : DeliveryPaths
+        The paths of one scenario (:func:`delivery_paths`).
+
+    Returns
+    -------
+    list of float or None
+        Per path, the delivery flow q [m^3/s] at which E_out(q) equals the required head:
+        bracketed from q = 0 up (a first guess from a loss growing with q^2, then
+        doublings), then Chandrupatla's method (Chandrupatla 1997) to machine precision.
+        None where even no delivery meets the required head, inf where no flow up to
+        2^60 times the first guess runs it short, nan where the root search did not
+        converge (the caller then asks the general search).
+    """
     count = len(paths.head_m)
     which = np.arange(count)
 
@@ -227,7 +261,7 @@ def _roots(margin, low: np.ndarray, high: np.ndarray, at_zero: np.ndarray,
     if len(search):
         found = elementwise.find_root(margin, (low[search], high[search]),
                                       args=(search,))
-        result[search] = found.x
+        result[search] = np.where(found.status == 0, found.x, np.nan)
     result[never_short] = np.inf
     return [None if zero < 0.0 else float(root)
             for zero, root in zip(at_zero.tolist(), result.tolist(), strict=True)]

@@ -192,13 +192,18 @@ class DesignHydraulics:
 
     def points(self, arrays: ScenarioArrays) -> pd.DataFrame:
         """The check points of :meth:`point_arrays` as a table."""
+        return pd.DataFrame(self.point_columns(arrays))
+
+    def point_columns(self, arrays: ScenarioArrays) -> dict[str, np.ndarray]:
+        """The columns of :meth:`points` (a scheme joins every line's before making one
+        table)."""
         grid = self.grid
         at = self.point_arrays(arrays)
         node = at.node
         hgl = hydraulic_grade_m(at.energy_m, at.velocity_m_s)
         pipe = grid.node_pipe_level_m[node]
         top_water = self.static_level_m[at.segment]
-        return pd.DataFrame({
+        return {
             "chainage_m": grid.node_chainage_m[node],
             "side": _SIDE_NAMES[at.side],
             "label": np.asarray(grid.node_label, dtype=object)[node],
@@ -212,18 +217,22 @@ class DesignHydraulics:
             "velocity_m_s": at.velocity_m_s,
             "flow_m3_s": arrays.flow_m3_s[at.segment],
             "piece": self.piece_index[grid.segment_piece[at.segment]],
-            "branch": self.line.name,
-        })
+            "branch": np.full(len(node), self.line.name, dtype=object),
+        }
 
     def segments(self, arrays: ScenarioArrays) -> pd.DataFrame:
+        return pd.DataFrame(self.segment_columns(arrays))
+
+    def segment_columns(self, arrays: ScenarioArrays) -> dict[str, np.ndarray]:
+        """The columns of :meth:`segments`."""
         grid = self.grid
-        return pd.DataFrame({
+        return {
             "from_m": grid.start_m, "to_m": grid.end_m, "length_m": grid.segment_length_m,
             "piece": self.piece_index[grid.segment_piece], "flow_m3_s": arrays.flow_m3_s,
             "velocity_m_s": arrays.velocity_m_s, "gradient_m_per_km": arrays.gradient * 1000,
             "friction_loss_m": arrays.gradient * grid.segment_length_m,
-            "branch": self.line.name,
-        })
+            "branch": np.full(len(grid.start_m), self.line.name, dtype=object),
+        }
 
     def least_pressure_margin_m(self, arrays: ScenarioArrays) -> float:
         """Smallest pressure head less its minimum [m] over the line's check points."""

@@ -137,12 +137,11 @@ class SchemeHydraulics:
 
     def points(self, arrays: dict[str, ScenarioArrays]) -> pd.DataFrame:
         """Check points of every line, line after line (column ``branch``)."""
-        tables = [self.parts[name].points(part) for name, part in arrays.items()]
-        return tables[0] if len(tables) == 1 else pd.concat(tables, ignore_index=True)
+        return _joined([self.parts[name].point_columns(part) for name, part in arrays.items()])
 
     def segments(self, arrays: dict[str, ScenarioArrays]) -> pd.DataFrame:
-        tables = [self.parts[name].segments(part) for name, part in arrays.items()]
-        return tables[0] if len(tables) == 1 else pd.concat(tables, ignore_index=True)
+        return _joined([self.parts[name].segment_columns(part)
+                        for name, part in arrays.items()])
 
     def outlet_margin_m(self, name: str, arrays: dict[str, ScenarioArrays]) -> float:
         """Energy after the exit loss less the required head at the end of line ``name``."""
@@ -150,23 +149,29 @@ class SchemeHydraulics:
 
     def delivery_points(self, scenario: Scenario, arrays: dict[str, ScenarioArrays],
                         capacity: bool) -> list[DeliveryPoint]:
-        """The delivery point of every line; with ``capacity``, its uncontrolled flow (on
-        a scheme all at once on the paths to the delivery points,
-        :mod:`.delivery_flow`; on a single route by the general search)."""
-        flows: list[float | None] = [None] * len(self.lines)
-        if capacity and self.study.is_scheme:
-            if self._paths is None:
-                self._paths = path_starts(self.parts, self.lines,
-                                          self.study.tank_rules.outlet_k)
-            flows = uncontrolled_flows_m3_s(self.study, delivery_paths(
-                self.parts, self._by_name, self._paths, scenario, arrays))
-        elif capacity:
-            flows = [self.capacity_m3_s(scenario, line.name, outlet_only=True)
-                     for line in self.lines]
+        """The delivery point of every line; with ``capacity``, its uncontrolled flow."""
+        flows = self.uncontrolled_flows_m3_s(scenario, arrays) if capacity \
+            else [None] * len(self.lines)
         return [DeliveryPoint(
             line.name, line.route.total_chainage_m, line.delivery_flow_m3_s(scenario),
             arrays[line.name].outlet_energy_m, line.required_head_m, flow)
             for line, flow in zip(self.lines, flows, strict=True)]
+
+    def uncontrolled_flows_m3_s(self, scenario: Scenario, arrays: dict[str, ScenarioArrays]
+                                ) -> list[float | None]:
+        """Every line's uncontrolled flow in ``scenario`` (its arrays ``arrays``): on a
+        scheme all at once on the paths to the delivery points (:mod:`.delivery_flow`),
+        by the general search on a single route or where that search did not converge."""
+        if not self.study.is_scheme:
+            return [self.capacity_m3_s(scenario, line.name, outlet_only=True)
+                    for line in self.lines]
+        if self._paths is None:
+            self._paths = path_starts(self.parts, self.lines, self.study.tank_rules.outlet_k)
+        flows = uncontrolled_flows_m3_s(self.study, delivery_paths(
+            self.parts, self._by_name, self._paths, scenario, arrays))
+        return [self.capacity_m3_s(scenario, line.name, outlet_only=True)
+                if flow is not None and np.isnan(flow) else flow
+                for line, flow in zip(self.lines, flows, strict=True)]
 
     def least_margin_m(self, scenario: Scenario, name: str, flow_m3_s: float,
                        outlet_only: bool) -> float:
@@ -245,3 +250,12 @@ class SchemeHydraulics:
         else:
             return float("inf")
         return float(brentq(margin, low, high, xtol=1e-13, rtol=4 * np.finfo(float).eps))
+
+
+def _joined(columns: list[dict[str, np.ndarray]]) -> pd.DataFrame:
+    """One table of the lines' columns, line after line (one table, not one a line
+    joined: the same rows, much faster on a scheme of many lines)."""
+    if len(columns) == 1:
+        return pd.DataFrame(columns[0])
+    return pd.DataFrame({key: np.concatenate([part[key] for part in columns])
+                         for key in columns[0]})
