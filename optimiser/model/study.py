@@ -2,16 +2,19 @@
 
 from __future__ import annotations
 
+import math
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from enum import StrEnum
 from pathlib import Path
 
-from optimiser.model.catalogue import Catalogue
+from optimiser.model.catalogue import Catalogue, PipeOption
 from optimiser.model.pump import PumpStation
 from optimiser.model.route import Fitting, Offtake, Route
 from optimiser.model.scenario import Scenario
 from optimiser.model.scheme import TRUNK, Branch
 from optimiser.model.tanks import BreakPressureTank, TankRules
+from optimiser.model.validation import at_least, refuse
 
 
 class Friction(StrEnum):
@@ -142,6 +145,11 @@ class Study:
     break-pressure tank designed on its own); the slow-closure surge formula runs its
     length L on to there (contract section 10). Empty for a whole study."""
 
+    def __post_init__(self) -> None:
+        # A study built in code skips the loader: refuse what would give nan or a wrong
+        # answer (:func:`study_problems`; optimiser/model/validation.py says why).
+        refuse(f"Study {self.title!r}", study_problems(self))
+
     @property
     def is_scheme(self) -> bool:
         """True when the study has branches besides the trunk."""
@@ -163,3 +171,47 @@ class Study:
             if scenario.name == name:
                 return scenario
         raise KeyError(name)
+
+
+MAX_LISTED = 5
+"""Options named in one message at most (then a count of the rest)."""
+
+
+def _named(options: Iterable[PipeOption]) -> str:
+    labels = [o.label for o in options]
+    more = f" and {len(labels) - MAX_LISTED} more" if len(labels) > MAX_LISTED else ""
+    return ", ".join(labels[:MAX_LISTED]) + more
+
+
+def study_problems(study: Study) -> list[str]:
+    """Combinations the loader refuses that would otherwise give nan or a wrong answer:
+    no scenario or no option, a scenario without a flow, a viscosity that is not
+    positive, and surge by wave speed or Hazen-Williams friction on options without the
+    catalogue columns they need."""
+    problems = []
+    if not study.scenarios:
+        problems.append("scenarios: at least one scenario is required")
+    if len(study.catalogue) == 0:
+        problems.append("catalogue: it has no pipe option")
+    problems += at_least("kinematic_viscosity_m2_s", study.kinematic_viscosity_m2_s, 0.0,
+                         strict=True)
+    for scenario in study.scenarios:
+        if math.isnan(scenario.outlet_flow_m3_s):
+            problems.append(f"scenario {scenario.name!r}: outlet_flow_m3_s is nan (give "
+                            "the flow delivered at the outlet)")
+    catalogue = f" of {study.catalogue_path.name}" if study.catalogue_path else ""
+    if study.surge.method == SurgeMethod.JOUKOWSKY:
+        missing = [o for o in study.catalogue if not o.has_wave_speed]
+        if missing:
+            problems.append(
+                f"surge method 'joukowsky' needs the catalogue columns wave_speed_m_s, or "
+                f"wall_thickness_mm with elastic_modulus_gpa, for every option; the "
+                f"options{catalogue} {_named(missing)} have neither (give them, or use "
+                "SurgeSettings(SurgeMethod.ALLOWANCE) with surge_allowance_m)")
+    if study.friction == Friction.HAZEN_WILLIAMS:
+        missing = [o for o in study.catalogue if o.hazen_williams_c is None]
+        if missing:
+            problems.append(f"friction 'hazen-williams' needs the catalogue column "
+                            f"hazen_williams_c for every option; the options{catalogue} "
+                            f"{_named(missing)} have none")
+    return problems
