@@ -162,3 +162,42 @@ def test_the_loaded_study_and_its_changes_in_range_are_accepted(study):
         dataclasses.replace(s, hours_per_year=8760.0, roughness_factor=2.0,
                             roughness_mm=None) for s in study.scenarios))
     assert len(changed.scenarios) == len(study.scenarios)
+
+
+@pytest.fixture
+def scheme(tmp_path):
+    from scheme_builders import write_branch_scheme
+
+    return load_study(write_branch_scheme(tmp_path).study)
+
+
+def test_a_branch_must_hang_strictly_inside_a_line_given_before_it(scheme):
+    # contract section 7: the junction is a chainage strictly inside `from`; parents first
+    north, school = scheme.branches
+    with pytest.raises(ValueError, match=r"not strictly inside 'main' \(0 to 3000 m\)"):
+        dataclasses.replace(scheme, branches=(
+            dataclasses.replace(north, at_chainage_m=5000.0), school))
+    with pytest.raises(ValueError, match="parents come first"):
+        dataclasses.replace(scheme, branches=(school, north))
+    with pytest.raises(ValueError, match="flow_m3_s"):
+        dataclasses.replace(scheme, branches=(dataclasses.replace(north, flow_m3_s=-1e-3),
+                                              school))
+
+
+def test_tanks_offtakes_and_fittings_must_lie_on_their_line(scheme):
+    # contract sections 1 and 8: strictly inside the route for a tank, on it otherwise
+    from optimiser.model import BreakPressureTank, Fitting, Offtake
+
+    with pytest.raises(ValueError, match="not strictly inside its line"):
+        dataclasses.replace(scheme, tanks=(BreakPressureTank(5000.0, 150.0),))
+    with pytest.raises(ValueError, match="no line named 'east'"):
+        dataclasses.replace(scheme, tanks=(BreakPressureTank(100.0, 150.0, "east"),))
+    with pytest.raises(ValueError, match="offtake at 3500 m is outside its line"):
+        dataclasses.replace(scheme, offtakes=(Offtake(3500.0, 0.001),))
+    with pytest.raises(ValueError, match="fitting at -5 m is outside its line"):
+        dataclasses.replace(scheme, fittings=(Fitting(-5.0, 1.0),))
+    with pytest.raises(ValueError, match="offtake at 700 m: flow_m3_s"):
+        dataclasses.replace(scheme, offtakes=(Offtake(700.0, -0.001),))
+    # the scheme as loaded is sound, and a tank strictly inside a branch is accepted
+    assert dataclasses.replace(scheme, tanks=(BreakPressureTank(
+        500.0, 171.0, "north end"),)).tanks[0].branch == "north end"
