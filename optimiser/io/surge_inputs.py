@@ -104,5 +104,4 @@ def wave_speed_problems(catalogue_path: Path, options: Catalogue | list[PipeOpti
 
 
 def has_wave_speed(option: PipeOption) -> bool:
-    return option.wave_speed_m_s is not None or (
-        option.wall_thickness_mm is not None and option.elastic_modulus_gpa is not None)
+    return option.has_wave_speed

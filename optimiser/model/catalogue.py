@@ -7,6 +7,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from optimiser.model.validation import at_least, finite, refuse
+
 
 @dataclass(frozen=True)
 class PipeOption:
@@ -31,6 +33,16 @@ class PipeOption:
     outside_diameter_mm: float | None = None
     sdr: float | None = None
     """Standard dimension ratio OD / wall: with the outside diameter, names PE pipe."""
+
+    def __post_init__(self) -> None:
+        refuse(f"PipeOption {self.material} DN{self.dn_mm:g} {self.pressure_class}",
+               option_problems(self))
+
+    @property
+    def has_wave_speed(self) -> bool:
+        """A wave speed is given, or the wall and modulus it is derived from (section 10)."""
+        return self.wave_speed_m_s is not None or (
+            self.wall_thickness_mm is not None and self.elastic_modulus_gpa is not None)
 
     @property
     def key(self) -> tuple[str, float, str]:
@@ -118,3 +130,16 @@ class Catalogue:
     @property
     def materials(self) -> list[str]:
         return sorted({o.material for o in self.options})
+
+
+def option_problems(option: PipeOption) -> list[str]:
+    """Dimensions and data of a pipe option that would give nan hydraulics or costs."""
+    problems = at_least("internal_diameter_mm", option.internal_diameter_mm, 0.0, strict=True)
+    problems += at_least("roughness_mm", option.roughness_mm, 0.0)
+    problems += at_least("cost_per_m", option.cost_per_m, 0.0)
+    problems += finite("allowable_head_m", option.allowable_head_m)
+    problems += at_least("hazen_williams_c", option.hazen_williams_c, 0.0, strict=True)
+    problems += at_least("wave_speed_m_s", option.wave_speed_m_s, 0.0, strict=True)
+    problems += at_least("wall_thickness_mm", option.wall_thickness_mm, 0.0, strict=True)
+    problems += at_least("elastic_modulus_gpa", option.elastic_modulus_gpa, 0.0, strict=True)
+    return problems

@@ -13,6 +13,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from optimiser.model.validation import finite, refuse
+
 
 @dataclass(frozen=True)
 class Offtake:
@@ -83,6 +85,7 @@ class Route:
         n = len(self.chainage_m)
         self.chainage_m = np.asarray(self.chainage_m, dtype=float)
         self.ground_m = np.asarray(self.ground_m, dtype=float)
+        refuse("Route", route_problems(self.chainage_m, self.ground_m, self.cover_m))
         self.start_node = np.arange(n - 1)
         self.end_node = np.arange(1, n)
         self.parent = np.arange(-1, n - 2)  # a chain: section i hangs below section i-1
@@ -153,3 +156,21 @@ class Route:
             zones.insert(index, zones[index - 1])
         return dataclasses.replace(self, chainage_m=np.array(chainage),
                                    ground_m=np.array(ground), labels=labels, zones=zones)
+
+
+def route_problems(chainage_m: np.ndarray, ground_m: np.ndarray, cover_m: float) -> list[str]:
+    """At least two nodes, chainage strictly increasing (a section of zero or negative
+    length has no slope or friction), every level finite."""
+    if chainage_m.ndim != 1 or len(chainage_m) < 2 or ground_m.shape != chainage_m.shape:
+        return [f"chainage_m and ground_m must be two arrays of the same length, at least "
+                f"2 nodes (got {chainage_m.shape} and {ground_m.shape})"]
+    problems = []
+    if not np.all(np.isfinite(chainage_m)) or not np.all(np.isfinite(ground_m)):
+        problems.append("chainage_m and ground_m must be finite numbers (no nan or inf)")
+    steps = np.diff(chainage_m)
+    if np.any(steps <= 0.0):
+        node = int(np.argmax(steps <= 0.0)) + 1
+        problems.append(f"chainage_m must increase strictly from node to node (node {node}: "
+                        f"{chainage_m[node - 1]:g} then {chainage_m[node]:g} m)")
+    problems += finite("cover_m", cover_m)
+    return problems

@@ -2,16 +2,19 @@
 
 from __future__ import annotations
 
+import math
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from enum import StrEnum
 from pathlib import Path
 
-from optimiser.model.catalogue import Catalogue
+from optimiser.model.catalogue import Catalogue, PipeOption
 from optimiser.model.pump import PumpStation
 from optimiser.model.route import Fitting, Offtake, Route
 from optimiser.model.scenario import Scenario
 from optimiser.model.scheme import TRUNK, Branch
 from optimiser.model.tanks import BreakPressureTank, TankRules
+from optimiser.model.validation import at_least, refuse
 
 
 class Friction(StrEnum):
@@ -142,6 +145,11 @@ class Study:
     break-pressure tank designed on its own); the slow-closure surge formula runs its
     length L on to there (contract section 10). Empty for a whole study."""
 
+    def __post_init__(self) -> None:
+        # A study built in code skips the loader: refuse what would give nan or a wrong
+        # answer (:func:`study_problems`; optimiser/model/validation.py says why).
+        refuse(f"Study {self.title!r}", study_problems(self))
+
     @property
     def is_scheme(self) -> bool:
         """True when the study has branches besides the trunk."""
@@ -163,3 +171,96 @@ class Study:
             if scenario.name == name:
                 return scenario
         raise KeyError(name)
+
+
+MAX_LISTED = 5
+"""Options named in one message at most (then a count of the rest)."""
+
+
+def _named(options: Iterable[PipeOption]) -> str:
+    labels = [o.label for o in options]
+    more = f" and {len(labels) - MAX_LISTED} more" if len(labels) > MAX_LISTED else ""
+    return ", ".join(labels[:MAX_LISTED]) + more
+
+
+def study_problems(study: Study) -> list[str]:
+    """Combinations the loader refuses that would otherwise give nan or a wrong answer:
+    no scenario or no option, a scenario without a flow, a viscosity that is not
+    positive, surge by wave speed or Hazen-Williams friction on options without the
+    catalogue columns they need, and points off their line (:func:`_placement_problems`)."""
+    problems = _placement_problems(study)
+    if not study.scenarios:
+        problems.append("scenarios: at least one scenario is required")
+    if len(study.catalogue) == 0:
+        problems.append("catalogue: it has no pipe option")
+    problems += at_least("kinematic_viscosity_m2_s", study.kinematic_viscosity_m2_s, 0.0,
+                         strict=True)
+    for scenario in study.scenarios:
+        if math.isnan(scenario.outlet_flow_m3_s):
+            problems.append(f"scenario {scenario.name!r}: outlet_flow_m3_s is nan (give "
+                            "the flow delivered at the outlet)")
+    catalogue = f" of {study.catalogue_path.name}" if study.catalogue_path else ""
+    if study.surge.method == SurgeMethod.JOUKOWSKY:
+        missing = [o for o in study.catalogue if not o.has_wave_speed]
+        if missing:
+            problems.append(
+                f"surge method 'joukowsky' needs the catalogue columns wave_speed_m_s, or "
+                f"wall_thickness_mm with elastic_modulus_gpa, for every option; the "
+                f"options{catalogue} {_named(missing)} have neither (give them, or use "
+                "SurgeSettings(SurgeMethod.ALLOWANCE) with surge_allowance_m)")
+    if study.friction == Friction.HAZEN_WILLIAMS:
+        missing = [o for o in study.catalogue if o.hazen_williams_c is None]
+        if missing:
+            problems.append(f"friction 'hazen-williams' needs the catalogue column "
+                            f"hazen_williams_c for every option; the options{catalogue} "
+                            f"{_named(missing)} have none")
+    return problems
+
+
+ON_LINE_M = 1e-6
+"""A point this close [m] beyond a line's end is on it (as ``Route.with_nodes``)."""
+
+
+def _placement_problems(study: Study) -> list[str]:
+    """Branches hanging strictly inside a line given before them, tanks strictly inside
+    a line, offtakes and fittings on their line, no negative flow (contract sections 1,
+    7 and 8: the loader refuses them; here they gave tracebacks)."""
+    ends = {TRUNK: study.route.total_chainage_m}
+    problems = _points_problems("the route", study.offtakes, study.fittings, ends[TRUNK])
+    for branch in study.branches:
+        where = f"branch {branch.name!r}"
+        parent_end = ends.get(branch.parent)
+        if parent_end is None:
+            problems.append(f"{where}: its parent {branch.parent!r} is neither the trunk nor "
+                            "a branch given before it (parents come first)")
+        elif not 0.0 < branch.at_chainage_m < parent_end:
+            problems.append(f"{where}: at_chainage_m {branch.at_chainage_m:g} is not "
+                            f"strictly inside {branch.parent!r} (0 to {parent_end:g} m)")
+        problems += at_least(f"{where}: flow_m3_s", branch.flow_m3_s, 0.0)
+        ends[branch.name] = branch.route.total_chainage_m
+        problems += _points_problems(where, branch.offtakes, branch.fittings,
+                                     ends[branch.name])
+    for tank in study.tanks:
+        end = ends.get(tank.branch)
+        if end is None:
+            problems.append(f"tank at {tank.chainage_m:g} m: the study has no line named "
+                            f"{tank.branch!r}")
+        elif not 0.0 < tank.chainage_m < end:
+            problems.append(f"tank at {tank.chainage_m:g} m of {tank.branch!r}: not strictly "
+                            f"inside its line (0 to {end:g} m)")
+    return problems
+
+
+def _points_problems(where: str, offtakes: tuple[Offtake, ...],
+                     fittings: tuple[Fitting, ...], end_m: float) -> list[str]:
+    """Offtakes (flow not negative) and fittings at a chainage of their line."""
+    problems = []
+    for point in (*offtakes, *fittings):
+        if not -ON_LINE_M <= point.chainage_m <= end_m + ON_LINE_M:
+            kind = "offtake" if isinstance(point, Offtake) else "fitting"
+            problems.append(f"{where}: {kind} at {point.chainage_m:g} m is outside its line "
+                            f"(0 to {end_m:g} m)")
+    for offtake in offtakes:
+        problems += at_least(f"{where}: offtake at {offtake.chainage_m:g} m: flow_m3_s",
+                             offtake.flow_m3_s, 0.0)
+    return problems

@@ -8,14 +8,20 @@ Every sample's gravity energy line comes from the check's own functions, all sam
 once (:mod:`optimiser.sweeps.tree_samples`), and the station is judged as the check
 judges it (:mod:`optimiser.analysis.pumping`, contract section 9):
 
-- the least head H of a scenario is the largest deficit of its gravity line (delivery
-  head, every pressure minimum, the down-surge limit with each pipe's surge head), 0 if
-  none; the head checked is H capped at ``max_head_m``;
+- the least head H of a scenario is the largest deficit of its gravity lines over
+  every line the station reaches (the trunk, and on a scheme every branch leaving a
+  reached line above that line's first tank, :func:`optimiser.analysis.pumping.
+  reached_lines`): delivery head (or the first tank's inflow), every pressure minimum
+  and the down-surge limit above the first tank, with each pipe's surge head taken
+  segment by segment as the check takes it (a piece through a tank has each side's own
+  slow-closure surge, :func:`check_segment_surges_m`), 0 if none; the head checked is H
+  capped at ``max_head_m``;
 - power P = rho g Q H / (1000 eta) with Q the flow drawn from the source and rho by Kell
   (1975) at the study's temperature, energy a year P t, the installed power the largest
   P of any scenario, the energy's present value PWF x price x energy a year;
 - classes: every piece takes the larger of its static head (the static line the
-  non-return valve holds) and its largest pressure head while pumping in any scenario,
+  non-return valve holds) and its largest pressure head while pumping in any scenario
+  (on every line: lifted by H where the head reaches, the gravity line's elsewhere),
   plus its surge head, against its class.
 
 Per sample and scenario (``samples``): ``station_head_m`` (H), ``within_max_head``,
@@ -33,9 +39,11 @@ import numpy as np
 import pandas as pd
 
 from optimiser.analysis import check_design
+from optimiser.analysis import surge as surge_rule
 from optimiser.analysis.check import CheckResult
 from optimiser.analysis.flows import inflow_m3_s
 from optimiser.analysis.limits import CHECK_TOLERANCE, class_holds
+from optimiser.analysis.pumping import reached_lines
 from optimiser.analysis.scheme_check import SchemeHydraulics
 from optimiser.analysis.sensitivity import (
     MonteCarloResult,
@@ -44,8 +52,8 @@ from optimiser.analysis.sensitivity import (
 )
 from optimiser.analysis.surge import water_density_kg_m3
 from optimiser.hydraulics.pumping import present_worth_factor, pump_power_kw, yearly_energy_kwh
-from optimiser.model import TRUNK, Design, Study
-from optimiser.sweeps.tree_samples import tree_samples
+from optimiser.model import Design, Study
+from optimiser.sweeps.tree_samples import TreeSamples, tree_samples
 
 
 def _percentile(values: np.ndarray, q: float) -> float:
@@ -65,27 +73,74 @@ def _classes_hold(check: CheckResult, largest_pumping_m: np.ndarray) -> np.ndarr
     return holds.all(axis=0)
 
 
-def _scenario_frame(study: Study, hydraulics: SchemeHydraulics, check: CheckResult,
-                    materials: list[str], aged: np.ndarray, index: int
+def check_segment_surges_m(study: Study, design: Design, hydraulics: SchemeHydraulics
+                           ) -> dict[str, np.ndarray]:
+    """Surge head [m] of every grid segment of every line, as the check works it
+    (:func:`optimiser.analysis.surge.segment_surges_m`: each piece's wave speed and its
+    largest velocity in any scenario, each side of a tank with its own slow-closure
+    length L). Velocities do not depend on roughness or on the station's head, so one
+    gravity run per scenario gives them."""
+    evaluated = [hydraulics.evaluate(scenario) for scenario in study.scenarios]
+    tanks = (*study.tanks, *design.tanks)
+    surges = {}
+    for name, part in hydraulics.parts.items():
+        fastest = np.max([arrays[name].velocity_m_s for arrays in evaluated], axis=0)
+        options = [design.pieces[i].option for i in part.piece_index]
+        surges[name] = surge_rule.segment_surges_m(
+            study, tanks, part.line, part.grid, surge_rule.wave_speeds_m_s(study, options),
+            fastest)
+    return surges
+
+
+def _needed_head_m(samples: TreeSamples, reached: Mapping[str, int | None]) -> np.ndarray:
+    """(S,) the least head of every sample: the largest deficit of every line the
+    station reaches (:func:`optimiser.analysis.pumping.least_head_m`): above a line's
+    first tank its pressures, down-surge and the tank's inflow; without a tank its
+    pressures, down-surge and delivery head."""
+    count = samples.source_level_m.shape[0]
+    deficits = [np.zeros(count)]
+    for name in reached:
+        line = samples.lines[name]
+        if line.moving_margin_m is not None:  # the station lifts to the line's first tank
+            deficits.append(-line.moving_margin_m)
+            transient = line.moving_transient_m
+        else:
+            deficits += [-line.outlet_margin_m, -line.least_pressure_margin_m]
+            transient = line.transient_margin_m
+        if transient is not None:
+            deficits.append(-transient)
+    return np.max(deficits, axis=0)
+
+
+def _pumping_heads_m(hydraulics: SchemeHydraulics, samples: TreeSamples,
+                     reached: Mapping[str, int | None], head_m: np.ndarray,
+                     pieces: int) -> np.ndarray:
+    """(pieces, S) the largest pressure head of each piece while pumping: the head lifts
+    every reached line above its first tank; below it, and on lines it does not reach,
+    the pressure is the gravity line's (as the check's piece table)."""
+    pumping = np.full((pieces, len(head_m)), -np.inf)
+    for name, part in hydraulics.parts.items():
+        line = samples.lines[name]
+        assert line.largest_pressure_m is not None
+        lifted = line.largest_pressure_m + (head_m[None, :] if name in reached else 0.0)
+        if line.largest_below_m is not None:
+            lifted = np.maximum(lifted, line.largest_below_m)
+        pumping[part.piece_index] = np.maximum(pumping[part.piece_index], lifted)
+    return pumping
+
+
+def _scenario_frame(study: Study, hydraulics: SchemeHydraulics, surges: dict[str, np.ndarray],
+                    materials: list[str], aged: np.ndarray, index: int, pieces: int
                     ) -> tuple[pd.DataFrame, np.ndarray]:
     """One scenario's rows (without the per-sample columns) and the largest pumping
     pressure head of every piece (pieces, S)."""
     pump = study.pump
     assert pump is not None
     scenario = study.scenarios[index]
-    surge = check.pieces["surge_head_m"].to_numpy()
-    line = tree_samples(hydraulics, scenario, materials, aged, surge, by_piece=True).lines[
-        TRUNK]
-    if line.moving_margin_m is not None:  # the station lifts to the trunk's first tank
-        deficits = [np.zeros(aged.shape[0]), -line.moving_margin_m]
-        transient = line.moving_transient_m
-    else:
-        deficits = [np.zeros(aged.shape[0]), -line.outlet_margin_m,
-                    -line.least_pressure_margin_m]
-        transient = line.transient_margin_m
-    if transient is not None:
-        deficits.append(-transient)
-    needed = np.max(deficits, axis=0)
+    samples = tree_samples(hydraulics, scenario, materials, aged, by_piece=True,
+                           surge_by_segment=surges)
+    reached = reached_lines(hydraulics)
+    needed = _needed_head_m(samples, reached)
     head = needed if pump.max_head_m is None else np.minimum(needed, pump.max_head_m)
     within = np.full(needed.shape, True) if pump.max_head_m is None else \
         needed <= pump.max_head_m + 1e-9
@@ -97,15 +152,7 @@ def _scenario_frame(study: Study, hydraulics: SchemeHydraulics, check: CheckResu
         "station_head_m": needed, "within_max_head": within, "head_m": head,
         "power_kw": power, "energy_kwh_per_year": energy,
         "energy_cost_per_year": energy * pump.energy_price, "meets": within})
-    assert line.largest_pressure_m is not None
-    # Pumping lifts the trunk above its first tank; below it (and on branches, all below
-    # it) the pressure is the gravity line's, as in the check's piece table.
-    lifted = line.largest_pressure_m + head[None, :]
-    if line.largest_below_m is not None:
-        lifted = np.maximum(lifted, line.largest_below_m)
-    pumping = np.full((len(check.pieces), len(head)), -np.inf)
-    pumping[hydraulics.trunk.piece_index] = lifted
-    return frame, pumping
+    return frame, _pumping_heads_m(hydraulics, samples, reached, head, pieces)
 
 
 def _summary_row(frame: pd.DataFrame, years: float, max_head_m: float | None) -> dict:
@@ -139,9 +186,11 @@ def pump_monte_carlo(study: Study, design: Design, distribution: RoughnessDistri
                                          years=years, ageing_mm_per_year=ageing_mm_per_year)
     check = check_design(study, design, capacity=False)
     hydraulics = SchemeHydraulics(study, design)
+    surges = check_segment_surges_m(study, design, hydraulics)
     frames, largest = [], np.full((len(design.pieces), samples), -np.inf)
     for index in range(len(study.scenarios)):
-        frame, pumping = _scenario_frame(study, hydraulics, check, materials, aged, index)
+        frame, pumping = _scenario_frame(study, hydraulics, surges, materials, aged, index,
+                                         len(design.pieces))
         frames.append(frame)
         largest = np.maximum(largest, pumping)
     installed = np.max([f["power_kw"].to_numpy() for f in frames], axis=0)

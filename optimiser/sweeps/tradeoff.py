@@ -97,21 +97,33 @@ def pieces_summary(outcome: DesignOutcome) -> tuple[int, str]:
 
 def binding_point(outcome: DesignOutcome) -> dict[str, Any]:
     """The limiting point of the design over all scenarios (its tightest limit): a
-    minimum pressure at a chainage, or the outlet head at the route's end."""
+    minimum pressure at a chainage, or the outlet head at the route's end. On a scheme
+    every delivery point counts (contract section 7; a pump's head is often set by a
+    branch's) and the line is named: ``pressure on NAME``, ``outlet head of NAME``
+    (chainage along that line)."""
     empty = {"binding_scenario": None, "binding_what": None, "binding_chainage_m": None,
              "binding_margin_m": None}
     if not outcome.binding or outcome.check is None:
         return empty
-    best: dict[str, Any] | None = None
-    end_m = outcome.check.study.route.total_chainage_m
+    check = outcome.check
+    scheme = check.study.is_scheme
+    end_m = check.study.route.total_chainage_m
+    candidates: list[tuple[str, str, float, float]] = []
     for point in outcome.binding:
-        candidates = [("pressure", point.chainage_m, point.margin_m),
-                      ("outlet head", end_m, point.outlet_margin_m)]
-        for what, chainage_m, margin_m in candidates:
-            if best is None or margin_m < best["binding_margin_m"]:
-                best = {"binding_scenario": point.scenario, "binding_what": what,
-                        "binding_chainage_m": float(chainage_m),
-                        "binding_margin_m": float(margin_m)}
+        candidates.append((point.scenario, f"pressure on {point.branch}" if scheme
+                           else "pressure", point.chainage_m, point.margin_m))
+        if not scheme:
+            candidates.append((point.scenario, "outlet head", end_m, point.outlet_margin_m))
+    if scheme:
+        candidates += [(scenario.name, f"outlet head of {outlet.branch}", outlet.chainage_m,
+                        outlet.margin_m)
+                       for scenario in check.scenarios for outlet in scenario.outlets]
+    best: dict[str, Any] | None = None
+    for scenario, what, chainage_m, margin_m in candidates:
+        if best is None or margin_m < best["binding_margin_m"]:
+            best = {"binding_scenario": scenario, "binding_what": what,
+                    "binding_chainage_m": float(chainage_m),
+                    "binding_margin_m": float(margin_m)}
     return best or empty
 
 

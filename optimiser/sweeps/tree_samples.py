@@ -27,6 +27,7 @@ only (the vectorised search of :mod:`optimiser.analysis.linear_check`).
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -299,13 +300,15 @@ def _moving_lines(hydraulics: SchemeHydraulics) -> dict[str, bool]:
 
 def tree_samples(hydraulics: SchemeHydraulics, scenario: Scenario, materials: list[str],
                  aged_mm: np.ndarray, surge_by_piece: np.ndarray | None = None,
-                 by_piece: bool = False) -> TreeSamples:
+                 by_piece: bool = False,
+                 surge_by_segment: Mapping[str, np.ndarray] | None = None) -> TreeSamples:
     """Every line of ``hydraulics``' study in ``scenario`` for the samples of
     ``aged_mm`` (S, materials): the roughness of each material, which the scenario's
     own rule turns into the value it uses (:meth:`Scenario.effective_roughness_mm`).
-    With ``surge_by_piece`` (by index in the design) and a down-surge limit in the
-    study, each line's transient margin too; with ``by_piece`` the largest pressure head
-    in each piece (:attr:`LineSamples.largest_pressure_m`)."""
+    With ``surge_by_piece`` (by index in the design), or ``surge_by_segment`` (each
+    line's surge by grid segment, as the check judges each side of a tank), and a
+    down-surge limit in the study, each line's transient margin too; with ``by_piece``
+    the largest pressure head in each piece (:attr:`LineSamples.largest_pressure_m`)."""
     study = hydraulics.study
     column = {material: i for i, material in enumerate(materials)}
     count = aged_mm.shape[0]
@@ -322,7 +325,9 @@ def tree_samples(hydraulics: SchemeHydraulics, scenario: Scenario, materials: li
         flow = line_flows_m3_s(study, scenario, line, part.grid.start_m,
                                inflows_m3_s=inflows)
         surge = None
-        if surge_by_piece is not None:
+        if surge_by_segment is not None:
+            surge = surge_by_segment[line.name]
+        elif surge_by_piece is not None:
             surge = surge_by_piece[part.piece_index[part.grid.segment_piece]]
         states[line.name] = line_samples(part, start, flow, roughness[line.name], None,
                                          surge, limit, by_piece)
