@@ -41,12 +41,6 @@ def tank_rules(path: Path, spec: StudyFile, profile_path: Path,
     table = spec.break_pressure_tanks
     sites = TankSites(table.sites)
     marked: tuple[float, ...] = ()
-    branched = bool(spec.branch) or spec.network is not None
-    if table.cost is not None and spec.surge.method != "allowance" and branched:
-        problems.add(f"{path}: [break_pressure_tanks] cost: new tanks chosen by design in a "
-                     "branched scheme are not yet supported with [surge] method = "
-                     "\"joukowsky\" (on a single route they are); give the scheme's tanks "
-                     "as [[break_pressure_tank]], or use the allowance method")
     if sites is TankSites.MARKED:
         # In a scheme the branches' profiles may carry the marks instead (read by
         # :mod:`optimiser.io.scheme_tank_sites`, which wants one mark somewhere).
