@@ -176,8 +176,8 @@ def load_tank_file(path: Path, study: Study) -> tuple[BreakPressureTank, ...]:
             continue
         tanks.append(BreakPressureTank(chainage, level, branch, row.cells.get("label", ""),
                                        new in _YES))
-    chainages = [t.chainage_m for t in tanks]
-    if len(set(chainages)) != len(chainages):
-        problems.add(f"{path}: two rows give a tank at the same chainage")
+    places = [(t.branch, round(t.chainage_m, 6)) for t in tanks]  # a tank is (line, chainage)
+    if len(set(places)) != len(places):
+        problems.add(f"{path}: two rows give a tank at the same chainage of the same line")
     problems.raise_if_any()
     return tuple(tanks)
