@@ -78,10 +78,11 @@ def _profile(rows, marked) -> str:
     return "\n".join(lines) + "\n"
 
 
-def _write(folder, closure_s: float, *, own=(), cost=TANK_COST, marked=MARKED):
+def _write(folder, closure_s: float, *, own=(), cost=TANK_COST, marked=MARKED,
+           transient_m=None):
     """Trunk 3 km (14 L/s to 330 m), branch "b" leaving it at 1,000 m (2 km, 8 L/s to
     300 m); pipe lengths by chainage; ``own``: (line, chainage) of the study's own
-    tanks; ``cost`` None: no new tank."""
+    tanks; ``cost`` None: no new tank; ``transient_m``: the down-surge limit."""
     folder.mkdir(parents=True, exist_ok=True)
     (folder / "trunk.csv").write_text(_profile(TRUNK, marked.get("main", ())), "utf-8")
     (folder / "b.csv").write_text(_profile(BRANCH, marked.get("b", ())), "utf-8")
@@ -97,6 +98,8 @@ def _write(folder, closure_s: float, *, own=(), cost=TANK_COST, marked=MARKED):
              "catalogue": {"file": "catalogue.csv"},
              "surge": {"method": "joukowsky", "closure_time_s": closure_s},
              "break_pressure_tanks": tanks}
+    if transient_m is not None:
+        study["surge"]["min_transient_pressure_m"] = transient_m
     if own:
         study["break_pressure_tank"] = [{"branch": b, "chainage_m": c} for b, c in own]
     (folder / "study.toml").write_text(toml_text(study), encoding="utf-8")
@@ -110,12 +113,12 @@ def _sites(marked=MARKED) -> list[tuple[str, float]]:
 class Enumerated:
     """Every fixed set of sites designed with its tanks fixed: pipe cost by set."""
 
-    def __init__(self, folder, closure_s: float) -> None:
+    def __init__(self, folder, closure_s: float, marked=MARKED, transient_m=None) -> None:
         self.pipes: dict[tuple, float] = {}
-        for count in range(len(_sites()) + 1):
-            for index, chosen in enumerate(itertools.combinations(_sites(), count)):
+        for count in range(len(_sites(marked)) + 1):
+            for index, chosen in enumerate(itertools.combinations(_sites(marked), count)):
                 path = _write(folder / f"set-{count}-{index}", closure_s, own=chosen,
-                              cost=None)
+                              cost=None, marked=marked, transient_m=transient_m)
                 outcome = optimise_design(load_study(path), mip_gap=1e-7)
                 if outcome.design is not None:
                     assert outcome.status.value == "optimal"
@@ -241,6 +244,20 @@ def test_bounds_for_any_tanks_are_never_above_any_fixed_set(tmp_path, enumerated
     bound, stages = lines_bound(study, sites, Settings("highs", 60.0, 1e-7),
                                 Clock(0.0, 1e12), optimise_design)
     assert len(stages) == 2 and 0.0 < bound <= sets.best * (1 + 1e-9)
+
+
+def test_relaxation_with_a_down_surge_limit_is_never_above_any_fixed_set(tmp_path):
+    # min_transient_pressure_m (contract section 10): pressure head less the surge of
+    # the pipe there >= the limit. The relaxation takes the energy of no tank (the
+    # highest) and the least surge any choice of tanks allows.
+    marked = {"main": (500.0, 2000.0), "b": (1000.0,)}
+    sets = Enumerated(tmp_path / "sets", SLOW_S, marked=marked, transient_m=-10.0)
+    assert sets.pipes  # some set has a design under the limit
+    study = load_study(_write(tmp_path / "study", SLOW_S, marked=marked, transient_m=-10.0))
+    relaxed = relaxed_bound(study, scheme_sites(study), Settings("highs", 60.0, 1e-7),
+                            Clock(0.0, 1e12))
+    assert not relaxed.diagnosis and relaxed.bound > 0.0
+    assert relaxed.bound <= min(sets.pipes.values()) * (1 + 1e-9)
 
 
 def test_slow_closure_bound_of_the_lines_apart_takes_the_least_length(tmp_path):
