@@ -113,11 +113,12 @@ def _sites(marked=MARKED) -> list[tuple[str, float]]:
 class Enumerated:
     """Every fixed set of sites designed with its tanks fixed: pipe cost by set."""
 
-    def __init__(self, folder, closure_s: float, marked=MARKED, transient_m=None) -> None:
+    def __init__(self, folder, closure_s: float, marked=MARKED, transient_m=None,
+                 own=()) -> None:
         self.pipes: dict[tuple, float] = {}
         for count in range(len(_sites(marked)) + 1):
             for index, chosen in enumerate(itertools.combinations(_sites(marked), count)):
-                path = _write(folder / f"set-{count}-{index}", closure_s, own=chosen,
+                path = _write(folder / f"set-{count}-{index}", closure_s, own=(*own, *chosen),
                               cost=None, marked=marked, transient_m=transient_m)
                 outcome = optimise_design(load_study(path), mip_gap=1e-7)
                 if outcome.design is not None:
@@ -244,6 +245,21 @@ def test_bounds_for_any_tanks_are_never_above_any_fixed_set(tmp_path, enumerated
     bound, stages = lines_bound(study, sites, Settings("highs", 60.0, 1e-7),
                                 Clock(0.0, 1e12), optimise_design)
     assert len(stages) == 2 and 0.0 < bound <= sets.best * (1 + 1e-9)
+
+
+def test_with_a_tank_of_the_study_and_a_slow_closure(tmp_path):
+    # The study's own tank at 1,500 m cuts the scheme first; above it the trunk's pipes
+    # keep L to the trunk's end (the part carries 1,500 m past the tank), so a new tank
+    # at 500 m gives L = 3,000 - 500 = 2,500 m there, as in the whole scheme.
+    own = (("main", 1500.0),)
+    marked = {"main": (500.0, 2500.0), "b": (1000.0,)}
+    sets = Enumerated(tmp_path / "sets", SLOW_S, marked=marked, own=own)
+    study = load_study(_write(tmp_path / "study", SLOW_S, own=own, marked=marked))
+    outcome = optimise_design(study, mip_gap=1e-7)
+    assert outcome.verified and outcome.status.value == "optimal"
+    assert outcome.total_cost == pytest.approx(sets.best, rel=1e-6)
+    assert outcome.lower_bound <= sets.best * (1 + 1e-9)
+    assert check_design(study, outcome.design).ok
 
 
 def test_relaxation_with_a_down_surge_limit_is_never_above_any_fixed_set(tmp_path):
