@@ -30,7 +30,6 @@ from test_tanks_design import _profile  # the same invented falling route
 
 from optimiser import load_design, load_study
 from optimiser.analysis import check_design
-from optimiser.io import InputError
 from optimiser.milp import optimise_design
 from optimiser.milp.cut_at_tanks import cut
 from optimiser.milp.joined import with_whole_lengths
@@ -196,7 +195,8 @@ def test_new_tanks_by_wave_speed_meet_the_down_surge_limit(make_study):
     assert (points["transient_pressure_m"] >= 1.0 - 1e-9).all()
 
 
-def test_new_tanks_by_wave_speed_refused_on_a_branched_scheme(make_study):
+def test_new_tanks_by_wave_speed_load_on_a_branched_scheme(make_study):
+    # Once refused; designed now (tests/test_scheme_surge_tanks.py checks the designs).
     study = {"surge": {"method": "joukowsky"},
              "break_pressure_tanks": {"cost": TANK_COST},
              "branch": [{"name": "east", "from": "main", "at_chainage_m": 1600.0,
@@ -205,8 +205,8 @@ def test_new_tanks_by_wave_speed_refused_on_a_branched_scheme(make_study):
         {**row, "wave_speed_m_s": WAVE_SPEED} for row in _catalogue()])
     (files.folder / "east.csv").write_text(csv_text([(0.0, 160.0), (500.0, 150.0)],
                                                   ("chainage_m", "ground_m")), encoding="utf-8")
-    with pytest.raises(InputError, match="branched scheme are not yet supported"):
-        load_study(files.study)
+    study = load_study(files.study)
+    assert study.tank_rules.cost == TANK_COST and study.surge.method.value == "joukowsky"
 
 
 # ------------------------------------------- slow closure, parts cut at a tank

@@ -41,12 +41,6 @@ def tank_rules(path: Path, spec: StudyFile, profile_path: Path,
     table = spec.break_pressure_tanks
     sites = TankSites(table.sites)
     marked: tuple[float, ...] = ()
-    branched = bool(spec.branch) or spec.network is not None
-    if table.cost is not None and spec.surge.method != "allowance" and branched:
-        problems.add(f"{path}: [break_pressure_tanks] cost: new tanks chosen by design in a "
-                     "branched scheme are not yet supported with [surge] method = "
-                     "\"joukowsky\" (on a single route they are); give the scheme's tanks "
-                     "as [[break_pressure_tank]], or use the allowance method")
     if sites is TankSites.MARKED:
         # In a scheme the branches' profiles may carry the marks instead (read by
         # :mod:`optimiser.io.scheme_tank_sites`, which wants one mark somewhere).
@@ -182,8 +176,8 @@ def load_tank_file(path: Path, study: Study) -> tuple[BreakPressureTank, ...]:
             continue
         tanks.append(BreakPressureTank(chainage, level, branch, row.cells.get("label", ""),
                                        new in _YES))
-    chainages = [t.chainage_m for t in tanks]
-    if len(set(chainages)) != len(chainages):
-        problems.add(f"{path}: two rows give a tank at the same chainage")
+    places = [(t.branch, round(t.chainage_m, 6)) for t in tanks]  # a tank is (line, chainage)
+    if len(set(places)) != len(places):
+        problems.add(f"{path}: two rows give a tank at the same chainage of the same line")
     problems.raise_if_any()
     return tuple(tanks)

@@ -13,7 +13,13 @@ the single route made of L with:
   falls along the path from the source, and a tank only lowers it);
 - the lowest static line L can start under: the least level of a site above its junction
   on its path, or the top water level (:func:`~.sites.start_levels_m`);
-- its own sites, the rules, the price of a tank and ``max_count``.
+- its own sites, the rules, the price of a tank and ``max_count``;
+- with surge by wave speed, the surge no larger than in any design: one scenario's
+  velocities (a piece's V in the scheme is the largest over every scenario), and for a
+  slow closure the least slow-closure length L any choice of tanks gives the line's
+  start (from the nearest site above its junction, else the source), with what the
+  study carries past the line's end; below a tank of the line's own, L is the scheme's
+  (contract section 10; :func:`~.wave_surge.upstream_length_m`).
 
 So the cheapest design of that route (with new tanks chosen by the route's own plan,
 :mod:`optimiser.milp.tank_search`, whose bound is valid) is at most L's cost in any
@@ -36,9 +42,10 @@ import numpy as np
 from optimiser.analysis.flows import line_flows_m3_s
 from optimiser.milp.outcome import DesignOutcome, SolverError, Stage
 from optimiser.milp.scheme_tanks.sites import Site, marked_on, start_levels_m
+from optimiser.milp.scheme_tanks.wave_surge import upstream_length_m
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, Settings
-from optimiser.model import Offtake, Outlet, Scenario, Source, Study
+from optimiser.model import TRUNK, Offtake, Outlet, Scenario, Source, Study
 from optimiser.model.lines import Line, children_of, study_lines
 from optimiser.model.status import Status
 
@@ -47,9 +54,11 @@ LINE_GAP = 1e-2
 enough and quicker."""
 
 
-def line_route(study: Study, line: Line, scenario: Scenario, static_start_m: float) -> Study:
+def line_route(study: Study, line: Line, scenario: Scenario, static_start_m: float,
+               upstream_m: float = 0.0) -> Study:
     """Line ``line`` of ``study`` as a single route in ``scenario`` alone (module
-    docstring)."""
+    docstring); ``upstream_m``: the pipe length put before its start for the
+    slow-closure length L."""
     offtakes = [dataclasses.replace(o, flow_m3_s=o.flow_m3_s * scenario.offtake_factor)
                 for o in line.offtakes]
     for child in children_of(study, line.name):
@@ -69,7 +78,15 @@ def line_route(study: Study, line: Line, scenario: Scenario, static_start_m: flo
         outlet=Outlet(line.required_head_m, line.exit_k), min_pressure_m=line.min_pressure_m,
         local_k_per_km=line.local_k_per_km, fittings=line.fittings,
         offtakes=tuple(sorted(offtakes, key=lambda o: o.chainage_m)), scenarios=(alone,),
-        branches=(), tanks=(), tank_rules=rules, pump=None, upstream_pipe_length_m=0.0)
+        branches=(), tanks=(), tank_rules=rules, pump=None, upstream_pipe_length_m=upstream_m,
+        pipe_length_beyond_m=_beyond(study, line))
+
+
+def _beyond(study: Study, line: Line) -> tuple[tuple[str, float], ...]:
+    """What ``study`` carries past the end of ``line`` (a part cut at a tank), as the
+    route's own (its trunk)."""
+    beyond = dict(study.pipe_length_beyond_m).get(line.name, 0.0)
+    return ((TRUNK, beyond),) if beyond > 0 else ()
 
 
 def lines_bound(study: Study, sites: list[Site], settings: Settings, clock: Clock,
@@ -89,7 +106,8 @@ def lines_bound(study: Study, sites: list[Site], settings: Settings, clock: Cloc
         if clock.left() < 1.0:
             break
         begun = time.perf_counter()
-        route = line_route(study, line, scenario, starts[line.name])
+        route = line_route(study, line, scenario, starts[line.name],
+                           upstream_length_m(study, sites, line))
         try:
             outcome = plain(route, solver_name=settings.solver_name,
                             mip_gap=max(settings.mip_gap, LINE_GAP),

@@ -4,8 +4,9 @@ Placed by rule (:func:`placed_by_head`): walking down every line from the source
 (parents first, each branch starting under the static line its junction sees), a tank
 goes at the last site above the first node where the static head would pass a given
 head (a class's allowable head less the surge allowance); one set per class of the
-catalogue, so the search starts from the sets that let each class be laid everywhere
-it can carry the flow. The moves (:func:`moves`): drop a tank, shift it to a
+catalogue (by wave speed, with a typical surge of the class, :func:`class_heads_m`), so
+the search starts from the sets that let each class be laid everywhere it can carry the
+flow. The moves (:func:`moves`): drop a tank, shift it to a
 neighbouring site of its line, add one where the static head is largest. These only
 propose sets; each is priced by designing the scheme with those tanks fixed.
 """
@@ -17,6 +18,12 @@ from collections.abc import Iterator
 import numpy as np
 
 from optimiser.milp.scheme_tanks.sites import Site
+from optimiser.milp.scheme_tanks.wave_surge import (
+    by_wave_speed,
+    fastest_m_s,
+    lengths_m,
+    margins_m,
+)
 from optimiser.model import Study
 from optimiser.model.lines import Line, study_lines
 
@@ -24,10 +31,21 @@ Choice = frozenset[Site]
 
 
 def class_heads_m(study: Study) -> list[float]:
-    """The static heads each class of the catalogue takes (allowable head less the
-    surge allowance), highest first."""
-    heads = study.catalogue.allowable_head_m - study.surge_allowance_m
-    return sorted({float(h) for h in heads if h > 0}, reverse=True)
+    """The static heads each class of the catalogue takes, highest first: its allowable
+    head less the surge allowance; by wave speed (contract section 10), the most any
+    option of the class takes with its surge at its velocity in the trunk's first
+    section (the most flow) and the slow-closure length of no tank (a rule of thumb
+    for placing tanks, never a bound)."""
+    catalogue = study.catalogue
+    if not by_wave_speed(study):
+        heads = catalogue.allowable_head_m - study.surge_allowance_m
+        return sorted({float(h) for h in heads if h > 0}, reverse=True)
+    trunk = study_lines(study)[0]
+    first = margins_m(study, fastest_m_s(study, trunk)[:1],
+                      lengths_m(study, (), trunk)[:1])[0]
+    allowable = catalogue.allowable_head_m
+    heads = [float(first[allowable == a].max()) for a in np.unique(allowable)]
+    return sorted({h for h in heads if h > 0}, reverse=True)
 
 
 def placed_by_head(study: Study, sites: list[Site], head_m: float) -> Choice:

@@ -10,6 +10,10 @@ The plan, top to bottom:
    many tanks, and more than ``max_count`` is ``infeasible``. The bound of the lines
    apart (:mod:`~.lines_bound`: each line a route with its own tanks, fed at the
    source's level under the lowest static line), which sees each tank take head away.
+   With surge by wave speed (contract section 10) each of the three takes the smallest
+   surge any choice of tanks allows (:mod:`~.wave_surge`: the slow-closure length from
+   the nearest site above, each section's own velocity), so each stays a relaxation;
+   a set of tanks priced is designed with its exact surge.
 2. The scheme without new tanks, designed as usual (the reports compare with it).
 3. If every set of at most ``max_count`` sites is few (at most ``ENUMERATE_MAX``
    sets): each set is priced (:mod:`~.pricing`: the scheme designed with those tanks
@@ -47,6 +51,7 @@ from optimiser.milp.scheme_tanks.placement import class_heads_m, moves, placed_b
 from optimiser.milp.scheme_tanks.pricing import Plain, Prices
 from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
 from optimiser.milp.scheme_tanks.sites import scheme_sites
+from optimiser.milp.scheme_tanks.wave_surge import by_wave_speed
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, Settings
 from optimiser.milp.solvers import relative_gap
@@ -84,8 +89,11 @@ def optimise_scheme_new_tanks(study: Study, settings: Settings, started: float,
     fewest = fewest_tanks(study, sites)
     prices = Prices(study, settings, clock, plain, sites, relaxed.bound, fewest)
     if fewest > prices.most:
+        surge_words = " (with each pipe's least surge by wave speed)" \
+            if by_wave_speed(study) else ""
         return _infeasible(settings, started, stages, relaxed.state.with_rules, [
-            f"the static head needs at least {fewest:g} new break-pressure tanks at the "
+            f"the static head{surge_words} needs at least {fewest:g} new break-pressure "
+            "tanks at the "
             f"allowed sites for every section to have a pressure class, and at most "
             f"{prices.most} may be added ([break_pressure_tanks] max_count, or the sites)"])
     no_tank = prices.price(frozenset(), NO_TANK_SHARE) if fewest < 1 else \
