@@ -26,8 +26,13 @@ heads and priced at its life-cycle cost (:func:`optimiser.milp.pumps.designs.con
 cost. The bounds are over the designs of the model, which judges each section's class
 at the energy at its start and a branch's junction loss with its first section's
 smallest pipe (conservative, as for a gravity scheme and a pumped route).
-With break-pressure tanks of the study's own or chosen by ``design``, a pumped scheme
-is refused (not modelled in this version).
+
+With break-pressure tanks of the study's own, :func:`optimiser.milp.optimise_design`
+cuts the scheme at them first (:mod:`optimiser.milp.cut_at_tanks`): the part above the
+first tanks, which the station fills (each a delivery point at its water level), is the
+pumped scheme designed here; the parts below are gravity schemes; the sum of the parts'
+bounds bounds the life-cycle cost. Tanks chosen by ``design`` are refused here (the
+station's part gets none).
 """
 
 from __future__ import annotations
@@ -120,13 +125,16 @@ def _why_infeasible(study: Study, rules: bool) -> list[str]:
 
 
 def _refuse_tanks(study: Study) -> None:
-    """Raise :class:`InputError` for a pumped scheme with break-pressure tanks."""
-    if not study.tanks and study.tank_rules.cost is None:
+    """Raise :class:`InputError` for a pumped scheme with new break-pressure tanks
+    (its own tanks are cut off before, :mod:`optimiser.milp.cut_at_tanks`)."""
+    if study.tanks:
+        raise ValueError("a pumped scheme with tanks of its own is designed in parts "
+                         "(optimiser.milp.cut_at_tanks), not here")
+    if study.tank_rules.cost is None:
         return
     where = study.path or "the study file"
     raise InputError(
-        f"{where}: [pump] with branches its head reaches and break-pressure tanks: "
-        "design of such a pumped scheme is not available in this version; check a design "
-        "of it with `optimiser check` (the least station head per scenario), or give the "
-        "tank the rising main fills as a [[break_pressure_tank]] on the trunk above every "
-        "junction")
+        f"{where}: [pump] with branches its head reaches and [break_pressure_tanks] cost "
+        "(new tanks chosen by design): design of such a pumped scheme is not available in "
+        "this version; give the tanks as [[break_pressure_tank]] of the study, or check a "
+        "design of it with `optimiser check`")
