@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.milp.extract import design_from_choice
-from optimiser.milp.pumps.designs import consider
+from optimiser.milp.pumps.designs import consider, with_stretch_raised
 from optimiser.milp.repair import covering_choice, design_mask
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.masks import widened, window_mask
@@ -75,15 +75,25 @@ def first_designs(state: SearchState, problem: TreeProblem, lp: PumpedModel) -> 
     if not state.with_rules or not lp.fractions:
         return
     design = _design_of(problem, lp)
-    consider(state, repaired_lines(problem, design), "LP design repaired to the rules",
-             must_pass=False)
+    repaired = repaired_lines(problem, design)
+    _with_classes_raised(state, repaired, "LP design repaired to the rules")
     covering = []
     for line, data, fractions in zip(problem.lines, problem.datas, lp.fractions, strict=True):
         choice = covering_choice(data, fractions)
         own = design_from_choice(data, choice) if choice is not None \
-            else line_design(repaired_lines(problem, design), line.name)
+            else line_design(repaired, line.name)
         covering.extend(on_line(own, line.name).pieces)
-    consider(state, Design(tuple(covering)), "covering design, line by line", must_pass=False)
+    _with_classes_raised(state, Design(tuple(covering)), "covering design, line by line")
+
+
+def _with_classes_raised(state: SearchState, design: Design, source: str) -> None:
+    """Judge ``design``; if it fails, with the stretches whose class the pressure breaks
+    laid in the next class (:func:`optimiser.milp.pumps.designs.with_stretch_raised`)."""
+    if consider(state, design, source, must_pass=False).ok:
+        return
+    raised = with_stretch_raised(state.study, design)
+    if raised is not None:
+        consider(state, raised, f"{source}, classes raised", must_pass=False)
 
 
 def _design_of(problem: TreeProblem, model: PumpedModel) -> Design:

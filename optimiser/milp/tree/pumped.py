@@ -47,13 +47,14 @@ from optimiser.milp.pump_search import static_study
 from optimiser.milp.search.finish import finish, no_design_error
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import Clock, SearchState, Settings
-from optimiser.milp.tree.problem import prepare_tree
+from optimiser.milp.tree.problem import TreeProblem, prepare_tree
 from optimiser.milp.tree.pump_stages import (
     first_designs,
     near_design,
     near_lp,
     run_pumped_model,
 )
+from optimiser.milp.tree.pumped_reaches import TreeRefinement, run_pumped_reach_rounds
 from optimiser.model import Study
 from optimiser.model.status import Status
 
@@ -63,6 +64,11 @@ LP_SHARE = 0.3
 """Share of the time left the LP may take."""
 NEARBY_SHARE = 0.4
 """Share of the time left the model near the LP's options may take (designs only)."""
+REACH_SHARE = 0.6
+"""Share of the time left each round of the reach model may take."""
+REACH_SECTIONS = 100
+"""Trees of more sections than this (all lines) get the reach model before the full one."""
+POLISH_ROUNDS = 4
 
 
 def is_pumped_scheme(study: Study) -> bool:
@@ -95,6 +101,14 @@ def optimise_pumped_scheme(study: Study, settings: Settings, started: float
             near = [a | b for a, b in zip(near, near_design(problem, state.best.design),
                                           strict=True)]
         run_pumped_model(state, problem, StageKind.LP_NEARBY, NEARBY_SHARE, allowed=near)
+    if _reach_rounds_pay(state, problem):
+        seen = None if state.best is None else state.best.check
+        last = run_pumped_reach_rounds(state, problem, TreeRefinement.start(problem, seen),
+                                       REACH_SHARE)
+        if last.report is not None and last.report.status == Status.INFEASIBLE:
+            return state.infeasible(_why_infeasible(study, rules=True))
+        if last.report is not None and last.report.status != Status.OPTIMAL:
+            _polish(state, problem)  # the full model would not do better in the time
     if not state.proven() and not state.clock.nearly_out():
         full = run_pumped_model(state, problem, StageKind.FULL_MODEL, 0.9)
         if full.report.status == Status.INFEASIBLE:
@@ -104,6 +118,26 @@ def optimise_pumped_scheme(study: Study, settings: Settings, started: float
     if state.best is None:
         raise no_design_error(state, "design of the pumped scheme")
     return finish(state, capital_from_check=True)
+
+
+def _reach_rounds_pay(state: SearchState, problem: TreeProblem) -> bool:
+    """The reach model runs on trees of more than ``REACH_SECTIONS`` sections with the
+    rules, unless already proven: smaller ones are solved whole at once."""
+    return (state.with_rules and not state.proven() and not state.clock.nearly_out()
+            and sum(data.n_sections for data in problem.datas) > REACH_SECTIONS)
+
+
+def _polish(state: SearchState, problem: TreeProblem) -> None:
+    """The fine model around the best design, while it finds a cheaper one (designs
+    only; the bound stays the reach model's)."""
+    for _ in range(POLISH_ROUNDS):
+        if state.proven() or state.clock.nearly_out() or state.best is None:
+            return
+        before = state.best.cost
+        run_pumped_model(state, problem, StageKind.POLISH, 0.5,
+                         allowed=near_design(problem, state.best.design))
+        if state.best.cost >= before - 1e-9 * abs(before):
+            return
 
 
 def _why_infeasible(study: Study, rules: bool) -> list[str]:
