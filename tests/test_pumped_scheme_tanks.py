@@ -250,3 +250,93 @@ def test_new_tanks_on_a_pumped_scheme_are_still_refused(tmp_path, tank, said):
     assert run.exit_code == 2, text
     assert said in text and "study.toml" in text and "Traceback" not in text
     assert not folder.exists()
+
+
+# ------------------------------------------------------- the reach model of a pumped tree
+
+def _write_rolling(folder, seed: int):
+    """An invented pumped tree on rolling ground (seeded): a 1.5 km trunk and three
+    branches surveyed every 100 m, two classes per size (the cheaper cannot take the
+    pumping pressure near the station), rules on; no tank."""
+    import numpy as np
+
+    rng = np.random.default_rng(seed)
+    folder.mkdir(parents=True, exist_ok=True)
+    level = ("chainage_m", "ground_m")
+
+    def ground(n: int, start: float) -> list[tuple[float, float]]:
+        steps = np.concatenate([[0.0], rng.normal(0.0, 4.0, n)])
+        return [(100.0 * i, float(start + h)) for i, h in enumerate(np.cumsum(steps))]
+
+    trunk = ground(15, 100.0)
+    (folder / "profile.csv").write_text(csv_text(trunk, level), encoding="utf-8")
+    branches = [("hill", 500.0, 6), ("east", 900.0, 5), ("low", 1200.0, 4)]
+    for name, at, n in branches:
+        start = float(np.interp(at, [c for c, _ in trunk], [g for _, g in trunk]))
+        (folder / f"{name}.csv").write_text(csv_text(ground(n, start), level),
+                                            encoding="utf-8")
+    columns = ("material", "dn_mm", "internal_diameter_mm", "pressure_class",
+               "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m", "note")
+    rows = [("PVC", dn, d * 1000, name, allowable, 0.01, C, cost + extra, "invented")
+            for dn, d, cost in SIZES
+            for name, allowable, extra in (("PN6", 45.0, 0.0), ("PN10", 250.0, 8.0))]
+    (folder / "catalogue.csv").write_text(csv_text(rows, columns), encoding="utf-8")
+    flows = {"hill": "5 L/s", "east": "10 L/s", "low": "4 L/s"}
+    tops = {"main": trunk[-1][1] + 25.0}
+    study = {
+        "title": "Invented pumped tree on rolling ground", "currency": "USD",
+        "water": {"temperature_c": 15.0},
+        "source": {"level_m": 90.0, "entrance_k": 0.0},
+        "outlet": {"required_head_m": tops["main"], "exit_k": 0.0},
+        "route": {"profile": "profile.csv", "length": "chainage", "cover_m": 1.0,
+                  "min_pressure_m": 5.0, "local_k_per_km": 0.0},
+        "scenario": SCENARIOS,
+        "catalogue": {"file": "catalogue.csv", "friction": "hazen-williams"},
+        "pump": STATION,
+        "rules": {"velocity_max_m_s": 10.0, "min_piece_length_m": 150.0, "max_changes": 3},
+        "costs": {"change_cost": 300.0},
+        "solver": {"mip_gap": 1e-7, "time_limit_s": 120.0},
+        "branch": [{"name": name, "at_chainage_m": at, "profile": f"{name}.csv",
+                    "flow": flows[name], "required_head_m": 130.0 + 5.0 * i,
+                    "junction_k": 0.0, "exit_k": 0.0}
+                   for i, (name, at, _) in enumerate(branches)],
+    }
+    (folder / "study.toml").write_text(toml_text(study), encoding="utf-8")
+    return folder / "study.toml"
+
+
+@pytest.mark.parametrize("seed", [2, 3])
+def test_reach_model_of_a_pumped_tree_bounds_the_full_model(tmp_path, monkeypatch, seed):
+    # The reach model is a relaxation of the full model of the fine sections (merged
+    # reaches in free order, only some pressure points, classes under pumping at a
+    # reach's end energy and its highest lowest pipe level): every bound it reports is at
+    # most the full model's proven optimum, and its designs pass the check (the
+    # relaxation argument of docs/method.md; common practice, no source).
+    from optimiser.milp.search.kinds import StageKind
+    from optimiser.milp.tree import pumped
+
+    study = load_study(_write_rolling(tmp_path, seed))
+    with monkeypatch.context() as patched:  # the full model of the fine sections alone
+        patched.setattr(pumped, "REACH_SECTIONS", 10 ** 9)
+        whole = optimise_design(study)
+    assert whole.status.value == "optimal" and whole.gap <= 1e-6
+    assert not any(s.kind == StageKind.REACH_MODEL for s in whole.stages)
+    optimum = whole.check.life_cycle_cost
+    # The full model's own optimum (its rows keep a 1e-5 m margin, so its value of a
+    # design can sit a few cents above the check's).
+    full = [s.objective for s in whole.stages if s.kind == StageKind.FULL_MODEL][-1]
+    monkeypatch.setattr(pumped, "NEARBY_SHARE", 0.0)  # the reach model finds the designs
+    outcome = optimise_design(study)
+    rounds = [s for s in outcome.stages if s.kind == StageKind.REACH_MODEL]
+    assert rounds, [s.name for s in outcome.stages]
+    assert any("reaches" in s.name and "pumped tree" in s.name for s in rounds)
+    for stage in rounds:
+        if stage.bound is not None:
+            assert stage.bound <= full * (1 + 1e-9), stage.name
+    result = check_design(study, outcome.design)
+    assert result.ok, [v.message for v in result.violations]
+    # Never dearer than the full model's optimum. It may be cheaper: a reach's pieces
+    # may change class inside a section, which the fine model cannot (it judges each
+    # section's class at its start, conservative; docs/method.md).
+    assert result.life_cycle_cost <= optimum * (1 + 1e-6)
+    assert outcome.lower_bound <= result.life_cycle_cost * (1 + 1e-9)

@@ -31,6 +31,10 @@ from optimiser.model import Design
 __all__ = ["PumpedModel", "first_designs", "near_design", "near_lp", "run_pumped_model"]
 
 
+NEARBY_GAP = 1e-4
+"""Relative gap a model restricted to some options is solved to (designs only)."""
+
+
 @dataclass
 class PumpedModel:
     """A solved model of the pumped tree: its form, report and fine fractions."""
@@ -55,7 +59,10 @@ def run_pumped_model(state: SearchState, problem: TreeProblem, kind: StageKind,
     kept = "" if allowed is None else f", {_pairs(problem, allowed)} pairs kept"
     name = (f"{kind.label}, pumped tree: {len(problem.lines)} lines, "
             f"{sum(d.n_sections for d in problem.datas)} sections{kept}")
-    report = state.run_solver(kind, name, form, None, share, time.perf_counter() - begun)
+    # A restricted model gives designs only: no need to prove it finer than 1e-4.
+    gap = None if allowed is None else max(state.settings.mip_gap, NEARBY_GAP)
+    report = state.run_solver(kind, name, form, None, share, time.perf_counter() - begun,
+                              stage_gap=gap)
     fractions: list[np.ndarray] = []
     if report.has_solution:
         consider(state, design_from_tree(problem, form), kind.label, must_pass=False)

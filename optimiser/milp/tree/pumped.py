@@ -66,8 +66,10 @@ NEARBY_SHARE = 0.4
 """Share of the time left the model near the LP's options may take (designs only)."""
 REACH_SHARE = 0.6
 """Share of the time left each round of the reach model may take."""
-REACH_SECTIONS = 100
-"""Trees of more sections than this (all lines) get the reach model before the full one."""
+REACH_SECTIONS = 0
+"""Trees of more sections than this (all lines) get the reach model before the full one:
+every tree, as measured (an invented 60-section tree: the reach model proved the optimum
+in 0.2 s, the full model took 25 s)."""
 POLISH_ROUNDS = 4
 
 
