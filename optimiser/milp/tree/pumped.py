@@ -16,9 +16,15 @@ Alperovits & Shamir (1977). The plan:
 3. with the rules, first designs: the LP's design repaired to them line by line, and
    every line's covering design (:mod:`optimiser.milp.tree.pump_stages`);
 4. the model with the rules restricted to the options near the LP's and the best
-   design's (designs only);
-5. unless proven, the full model of the tree with the rules: its bound raises the lower
-   bound, its design is judged by the check.
+   design's (designs only, solved to 1e-4);
+5. with the rules, rounds of the reach model (:mod:`optimiser.milp.tree.pumped_reaches`:
+   merged reaches, the pressure points designs came close to, classes under pumping
+   relaxed on merged reaches; a relaxation, its bound counts), starting from the points
+   the best design came close to; if a round stops on its time limit, the model of the
+   fine sections around the best design while it improves (designs only), and no full
+   model (as large and as hard, with less time);
+6. else, unless proven, the full model of the tree with the rules: its bound raises the
+   lower bound, its design is judged by the check.
 
 Every design is judged by :func:`optimiser.analysis.check_design` at its least station
 heads and priced at its life-cycle cost (:func:`optimiser.milp.pumps.designs.consider`);
@@ -103,15 +109,17 @@ def optimise_pumped_scheme(study: Study, settings: Settings, started: float
             near = [a | b for a, b in zip(near, near_design(problem, state.best.design),
                                           strict=True)]
         run_pumped_model(state, problem, StageKind.LP_NEARBY, NEARBY_SHARE, allowed=near)
+    stopped = False  # the reach model stopped on its time limit
     if _reach_rounds_pay(state, problem):
         seen = None if state.best is None else state.best.check
         last = run_pumped_reach_rounds(state, problem, TreeRefinement.start(problem, seen),
                                        REACH_SHARE)
         if last.report is not None and last.report.status == Status.INFEASIBLE:
             return state.infeasible(_why_infeasible(study, rules=True))
-        if last.report is not None and last.report.status != Status.OPTIMAL:
-            _polish(state, problem)  # the full model would not do better in the time
-    if not state.proven() and not state.clock.nearly_out():
+        stopped = last.report is not None and last.report.status != Status.OPTIMAL
+        if stopped:  # the full model, larger and as hard, would not do better in the time
+            _polish(state, problem)
+    if not stopped and not state.proven() and not state.clock.nearly_out():
         full = run_pumped_model(state, problem, StageKind.FULL_MODEL, 0.9)
         if full.report.status == Status.INFEASIBLE:
             return state.infeasible(_why_infeasible(study, rules=True))
