@@ -255,32 +255,36 @@ def test_cli_check_and_design_write_pump(tmp_path):
     assert data["life_cycle_cost"] >= data["lower_bound"] - 1e-9 * data["life_cycle_cost"]
 
 
-def test_design_of_a_pumped_scheme_with_tanks_is_refused_plainly(tmp_path):
+def test_design_of_a_pumped_scheme_with_a_tank_passes_the_check_of_the_whole(tmp_path):
+    # Designed in parts at the tank (tests/test_pumped_scheme_tanks.py compares it with
+    # an independent LP); here: exit 0 and the joined design passes the whole check.
     study_path, _ = _write(tmp_path, main_required=110.0,
                            tank={"chainage_m": 1500.0, "water_level_m": 130.0})
-    folder = tmp_path / "out"
-    run = CliRunner().invoke(app, ["design", str(study_path), "--out", str(folder)])
-    text = " ".join(run.output.split())
-    assert run.exit_code == 2 and "Traceback" not in text
-    assert "design of such a pumped scheme is not available" in text
-    assert "study.toml" in text and not folder.exists()
+    out = tmp_path / "design.json"
+    run = CliRunner().invoke(app, ["design", str(study_path), "--json", str(out)])
+    assert run.exit_code == 0, run.output
+    data = json.loads(out.read_text(encoding="utf-8"))
+    assert data["verified"] and data["ok"] and data["life_cycle_cost"] > 0
 
 
 @pytest.mark.parametrize("command", [
+    ["design", "{study}", "--out", "{out}"],
     ["compare", "{study}", "--out", "{out}"],
     ["tradeoff", "{study}", "--vary", "flow", "--from", "5 L/s", "--to", "6 L/s",
      "--steps", "2", "--out", "{out}"]])
-def test_the_same_refusal_from_compare_and_tradeoff_exits_2(tmp_path, command):
+def test_a_refusal_inside_the_run_exits_2_from_every_command(tmp_path, command):
     # A refusal raised inside the optimiser reaches every command as bad input (exit 2,
-    # the file named, no traceback, nothing written), not only `design`.
+    # the file named, no traceback, nothing written), not only `design`. Here the parts
+    # cut at the tank each want another pipe and max_changes = 0 leaves no change at it.
     study_path, _ = _write(tmp_path, main_required=110.0,
-                           tank={"chainage_m": 1500.0, "water_level_m": 130.0})
+                           tank={"chainage_m": 1500.0, "water_level_m": 130.0},
+                           extra={"rules": {"max_changes": 0}})
     folder = tmp_path / "out"
     args = [a.format(study=study_path, out=folder) for a in command]
     run = CliRunner().invoke(app, args)
     text = " ".join(run.output.split())
     assert run.exit_code == 2, text
-    assert "design of such a pumped scheme is not available" in text
+    assert "together meets max_changes = 0" in text and "study.toml" in text
     assert "Traceback" not in text and not folder.exists()
 
 

@@ -88,7 +88,7 @@ def optimise_design(study: Study, *, solver_name: str | None = None,
     time_limit_s = float(study.solver.time_limit_s if time_limit_s is None else time_limit_s)
     settings = Settings(solver_name, time_limit_s,
                         float(study.solver.mip_gap if mip_gap is None else mip_gap), msg)
-    if is_pumped_scheme(study):  # a pump whose head reaches branches (milp/tree/pumped.py)
+    if is_pumped_scheme(study) and not study.tanks:  # the head reaches branches (tree/pumped.py)
         return optimise_pumped_scheme(study, settings, started)
     if study.is_scheme and study.tanks:  # cut at a tank: the parts do not see each other
         return optimise_scheme_with_tanks(study, settings, started, optimise_design)

@@ -36,6 +36,7 @@ from optimiser.milp.columns import add_section_columns
 from optimiser.milp.data import ProblemData
 from optimiser.milp.matrix import Affine, LinearModel
 from optimiser.milp.pressure_rows import add_pressure_rows
+from optimiser.milp.pumps.class_rows import ReachLevels
 from optimiser.milp.rule_rows import add_rule_rows
 from optimiser.milp.tree.pump_rows import add_line_class_rows, add_station_columns
 from optimiser.model import Study
@@ -100,13 +101,15 @@ def junction_nodes(lines: list[Line], datas: list[ProblemData], index: int
 
 def build_tree(lines: list[Line], datas: list[ProblemData], *,
                allowed: list[np.ndarray | None] | None = None, with_rules: bool = True,
-               relaxed: bool = False, pumped: Study | None = None) -> TreeFormulation:
+               relaxed: bool = False, pumped: Study | None = None,
+               pump_levels: list[ReachLevels] | None = None) -> TreeFormulation:
     """Build the tree's model (lines parents before children, as
     :func:`optimiser.model.lines.study_lines` gives them). ``allowed[i]`` restricts line
     i's options (None: all admissible); ``with_rules`` and ``relaxed`` as
     :func:`optimiser.milp.formulation.build`; ``pumped``: the whole pumped scheme, whose
     station heads and classes under pumping the model then takes
-    (:mod:`optimiser.milp.tree.pump_rows`, fine sections only)."""
+    (:mod:`optimiser.milp.tree.pump_rows`; on merged reaches ``pump_levels`` gives each
+    line's reach levels for the relaxed class rows)."""
     model = LinearModel()
     root = TreeFormulation(model, datas[0], datas[0].admissible, with_rules, relaxed)
     starts: dict[str, list[Affine]] = {}
@@ -134,7 +137,8 @@ def build_tree(lines: list[Line], datas: list[ProblemData], *,
         form.n_binaries = 0 if relaxed else len(form.y)
         if pumped is not None:
             top = add_line_class_rows(form, None if line.is_trunk else starts[line.name],
-                                      tops.get(line.name))
+                                      tops.get(line.name),
+                                      None if pump_levels is None else pump_levels[index])
             tops.update((child, top[:, node]) for child, node in children)
         root.n_binaries += form.n_binaries
         root.pressure_rows.extend(form.pressure_rows)

@@ -18,7 +18,10 @@ on a branch the energy starts at its junction's energy before the junction loss 
 least the energy anywhere below it, so conservative). The staircase needs the most
 energy each section's start can have: the station heads at their upper bounds less the
 least friction down the path from the source (:func:`top_energy_m`).
-Only for models of the fine sections (a merged reach would need the relaxed rows).
+On a model of merged reaches (:mod:`optimiser.milp.tree.pumped_reaches`) the rows of a
+reach of several sections are written relaxed, as on a pumped route
+(:mod:`optimiser.milp.pumps.class_rows`): the energy at the reach's end and the highest
+of its sections' lowest pipe levels, so every design of the fine model meets them.
 """
 
 from __future__ import annotations
@@ -28,7 +31,12 @@ import numpy as np
 from optimiser.milp.built_model import MARGIN_M, Formulation
 from optimiser.milp.matrix import Affine
 from optimiser.milp.pump_columns import head_bounds_m, pump_costs, working_limits_m
-from optimiser.milp.pumps.class_rows import add_class_rows, fine_levels, section_class_rows
+from optimiser.milp.pumps.class_rows import (
+    ReachLevels,
+    add_class_rows,
+    fine_levels,
+    section_class_rows,
+)
 from optimiser.model import Study
 
 __all__ = ["add_line_class_rows", "add_station_columns", "top_energy_m"]
@@ -68,18 +76,22 @@ def top_energy_m(form: Formulation, start_top_m: np.ndarray | None) -> np.ndarra
 
 
 def add_line_class_rows(form: Formulation, start_m: list[Affine] | None,
-                        start_top_m: np.ndarray | None) -> np.ndarray:
+                        start_top_m: np.ndarray | None,
+                        levels: ReachLevels | None = None) -> np.ndarray:
     """The class rows under pumping of one line of the tree (``start_m``: a branch's
     junction energy per scenario, None for the trunk; ``start_top_m`` its most, see
-    :func:`top_energy_m`). Returns the line's most energy per node, for its branches."""
+    :func:`top_energy_m`; ``levels``: the rows of each merged reach,
+    :func:`optimiser.milp.pumps.class_rows.reach_levels`, None on the fine sections).
+    Returns the line's most energy per node, for its branches."""
     data = form.data
-    if data.free_order is not None:
-        raise ValueError("the classes under pumping of a tree are written on fine sections")
+    if levels is None:
+        if data.free_order is not None:
+            raise ValueError("a tree model of merged reaches needs the levels of its reaches")
+        levels = fine_levels(data)
     tops = top_energy_m(form, start_top_m)
     if start_m is None:
-        add_class_rows(form, fine_levels(data))
+        add_class_rows(form, levels)
         return tops
-    levels = fine_levels(data)
     limits = working_limits_m(form)
     top = tops[:, :-1].max(axis=0)
     need = [s for s in range(data.n_sections)
@@ -89,13 +101,18 @@ def add_line_class_rows(form: Formulation, start_m: list[Affine] | None,
     before = len(form.pump_indicators)
     energy = [Affine(list(e.terms), e.constant) for e in start_m]
     for s in range(max(need) + 1):
-        if s in need:
-            section_class_rows(form, s, energy, limits, float(levels.level_m[s]),
-                               float(top[s]))
-        energy = [_after(form, k, s, energy[k]) for k in range(data.n_scenarios)]
+        after = _all_after(form, s, energy) if levels.at_end[s] else None
+        if s in need:  # a merged reach: the energy at its end (relaxed)
+            section_class_rows(form, s, energy if after is None else after, limits,
+                               float(levels.level_m[s]), float(top[s]))
+        energy = _all_after(form, s, energy) if after is None else after
     if not form.relaxed:
         form.n_binaries += len(form.pump_indicators) - before
     return tops
+
+
+def _all_after(form: Formulation, s: int, energy: list[Affine]) -> list[Affine]:
+    return [_after(form, k, s, energy[k]) for k in range(form.data.n_scenarios)]
 
 
 def _after(form: Formulation, k: int, s: int, energy: Affine) -> Affine:

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from optimiser.milp.extract import design_from_choice
-from optimiser.milp.pumps.designs import consider
+from optimiser.milp.pumps.designs import consider, with_stretch_raised
 from optimiser.milp.repair import covering_choice, design_mask
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.masks import widened, window_mask
@@ -29,6 +29,10 @@ from optimiser.milp.tree.problem import TreeProblem, design_from_tree
 from optimiser.model import Design
 
 __all__ = ["PumpedModel", "first_designs", "near_design", "near_lp", "run_pumped_model"]
+
+
+NEARBY_GAP = 1e-4
+"""Relative gap a model restricted to some options is solved to (designs only)."""
 
 
 @dataclass
@@ -55,7 +59,10 @@ def run_pumped_model(state: SearchState, problem: TreeProblem, kind: StageKind,
     kept = "" if allowed is None else f", {_pairs(problem, allowed)} pairs kept"
     name = (f"{kind.label}, pumped tree: {len(problem.lines)} lines, "
             f"{sum(d.n_sections for d in problem.datas)} sections{kept}")
-    report = state.run_solver(kind, name, form, None, share, time.perf_counter() - begun)
+    # A restricted model gives designs only: no need to prove it finer than 1e-4.
+    gap = None if allowed is None else max(state.settings.mip_gap, NEARBY_GAP)
+    report = state.run_solver(kind, name, form, None, share, time.perf_counter() - begun,
+                              stage_gap=gap)
     fractions: list[np.ndarray] = []
     if report.has_solution:
         consider(state, design_from_tree(problem, form), kind.label, must_pass=False)
@@ -75,15 +82,25 @@ def first_designs(state: SearchState, problem: TreeProblem, lp: PumpedModel) -> 
     if not state.with_rules or not lp.fractions:
         return
     design = _design_of(problem, lp)
-    consider(state, repaired_lines(problem, design), "LP design repaired to the rules",
-             must_pass=False)
+    repaired = repaired_lines(problem, design)
+    _with_classes_raised(state, repaired, "LP design repaired to the rules")
     covering = []
     for line, data, fractions in zip(problem.lines, problem.datas, lp.fractions, strict=True):
         choice = covering_choice(data, fractions)
         own = design_from_choice(data, choice) if choice is not None \
-            else line_design(repaired_lines(problem, design), line.name)
+            else line_design(repaired, line.name)
         covering.extend(on_line(own, line.name).pieces)
-    consider(state, Design(tuple(covering)), "covering design, line by line", must_pass=False)
+    _with_classes_raised(state, Design(tuple(covering)), "covering design, line by line")
+
+
+def _with_classes_raised(state: SearchState, design: Design, source: str) -> None:
+    """Judge ``design``; if it fails, with the stretches whose class the pressure breaks
+    laid in the next class (:func:`optimiser.milp.pumps.designs.with_stretch_raised`)."""
+    if consider(state, design, source, must_pass=False).ok:
+        return
+    raised = with_stretch_raised(state.study, design)
+    if raised is not None:
+        consider(state, raised, f"{source}, classes raised", must_pass=False)
 
 
 def _design_of(problem: TreeProblem, model: PumpedModel) -> Design:
