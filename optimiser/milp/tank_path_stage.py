@@ -77,7 +77,7 @@ def run_tank_paths(state: SearchState, plain: Callable[..., DesignOutcome]
             break
         fresh = [reach for reach in itertools.pairwise(path.nodes) if reach not in priced]
         for first, last in fresh:
-            if state.clock.nearly_out():
+            if state.clock.out():
                 break  # the reaches not priced yet stay at their bounds
             priced.add((first, last))
             found = reach_profile(relax, first, last)
@@ -88,7 +88,7 @@ def run_tank_paths(state: SearchState, plain: Callable[..., DesignOutcome]
             if not fresh:
                 break  # the path repeats: nothing left to price or design
             continue
-        if state.clock.nearly_out():
+        if state.clock.out():
             break
         designed.add(sites)
         exact.update(_design(state, list(sites), plain))

@@ -155,7 +155,7 @@ def _greedy_reaches(run: TankRun, plain: Callable[..., DesignOutcome],
     begun = time.perf_counter()
     by_rule = sites is None
     kind = StageKind.TANK_REACHES if by_rule else StageKind.TANK_MODEL_REACHES
-    if state.clock.nearly_out():
+    if state.clock.out():
         _skipped(state, kind)
         return
     if sites is None:

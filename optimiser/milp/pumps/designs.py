@@ -110,12 +110,12 @@ def uniform_designs(state: SearchState) -> None:
         key = (option.material, option.dn_mm)
         if key not in weakest or option.allowable_head_m < weakest[key].allowable_head_m:
             weakest[key] = option
-        if state.clock.nearly_out():
+        if state.clock.out():
             return
         consider(state, Design((Piece(0.0, end, option),)), "uniform design",
                  must_pass=False)
     for option in weakest.values():
-        if state.clock.nearly_out():
+        if state.clock.out():
             return
         raised = with_stretch_raised(study, Design((Piece(0.0, end, option),)))
         if raised is not None:

@@ -170,7 +170,7 @@ def _offer(state: SearchState, data: ProblemData, chain: list[tuple[int, int]]) 
     one proves the bound; True then. Each takes a check or several: the clock is asked
     before each."""
     for design in chain_designs(data, chain):
-        if state.clock.nearly_out():
+        if state.clock.out():
             return False
         result = consider(state, design, NAME, must_pass=False)
         if not result.ok:

@@ -69,6 +69,11 @@ class Clock:
         """Less than half a second left: start nothing new."""
         return time.perf_counter() > self.deadline - 0.5
 
+    def out(self) -> bool:
+        """The deadline has passed: a loop of short steps (checks, small solves) stops
+        here, each step being bounded by its own limit."""
+        return time.perf_counter() >= self.deadline
+
     def limit(self, share: float = 1.0, least_s: float = LEAST_STEP_S) -> float:
         """Seconds a step starting now may take: ``share`` of the time left, at least
         ``least_s`` when that much is left, never more than is left (0 once past the
