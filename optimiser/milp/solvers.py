@@ -37,6 +37,8 @@ from optimiser.milp.formulation import Formulation, WarmStart
 from optimiser.model.status import Status
 
 SOLVERS = ("highs", "cbc")
+LEAST_LIMIT_S = 0.01
+"""The least time limit passed to a solver [s] (HiGHS and CBC want a positive one)."""
 
 
 @dataclass(frozen=True)
@@ -127,7 +129,9 @@ def solve(form: Formulation, solver_name: str, *, time_limit_s: float, mip_gap: 
     """Solve ``form``; the column values land in ``form.values``."""
     if solver_name not in SOLVERS:
         raise ValueError(f"unknown solver {solver_name!r}; use one of {', '.join(SOLVERS)}")
-    time_limit_s = max(float(time_limit_s), 0.5)
+    # The caller's limit stands (it is the time its run has left); only a limit the
+    # solvers would refuse is raised, to a moment.
+    time_limit_s = max(float(time_limit_s), LEAST_LIMIT_S)
     started = time.perf_counter()
     form.values = None
     form.row_duals = None

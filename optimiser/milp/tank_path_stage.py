@@ -77,6 +77,8 @@ def run_tank_paths(state: SearchState, plain: Callable[..., DesignOutcome]
             break
         fresh = [reach for reach in itertools.pairwise(path.nodes) if reach not in priced]
         for first, last in fresh:
+            if state.clock.out():
+                break  # the reaches not priced yet stay at their bounds
             priced.add((first, last))
             found = reach_profile(relax, first, last)
             if found is not None:
@@ -86,6 +88,8 @@ def run_tank_paths(state: SearchState, plain: Callable[..., DesignOutcome]
             if not fresh:
                 break  # the path repeats: nothing left to price or design
             continue
+        if state.clock.out():
+            break
         designed.add(sites)
         exact.update(_design(state, list(sites), plain))
     _record(state, begun, path, rounds, f"{len(priced)} reaches priced, "
@@ -113,7 +117,7 @@ def _design(state: SearchState, sites: list[int], plain: Callable[..., DesignOut
     rules = state.study.rules
     reach_bounds: dict[tuple[int, int], float] = {}
     for share in (False, True) if rules.max_changes is not None else (False,):
-        design = design_by_reaches(state.data, sites, REACH_TIME_SHARE * state.clock.left(), plain,
+        design = design_by_reaches(state.data, sites, state.clock.limit(REACH_TIME_SHARE), plain,
                                    settings.solver_name,
                                    REACH_GAP_SHARE * settings.mip_gap, share,
                                    None if share else reach_bounds)

@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import dataclasses
 import itertools
+import time
 from collections.abc import Callable
 
 import numpy as np
@@ -36,6 +37,9 @@ from optimiser.model import (
     Study,
     TankRules,
 )
+
+LEAST_REACH_S = 0.2
+"""A reach is not started with less than this left of the time given [s]."""
 
 
 def greedy_sites(data: ProblemData) -> list[int] | None:
@@ -134,15 +138,21 @@ def design_by_reaches(data: ProblemData, sites: list[int], time_limit_s: float,
     ends = sorted({0, *sites, *np.flatnonzero(tanks.fixed).tolist(), route.n_sections})
     budget = study.rules.max_changes if share_changes else None
     pieces: list[Piece] = []
+    deadline = time.perf_counter() + time_limit_s
     for first, last in itertools.pairwise(ends):
         share = (route.chainage_m[last] - route.chainage_m[first]) / route.total_chainage_m
         changes = None if budget is None else int((budget - len(ends) + 2) * share)
         if changes is not None and changes < 0:
             return None
+        # each reach its share by length, at least a second while that much is left,
+        # never past the time given: a reach left without time ends the design here
+        left = deadline - time.perf_counter()
+        if left <= LEAST_REACH_S:
+            return None
         try:
             outcome = plain(reach_study(with_tanks, first, last, changes),
                             solver_name=solver_name, mip_gap=mip_gap,
-                            time_limit_s=max(time_limit_s * share, 1.0))
+                            time_limit_s=min(max(time_limit_s * share, 1.0), left))
         except SolverError:  # no design of this reach within its time
             return None
         if bounds is not None and changes is None and outcome.lower_bound is not None:

@@ -111,6 +111,7 @@ def _tank_lp(run: TankRun) -> bool:
     state = run.state
     begun = time.perf_counter()
     relaxed = build(state.data, with_rules=False, relaxed=True)
+    state.note_build_rate(False, time.perf_counter() - begun, int(state.data.admissible.sum()))
     report = state.run_solver(StageKind.TANK_LP, StageKind.TANK_LP.label, relaxed, None,
                               0.4, time.perf_counter() - begun)
     if report.status == Status.INFEASIBLE:
@@ -134,7 +135,7 @@ def _without_new_tanks(run: TankRun, plain: Callable[..., DesignOutcome]) -> Non
     begun = time.perf_counter()
     outcome = plain(dataclasses.replace(state.study, tank_rules=TankRules()),
                     solver_name=state.settings.solver_name,
-                    time_limit_s=max(PLAIN_SHARE * state.clock.left(), 1.0),
+                    time_limit_s=state.clock.limit(PLAIN_SHARE, 1.0),
                     mip_gap=state.settings.mip_gap)
     seconds = time.perf_counter() - begun
     state.stages.append(Stage(StageKind.NO_NEW_TANKS, StageKind.NO_NEW_TANKS.label,
@@ -153,18 +154,21 @@ def _greedy_reaches(run: TankRun, plain: Callable[..., DesignOutcome],
     state = run.state
     begun = time.perf_counter()
     by_rule = sites is None
+    kind = StageKind.TANK_REACHES if by_rule else StageKind.TANK_MODEL_REACHES
+    if state.clock.out():
+        _skipped(state, kind)
+        return
     if sites is None:
         sites = greedy_sites(state.data)
     design = None
     for share_changes in (False, True) if state.study.rules.max_changes is not None \
             else (False,):
         design = None if sites is None else design_by_reaches(
-            state.data, sites, REACH_SHARE * state.clock.left(), plain,
+            state.data, sites, state.clock.limit(REACH_SHARE), plain,
             state.settings.solver_name, state.settings.mip_gap, share_changes)
         if design is not None and not rule_problems(state.study, design):
             break
     seconds = time.perf_counter() - begun
-    kind = StageKind.TANK_REACHES if by_rule else StageKind.TANK_MODEL_REACHES
     if design is None:
         state.stages.append(Stage(kind, kind.label, Status.NO_SOLUTION, None, None, seconds,
                                   0, 0, 0, "no design this way"))
@@ -214,8 +218,13 @@ def _solve(run: TankRun, kind: StageKind, *, with_rules: bool, share: float,
     nodes), offer its design, return the model and its report (None: no solution)."""
     state = run.state
     data = state.data
+    pairs = int((data.admissible if allowed is None else data.admissible & allowed).sum())
+    if state.clock.nearly_out() or state.expected_build_s(pairs) > 0.5 * state.clock.left():
+        _skipped(state, kind)
+        return None
     begun = time.perf_counter()
     form = build(data, allowed=allowed, with_rules=with_rules)
+    state.note_build_rate(with_rules, time.perf_counter() - begun, pairs)
     if fixed is not None:
         for node, column in form.tank_columns.items():
             form.model.lower[column] = form.model.upper[column] = float(node in fixed)
@@ -235,6 +244,12 @@ def _solve(run: TankRun, kind: StageKind, *, with_rules: bool, share: float,
     state.consider(Design(design.pieces, new), kind.label,
                    must_pass=(with_rules or not state.with_rules) and tanks.exact_classes)
     return form, report
+
+
+def _skipped(state: SearchState, kind: StageKind) -> None:
+    """Record a stage left out because the time left cannot hold it."""
+    state.stages.append(Stage(kind, kind.label, Status.SKIPPED, None, None, 0.0, 0, 0, 0,
+                              "too large to build and solve in the time left"))
 
 
 def _warm(state: SearchState, form: Formulation) -> WarmStart | None:

@@ -100,7 +100,9 @@ def _next_class(study: Study, piece: Piece):
 def uniform_designs(state: SearchState) -> None:
     """First designs that obey every rule: each option laid over the whole route, and
     the weakest class of each material and size with the stretches whose class the
-    pressure breaks raised (a class change moved to where the pressure allows it)."""
+    pressure breaks raised (a class change moved to where the pressure allows it).
+    Each design takes a check or several: the clock is asked before each, and what is
+    found when it runs out is kept."""
     study = state.study
     end = float(study.route.chainage_m[-1])
     weakest: dict[tuple[str, float], object] = {}
@@ -108,9 +110,13 @@ def uniform_designs(state: SearchState) -> None:
         key = (option.material, option.dn_mm)
         if key not in weakest or option.allowable_head_m < weakest[key].allowable_head_m:
             weakest[key] = option
+        if state.clock.out():
+            return
         consider(state, Design((Piece(0.0, end, option),)), "uniform design",
                  must_pass=False)
     for option in weakest.values():
+        if state.clock.out():
+            return
         raised = with_stretch_raised(study, Design((Piece(0.0, end, option),)))
         if raised is not None:
             consider(state, raised, "uniform design, classes raised", must_pass=False)

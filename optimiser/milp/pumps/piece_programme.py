@@ -96,7 +96,9 @@ class _Arena:
     def chain(self, ident: int) -> list[tuple[int, int]]:
         """(option, start node) of the label and its ancestors, upstream first."""
         for name in ("parent", "option", "start"):  # joined once, kept joined
-            setattr(self, name, [np.concatenate(getattr(self, name))])
+            parts = getattr(self, name)
+            # none yet when the clock stopped the programme before its first change
+            setattr(self, name, [np.concatenate(parts) if parts else np.zeros(0, np.int32)])
         parent, option, start = self.parent[0], self.option[0], self.start[0]
         chain = []
         while ident >= 0:
@@ -205,7 +207,7 @@ def run_programme(tables: PieceTables, ceiling: float, keep_chains: int = 3,
     labels = Labels.empty()
     complete = True
     for x in range(n, 0, -1):
-        if x % 64 == 0 and time.perf_counter() > deadline:
+        if time.perf_counter() > deadline:  # a node can hold many labels: ask at each
             complete = False
             break
         limit = min(ceiling, finals.least) - tables.constant

@@ -130,6 +130,8 @@ def run_piece_programme(state: SearchState) -> None:
         if not result.chains or state.proven():
             break
         station = station_scenario(data, chain_options(data, result.chains[0]))
+    if bound is None:  # the clock stopped it, or left it no time to start
+        status = Status.NO_SOLUTION
     best = None if state.best is None else state.best.cost
     note = f"{made:,} labels" + ("" if bound is not None else "; out of time, no bound")
     state.stages.append(Stage(StageKind.PUMP_PIECES, NAME, status, best, bound,
@@ -165,8 +167,11 @@ def _design_station(state: SearchState) -> int:
 
 def _offer(state: SearchState, data: ProblemData, chain: list[tuple[int, int]]) -> bool:
     """Judge the designs of a chain (a failing one again with its classes raised) until
-    one proves the bound; True then."""
+    one proves the bound; True then. Each takes a check or several: the clock is asked
+    before each."""
     for design in chain_designs(data, chain):
+        if state.clock.out():
+            return False
         result = consider(state, design, NAME, must_pass=False)
         if not result.ok:
             raised = with_stretch_raised(state.study, design)

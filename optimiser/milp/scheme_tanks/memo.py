@@ -21,9 +21,12 @@ from typing import Any
 import numpy as np
 
 from optimiser.milp.cut_at_tanks import optimise_scheme_with_tanks
-from optimiser.milp.outcome import DesignOutcome
-from optimiser.milp.search.state import Settings
+from optimiser.milp.outcome import DesignOutcome, SolverError
+from optimiser.milp.search.state import Clock, Settings
 from optimiser.model import Study
+
+LEAST_RUN_S = 0.2
+"""A part's run is not started with less time than this left [s]."""
 
 
 def _feed(digest: Any, value: Any) -> None:
@@ -58,12 +61,33 @@ def fingerprint(study: Study) -> str:
     return digest.hexdigest()
 
 
+def within(design: Callable[..., DesignOutcome], clock: Clock | None
+           ) -> Callable[..., DesignOutcome]:
+    """``design`` (a ``plain``) with every run's time limit cut to what ``clock`` has
+    left; with nothing left it raises :class:`SolverError` instead of starting a run
+    (the callers take that as a run that found no design in its time)."""
+    if clock is None:
+        return design
+
+    def bounded(part: Study, *, solver_name: str, mip_gap: float,
+                time_limit_s: float) -> DesignOutcome:
+        limit = min(time_limit_s, clock.limit())
+        if limit < LEAST_RUN_S:
+            raise SolverError("no time left to design this part")
+        return design(part, solver_name=solver_name, mip_gap=mip_gap, time_limit_s=limit)
+
+    return bounded
+
+
 class PartMemo:
     """``plain`` for the cut at tanks: each part designed once (module docstring);
-    ``design`` is :func:`optimiser.milp.optimise_design`."""
+    ``design`` is :func:`optimiser.milp.optimise_design`; with ``clock``, no part's run
+    goes past its deadline (:func:`within`)."""
 
-    def __init__(self, design: Callable[..., DesignOutcome]) -> None:
-        self.design = design
+    def __init__(self, design: Callable[..., DesignOutcome], clock: Clock | None = None
+                 ) -> None:
+        self.design = within(design, clock)
+        self.clock = clock
         self.outcomes: dict[str, DesignOutcome] = {}
 
     def __call__(self, part: Study, *, solver_name: str, mip_gap: float,
@@ -71,6 +95,8 @@ class PartMemo:
         key = fingerprint(part)
         if key not in self.outcomes:
             if part.is_scheme and part.tanks and part.pump is None:
+                if self.clock is not None:
+                    time_limit_s = min(time_limit_s, self.clock.limit())
                 settings = Settings(solver_name, time_limit_s, mip_gap)
                 outcome = optimise_scheme_with_tanks(part, settings, time.perf_counter(), self)
             else:

@@ -47,6 +47,7 @@ from optimiser.milp.outcome import (
 )
 from optimiser.milp.scheme_tanks.count import fewest_tanks
 from optimiser.milp.scheme_tanks.lines_bound import lines_bound
+from optimiser.milp.scheme_tanks.memo import PartMemo, within
 from optimiser.milp.scheme_tanks.placement import class_heads_m, moves, placed_by_head
 from optimiser.milp.scheme_tanks.pricing import Plain, Prices
 from optimiser.milp.scheme_tanks.relaxation import relaxed_bound
@@ -78,8 +79,7 @@ def optimise_scheme_new_tanks(study: Study, settings: Settings, started: float,
     sites = scheme_sites(study)
     if not sites:
         return _without_sites(study, settings, started, plain)
-    relaxed = relaxed_bound(study, sites, settings, Clock(
-        started, time.perf_counter() + RELAXATION_SHARE * clock.left()))
+    relaxed = relaxed_bound(study, sites, settings, clock.within(RELAXATION_SHARE, 0.0))
     stages = [dataclasses.replace(s, name=f"{RELAXATION_LABEL}: {s.name}")
               for s in relaxed.state.stages]
     if relaxed.diagnosis:
@@ -87,7 +87,8 @@ def optimise_scheme_new_tanks(study: Study, settings: Settings, started: float,
             f"even with a new tank at every allowed site ({len(sites)} sites) and no "
             f"energy lost at any: {line}" for line in relaxed.diagnosis])
     fewest = fewest_tanks(study, sites)
-    prices = Prices(study, settings, clock, plain, sites, relaxed.bound, fewest)
+    prices = Prices(study, settings, clock, plain, sites, relaxed.bound, fewest,
+                    memo=PartMemo(plain, clock))  # no set priced past the deadline
     if fewest > prices.most:
         surge_words = " (with each pipe's least surge by wave speed)" \
             if by_wave_speed(study) else ""
@@ -98,8 +99,9 @@ def optimise_scheme_new_tanks(study: Study, settings: Settings, started: float,
             f"{prices.most} may be added ([break_pressure_tanks] max_count, or the sites)"])
     no_tank = prices.price(frozenset(), NO_TANK_SHARE) if fewest < 1 else \
         prices.proven_none(frozenset(), f"needs at least {fewest:g} new tanks")
-    prices.lines_m, line_stages = lines_bound(study, sites, settings, Clock(
-        started, time.perf_counter() + LINES_SHARE * clock.left()), plain)
+    lines_clock = clock.within(LINES_SHARE, 0.0)
+    prices.lines_m, line_stages = lines_bound(study, sites, settings, lines_clock,
+                                              within(plain, lines_clock))
     stages += line_stages
     if _set_count(len(sites), prices.most) <= ENUMERATE_MAX:
         _enumerate(prices)
@@ -115,8 +117,8 @@ def _without_sites(study: Study, settings: Settings, started: float,
     some point under it needs): the scheme designed as it is."""
     outcome = plain(dataclasses.replace(study, tank_rules=dataclasses.replace(
         study.tank_rules, cost=None)), solver_name=settings.solver_name,
-        mip_gap=settings.mip_gap, time_limit_s=max(settings.time_limit_s -
-                                                   (time.perf_counter() - started), 1.0))
+        mip_gap=settings.mip_gap,
+        time_limit_s=Clock(started, started + settings.time_limit_s).limit())
     kind = StageKind.SCHEME_TANK_SETS
     note = Stage(kind, f"{kind.label}: no new tank", Status.DONE, None, None, 0.0, 0, 0, 0,
                  "no site can hold a tank: each is above every source level or below the "

@@ -30,6 +30,8 @@ from optimiser.model.status import Status
 
 GAP_ROUNDING = 1e-9
 """Slack on the relative gap target for rounding only (1e-9 of the cost)."""
+LEAST_STEP_S = 0.5
+"""A step given a share of the time left still gets this much, if it is left."""
 RESTRICTED_GAP = 1e-4
 """Relative gap of restricted models (they only supply designs; solve them tightly, or
 a loose target would stop them at designs worse than their start)."""
@@ -66,6 +68,24 @@ class Clock:
     def nearly_out(self) -> bool:
         """Less than half a second left: start nothing new."""
         return time.perf_counter() > self.deadline - 0.5
+
+    def out(self) -> bool:
+        """The deadline has passed: a loop of short steps (checks, small solves) stops
+        here, each step being bounded by its own limit."""
+        return time.perf_counter() >= self.deadline
+
+    def limit(self, share: float = 1.0, least_s: float = LEAST_STEP_S) -> float:
+        """Seconds a step starting now may take: ``share`` of the time left, at least
+        ``least_s`` when that much is left, never more than is left (0 once past the
+        deadline). Every solver call and every run nested in a run takes its limit
+        from here, so that none can carry the run past its deadline."""
+        left = max(self.left(), 0.0)
+        return min(max(share * left, least_s), left)
+
+    def within(self, share: float = 1.0, least_s: float = LEAST_STEP_S) -> Clock:
+        """A clock for a step starting now with :meth:`limit` seconds."""
+        now = time.perf_counter()
+        return Clock(now, now + self.limit(share, least_s))
 
 
 @dataclass(frozen=True)
@@ -187,10 +207,11 @@ class SearchState:
     def run_solver(self, kind: StageKind, name: str, form: Formulation,
                    warm: WarmStart | None, share: float, build_seconds: float,
                    stage_gap: float | None = None) -> SolveReport:
-        """Solve ``form`` with ``share`` of the time left and record the stage."""
+        """Solve ``form`` with ``share`` of the time left (at least half a second, never
+        past the deadline: :meth:`Clock.limit`) and record the stage."""
         settings = self.settings
         report = solve(form, settings.solver_name,
-                       time_limit_s=max(self.clock.left() * share, 0.5),
+                       time_limit_s=self.clock.limit(share),
                        mip_gap=settings.mip_gap if stage_gap is None else stage_gap,
                        warm_start=warm, msg=settings.msg)
         self.stages.append(Stage(kind, name, report.status, report.objective, report.bound,
