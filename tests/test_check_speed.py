@@ -112,20 +112,28 @@ def _branches(rng: np.random.Generator, trunk: Route, count: int) -> tuple[Branc
     return tuple(branches)
 
 
-def _tanks(rng: np.random.Generator, study: Study) -> tuple[BreakPressureTank, ...]:
-    """A tank at a survey point of the trunk and of one branch, 3 m above the ground."""
+def _tanks(rng: np.random.Generator, study: Study, first: bool = False
+           ) -> tuple[BreakPressureTank, ...]:
+    """A tank at a survey point of the trunk and of one branch, 3 m above the ground; with
+    ``first``, on the branch with most branches of its own, at its first survey point
+    inside (so that those branches leave below it, or at it)."""
+    branch = study.branches[0]
+    if first:
+        branch = max(study.branches,
+                     key=lambda b: sum(c.parent == b.name for c in study.branches))
     tanks = []
-    for name, route in (("main", study.route), (study.branches[0].name,
-                                                 study.branches[0].route)):
-        at = float(rng.choice(route.chainage_m[1:-1]))
+    for name, route in (("main", study.route), (branch.name, branch.route)):
+        inside = route.chainage_m[1:-1]
+        at = float(inside[0] if first and name != "main" else rng.choice(inside))
         level = float(np.interp(at, route.chainage_m, route.ground_m)) + 3.0
         tanks.append(BreakPressureTank(at, level, branch=name))
     return tuple(tanks)
 
 
 def random_scheme(seed: int, friction: Friction = Friction.COLEBROOK_WHITE,
-                  tanks: bool = False, pump: bool = False) -> tuple[Study, Design]:
-    """A seeded invented scheme with a design of random options (1-2 pieces per line)."""
+                  tanks: bool | str = False, pump: bool = False) -> tuple[Study, Design]:
+    """A seeded invented scheme with a design of random options (1-2 pieces per line);
+    ``tanks`` True or ``"first"`` (:func:`_tanks`)."""
     rng = np.random.default_rng(seed)
     trunk = _route(rng, 200.0, float(rng.uniform(2000.0, 5000.0)), int(rng.integers(5, 10)))
     branches = _branches(rng, trunk, int(rng.integers(3, 7)))
@@ -144,7 +152,7 @@ def random_scheme(seed: int, friction: Friction = Friction.COLEBROOK_WHITE,
         rules=DesignRules(), costs=CostRules(), solver=SolverSettings(),
         branches=branches, **_extras(rng, trunk))
     if tanks:
-        study = dataclasses.replace(study, tanks=_tanks(rng, study))
+        study = dataclasses.replace(study, tanks=_tanks(rng, study, tanks == "first"))
     if pump:
         study = dataclasses.replace(study, pump=PumpStation(efficiency=0.7, energy_price=0.1))
     pieces = []
@@ -188,7 +196,9 @@ CASES = [(seed, friction, tanks, pump) for seed, friction, tanks, pump in (
     (1, Friction.COLEBROOK_WHITE, False, False), (2, Friction.COLEBROOK_WHITE, True, False),
     (3, Friction.HAZEN_WILLIAMS, False, False), (4, Friction.HAZEN_WILLIAMS, True, False),
     (5, Friction.COLEBROOK_WHITE, False, True), (6, Friction.COLEBROOK_WHITE, True, True),
-    (7, Friction.COLEBROOK_WHITE, True, False), (8, Friction.COLEBROOK_WHITE, False, False))]
+    (7, Friction.COLEBROOK_WHITE, True, False), (8, Friction.COLEBROOK_WHITE, False, False),
+    (4, Friction.COLEBROOK_WHITE, "first", False), (9, Friction.HAZEN_WILLIAMS, "first", True),
+    (11, Friction.COLEBROOK_WHITE, "first", False))]
 
 
 @pytest.mark.parametrize(("seed", "friction", "tanks", "pump"), CASES)

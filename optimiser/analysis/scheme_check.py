@@ -14,8 +14,12 @@ lines are evaluated parents first (:func:`optimiser.model.lines.study_lines`):
 Delivery points and their flow capacity: the uncontrolled flow of a delivery point is the
 delivery flow at which its energy after the exit loss equals its required head, the rest
 of the scenario unchanged (contract section 8, `outlets`). The extra flow also runs
-through every line above it up to its junction, so the search re-evaluates that path of
-the tree. Like the rest of the check it reads only the study and the design.
+through every line above it up to its junction and through no other pipe, so on a
+scheme every delivery point is searched on that path alone, all at once
+(:mod:`.delivery_flow`), and the trunk's capacity against every limit of the tree
+re-runs only the trunk (:mod:`.tree_capacity`); the general search re-evaluates the
+lines of the path (a single route, and the reference of the tests). Like the rest of the
+check it reads only the study and the design.
 """
 
 from __future__ import annotations
@@ -23,6 +27,7 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from functools import partial
 
 import numpy as np
 import pandas as pd
@@ -190,9 +195,8 @@ class SchemeHydraulics:
         margins += [self.parts[n].least_pressure_margin_m(part) for n, part in arrays.items()]
         return min(margins)
 
-    def trunk_tree_margin(self, scenario: Scenario,
-                           arrays: dict[str, ScenarioArrays] | None
-                           ) -> Callable[[float], float]:
+    def trunk_tree_margin(self, scenario: Scenario, arrays: dict[str, ScenarioArrays] | None
+                          ) -> Callable[[float], float]:
         """The least margin of the whole tree as a function of the trunk's delivery
         flow, re-running only the trunk (:mod:`.tree_capacity`); ``arrays`` are the
         scenario's (evaluated here if not given)."""
@@ -217,8 +221,8 @@ class SchemeHydraulics:
         delivery fails; every other flow stays at the scenario's. ``arrays``: the
         scenario's, where already evaluated."""
         seen: dict[float, float] = {}  # Brent's method asks again for its bracket's ends
-        least: Callable[[float], float] = \
-            lambda q: self.least_margin_m(scenario, name, q, outlet_only)  # noqa: E731
+        least: Callable[[float], float] = partial(self.least_margin_m, scenario, name,
+                                                  outlet_only=outlet_only)
         if self.study.is_scheme and not outlet_only and name == self.lines[0].name:
             least = self.trunk_tree_margin(scenario, arrays)
 
