@@ -21,11 +21,11 @@ __all__ = ["CheckResult", "InputError", "__version__", "check_design", "load_des
 # optimiser).
 _LAZY = {
     "CheckResult": "optimiser.analysis",
-    "check_design": "optimiser.analysis",
+    "check_design": "optimiser.api",  # the analysis' own, after a whole-study check
     "InputError": "optimiser.io",
     "load_design": "optimiser.io",
     "load_study": "optimiser.io",
-    "optimise_design": "optimiser.milp",
+    "optimise_design": "optimiser.api",  # the optimiser's own, after the same check
 }
 
 

@@ -16,7 +16,7 @@ import math
 import numpy as np
 import pytest
 
-from optimiser import load_study
+from optimiser import load_design, load_study
 from optimiser.analysis import check_design
 from optimiser.model import (
     Catalogue,
@@ -171,14 +171,25 @@ def scheme(tmp_path):
     return load_study(write_branch_scheme(tmp_path).study)
 
 
+def _refused_by_the_api(study, match: str) -> None:
+    """``optimiser.check_design`` and ``optimiser.optimise_design`` both refuse it."""
+    import optimiser
+
+    design = None  # refused before the design is looked at
+    for call in (lambda: optimiser.check_design(study, design),
+                 lambda: optimiser.optimise_design(study, time_limit_s=5)):
+        with pytest.raises(ValueError, match=match):
+            call()
+
+
 def test_a_branch_must_hang_strictly_inside_a_line_given_before_it(scheme):
     # contract section 7: the junction is a chainage strictly inside `from`; parents first
     north, school = scheme.branches
-    with pytest.raises(ValueError, match=r"not strictly inside 'main' \(0 to 3000 m\)"):
-        dataclasses.replace(scheme, branches=(
-            dataclasses.replace(north, at_chainage_m=5000.0), school))
-    with pytest.raises(ValueError, match="parents come first"):
-        dataclasses.replace(scheme, branches=(school, north))
+    _refused_by_the_api(dataclasses.replace(scheme, branches=(
+        dataclasses.replace(north, at_chainage_m=5000.0), school)),
+        r"not strictly inside 'main' \(0 to 3000 m\)")
+    _refused_by_the_api(dataclasses.replace(scheme, branches=(school, north)),
+                        "parents come first")
     with pytest.raises(ValueError, match="flow_m3_s"):
         dataclasses.replace(scheme, branches=(dataclasses.replace(north, flow_m3_s=-1e-3),
                                               school))
@@ -188,16 +199,26 @@ def test_tanks_offtakes_and_fittings_must_lie_on_their_line(scheme):
     # contract sections 1 and 8: strictly inside the route for a tank, on it otherwise
     from optimiser.model import BreakPressureTank, Fitting, Offtake
 
-    with pytest.raises(ValueError, match="not strictly inside its line"):
-        dataclasses.replace(scheme, tanks=(BreakPressureTank(5000.0, 150.0),))
-    with pytest.raises(ValueError, match="no line named 'east'"):
-        dataclasses.replace(scheme, tanks=(BreakPressureTank(100.0, 150.0, "east"),))
+    _refused_by_the_api(dataclasses.replace(scheme, tanks=(BreakPressureTank(5000.0, 150.0),)),
+                        "not strictly inside its line")
+    _refused_by_the_api(dataclasses.replace(
+        scheme, tanks=(BreakPressureTank(100.0, 150.0, "east"),)), "no line named 'east'")
     with pytest.raises(ValueError, match="offtake at 3500 m is outside its line"):
         dataclasses.replace(scheme, offtakes=(Offtake(3500.0, 0.001),))
     with pytest.raises(ValueError, match="fitting at -5 m is outside its line"):
         dataclasses.replace(scheme, fittings=(Fitting(-5.0, 1.0),))
     with pytest.raises(ValueError, match="offtake at 700 m: flow_m3_s"):
         dataclasses.replace(scheme, offtakes=(Offtake(700.0, -0.001),))
-    # the scheme as loaded is sound, and a tank strictly inside a branch is accepted
-    assert dataclasses.replace(scheme, tanks=(BreakPressureTank(
-        500.0, 171.0, "north end"),)).tanks[0].branch == "north end"
+
+
+def test_the_api_checks_a_sound_scheme_as_the_analysis_does(scheme, tmp_path):
+    # The public entry point adds only the refusals: the same check, the same numbers.
+    from scheme_builders import write_scheme_design
+
+    import optimiser
+
+    design = load_design(write_scheme_design(tmp_path), scheme)
+    ours = optimiser.check_design(scheme, design, capacity=False)
+    theirs = check_design(scheme, design, capacity=False)
+    assert ours.total_cost == theirs.total_cost and ours.ok == theirs.ok
+    assert ours.scenarios[0].points.equals(theirs.scenarios[0].points)

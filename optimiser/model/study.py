@@ -222,11 +222,27 @@ ON_LINE_M = 1e-6
 
 
 def _placement_problems(study: Study) -> list[str]:
+    """Offtakes and fittings on their line and no negative flow (contract sections 1 and
+    7: the loader refuses them; here they gave a check of points off the route)."""
+    problems = _points_problems("the route", study.offtakes, study.fittings,
+                                study.route.total_chainage_m)
+    for branch in study.branches:
+        where = f"branch {branch.name!r}"
+        problems += at_least(f"{where}: flow_m3_s", branch.flow_m3_s, 0.0)
+        problems += _points_problems(where, branch.offtakes, branch.fittings,
+                                     branch.route.total_chainage_m)
+    return problems
+
+
+def line_problems(study: Study) -> list[str]:
     """Branches hanging strictly inside a line given before them, tanks strictly inside
-    a line, offtakes and fittings on their line, no negative flow (contract sections 1,
-    7 and 8: the loader refuses them; here they gave tracebacks)."""
+    a line of the study (contract sections 7 and 8; from the API such a study gave an
+    IndexError or a KeyError deep in the check). Not run when a study is made: the
+    optimiser builds parts of a study in steps (a route cut at a tank before its tanks
+    and branches follow), so the public entry points run it
+    (:mod:`optimiser.api`)."""
     ends = {TRUNK: study.route.total_chainage_m}
-    problems = _points_problems("the route", study.offtakes, study.fittings, ends[TRUNK])
+    problems = []
     for branch in study.branches:
         where = f"branch {branch.name!r}"
         parent_end = ends.get(branch.parent)
@@ -236,10 +252,7 @@ def _placement_problems(study: Study) -> list[str]:
         elif not 0.0 < branch.at_chainage_m < parent_end:
             problems.append(f"{where}: at_chainage_m {branch.at_chainage_m:g} is not "
                             f"strictly inside {branch.parent!r} (0 to {parent_end:g} m)")
-        problems += at_least(f"{where}: flow_m3_s", branch.flow_m3_s, 0.0)
         ends[branch.name] = branch.route.total_chainage_m
-        problems += _points_problems(where, branch.offtakes, branch.fittings,
-                                     ends[branch.name])
     for tank in study.tanks:
         end = ends.get(tank.branch)
         if end is None:

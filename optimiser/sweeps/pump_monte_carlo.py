@@ -26,7 +26,8 @@ judges it (:mod:`optimiser.analysis.pumping`, contract section 9):
 
 Per sample and scenario (``samples``): ``station_head_m`` (H), ``within_max_head``,
 ``head_m`` (checked), ``power_kw``, ``energy_cost_per_year``, ``meets`` (every limit of
-the scenario met with the head checked, i.e. H within ``max_head_m``); per sample, on
+the scenario met with the head checked: H within ``max_head_m``, and every limit the
+head does not reach, below a break-pressure tank, met by its gravity line); per sample, on
 each of its rows: ``classes_hold``, ``installed_kw`` and ``life_cycle_cost`` (pipes +
 station + energy present value).
 """
@@ -112,6 +113,24 @@ def _needed_head_m(samples: TreeSamples, reached: Mapping[str, int | None]) -> n
     return np.max(deficits, axis=0)
 
 
+def _unlifted_margin_m(samples: TreeSamples, reached: Mapping[str, int | None]
+                       ) -> np.ndarray:
+    """(S,) the least margin of the limits the station's head does not move: at and
+    below the first tank of a line it reaches (pressures, later tanks' inflow, delivery,
+    down-surge), and every limit of a line it does not reach (below a tank)."""
+    least = np.full(samples.source_level_m.shape[0], np.inf)
+    for name, line in samples.lines.items():
+        if name in reached:
+            margins = [line.margin_that_stays_m, line.fixed_transient_m]
+        else:
+            margins = [line.outlet_margin_m, line.least_pressure_margin_m,
+                       line.transient_margin_m]
+        for margin in margins:
+            if margin is not None:
+                least = np.minimum(least, margin)
+    return least
+
+
 def _pumping_heads_m(hydraulics: SchemeHydraulics, samples: TreeSamples,
                      reached: Mapping[str, int | None], head_m: np.ndarray,
                      pieces: int) -> np.ndarray:
@@ -144,6 +163,8 @@ def _scenario_frame(study: Study, hydraulics: SchemeHydraulics, surges: dict[str
     head = needed if pump.max_head_m is None else np.minimum(needed, pump.max_head_m)
     within = np.full(needed.shape, True) if pump.max_head_m is None else \
         needed <= pump.max_head_m + 1e-9
+    # Below a tank the gravity line answers for itself (the station does not reach it).
+    meets = within & (_unlifted_margin_m(samples, reached) >= -CHECK_TOLERANCE)
     power = pump_power_kw(water_density_kg_m3(study), inflow_m3_s(study, scenario), head,
                           pump.efficiency)
     energy = yearly_energy_kwh(power, scenario.hours_per_year)
@@ -151,7 +172,7 @@ def _scenario_frame(study: Study, hydraulics: SchemeHydraulics, surges: dict[str
         "sample": np.arange(len(needed)), "scenario": scenario.name,
         "station_head_m": needed, "within_max_head": within, "head_m": head,
         "power_kw": power, "energy_kwh_per_year": energy,
-        "energy_cost_per_year": energy * pump.energy_price, "meets": within})
+        "energy_cost_per_year": energy * pump.energy_price, "meets": meets})
     return frame, _pumping_heads_m(hydraulics, samples, reached, head, pieces)
 
 

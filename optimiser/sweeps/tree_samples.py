@@ -68,6 +68,9 @@ class LineSamples:
     """(line's pieces, S) with tanks and ``by_piece``: the largest pressure head in each
     piece at and below the first tank (-inf where a piece has none); then
     ``largest_pressure_m`` holds the part above it."""
+    fixed_transient_m: np.ndarray | None = None
+    """(S,) with tanks and a down-surge limit: the transient margin at and below the
+    first tank (+inf where the line has no point there)."""
 
     @property
     def margin_that_moves_m(self) -> np.ndarray:
@@ -192,7 +195,8 @@ def _with_tanks(part: DesignHydraulics, end: np.ndarray, velocity: np.ndarray,
         end, outlet_margin, least, None if transient is None else transient.min(axis=0),
         _largest_by_piece(part, pressure, above) if by_piece else None, fixed, moving,
         None if transient is None else transient[above].min(axis=0),
-        _largest_by_piece(part, pressure, ~above) if by_piece else None)
+        _largest_by_piece(part, pressure, ~above) if by_piece else None,
+        None if transient is None else transient[~above].min(axis=0, initial=np.inf))
 
 
 def _largest_by_piece(part: DesignHydraulics, pressure: np.ndarray,
