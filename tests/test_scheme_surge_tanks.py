@@ -79,7 +79,7 @@ def _profile(rows, marked) -> str:
 
 
 def _write(folder, closure_s: float, *, own=(), cost=TANK_COST, marked=MARKED,
-           transient_m=None):
+           transient_m=None, max_count=None):
     """Trunk 3 km (14 L/s to 330 m), branch "b" leaving it at 1,000 m (2 km, 8 L/s to
     300 m); pipe lengths by chainage; ``own``: (line, chainage) of the study's own
     tanks; ``cost`` None: no new tank; ``transient_m``: the down-surge limit."""
@@ -88,6 +88,8 @@ def _write(folder, closure_s: float, *, own=(), cost=TANK_COST, marked=MARKED,
     (folder / "b.csv").write_text(_profile(BRANCH, marked.get("b", ())), "utf-8")
     (folder / "catalogue.csv").write_text(_catalogue_text(), "utf-8")
     tanks = {"height_m": 5.0} | ({} if cost is None else {"cost": cost, "sites": "marked"})
+    if max_count is not None:
+        tanks["max_count"] = max_count
     study = {"title": "Invented falling scheme, surge by wave speed", "currency": "USD",
              "source": {"level_m": 500.0},
              "outlet": {"required_head_m": 330.0},
@@ -209,6 +211,18 @@ def test_fewest_tanks_see_the_surge(tmp_path, enumerated):
     for study, holds in ((sudden, False), (slow, True)):
         by_site = {(s.line, s.chainage_m): s for s in scheme_sites(study)}
         assert covers(study, [by_site[("main", 2000.0)], by_site[("b", 500.0)]]) is holds
+
+
+def test_too_few_tanks_allowed_for_the_surge_is_infeasible_with_the_reason(tmp_path):
+    # Sudden: three tanks are needed (above); at most two allowed: no design, and the
+    # reason names the surge. The same with a slow closure needs only two.
+    sudden = load_study(_write(tmp_path / "sudden", 0.0, max_count=2))
+    outcome = optimise_design(sudden, mip_gap=1e-7)
+    assert outcome.status.value == "infeasible" and outcome.design is None
+    assert "needs at least 3 new break-pressure tanks" in outcome.diagnosis[0]
+    assert "surge by wave speed" in outcome.diagnosis[0]
+    slow = load_study(_write(tmp_path / "slow", SLOW_S, max_count=2))
+    assert fewest_tanks(slow, scheme_sites(slow)) == 2
 
 
 # ------------------------------------------------------------ design against enumeration

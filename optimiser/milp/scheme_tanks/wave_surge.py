@@ -18,7 +18,7 @@ nearest surface gives the least L, and the surge never grows as L shrinks), and 
 section's own largest velocity of the option (a piece's V is the largest over every
 section it covers, never less). So every class a design with any set of tanks may use
 on a section is admitted there: a relaxation. For a set of tanks fixed, L is exact
-(:func:`static_heads_m` with ``tanks``).
+(:func:`lengths_m`).
 
 With the allowance method, a class takes a static head up to its allowable head less
 the catalogue's surge allowance (contract section 5), whatever the tanks.
@@ -97,7 +97,8 @@ def static_heads_m(study: Study, line: Line, length: np.ndarray | None = None
 
 
 def admitted(static_head_m: np.ndarray, margin_m: np.ndarray | float) -> np.ndarray:
-    """True where the static head is within the margin (the check's tolerance)."""
+    """True where the static head is within the margin: the check's tolerance and a
+    hair more (a relaxation may admit a little more than the check, never less)."""
     return np.asarray(static_head_m) <= np.asarray(margin_m) + CHECK_TOLERANCE + 1e-9
 
 
