@@ -144,8 +144,9 @@ def _polish(state: SearchState, problem: TreeProblem) -> None:
         if state.proven() or state.clock.nearly_out() or state.best is None:
             return
         before = state.best.cost
+        # one size either way: a size change moves the station head, and so the energy
         run_pumped_model(state, problem, StageKind.POLISH, 0.5,
-                         allowed=near_design(problem, state.best.design))
+                         allowed=near_design(problem, state.best.design, radius=1))
         if state.best.cost >= before - 1e-9 * abs(before):
             return
 
