@@ -51,7 +51,8 @@ TRUNK_POINTS = [0.0, 500.0, 1000.0, 1500.0, 1800.0, 2000.0]
 
 
 def _write(folder, *, classes=(("PN100", 1000.0, 0.0),), rules=None, costs=None,
-           tank_rules=None, tank=True, trunk=None, required=None, solver=None):
+           tank_rules=None, tank=True, trunk=None, required=None, solver=None,
+           extra=None):
     """The invented scheme on level ground (100 m, cover 1 m; or the trunk's rows
     ``trunk``: chainage, ground, tank_site), Hazen-Williams, no local losses anywhere
     (entrance, exit, junction, tank inlet and outlet K all 0)."""
@@ -68,9 +69,10 @@ def _write(folder, *, classes=(("PN100", 1000.0, 0.0),), rules=None, costs=None,
             csv_text([(0.0, ground), (length, ground)], level), encoding="utf-8")
     columns = ("material", "dn_mm", "internal_diameter_mm", "pressure_class",
                "allowable_head_m", "roughness_mm", "hazen_williams_c", "cost_per_m", "note")
-    rows = [("PVC", dn, d * 1000, name, allowable, 0.01, C, cost + extra, "invented")
-            for dn, d, cost in SIZES for name, allowable, extra in classes]
-    (folder / "catalogue.csv").write_text(csv_text(rows, columns), encoding="utf-8")
+    rows = [("PVC", dn, d * 1000, name, allowable, 0.01, C, cost + more, "invented", 300.0)
+            for dn, d, cost in SIZES for name, allowable, more in classes]
+    (folder / "catalogue.csv").write_text(csv_text(rows, (*columns, "wave_speed_m_s")),
+                                          encoding="utf-8")
     flows = {"hill": "5 L/s", "east": "10 L/s", "low": "4 L/s"}
     study = {
         "title": "Invented pumped scheme with a hill tank", "currency": "USD",
@@ -90,6 +92,7 @@ def _write(folder, *, classes=(("PN100", 1000.0, 0.0),), rules=None, costs=None,
                     "flow": flows[name], "required_head_m": required[name],
                     "junction_k": 0.0, "exit_k": 0.0} for name, at, _ in BRANCHES],
     }
+    study.update(extra or {})
     if tank:
         study["break_pressure_tank"] = [{"chainage_m": TANK_AT, "water_level_m": TANK_LEVEL}]
         if isinstance(tank, list):
@@ -232,6 +235,30 @@ def test_design_with_rules_and_classes_never_below_the_lp_and_passes(tmp_path, r
     assert outcome.lower_bound <= cost * (1 + 1e-9)
     assert "PN10" in {p.option.pressure_class for p in outcome.design.pieces if p.branch ==
                       "main" and p.from_m < 1.0}
+
+
+def test_slow_closure_surge_runs_across_the_tank(tmp_path):
+    # Surge by wave speed with a slow closure (contract section 10: T = 60 s > 2 L / a,
+    # so Michaud's rise 2 L V / (g T), L from the free surface upstream to the end of
+    # the piece's line): above the hill tank L runs from the source past the tank to
+    # the trunk's end (or a branch's), below it from the tank. The parts designed apart
+    # carry those lengths (Study.pipe_length_beyond_m), so the joined design passes the
+    # check of the whole study, which judges it with its own L (no shortcut: a design
+    # that fails it is a bug and raises).
+    study = load_study(_write(tmp_path, extra={
+        "surge": {"method": "joukowsky", "closure_time_s": 60.0,
+                  "min_transient_pressure_m": -5.0}}))
+    outcome = optimise_design(study)
+    assert outcome.verified and outcome.check.ok
+    check = check_design(study, outcome.design)
+    assert check.ok, [v.message for v in check.violations]
+    # Michaud by hand on the trunk's first piece: L = 2,000 m (source to the trunk's end).
+    first = check.pieces.iloc[0]
+    assert first["branch"] == "main"
+    expected = 2 * 2000.0 * first["max_velocity_m_s"] / (G * 60.0)
+    points = check.scenarios[0].points
+    at_start = points[(points["branch"] == "main") & (points["chainage_m"] == 0.0)]
+    assert float(at_start["surge_head_m"].iloc[0]) == pytest.approx(expected, rel=1e-9)
 
 
 def test_cli_design_exits_0_with_pump_and_life_cycle_cost(tmp_path):
