@@ -90,11 +90,9 @@ def load_study(path: str | Path) -> Study:
         [t.chainage_m for t in tanks if t.branch == b.name])) for b in branches)
     rules_of_tanks = tank_rules(path, spec, (path.parent / _trunk_file(spec)).resolve(),
                                 problems)
-    first_tank = min((t.chainage_m for t in tanks if t.branch == TRUNK), default=None)
-    lifted = bool(branches) and (first_tank is None or min(junctions) < first_tank)
     rules_of_tanks = scheme_tank_sites(path, spec, rules_of_tanks, route, offtakes, branches,
                                        problems, network)
-    _combination_problems(path, spec, rules_of_tanks.cost is not None, lifted, problems)
+    _combination_problems(path, spec, rules_of_tanks.cost is not None, problems)
     problems.raise_if_any()
     route = route.with_nodes([o.chainage_m for o in offtakes] +
                              [f.chainage_m for f in fittings] + junctions +
@@ -128,17 +126,11 @@ def load_study(path: str | Path) -> Study:
 
 
 def _combination_problems(path: Path, spec: StudyFile, new_tanks: bool,
-                          lifted: bool, problems: ProblemList) -> None:
-    """Additions not yet available together: a pump with tanks chosen by ``design``
-    when the station's head reaches branches (``lifted``: a branch leaves the trunk above
-    its first tank, or no tank). With the study's own tanks a pump is a rising main to
-    the first tank of each line it reaches, gravity below it (section 9)."""
-    if spec.pump is not None and lifted and new_tanks:
-        problems.add(f"{path}: [pump] with [break_pressure_tanks] cost (new tanks chosen by "
-                     "design) and branches that leave the trunk above its first "
-                     "break-pressure tank is not available in this version: give the "
-                     "tanks as [[break_pressure_tank]] of the study, or design the rising "
-                     "main as a study of its own (docs/user-guide.md)")
+                          problems: ProblemList) -> None:
+    """Additions not yet available together: a pump with tanks chosen by ``design`` but
+    no tank of the study's own. With the study's own tanks a pump is a rising main (or a
+    pumped scheme, its head reaching branches) to the first tank of each line it
+    reaches, gravity below it, where new tanks may go (section 9)."""
     if spec.pump is not None and new_tanks and not spec.break_pressure_tank:
         problems.add(f"{path}: [pump] with [break_pressure_tanks] cost (new tanks chosen by "
                      "design) needs the tank the rising main fills: give it as a "

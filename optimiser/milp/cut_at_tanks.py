@@ -110,8 +110,9 @@ def part_above(study: Study, tank: BreakPressureTank, line: Line, node: int,
             for b in study.branches)
     tanks = tuple(t for t in study.tanks if t is not tank and t.branch not in gone
                   and not (t.branch == line.name and t.chainage_m > c))
-    # a pump's rising main (above its first tank) gets no new tank (section 9)
-    rules = study.tank_rules if study.pump is None else \
+    # a pump's rising main (above its first tanks) gets no new tank (section 9); a part
+    # above with tanks left is cut again, and the parts below those get theirs
+    rules = study.tank_rules if study.pump is None or tanks else \
         dataclasses.replace(study.tank_rules, cost=None)
     return dataclasses.replace(changed, branches=tuple(b for b in branches if b.name not in gone),
                                tanks=tanks, tank_rules=rules)

@@ -115,10 +115,11 @@ def near_lp(problem: TreeProblem, lp: PumpedModel) -> list[np.ndarray]:
             for data, fractions in zip(problem.datas, lp.fractions, strict=True)]
 
 
-def near_design(problem: TreeProblem, design: Design) -> list[np.ndarray]:
-    """Options ``design`` uses near each section of every line."""
-    return [design_mask(data, line_design(design, line.name), _width_m(data))
-            for line, data in zip(problem.lines, problem.datas, strict=True)]
+def near_design(problem: TreeProblem, design: Design, radius: int = 0) -> list[np.ndarray]:
+    """Options ``design`` uses near each section of every line, and those within
+    ``radius`` places of them in the size order."""
+    return [widened(data, design_mask(data, line_design(design, line.name), _width_m(data)),
+                    radius) for line, data in zip(problem.lines, problem.datas, strict=True)]
 
 
 def _width_m(data) -> float:

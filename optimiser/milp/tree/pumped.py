@@ -48,7 +48,7 @@ import dataclasses
 from optimiser.analysis.static_line import pump_reaches_branches
 from optimiser.io.errors import InputError
 from optimiser.milp.formulation import rules_active
-from optimiser.milp.outcome import DesignOutcome, SolverError
+from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError
 from optimiser.milp.pump_search import static_study
 from optimiser.milp.search.finish import finish, no_design_error
 from optimiser.milp.search.kinds import StageKind
@@ -115,6 +115,10 @@ def optimise_pumped_scheme(study: Study, settings: Settings, started: float
         last = run_pumped_reach_rounds(state, problem, TreeRefinement.start(problem, seen),
                                        REACH_SHARE)
         if last.report is not None and last.report.status == Status.INFEASIBLE:
+            if state.best is not None:
+                raise VerificationError("the pumped tree's reach model, a relaxation, is "
+                                        "reported infeasible although a verified design "
+                                        f"from '{state.best.source}' exists (a bug)")
             return state.infeasible(_why_infeasible(study, rules=True))
         stopped = last.report is not None and last.report.status != Status.OPTIMAL
         if stopped:  # the full model, larger and as hard, would not do better in the time
@@ -144,8 +148,9 @@ def _polish(state: SearchState, problem: TreeProblem) -> None:
         if state.proven() or state.clock.nearly_out() or state.best is None:
             return
         before = state.best.cost
+        # one size either way: a size change moves the station head, and so the energy
         run_pumped_model(state, problem, StageKind.POLISH, 0.5,
-                         allowed=near_design(problem, state.best.design))
+                         allowed=near_design(problem, state.best.design, radius=1))
         if state.best.cost >= before - 1e-9 * abs(before):
             return
 

@@ -71,10 +71,9 @@ class TreeRefinement:
 
 @dataclass
 class PumpedRound:
-    """The last round's report and design (None before any design)."""
+    """The last round's report (None before any round)."""
 
     report: SolveReport | None = None
-    design: Design | None = None
 
 
 def run_pumped_reach_rounds(state: SearchState, problem: TreeProblem,
@@ -103,8 +102,8 @@ def run_pumped_reach_rounds(state: SearchState, problem: TreeProblem,
         if last.report.status == Status.INFEASIBLE or not last.report.has_solution:
             break
         state.raise_bound(last.report.bound)
-        last.design = design_from_tree_reaches(problem, reaches, form)
-        if not _grow(state, problem, refinement, reaches, form, levels, last.design):
+        design = design_from_tree_reaches(problem, reaches, form)
+        if not _grow(state, problem, refinement, reaches, form, levels, design):
             break
     return last
 
