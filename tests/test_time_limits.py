@@ -233,3 +233,30 @@ def test_the_programme_over_pieces_stopped_at_once_gives_no_bound(tmp_path):
     result = piece_bound(data, math.inf, 0, deadline=time.perf_counter() - 1.0)
     assert result.bound is None
     assert all(len(chain) == 1 for chain in result.chains)
+
+
+def test_closed_forms_stopped_by_the_clock_give_no_bound(tmp_path):
+    """The bound of every two-piece design of a pumped main, and the table of reaches laid
+    in one option (which raises the tank bounds), are bounds only when complete: past
+    their deadline they give none, and the tank bounds stay the Lagrangian ones."""
+    from optimiser.milp.class_limits import split_at_class_limits
+    from optimiser.milp.data import prepare
+    from optimiser.milp.pump_columns import head_upper_m
+    from optimiser.milp.pump_search import static_study
+    from optimiser.milp.pumps.two_pieces import enumeration, pair_bounds
+    from optimiser.milp.tank_bounds import pair_frame, relaxation
+    from optimiser.milp.tank_data import with_sites_named
+    from optimiser.milp.tank_single import single_option_costs, with_one_change
+
+    past = time.perf_counter() - 1.0
+    study = load_study(_pumped(tmp_path / "pumped"))
+    data = prepare(split_at_class_limits(static_study(study)))
+    found = pair_bounds(enumeration(data, head_upper_m(data)), 0.0, 100.0, False, True,
+                        deadline=past)
+    assert found.bound is None
+    tanks = load_study(_route(tmp_path / "tanks", fall_m=420.0, tanks=True))
+    relax = relaxation(prepare(with_sites_named(tanks)))
+    frame = pair_frame(relax)
+    assert single_option_costs(relax, frame, past) is None
+    bounds = np.arange(6.0).reshape(2, 3)
+    assert np.array_equal(with_one_change(bounds, None, 500.0), bounds)

@@ -57,7 +57,7 @@ def run_tank_paths(state: SearchState, plain: Callable[..., DesignOutcome]
     relax = relaxation(data)
     frame = pair_frame(relax)
     lagrangian = pair_bounds(relax, frame, np.zeros((data.n_scenarios, data.n_sections)))
-    single = single_option_costs(relax, frame)
+    single = single_option_costs(relax, frame, state.clock.deadline)
     change_cost = float(state.study.costs.change_cost)
     exact: dict[tuple[int, int], float] = {}
     priced: set[tuple[int, int]] = set()

@@ -11,20 +11,28 @@ could be mixed for free, which misses the change every mix of two sizes needs.
 
 from __future__ import annotations
 
+import math
+import time
+
 import numpy as np
 
 from optimiser.milp.tank_bounds import PairFrame, ReachRelaxation
 
 
-def single_option_costs(relax: ReachRelaxation, frame: PairFrame) -> np.ndarray:
+def single_option_costs(relax: ReachRelaxation, frame: PairFrame,
+                        deadline: float = math.inf) -> np.ndarray | None:
     """(A, W) the cheapest reach laid in one option from end to end that meets the
-    relaxation's rows (inf where none does)."""
+    relaxation's rows (inf where none does); None when ``deadline``
+    (:func:`time.perf_counter`) passes before every option is priced (a partial table
+    would overstate the bounds it raises)."""
     n, m = relax.cost.shape
     first, last = frame.first, np.minimum(frame.last, n)
     width = frame.section.shape[1]
     beyond = first[:, None] + np.arange(width)[None, :] >= n
     best = np.full(frame.section.shape, np.inf)
     for j in range(m):
+        if time.perf_counter() > deadline:
+            return None
         usable = relax.usable[frame.section, j, frame.band] & ~beyond
         ok = np.logical_and.accumulate(usable, axis=1) & frame.valid
         if not ok.any():
@@ -51,9 +59,10 @@ def _energy_holds(relax: ReachRelaxation, k: int, j: int, first: np.ndarray,
         return (inner <= top[:, None]) & (np.nan_to_num(end, nan=np.inf) <= top[:, None])
 
 
-def with_one_change(bounds: np.ndarray, single: np.ndarray, change_cost: float
+def with_one_change(bounds: np.ndarray, single: np.ndarray | None, change_cost: float
                     ) -> np.ndarray:
-    """Bounds raised by one change where the reach cannot be cheaper in one option."""
-    if change_cost <= 0:
+    """Bounds raised by one change where the reach cannot be cheaper in one option
+    (unchanged without the table of single options)."""
+    if change_cost <= 0 or single is None:
         return bounds
     return np.maximum(bounds, np.minimum(single, bounds + change_cost))

@@ -28,6 +28,7 @@ its cost). The cheapest node changes are offered as designs, judged by the check
 
 from __future__ import annotations
 
+import math
 import time
 from dataclasses import dataclass
 
@@ -66,9 +67,10 @@ class Enumeration:
 
 @dataclass(frozen=True)
 class PairBound:
-    """The least bound over the cases, and the node changes cheapest in it."""
+    """The least bound over the cases (None: stopped by the clock before every case was
+    bounded, so no bound), and the node changes cheapest in it."""
 
-    bound: float
+    bound: float | None
     designs: list[tuple[float, int, int, int]]  # (value, A, B, node)
 
 
@@ -107,9 +109,12 @@ def _life_cycle(e: Enumeration, pipes: np.ndarray, downstream: np.ndarray) -> np
 
 
 def pair_bounds(e: Enumeration, change_cost: float, shortest_m: float,
-                non_increasing: bool, one_change: bool) -> PairBound:
+                non_increasing: bool, one_change: bool,
+                deadline: float = math.inf) -> PairBound:
     """The least value over one piece and (with ``one_change``) every pair and change
-    place (module docstring); the three cheapest node changes as designs."""
+    place (module docstring); the three cheapest node changes as designs. Past
+    ``deadline`` (:func:`time.perf_counter`) before the last first option, the cases
+    met so far give their designs and no bound."""
     n = e.data.n_sections
     tail = e.loss[:, -1:, :] - e.loss  # (K, n+1, m) loss from node i to the outlet
     broken = (tail[:, :-1, :].max(axis=0) > e.theta + 1e-9)  # (n, m)
@@ -126,6 +131,9 @@ def pair_bounds(e: Enumeration, change_cost: float, shortest_m: float,
     long_up = e.chainage - e.chainage[0] >= shortest_m - tol  # (n+1,)
     long_down = e.chainage[-1] - e.chainage >= shortest_m - tol
     for a in range(e.theta.shape[1]):
+        if time.perf_counter() > deadline:
+            designs.sort()
+            return PairBound(None, designs[:3])
         value, node = _node_changes(e, a, tail, ok_from, long_up & long_down, change_cost,
                                     non_increasing)
         inside = _inside_changes(e, a, tail, ok_from, long_up[1:] & long_down[:-1],
@@ -222,16 +230,20 @@ def run_two_pieces(state: SearchState) -> None:
     data = state.data
     found = pair_bounds(enumeration(data, head_upper_m(data)), study.costs.change_cost,
                         min(rules.min_piece_length_m, study.route.total_chainage_m),
-                        rules.sizes_non_increasing, rules.max_changes == 1)
+                        rules.sizes_non_increasing, rules.max_changes == 1,
+                        deadline=state.clock.deadline)
     state.raise_bound(found.bound)
     catalogue = study.catalogue
     end = float(data.node_chainage_m[-1])
-    for _, a, b, node in found.designs:
+    for _, a, b, node in found.designs:  # at most three checks: one even when out of time
+        if state.clock.out() and state.best is not None:
+            break
         at = float(data.node_chainage_m[node])
         pieces = (Piece(0.0, end, catalogue[a]),) if a == b else \
             (Piece(0.0, at, catalogue[a]), Piece(at, end, catalogue[b]))
         consider(state, Design(pieces), StageKind.PUMP_TWO_PIECES.label, must_pass=False)
     best = None if state.best is None else state.best.cost
     state.stages.append(Stage(StageKind.PUMP_TWO_PIECES, StageKind.PUMP_TWO_PIECES.label,
-                              Status.OPTIMAL, best, found.bound,
+                              Status.NO_SOLUTION if found.bound is None else Status.OPTIMAL,
+                              best, found.bound,
                               time.perf_counter() - begun, 0, 0, 0))

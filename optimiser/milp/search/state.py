@@ -7,6 +7,12 @@ relaxation's results, the check points in the models, the record of every stage 
 measured cost of building models. Its methods are the only way a stage offers a design
 (:meth:`SearchState.consider`: checked by :func:`optimiser.analysis.check_design` and the
 rules), raises the bound, or solves and records a model.
+
+The time limit binds the whole run, nested runs included: every solver call and every
+run started inside a run takes its limit from :meth:`Clock.limit` (a share of the time
+left, never more than is left), loops of short steps ask :meth:`Clock.out` between
+steps, and a stage that cannot start in the time left is skipped and recorded. Only the
+final check of the returned design comes on top of the limit.
 """
 
 from __future__ import annotations
