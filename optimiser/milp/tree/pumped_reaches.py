@@ -37,7 +37,11 @@ from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.search.state import SearchState
 from optimiser.milp.solvers import SolveReport
 from optimiser.milp.tree.model import TreeFormulation, build_tree
-from optimiser.milp.tree.problem import TreeProblem, design_from_tree_reaches
+from optimiser.milp.tree.problem import (
+    TreeProblem,
+    design_from_tree_reaches,
+    reach_warm_start,
+)
 from optimiser.milp.tree.rows import line_result
 from optimiser.model import Design
 from optimiser.model.status import Status
@@ -81,7 +85,9 @@ def run_pumped_reach_rounds(state: SearchState, problem: TreeProblem,
                             rounds: int = MAX_ROUNDS) -> PumpedRound:
     """Up to ``rounds`` rounds of the pumped tree's reach model with the rules (see the
     module docstring), each with ``share`` of the time left; every bound raises the lower
-    bound. No warm start (see :func:`optimiser.milp.tree.pump_stages.run_pumped_model`)."""
+    bound. Warm-started from the best design's pipes (HiGHS completes the station heads
+    and class indicators): on the branched demo with its source lowered, the round with
+    split reaches found no solution in 22 s without it and proved 0.19 % in 18 s with it."""
     last = PumpedRound()
     kind = StageKind.REACH_MODEL
     for number in range(1, rounds + 1):
@@ -97,7 +103,9 @@ def run_pumped_reach_rounds(state: SearchState, problem: TreeProblem,
         points = sum(own.active.count() for own in refinement.lines)
         name = (f"{kind.label}, pumped tree, round {number}: {len(problem.lines)} lines, "
                 f"{sum(own.n_reaches for own in reaches)} reaches, {points} pressure points")
-        last.report = state.run_solver(kind, name, form, None, share,
+        warm = None if state.best is None else \
+            reach_warm_start(problem, reaches, form, state.best.design)
+        last.report = state.run_solver(kind, name, form, warm, share,
                                        time.perf_counter() - begun)
         if last.report.status == Status.INFEASIBLE or not last.report.has_solution:
             break
