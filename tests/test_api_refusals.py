@@ -222,3 +222,14 @@ def test_the_api_checks_a_sound_scheme_as_the_analysis_does(scheme, tmp_path):
     theirs = check_design(scheme, design, capacity=False)
     assert ours.total_cost == theirs.total_cost and ours.ok == theirs.ok
     assert ours.scenarios[0].points.equals(theirs.scenarios[0].points)
+
+
+def test_a_pump_choosing_new_tanks_needs_a_tank_of_its_own(study):
+    # docs/file-formats.md section 11: a pump with new tanks needs the tank the rising
+    # main fills (the loader refuses the file without it; the optimiser designed it by
+    # gravity, the station ignored)
+    from optimiser.model import PumpStation, TankRules
+
+    pumped = dataclasses.replace(study, pump=PumpStation(0.7, 0.15),
+                                 tank_rules=TankRules(1e4))
+    _refused_by_the_api(pumped, "the tank the rising main fills")

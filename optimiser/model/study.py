@@ -234,15 +234,22 @@ def _placement_problems(study: Study) -> list[str]:
     return problems
 
 
-def line_problems(study: Study) -> list[str]:
+def whole_study_problems(study: Study) -> list[str]:
     """Branches hanging strictly inside a line given before them, tanks strictly inside
     a line of the study (contract sections 7 and 8; from the API such a study gave an
-    IndexError or a KeyError deep in the check). Not run when a study is made: the
-    optimiser builds parts of a study in steps (a route cut at a tank before its tanks
-    and branches follow), so the public entry points run it
+    IndexError or a KeyError deep in the check), and a pump choosing new tanks with no
+    tank of the study's own for it to fill (the loader refuses it; the optimiser then
+    designed it by gravity, the station ignored). Not run when a study is made: the
+    optimiser builds parts of a study in steps that pass through such states (a route
+    cut at a tank before its tanks and branches follow, a branch's line with the pump
+    and the rules of tanks but not the tanks), so the public entry points run it
     (:mod:`optimiser.api`)."""
     ends = {TRUNK: study.route.total_chainage_m}
     problems = []
+    if study.pump is not None and study.tank_rules.cost is not None and not study.tanks:
+        problems.append("a pump with new break-pressure tanks (tank_rules.cost) needs the "
+                        "tank the rising main fills among the study's own tanks (new tanks "
+                        "then go below it); give it in tanks, or set tank_rules.cost to None")
     for branch in study.branches:
         where = f"branch {branch.name!r}"
         parent_end = ends.get(branch.parent)
