@@ -260,3 +260,23 @@ def test_closed_forms_stopped_by_the_clock_give_no_bound(tmp_path):
     assert single_option_costs(relax, frame, past) is None
     bounds = np.arange(6.0).reshape(2, 3)
     assert np.array_equal(with_one_change(bounds, None, 500.0), bounds)
+
+
+def test_a_part_of_a_pumped_main_to_a_tank_is_not_started_without_time():
+    """The rising main and the gravity main below its tank are designed one after the
+    other; with the run's deadline passed, no part's run is started (each used to get
+    at least a second)."""
+    from optimiser.milp.pumped_to_tank import _PartRuns
+    from optimiser.milp.search.state import Settings
+
+    called: list[float] = []
+
+    def plain(part, **options):
+        called.append(options["time_limit_s"])
+        raise AssertionError("must not run")
+
+    runs = _PartRuns(None, None, Settings("highs", 5.0, 1e-4), time.perf_counter() - 1.0,
+                     plain)
+    with pytest.raises(SolverError, match="time limit"):
+        runs.get(0, None)
+    assert called == []

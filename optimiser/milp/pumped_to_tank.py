@@ -118,7 +118,10 @@ class _PartRuns:
 
     def get(self, index: int, budget: int | None) -> DesignOutcome:
         if (index, budget) not in self.done:
-            left = max(self.deadline - time.perf_counter(), 1.0)
+            # never past the run's deadline: no part is started without time left
+            left = self.deadline - time.perf_counter()
+            if left < 0.2:
+                raise SolverError("no design of both parts found within the time limit")
             share = 0.6 if index == 0 and not self.done else 0.5
             part = self.parts[index]
             if budget is not None:
@@ -126,7 +129,7 @@ class _PartRuns:
                     part.rules, max_changes=budget))
             self.done[(index, budget)] = self.plain(
                 part, solver_name=self.settings.solver_name, mip_gap=self.settings.mip_gap,
-                time_limit_s=max(left * share, 1.0))
+                time_limit_s=min(max(left * share, 1.0), left))
         return self.done[(index, budget)]
 
     def stages(self) -> list:

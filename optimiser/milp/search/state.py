@@ -8,11 +8,11 @@ measured cost of building models. Its methods are the only way a stage offers a 
 (:meth:`SearchState.consider`: checked by :func:`optimiser.analysis.check_design` and the
 rules), raises the bound, or solves and records a model.
 
-The time limit binds the whole run, nested runs included: every solver call and every
-run started inside a run takes its limit from :meth:`Clock.limit` (a share of the time
-left, never more than is left), loops of short steps ask :meth:`Clock.out` between
-steps, and a stage that cannot start in the time left is skipped and recorded. Only the
-final check of the returned design comes on top of the limit.
+The time limit binds the whole run, nested runs included: a solver call
+(:meth:`SearchState.run_solver`) or a run started inside a run takes its limit from
+:meth:`Clock.limit` (a share of the time left, never more than is left), loops of short
+steps ask :meth:`Clock.out` between steps, and a stage that cannot start in the time
+left is skipped and recorded. The final check of the returned design comes on top.
 """
 
 from __future__ import annotations
@@ -83,8 +83,8 @@ class Clock:
     def limit(self, share: float = 1.0, least_s: float = LEAST_STEP_S) -> float:
         """Seconds a step starting now may take: ``share`` of the time left, at least
         ``least_s`` when that much is left, never more than is left (0 once past the
-        deadline). Every solver call and every run nested in a run takes its limit
-        from here, so that none can carry the run past its deadline."""
+        deadline): a step that takes its limit from here cannot carry the run past
+        its deadline."""
         left = max(self.left(), 0.0)
         return min(max(share * left, least_s), left)
 
