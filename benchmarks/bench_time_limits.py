@@ -38,8 +38,8 @@ import bench_schemes  # noqa: E402
 import bench_tanks  # noqa: E402
 import generate  # noqa: E402
 from builders import toml_text  # noqa: E402
+from falling_scheme import write_falling_scheme  # noqa: E402
 from pump_reference import write_main  # noqa: E402
-from random_trees import catalogue_text  # noqa: E402
 from results_file import update_section  # noqa: E402
 
 from optimiser import load_study  # noqa: E402
@@ -78,40 +78,9 @@ def _pumped_main(folder: Path, changes: int = 3) -> Study:
     return load_study(path)
 
 
-def _falling(points: int, top_m: float, fall_m: float, length_m: float) -> str:
-    rows = ["chainage_m,ground_m"]
-    for i in range(points):
-        x = i / (points - 1)
-        rows.append(f"{x * length_m:.1f},{top_m - fall_m * x + 3.0 * (i % 3 == 1):.3f}")
-    return "\n".join(rows) + "\n"
-
-
 def scheme_new_tanks(folder: Path) -> Study:
-    """A scheme falling about 250 m (more than the catalogue's highest class takes), a
-    trunk of 61 points and three branches of 25, new tanks at every point."""
-    folder.mkdir(parents=True, exist_ok=True)
-    (folder / "trunk.csv").write_text(_falling(61, 495.0, 250.0, 6000.0), "utf-8")
-    branches = []
-    for index, at_m in enumerate((1500.0, 3000.0, 4500.0), start=1):
-        top_m = 495.0 - 250.0 * at_m / 6000.0
-        (folder / f"b{index}.csv").write_text(_falling(25, top_m, 120.0, 2400.0), "utf-8")
-        branches.append({"name": f"b{index}", "at_chainage_m": at_m,
-                         "profile": f"b{index}.csv", "flow": "3 L/s",
-                         "required_head_m": top_m - 110.0})
-    (folder / "catalogue.csv").write_text(catalogue_text((90, 110, 125, 160, 200, 250)),
-                                          "utf-8")
-    study = {"title": "Invented falling scheme with new tanks", "currency": "USD",
-             "source": {"level_m": 500.0},
-             "outlet": {"required_head_m": 265.0},
-             "route": {"profile": "trunk.csv", "min_pressure_m": 2.0},
-             "branch": branches,
-             "scenario": [{"name": "peak", "flow": "8 L/s"},
-                          {"name": "night", "flow": "3 L/s", "branch_factor": 0.4}],
-             "catalogue": {"file": "catalogue.csv"},
-             "rules": {"min_piece_length_m": 100.0},
-             "break_pressure_tanks": {"height_m": 5.0, "cost": 3000.0, "max_count": 6}}
-    (folder / "study.toml").write_text(toml_text(study), encoding="utf-8")
-    return load_study(folder / "study.toml")
+    """The falling scheme of ``tests/falling_scheme.py`` (new tanks at every point)."""
+    return load_study(write_falling_scheme(folder))
 
 
 def pumped_scheme(folder: Path) -> Study:
