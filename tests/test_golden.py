@@ -14,8 +14,8 @@ run stopped at its gap target the bound is the solver's dual bound at that momen
 moves with the machine (the benchmark case's bound moved by 1.8e-5 relative between an
 earlier machine and an AMD EPYC one with the same code, under every HiGHS version from
 1.10 to 1.16): there it must stay at or below the cost and within the recorded gap
-(cost less bound) of the recorded bound. Every case runs with a generous time limit, so no stage is cut short or
-skipped by the clock.
+(cost less bound) of the recorded bound. Every case runs with a generous time limit, so
+no stage is cut short or skipped by the clock.
 """
 
 from __future__ import annotations
