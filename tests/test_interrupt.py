@@ -1,12 +1,12 @@
 """Ctrl-C and failed runs never leave a partial or stale set of outputs (issue 16 item 10).
 
 A command is started as the console script and sent SIGINT 0.5 s, 1 s and 2 s after
-Python has started it (while it imports, while it solves): it must print one line, exit 130 with no traceback, and
-leave ``--out`` and the folder around it exactly as they were. The run is a long
-trade-off (many steps), so it is still solving at every moment the signal is sent; no
-time is asserted. With worker processes, the workers leave Ctrl-C to the command, which
-stops them. Exit 130 for SIGINT is the shell's convention 128 + signal number 2
-(POSIX.1-2017, Shell Command Language, 2.8.2 Exit Status for Commands).
+Python has started it (while it imports, while it solves): it must print one line, exit
+130 with no traceback, and leave ``--out`` and the folder around it exactly as they
+were. The run is a long trade-off (many steps), so it is still solving at every moment
+the signal is sent; no time is asserted. With worker processes, the workers leave Ctrl-C
+to the command, which stops them. Exit 130 for SIGINT is the shell's convention 128 +
+signal number 2 (POSIX.1-2017, Shell Command Language, 2.8.2 Exit Status for Commands).
 """
 
 from __future__ import annotations
