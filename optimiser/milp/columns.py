@@ -17,6 +17,7 @@ import numpy as np
 
 from optimiser.milp.built_model import Formulation
 from optimiser.milp.matrix import Affine, Term, var
+from optimiser.milp.wave_classes import window_sections
 
 
 @dataclass
@@ -91,6 +92,10 @@ def _needs(form: Formulation, orders: list[list[int]]
     elif data.surge_m is not None:  # down-surge rows take the first piece's surge
         need_first |= need_last | need_interior
     need_last |= need_interior
+    # Conflict windows of surge by wave speed read both ends of every section in them.
+    window = window_sections(data.wave_conflicts, n)
+    need_first |= window
+    need_last |= window
     return need_first, need_last, need_interior
 
 

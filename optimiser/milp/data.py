@@ -27,18 +27,15 @@ from optimiser.analysis.flows import (
     line_flows_m3_s,
     node_point_k,
 )
-from optimiser.analysis.limits import (
-    CHECK_TOLERANCE,
-    class_holds,
-    node_min_pressure_m,
-    within_velocity_window,
-)
+from optimiser.analysis.limits import node_min_pressure_m, within_velocity_window
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.gradeline import section_loss_m, static_head_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.milp.tank_data import TankData, has_tanks, tank_data
 from optimiser.milp.tree.line_study import line_study
-from optimiser.model import Study, SurgeMethod
+from optimiser.milp.wave_classes import class_ok as wave_class_ok
+from optimiser.milp.wave_classes import wave_conflicts
+from optimiser.model import Study
 from optimiser.model.lines import Line
 
 SCREEN_TOLERANCE_M = 1e-3
@@ -95,6 +92,9 @@ class ProblemData:
     tanks: TankData | None = None
     """Break-pressure tanks that stand or may stand on the route (None: none); the
     static line and class admissibility below them (:mod:`optimiser.milp.tank_data`)."""
+    wave_conflicts: np.ndarray | None = None
+    """(C, 3) rows (f, c, j): no piece of option j may run from section f into section c
+    (surge by wave speed, :mod:`optimiser.milp.wave_classes`); None or empty: none."""
 
     @property
     def n_scenarios(self) -> int:
@@ -154,13 +154,17 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
             velocity_ok &= within_velocity_window(v, rules)
     lowest = np.minimum(pipe[:-1], pipe[1:])
     static_head = static_head_m(study.source.top_water_level_m, lowest, 0.0)
-    tanks = _tank_data_of(study, lowest, np.array(velocities), velocity_ok)
+    tanks = _tank_data_of(study, lowest, np.array(velocities))
     reflection = None if tanks is None else tanks.reflection_min_m  # L restarts at tanks
     if tanks is not None:  # the lowest static line any choice of tanks gives (section 8)
         static_head = tanks.static_min_m - lowest
     static_demand = static_head + study.surge_allowance_m
-    class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok, reflection)
+    # Own velocity: a relaxation of the check's piece rule; the pairs of sections a piece
+    # may not span make it exact in the models (milp/wave_classes.py).
+    class_ok = wave_class_ok(study, static_head, np.array(velocities), reflection)
     admissible = class_ok & velocity_ok
+    conflicts = wave_conflicts(study, static_head, np.array(velocities).max(axis=0),
+                               admissible, reflection)
 
     # Descending internal diameter; ties by ascending cost then catalogue position, so
     # the order is total and the same in every section and scenario.
@@ -183,18 +187,18 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
         rank=rank, screened_up=np.zeros(n + 1, dtype=bool),
         screened_down=np.zeros(n + 1, dtype=bool),
         screened_interior=np.zeros(n, dtype=bool), surge_m=surge, surge_own_m=surge_own,
-        tanks=tanks)
+        tanks=tanks, wave_conflicts=conflicts)
     return screened(data)
 
 
-def _tank_data_of(study: Study, lowest_m: np.ndarray, velocity_m_s: np.ndarray,
-                  velocity_ok: np.ndarray) -> TankData | None:
+def _tank_data_of(study: Study, lowest_m: np.ndarray, velocity_m_s: np.ndarray
+                  ) -> TankData | None:
     """The tanks of ``study`` on its route with the data's own class rule (None: the
     study has no tank and lets ``design`` add none)."""
     if not has_tanks(study):
         return None
-    return tank_data(study, lowest_m, lambda head, length=None: _class_ok(
-        study, head, velocity_m_s, velocity_ok, length), velocity_m_s.max(axis=0))
+    return tank_data(study, lowest_m, lambda head, length=None: wave_class_ok(
+        study, head, velocity_m_s, length), velocity_m_s.max(axis=0))
 
 
 def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.ndarray,
@@ -214,59 +218,6 @@ def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.nda
     length = None if length_m is None else length_m[:, None]
     return (surge_head_m(study, wave_speed[None, :], run, length_m=length),
             surge_head_m(study, wave_speed[None, :], fastest, length_m=length))
-
-
-def _surge_limit_m(study: Study) -> np.ndarray:
-    """(m,) limit of static + surge head: the working limit with the allowance method
-    (contract section 5), else each option's allowable_surge_head_m (section 10)."""
-    if study.surge.method is SurgeMethod.ALLOWANCE:
-        return study.catalogue.allowable_head_m
-    return study.catalogue.surge_limit_head_m
-
-
-def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
-              velocity_ok: np.ndarray, length_m: np.ndarray | None = None) -> np.ndarray:
-    """(n, m) option j's class takes section s's static head (and its surge).
-
-    Allowance (contract section 5): static + allowance <= allowable_head_m. By wave speed
-    (section 10): static <= allowable_head_m and static + surge <= the surge limit, where
-    the check takes a piece's surge from the largest velocity anywhere in the piece in
-    any scenario. A piece of j only covers consecutive sections where j is admissible, so
-    j is kept in s only if s passes with the largest velocity of j over its run of such
-    sections; sections that fail leave, runs split, the largest velocities fall, until
-    nothing changes (the largest set with this property). Conservative, like the class
-    decided at the section's lowest pipe level: every piece of a design built from these
-    sections passes the check's class test. ``length_m``: (n,) or (n, 1) slow-closure
-    length L per section where break-pressure tanks restart it (else the study's).
-    """
-    catalogue = study.catalogue
-    # The check's tolerance: a part of the route split exactly at a class limit has its
-    # lowest point on the limit, up to the rounding of the interpolated level.
-    tol = CHECK_TOLERANCE
-    operating = class_holds(static_head_m[:, None], catalogue.allowable_head_m[None, :], tol)
-    limit = _surge_limit_m(study) + tol
-    if study.surge.method is SurgeMethod.ALLOWANCE:
-        return operating & class_holds(static_head_m[:, None] + study.surge_allowance_m,
-                                       limit[None, :])
-    fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
-    wave_speed = wave_speeds_m_s(study, catalogue)
-    length = None if length_m is None else np.reshape(length_m, (-1, 1))
-    own = operating & (static_head_m[:, None] + surge_head_m(
-        study, wave_speed[None, :], fastest, length_m=length) <= limit[None, :])
-    ok = own.copy()
-    for j in range(len(catalogue)):
-        keep = own[:, j] & velocity_ok[:, j]
-        while True:
-            bound = _run_max(fastest[:, j], keep)
-            still = keep & (static_head_m + surge_head_m(
-                study, wave_speed[j], bound, length_m=None if length is None else length[:, 0])
-                <= limit[j])
-            if (still == keep).all():
-                break
-            keep = still
-        # Where the velocity rules out j anyway, leave its class judged on its own.
-        ok[:, j] = np.where(velocity_ok[:, j], keep, own[:, j])
-    return ok
 
 
 def _run_max(values: np.ndarray, mask: np.ndarray) -> np.ndarray:

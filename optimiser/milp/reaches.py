@@ -30,6 +30,7 @@ from optimiser.analysis import CheckResult
 from optimiser.milp.data import ProblemData
 from optimiser.milp.extract import SLIVER_M
 from optimiser.milp.formulation import Formulation
+from optimiser.milp.wave_classes import window_sections
 from optimiser.model import Design, Piece
 
 MAX_ROW_ROUNDS = 12
@@ -113,6 +114,10 @@ def merge(data: ProblemData) -> Reaches:
     joinable &= np.all(data.flow_m3_s[:, 1:] == data.flow_m3_s[:, :-1], axis=0)
     joinable &= np.all(data.admissible[1:] == data.admissible[:-1], axis=1)
     joinable &= data.zone_factor[1:] == data.zone_factor[:-1]
+    # A conflict window of surge by wave speed keeps its sections (its rows read the
+    # order of the pieces at both ends of each).
+    window = window_sections(data.wave_conflicts, n)
+    joinable &= ~window[1:] & ~window[:-1]
     starts = np.concatenate([[0], np.flatnonzero(~joinable) + 1])
     ends = np.concatenate([starts[1:] - 1, [n - 1]])
     if len(starts) == n:
@@ -149,8 +154,19 @@ def merge(data: ProblemData) -> Reaches:
             data.chainage_length_m / data.length_m, starts),
         surge_m=None if data.surge_m is None else np.maximum.reduceat(data.surge_m, starts),
         surge_own_m=None if data.surge_own_m is None
-        else np.minimum.reduceat(data.surge_own_m, starts))
+        else np.minimum.reduceat(data.surge_own_m, starts),
+        wave_conflicts=_reach_conflicts(data.wave_conflicts, starts))
     return Reaches(merged, starts, ends)
+
+
+def _reach_conflicts(conflicts: np.ndarray | None, starts: np.ndarray
+                     ) -> np.ndarray | None:
+    """Conflict windows by reach (every section of a window is a reach of its own)."""
+    if conflicts is None or not len(conflicts):
+        return conflicts
+    moved = conflicts.copy()
+    moved[:, :2] = np.searchsorted(starts, conflicts[:, :2], side="right") - 1
+    return moved
 
 
 def design_from_reaches(fine: ProblemData, reaches: Reaches, form: Formulation) -> Design:

@@ -1,0 +1,64 @@
+"""Rows that keep a piece from spanning a conflict window (surge by wave speed).
+
+Part of :mod:`optimiser.milp.formulation` (and of each line of the tree's model). A
+conflict (f, c, j) of :func:`optimiser.milp.wave_classes.wave_conflicts` says no piece
+of j may run from section f into section c: the check would judge the sections it
+reaches in c with the surge of j's velocity in f (contract section 10). A piece of j
+runs across node t (between sections t-1 and t) exactly when j is the last piece of
+t-1 and the first of t, so
+
+    w[t, j] >= last[t-1, j] + first[t, j] - 1,   sum over t = f+1..c of w[t, j] <= c - f - 1
+
+(``first``/``last`` the exact staircases of the section order, or the picks of a
+free-order section). A design whose piece of j covers f..c has every w = 1 and is cut
+off; every other design keeps w = 0 where the piece breaks: the rows cut off only
+designs the check rejects, so a model with them stays a relaxation where it was one.
+
+The staircases read the use binaries y, which could be set to 1 over a zero length and
+so fake a break. In the sections of a window a used option is therefore at least
+``BREAK_PIECE_M`` long (y <= x * chainage / ``BREAK_PIECE_M``): a model then only
+leaves out designs with a piece shorter than that inside a window, the same 1 mm the
+model keeps on every minimum piece length (``LENGTH_MARGIN_M``).
+"""
+
+from __future__ import annotations
+
+from optimiser.milp.built_model import Formulation
+from optimiser.milp.matrix import var
+
+BREAK_PIECE_M = 1e-3
+"""Least length [m of chainage] of a piece inside a conflict window (module docstring)."""
+
+
+def add_wave_rows(form: Formulation, columns) -> int:
+    """Write the rows of every conflict of ``form.data`` whose option is allowed over its
+    whole window (elsewhere a piece cannot span it anyway); return how many."""
+    data = form.data
+    conflicts = data.wave_conflicts
+    if conflicts is None or not len(conflicts):
+        return 0
+    model = form.model
+    across: dict[tuple[int, int], int] = {}
+    short: set[tuple[int, int]] = set()
+    count = 0
+    for f, c, j in conflicts.tolist():
+        if any(j not in columns.last_frac[t] or j not in columns.first_frac[t + 1]
+               for t in range(f, c)):
+            continue
+        for t in range(f + 1, c + 1):
+            if (t, j) not in across:
+                column = model.add_column(0.0, 1.0)
+                across[t, j] = column
+                model.at_least(var(column) - columns.last_frac[t - 1][j]
+                               - columns.first_frac[t][j], -1.0)
+        model.add_row([(across[t, j], 1.0) for t in range(f + 1, c + 1)],
+                      upper=float(c - f - 1))
+        short.update(range(f, c + 1))
+        count += 1
+    for s in sorted(short):
+        chainage = float(data.chainage_length_m[s])
+        for j in columns.orders[s]:
+            if (s, j) in form.y and chainage > BREAK_PIECE_M:
+                model.add_row([(form.y[s, j], BREAK_PIECE_M), (form.x[s, j], -chainage)],
+                              upper=0.0)
+    return count
