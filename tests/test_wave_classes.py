@@ -76,7 +76,8 @@ class Line:
 
 
 def _write(folder: Path, trunk: Line, *, closure_s: float = 0.0, tank_m: float | None = None,
-           branch: Line | None = None, options=OPTIONS) -> Path:
+           branch: Line | None = None, options=OPTIONS, transient_m: float | None = None,
+           source_m: float = 500.0) -> Path:
     """A study of ``trunk`` (and ``branch`` "b") from a source at 500 m; pipe 1 m under
     the ground, lengths by chainage; ``tank_m``: the study's own tank (5 m high) on the
     trunk."""
@@ -84,7 +85,7 @@ def _write(folder: Path, trunk: Line, *, closure_s: float = 0.0, tank_m: float |
     (folder / "trunk.csv").write_text(_profile(trunk.points), "utf-8")
     (folder / "catalogue.csv").write_text(_catalogue(options), "utf-8")
     study = {"title": "Invented falling main", "currency": "USD",
-             "source": {"level_m": 500.0},
+             "source": {"level_m": source_m},
              "outlet": {"required_head_m": trunk.points[-1][1] + 5.0},
              "route": {"profile": "trunk.csv", "min_pressure_m": 2.0, "length": "chainage"},
              "offtake": [{"chainage_m": c, "flow": f"{q} L/s"} for c, q in trunk.offtakes],
@@ -93,6 +94,8 @@ def _write(folder: Path, trunk: Line, *, closure_s: float = 0.0, tank_m: float |
              "surge": {"method": "joukowsky", "closure_time_s": closure_s}}
     if not trunk.offtakes:
         del study["offtake"]
+    if transient_m is not None:
+        study["surge"]["min_transient_pressure_m"] = transient_m
     if tank_m is not None:
         study["break_pressure_tanks"] = {"height_m": 5.0}
         study["break_pressure_tank"] = [{"chainage_m": tank_m}]
@@ -217,19 +220,19 @@ def _pieces(parts: list[Part], layout, study, branch: str) -> list[Piece]:
 class Surface:
     """Free surface above a chainage of the trunk: the source (500 m) or the tank."""
 
-    def __init__(self, trunk: Line, total_m: float, tank_m: float | None, start_m: float = 0.0
-                 ) -> None:
+    def __init__(self, trunk: Line, total_m: float, tank_m: float | None,
+                 top_m: float = 500.0) -> None:
         self.tank_chainages = () if tank_m is None else (tank_m,)
         self.tank_level_m = None if tank_m is None else \
             float(np.interp(tank_m, *zip(*trunk.points, strict=True))) + 5.0
         self.tank_m = tank_m
         self.total_m = total_m  # pipe length from the source to the end of the line
-        self.start_m = start_m  # pipe length from the source to the line's start
+        self.top_m = top_m
 
     def __call__(self, chainage_m: float) -> tuple[float, float]:
         if self.tank_m is not None and chainage_m > self.tank_m:
             return self.tank_level_m, self.total_m - self.tank_m
-        return 500.0, self.total_m
+        return self.top_m, self.total_m
 
 
 def _offtakes_below(line: Line, extra=()):
@@ -241,16 +244,16 @@ def _offtakes_below(line: Line, extra=()):
 
 def cheapest_by_enumeration(path: Path, trunk: Line, closure_s: float,
                             tank_m: float | None = None, branch: Line | None = None,
-                            options=OPTIONS) -> float:
+                            options=OPTIONS, source_m: float = 500.0) -> float:
     """The cheapest design the check passes, by enumeration (module docstring)."""
     study = load_study(path)
     length = trunk.points[-1][0]
     extra = () if branch is None else ((branch.at_chainage_m, branch.outlet_l_s),)
     lines = [(_parts(trunk, flow_below_m3_s=_offtakes_below(trunk, extra),
-                     surface=Surface(trunk, length, tank_m), closure_s=closure_s,
+                     surface=Surface(trunk, length, tank_m, source_m), closure_s=closure_s,
                      options=options), "main")]
     if branch is not None:
-        surface = Surface(trunk, branch.at_chainage_m + branch.points[-1][0], None)
+        surface = Surface(trunk, branch.at_chainage_m + branch.points[-1][0], None, source_m)
         lines.append((_parts(branch, flow_below_m3_s=_offtakes_below(branch),
                              surface=surface, closure_s=closure_s, options=options), "b"))
     chosen: list[Piece] = []
@@ -391,10 +394,10 @@ def test_small_main_equals_the_enumeration(tmp_path, closure_s):
     assert outcome.lower_bound <= best * (1 + 1e-9)
 
 
-def _random_main(seed: int) -> Line:
+def _random_main(seed: int, fall_m: float = 140.0) -> Line:
     rng = np.random.default_rng(seed)
     drops = rng.uniform(0.2, 0.45, 3)
-    ground = 495.0 - 140.0 * np.concatenate([[0.0], np.cumsum(drops / drops.sum())])
+    ground = 495.0 - fall_m * np.concatenate([[0.0], np.cumsum(drops / drops.sum())])
     ground[-1] -= rng.uniform(-8.0, 8.0)
     points = tuple((500.0 * i, round(float(g), 2)) for i, g in enumerate(ground))
     return Line(points, round(float(rng.uniform(6.0, 12.0)), 1),
@@ -418,12 +421,35 @@ def test_random_mains_against_the_enumeration(tmp_path, seed, closure_s, tank_m)
 
 
 @pytest.mark.parametrize("closure_s", [0.0, SLOW_S])
-def test_small_scheme_against_the_enumeration(tmp_path, closure_s):
+@pytest.mark.parametrize("tank_m", [None, 1000.0])
+def test_small_scheme_against_the_enumeration(tmp_path, closure_s, tank_m):
+    # a branch leaving the trunk at 500 m; the study's own tank (if any) on the trunk
+    # below the junction
     trunk = Line(((0.0, 495.0), (500.0, 460.0), (1000.0, 410.0), (1500.0, 360.0)), 8.0)
     branch = Line(((0.0, 460.0), (500.0, 420.0), (1000.0, 357.0)), 6.0, at_chainage_m=500.0)
-    path = _write(tmp_path / "s", trunk, closure_s=closure_s, branch=branch)
-    best = cheapest_by_enumeration(path, trunk, closure_s, branch=branch)
+    path = _write(tmp_path / "s", trunk, closure_s=closure_s, branch=branch, tank_m=tank_m)
+    best = cheapest_by_enumeration(path, trunk, closure_s, tank_m, branch=branch)
     outcome = optimise_design(load_study(path), mip_gap=1e-9)
     assert outcome.design is not None
     assert outcome.lower_bound <= best * (1 + 1e-9)
     assert outcome.total_cost == pytest.approx(best, rel=1e-6)
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3, 4])
+@pytest.mark.parametrize("closure_s", [0.0, SLOW_S])
+def test_down_surge_bound_against_the_enumeration(tmp_path, seed, closure_s):
+    # With min_transient_pressure_m the check deducts each piece's surge from the
+    # pressure at every point: the enumeration's cheapest layout the check passes bounds
+    # the optimum from above (its boundaries are where classes change, not where the
+    # down-surge would put them), so the bound must lie below it and the design pass.
+    trunk = _random_main(seed, fall_m=110.0)
+    path = _write(tmp_path / "s", trunk, closure_s=closure_s, transient_m=-5.0,
+                  source_m=530.0)
+    best = cheapest_by_enumeration(path, trunk, closure_s, source_m=530.0)
+    outcome = optimise_design(load_study(path), mip_gap=1e-9)
+    if outcome.design is None:
+        assert math.isinf(best)
+        return
+    assert check_design(load_study(path), outcome.design).ok
+    assert outcome.lower_bound <= best * (1 + 1e-9)
+    assert outcome.total_cost <= best * (1 + 1e-6)

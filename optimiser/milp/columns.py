@@ -94,6 +94,8 @@ def _needs(form: Formulation, orders: list[list[int]]
     need_last |= need_interior
     # Conflict windows of surge by wave speed read both ends of every section in them.
     window = window_sections(data.wave_conflicts, n)
+    if data.surge_carry is not None and not form.any_order:  # carried surge (down-surge)
+        window |= data.surge_carry.any(axis=1)
     need_first |= window
     need_last |= window
     return need_first, need_last, need_interior

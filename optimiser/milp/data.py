@@ -33,9 +33,9 @@ from optimiser.hydraulics.gradeline import section_loss_m, static_head_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.milp.tank_data import TankData, has_tanks, tank_data
 from optimiser.milp.tree.line_study import line_study
+from optimiser.milp.wave_classes import carry_mask, wave_conflicts
 from optimiser.milp.wave_classes import class_ok as wave_class_ok
-from optimiser.milp.wave_classes import wave_conflicts
-from optimiser.model import Study
+from optimiser.model import Study, SurgeMethod
 from optimiser.model.lines import Line
 
 SCREEN_TOLERANCE_M = 1e-3
@@ -95,6 +95,11 @@ class ProblemData:
     wave_conflicts: np.ndarray | None = None
     """(C, 3) rows (f, c, j): no piece of option j may run from section f into section c
     (surge by wave speed, :mod:`optimiser.milp.wave_classes`); None or empty: none."""
+    surge_carry: np.ndarray | None = None
+    """(n, m) a piece of j may bring into s a velocity above j's own there (down-surge
+    rows by wave speed, :mod:`optimiser.milp.carried_surge`); None: no such rows."""
+    surge_slope: np.ndarray | None = None
+    """(n, m) surge head per m/s of velocity of option j in section s [m s/m]."""
 
     @property
     def n_scenarios(self) -> int:
@@ -187,7 +192,8 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
         rank=rank, screened_up=np.zeros(n + 1, dtype=bool),
         screened_down=np.zeros(n + 1, dtype=bool),
         screened_interior=np.zeros(n, dtype=bool), surge_m=surge, surge_own_m=surge_own,
-        tanks=tanks, wave_conflicts=conflicts)
+        tanks=tanks, wave_conflicts=conflicts,
+        **_carried(study, np.array(velocities).max(axis=0), admissible, reflection))
     return screened(data)
 
 
@@ -205,10 +211,12 @@ def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.nda
                       length_m: np.ndarray | None = None
                       ) -> tuple[np.ndarray | None, np.ndarray | None]:
     """Surge heads of the down-surge rows (contract section 10), or (None, None) when
-    the study sets no ``min_transient_pressure_m``: (n, m) conservative (the largest
-    velocity of each option over its run of admissible sections, as the check takes a
-    piece's largest velocity) and (n, m) the section's own. ``length_m``: (n,) L per
-    section where break-pressure tanks restart it (the least any choice gives)."""
+    the study sets no ``min_transient_pressure_m``: (n, m) at least the check's for any
+    piece of j in s (the largest velocity of j over its run of admissible sections; for
+    screening and dominance only) and (n, m) the section's own (the models' rows, with
+    the surge a piece carries from above added, :mod:`optimiser.milp.carried_surge`).
+    ``length_m``: (n,) L per section where break-pressure tanks restart it (the least
+    any choice gives)."""
     if study.surge.min_transient_pressure_m is None:
         return None, None
     fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
@@ -218,6 +226,19 @@ def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.nda
     length = None if length_m is None else length_m[:, None]
     return (surge_head_m(study, wave_speed[None, :], run, length_m=length),
             surge_head_m(study, wave_speed[None, :], fastest, length_m=length))
+
+
+def _carried(study: Study, fastest_m_s: np.ndarray, admissible: np.ndarray,
+             length_m: np.ndarray | None) -> dict[str, np.ndarray | None]:
+    """``surge_carry`` and ``surge_slope`` of the down-surge rows by wave speed (both
+    None without such rows or with the allowance method, whose surge is one number)."""
+    if study.surge.min_transient_pressure_m is None \
+            or study.surge.method is not SurgeMethod.JOUKOWSKY:
+        return {"surge_carry": None, "surge_slope": None}
+    wave = wave_speeds_m_s(study, study.catalogue)
+    slope = surge_head_m(study, wave[None, :], np.ones_like(fastest_m_s),
+                         length_m=None if length_m is None else length_m[:, None])
+    return {"surge_carry": carry_mask(fastest_m_s, admissible), "surge_slope": slope}
 
 
 def _run_max(values: np.ndarray, mask: np.ndarray) -> np.ndarray:

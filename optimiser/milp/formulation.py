@@ -125,7 +125,7 @@ from optimiser.milp.pump_columns import add_pump_columns
 from optimiser.milp.pumps.class_rows import add_pumping_class_rows
 from optimiser.milp.rule_rows import add_rule_rows
 from optimiser.milp.tank_rows import add_static_rows
-from optimiser.milp.wave_rows import add_wave_rows
+from optimiser.milp.wave_rows import add_break_rows, add_wave_rows
 
 __all__ = ["LENGTH_MARGIN_M", "MARGIN_M", "Formulation", "WarmStart", "build",
            "rules_active"]
@@ -170,6 +170,7 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
     add_pumping_class_rows(form)
     change_terms: list[Term] = add_rule_rows(form, columns) if with_rules else []
     add_wave_rows(form, columns)
+    add_break_rows(form, columns)
     # changes = uses - continuations - 1: the constant stays outside the solver's
     # objective and is added back on reading.
     change_cost = data.study.costs.change_cost

@@ -117,6 +117,8 @@ def merge(data: ProblemData) -> Reaches:
     # A conflict window of surge by wave speed keeps its sections (its rows read the
     # order of the pieces at both ends of each).
     window = window_sections(data.wave_conflicts, n)
+    if data.surge_carry is not None:  # sections where a piece may carry surge
+        window |= data.surge_carry.any(axis=1)
     joinable &= ~window[1:] & ~window[:-1]
     starts = np.concatenate([[0], np.flatnonzero(~joinable) + 1])
     ends = np.concatenate([starts[1:] - 1, [n - 1]])
@@ -155,7 +157,9 @@ def merge(data: ProblemData) -> Reaches:
         surge_m=None if data.surge_m is None else np.maximum.reduceat(data.surge_m, starts),
         surge_own_m=None if data.surge_own_m is None
         else np.minimum.reduceat(data.surge_own_m, starts),
-        wave_conflicts=_reach_conflicts(data.wave_conflicts, starts))
+        wave_conflicts=_reach_conflicts(data.wave_conflicts, starts),
+        surge_carry=None if data.surge_carry is None else data.surge_carry[starts],
+        surge_slope=None if data.surge_slope is None else data.surge_slope[starts])
     return Reaches(merged, starts, ends)
 
 

@@ -125,3 +125,18 @@ def options_in_conflict(conflicts: np.ndarray | None, n_options: int) -> np.ndar
     if conflicts is not None and len(conflicts):
         found[np.unique(conflicts[:, 2])] = True
     return found
+
+
+def carry_mask(fastest_m_s: np.ndarray, admissible: np.ndarray) -> np.ndarray:
+    """(n, m) a piece of j may bring into section s a velocity above j's own there: j is
+    admissible in every section from some drop of its velocity down to s."""
+    n, m = admissible.shape
+    carry = np.zeros((n, m), dtype=bool)
+    drop = np.zeros((n, m), dtype=bool)
+    drop[1:] = admissible[1:] & admissible[:-1] & (fastest_m_s[1:] < fastest_m_s[:-1])
+    for j in range(m):
+        flag = False
+        for s in range(n):
+            flag = bool(admissible[s, j]) and (flag or bool(drop[s, j]))
+            carry[s, j] = flag
+    return carry

@@ -23,11 +23,25 @@ model keeps on every minimum piece length (``LENGTH_MARGIN_M``).
 
 from __future__ import annotations
 
+import numpy as np
+
 from optimiser.milp.built_model import Formulation
 from optimiser.milp.matrix import var
+from optimiser.milp.wave_classes import window_sections
 
 BREAK_PIECE_M = 1e-3
 """Least length [m of chainage] of a piece inside a conflict window (module docstring)."""
+
+
+def continuation(form: Formulation, columns, t: int, j: int) -> int:
+    """Column ``w[t, j]`` >= last[t-1, j] + first[t, j] - 1: the piece of j runs across
+    node t (one per node and option, shared by the rows that need it)."""
+    if (t, j) not in form.runs:
+        column = form.model.add_column(0.0, 1.0)
+        form.runs[t, j] = column
+        form.model.at_least(var(column) - columns.last_frac[t - 1][j]
+                            - columns.first_frac[t][j], -1.0)
+    return form.runs[t, j]
 
 
 def add_wave_rows(form: Formulation, columns) -> int:
@@ -38,27 +52,28 @@ def add_wave_rows(form: Formulation, columns) -> int:
     if conflicts is None or not len(conflicts):
         return 0
     model = form.model
-    across: dict[tuple[int, int], int] = {}
-    short: set[tuple[int, int]] = set()
     count = 0
     for f, c, j in conflicts.tolist():
         if any(j not in columns.last_frac[t] or j not in columns.first_frac[t + 1]
                for t in range(f, c)):
             continue
-        for t in range(f + 1, c + 1):
-            if (t, j) not in across:
-                column = model.add_column(0.0, 1.0)
-                across[t, j] = column
-                model.at_least(var(column) - columns.last_frac[t - 1][j]
-                               - columns.first_frac[t][j], -1.0)
-        model.add_row([(across[t, j], 1.0) for t in range(f + 1, c + 1)],
+        model.add_row([(continuation(form, columns, t, j), 1.0) for t in range(f + 1, c + 1)],
                       upper=float(c - f - 1))
-        short.update(range(f, c + 1))
         count += 1
-    for s in sorted(short):
+    return count
+
+
+def add_break_rows(form: Formulation, columns) -> None:
+    """In every section of a conflict window or where a piece may carry surge, a used
+    option is at least ``BREAK_PIECE_M`` long (module docstring)."""
+    data = form.data
+    short = window_sections(data.wave_conflicts, data.n_sections)
+    if data.surge_carry is not None and not form.any_order:
+        short |= data.surge_carry.any(axis=1)
+    model = form.model
+    for s in np.flatnonzero(short).tolist():
         chainage = float(data.chainage_length_m[s])
         for j in columns.orders[s]:
             if (s, j) in form.y and chainage > BREAK_PIECE_M:
                 model.add_row([(form.y[s, j], BREAK_PIECE_M), (form.x[s, j], -chainage)],
                               upper=0.0)
-    return count
