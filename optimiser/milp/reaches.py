@@ -30,7 +30,6 @@ from optimiser.analysis import CheckResult
 from optimiser.milp.data import ProblemData
 from optimiser.milp.extract import SLIVER_M
 from optimiser.milp.formulation import Formulation
-from optimiser.milp.wave_classes import window_sections
 from optimiser.model import Design, Piece
 
 MAX_ROW_ROUNDS = 12
@@ -114,12 +113,15 @@ def merge(data: ProblemData) -> Reaches:
     joinable &= np.all(data.flow_m3_s[:, 1:] == data.flow_m3_s[:, :-1], axis=0)
     joinable &= np.all(data.admissible[1:] == data.admissible[:-1], axis=1)
     joinable &= data.zone_factor[1:] == data.zone_factor[:-1]
-    # A conflict window of surge by wave speed keeps its sections (its rows read the
-    # order of the pieces at both ends of each).
-    window = window_sections(data.wave_conflicts, n)
-    if data.surge_carry is not None:  # sections where a piece may carry surge
-        window |= data.surge_carry.any(axis=1)
-    joinable &= ~window[1:] & ~window[:-1]
+    # Surge by wave speed: a reach ends at the first section of every conflict window and
+    # starts at its last (its rows need a piece of the reach to touch those sections);
+    # sections where a piece may carry surge into the down-surge rows stay whole.
+    if data.wave_conflicts is not None and len(data.wave_conflicts):
+        joinable[data.wave_conflicts[:, 0]] = False
+        joinable[data.wave_conflicts[:, 1] - 1] = False
+    if data.surge_carry is not None:
+        carry = data.surge_carry.any(axis=1)
+        joinable &= ~carry[1:] & ~carry[:-1]
     starts = np.concatenate([[0], np.flatnonzero(~joinable) + 1])
     ends = np.concatenate([starts[1:] - 1, [n - 1]])
     if len(starts) == n:
@@ -165,7 +167,8 @@ def merge(data: ProblemData) -> Reaches:
 
 def _reach_conflicts(conflicts: np.ndarray | None, starts: np.ndarray
                      ) -> np.ndarray | None:
-    """Conflict windows by reach (every section of a window is a reach of its own)."""
+    """Conflict windows by reach (the first and last section of every window end and
+    start a reach)."""
     if conflicts is None or not len(conflicts):
         return conflicts
     moved = conflicts.copy()

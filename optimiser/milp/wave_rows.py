@@ -10,9 +10,13 @@ t-1 and the first of t, so
     w[t, j] >= last[t-1, j] + first[t, j] - 1,   sum over t = f+1..c of w[t, j] <= c - f - 1
 
 (``first``/``last`` the exact staircases of the section order, or the picks of a
-free-order section). A design whose piece of j covers f..c has every w = 1 and is cut
-off; every other design keeps w = 0 where the piece breaks: the rows cut off only
-designs the check rejects, so a model with them stays a relaxation where it was one.
+free-order section). A merged reach r strictly inside a window (pieces in any order,
+:mod:`optimiser.milp.reaches`; a window's first section ends a reach and its last
+starts one) adds ``u[r, j] >= first[r, j] + last[r, j] - 1 - (uses of other options in
+r)`` to the sum and 1 to its right-hand side: j runs through r only alone. A design
+whose piece of j covers f..c has every w and u = 1 and is cut off; every other design
+keeps one at 0 where the piece breaks: the rows cut off only designs the check rejects,
+so a model with them stays a relaxation where it was one.
 
 The staircases read the use binaries y, which could be set to 1 over a zero length and
 so fake a break. In the sections of a window a used option is therefore at least
@@ -26,7 +30,7 @@ from __future__ import annotations
 import numpy as np
 
 from optimiser.milp.built_model import Formulation
-from optimiser.milp.matrix import var
+from optimiser.milp.matrix import Affine, var
 from optimiser.milp.wave_classes import window_sections
 
 BREAK_PIECE_M = 1e-3
@@ -52,15 +56,32 @@ def add_wave_rows(form: Formulation, columns) -> int:
     if conflicts is None or not len(conflicts):
         return 0
     model = form.model
+    free = np.zeros(data.n_sections, dtype=bool) if data.free_order is None \
+        else data.free_order
     count = 0
     for f, c, j in conflicts.tolist():
         if any(j not in columns.last_frac[t] or j not in columns.first_frac[t + 1]
                for t in range(f, c)):
             continue
-        model.add_row([(continuation(form, columns, t, j), 1.0) for t in range(f + 1, c + 1)],
-                      upper=float(c - f - 1))
+        terms = [(continuation(form, columns, t, j), 1.0) for t in range(f + 1, c + 1)]
+        terms += [(_alone(form, columns, r, j), 1.0) for r in range(f + 1, c) if free[r]]
+        model.add_row(terms, upper=float(len(terms) - 1))
         count += 1
     return count
+
+
+def _alone(form: Formulation, columns, r: int, j: int) -> int:
+    """Column ``u[r, j]`` >= first[r, j] + last[r, j] - 1 - (uses of other options): a
+    merged reach r (pieces in any order) that j runs through, first, last and alone
+    (with another option between, j's run breaks inside the reach)."""
+    key = (-1 - r, j)  # merged reaches: keys apart from the nodes' in ``form.runs``
+    if key not in form.runs:
+        column = form.model.add_column(0.0, 1.0)
+        form.runs[key] = column
+        others = [(form.y[r, k], 1.0) for k in columns.orders[r] if k != j]
+        form.model.at_least(var(column) - columns.first_frac[r][j] - columns.last_frac[r][j]
+                            + Affine(others), -1.0)
+    return form.runs[key]
 
 
 def add_break_rows(form: Formulation, columns) -> None:
