@@ -40,12 +40,13 @@ def finish(state: SearchState, *, capital_from_check: bool = False,
     if not final.ok:
         raise VerificationError("the returned design fails the final check (a bug)")
     bound = min(state.bound, best.cost)
-    lp_bound = None if state.lp_bound is None else min(state.lp_bound, best.cost)
+    lp_bound = None if state.lp_bound is None or not state.proofs \
+        else min(state.lp_bound, best.cost)
     gap = relative_gap(best.cost, bound)
     status = Status.OPTIMAL if gap is not None and gap <= state.settings.gap_target \
         else Status.FEASIBLE
     full = state.full_report
-    if full is not None and full.status == Status.OPTIMAL and \
+    if state.proofs and full is not None and full.status == Status.OPTIMAL and \
             best.cost <= (full.objective or math.inf) + 1e-9 * abs(best.cost):
         status = Status.OPTIMAL  # the solver's own proof (its gap is measured as it defines it)
     fields.setdefault("uniform", None)
