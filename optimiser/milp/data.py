@@ -168,8 +168,6 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
     # may not span make it exact in the models (milp/wave_classes.py).
     class_ok = wave_class_ok(study, static_head, np.array(velocities), reflection)
     admissible = class_ok & velocity_ok
-    conflicts = wave_conflicts(study, static_head, np.array(velocities).max(axis=0),
-                               admissible, reflection)
 
     # Descending internal diameter; ties by ascending cost then catalogue position, so
     # the order is total and the same in every section and scenario.
@@ -179,7 +177,6 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
     rank[order] = np.arange(m)
 
     head = np.array(heads)
-    surge, surge_own = _transient_surges(study, np.array(velocities), admissible, reflection)
     data = ProblemData(
         study=study, n_sections=n, n_options=m, node_chainage_m=chainage.copy(),
         node_pipe_level_m=pipe, node_min_pressure_m=node_min, node_point_k=node_k,
@@ -191,10 +188,21 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
         class_ok=class_ok, velocity_ok=velocity_ok, admissible=admissible, order=order,
         rank=rank, screened_up=np.zeros(n + 1, dtype=bool),
         screened_down=np.zeros(n + 1, dtype=bool),
-        screened_interior=np.zeros(n, dtype=bool), surge_m=surge, surge_own_m=surge_own,
-        tanks=tanks, wave_conflicts=conflicts,
-        **_carried(study, np.array(velocities).max(axis=0), admissible, reflection))
+        screened_interior=np.zeros(n, dtype=bool), tanks=tanks,
+        **_surge_data(study, static_head, np.array(velocities), admissible, reflection))
     return screened(data)
+
+
+def _surge_data(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
+                admissible: np.ndarray, length_m: np.ndarray | None) -> dict:
+    """The surge fields of :class:`ProblemData`: the down-surge heads, the pairs a piece
+    may not span and the surge a piece may carry (surge by wave speed)."""
+    surge, surge_own = _transient_surges(study, velocity_m_s, admissible, length_m)
+    fastest = velocity_m_s.max(axis=0)
+    return {"surge_m": surge, "surge_own_m": surge_own,
+            "wave_conflicts": wave_conflicts(study, static_head_m, fastest, admissible,
+                                             length_m),
+            **_carried(study, fastest, admissible, length_m)}
 
 
 def _tank_data_of(study: Study, lowest_m: np.ndarray, velocity_m_s: np.ndarray
