@@ -453,3 +453,33 @@ def test_down_surge_bound_against_the_enumeration(tmp_path, seed, closure_s):
     assert check_design(load_study(path), outcome.design).ok
     assert outcome.lower_bound <= best * (1 + 1e-9)
     assert outcome.total_cost <= best * (1 + 1e-6)
+
+
+def test_pumped_main_with_falling_flow_claims_no_bound(tmp_path):
+    # A pumped main (contract section 9) whose flow falls at an offtake: its classes
+    # under pumping take each option's surge at its largest velocity on the line, which
+    # may leave out designs the check accepts (a piece laid only below the offtake is
+    # slower), so the run may not call its design optimal nor report a bound (bounds only
+    # from relaxations: docs/method.md, "Why the answer is the cheapest"); the design it
+    # returns passes the check.
+    folder = tmp_path / "pumped"
+    folder.mkdir()
+    (folder / "trunk.csv").write_text(_profile(((0.0, 100.0), (1000.0, 100.0),
+                                                (2000.0, 100.0))), "utf-8")
+    (folder / "catalogue.csv").write_text(_catalogue(), "utf-8")
+    study = {"title": "Invented pumped main", "currency": "USD",
+             "source": {"level_m": 100.0},
+             "outlet": {"required_head_m": 160.0},
+             "route": {"profile": "trunk.csv", "min_pressure_m": 0.0, "length": "chainage"},
+             "offtake": [{"chainage_m": 1000.0, "flow": "10 L/s"}],
+             "scenario": [{"name": "duty", "flow": "10 L/s", "hours_per_year": 3000.0}],
+             "catalogue": {"file": "catalogue.csv"},
+             "surge": {"method": "joukowsky", "closure_time_s": 0.0},
+             "pump": {"efficiency": 0.7, "energy_price": 0.15}}
+    (folder / "study.toml").write_text(toml_text(study), "utf-8")
+    loaded = load_study(folder / "study.toml")
+    outcome = optimise_design(loaded, mip_gap=1e-6)
+    assert outcome.design is not None
+    assert check_design(loaded, outcome.design).ok
+    assert outcome.status.value == "feasible"
+    assert outcome.lower_bound is None and outcome.lp_bound is None

@@ -52,5 +52,6 @@ def finish(state: SearchState, *, capital_from_check: bool = False,
     fields.setdefault("uniform", None)
     return state.outcome(status, design=best.design, check=final,
                          total_cost=final.total_cost if capital_from_check else best.cost,
-                         lower_bound=bound, gap=gap, lp_bound=lp_bound,
+                         lower_bound=bound if math.isfinite(bound) else None, gap=gap,
+                         lp_bound=lp_bound,
                          binding=binding_points(final), **fields)

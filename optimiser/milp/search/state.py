@@ -185,7 +185,8 @@ class SearchState:
 
     def proven(self) -> bool:
         """The best design is within the gap target of the bound."""
-        return self.best is not None and self.best_gap() <= self.settings.gap_target
+        return self.proofs and self.best is not None \
+            and self.best_gap() <= self.settings.gap_target
 
     def raise_bound(self, value: float | None) -> None:
         """Take a relaxation's bound (only relaxations may call this)."""
