@@ -211,8 +211,16 @@ def _tank_data_of(study: Study, lowest_m: np.ndarray, velocity_m_s: np.ndarray
     study has no tank and lets ``design`` add none)."""
     if not has_tanks(study):
         return None
-    return tank_data(study, lowest_m, lambda head, length=None: wave_class_ok(
+    tanks = tank_data(study, lowest_m, lambda head, length=None: wave_class_ok(
         study, head, velocity_m_s, length), velocity_m_s.max(axis=0))
+    fastest = velocity_m_s.max(axis=0)
+    if tanks.any_candidate and study.surge.method is SurgeMethod.JOUKOWSKY \
+            and (fastest != fastest[:1]).any():
+        # The pairs a piece may not span and the surge it carries are judged under the
+        # lowest static line and the least L any choice of new tanks gives: a
+        # relaxation, so the designs of the model with new tanks must pass the check.
+        tanks = dataclasses.replace(tanks, exact_classes=False)
+    return tanks
 
 
 def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.ndarray,
