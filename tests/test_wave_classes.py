@@ -14,8 +14,11 @@ Check values:
 - an independent brute force over piece layouts: every layout of whole parts of the
   route (survey points, tanks and every chainage where the pipe crosses a class limit
   at any flow of the line, found here by the formulas above) is enumerated part by
-  part, the cheapest judged first by the check until one passes (common practice, no
-  source: the definition of the cheapest design). With pressures far from binding
+  part, and where the flow drops between two parts of one option also the run broken
+  there by a 1 mm piece of another option (the check judges each piece on its own; the
+  optimiser lays no piece shorter inside such a stretch); the cheapest is judged first
+  by the check until one passes (common practice, no source: the definition of the
+  cheapest design). With pressures far from binding
   (invented routes with head to spare) the cheapest design has its boundaries at those
   chainages (cost is linear in length between them), so the enumeration finds the
   optimum.
