@@ -9,6 +9,7 @@ solver, presolve step and stage reads: the arrays of the model
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -68,6 +69,12 @@ class Formulation:
     pump_head_cap_m: np.ndarray | None = None
     """Upper bounds of the station heads known before the build (from a design in
     hand: no cheaper design needs more), or None."""
+    carried: Any = None
+    """The surge pieces carry from larger flows above, per section (surge by wave speed
+    with a down-surge limit, :class:`optimiser.milp.carried_surge.CarriedSurge`)."""
+    runs: dict[tuple[int, int], int] = field(default_factory=dict)
+    """Columns ``w[t, j]``: the piece of option j runs across node t (surge by wave
+    speed, :func:`optimiser.milp.wave_rows.continuation`)."""
     pump_indicators: list[int] = field(default_factory=list)
     """Binaries of the classes under pumping pressure (one per section and class level
     the pumping pressure could exceed)."""

@@ -93,9 +93,50 @@ def crossing_chainages_m(route: Route, levels_m: np.ndarray) -> np.ndarray:
     return found
 
 
+def upstream_crossings_m(study: Study, line: Line | None = None) -> np.ndarray:
+    """Surge by wave speed: chainages where the pipe crosses the surge limit of an
+    option at a velocity a piece can bring from upstream on its line (the flow of a
+    section above it; flows never grow downstream), so that the class of every piece
+    reaching a part holds at every metre of it or at none
+    (:mod:`optimiser.milp.wave_classes`). Empty with the allowance method."""
+    scheme = study
+    study = study if line is None else line_study(scheme, line)
+    if study.surge.method is not SurgeMethod.JOUKOWSKY:
+        return np.zeros(0)
+    route = study.route if line is None else line.route
+    catalogue = study.catalogue
+    area = np.pi * catalogue.internal_diameter_m ** 2 / 4.0
+    flow = _fastest_m_s(scheme, line)[:, 0] * area[0]  # (n,) largest flow over scenarios
+    wave = wave_speeds_m_s(study, catalogue)
+    found = [np.zeros(0)]
+    for q in np.unique(flow)[:-1].tolist():  # the largest flow is the first section's own
+        surge = surge_head_m(study, wave[None, :], np.full((1, len(area)), q) / area)
+        levels = study.source.top_water_level_m + surge - catalogue.surge_limit_head_m
+        below = flow[:, None] < q  # only where a piece from above can bring q
+        found.append(crossing_chainages_m(route, np.where(below, levels, np.nan)))
+    return np.unique(np.concatenate(found))
+
+
+def _with_crossings(route: Route, found: np.ndarray, more: np.ndarray) -> np.ndarray:
+    """Crossings ``found`` and ``more`` together, apart from the survey points and from
+    each other by the least spacing."""
+    if not len(more):
+        return found
+    both = np.unique(np.concatenate([found, more]))
+    nodes = route.chainage_m
+    index = np.clip(np.searchsorted(nodes, both), 1, len(nodes) - 1)
+    both = both[(both - nodes[index - 1] > MIN_SPACING_M)
+                & (nodes[index] - both > MIN_SPACING_M)]
+    if len(both) > 1:
+        both = both[np.concatenate([[True], np.diff(both) > MIN_SPACING_M])]
+    return both
+
+
 def split_at_class_limits(study: Study) -> Study:
     """``study`` with its route split wherever an option's class limit is crossed."""
-    found = crossing_chainages_m(study.route, limit_levels_m(study))
+    found = _with_crossings(study.route, crossing_chainages_m(study.route,
+                                                               limit_levels_m(study)),
+                            upstream_crossings_m(study))
     if len(found) == 0:
         return study
     return dataclasses.replace(study, route=study.route.with_nodes(found, tolerance_m=0.0))
@@ -104,5 +145,7 @@ def split_at_class_limits(study: Study) -> Study:
 def split_line_at_class_limits(study: Study, line: Line) -> Route:
     """The route of ``line`` (of the scheme ``study``) split wherever an option's class
     limit is crossed."""
-    found = crossing_chainages_m(line.route, limit_levels_m(study, line))
+    found = _with_crossings(line.route, crossing_chainages_m(line.route,
+                                                              limit_levels_m(study, line)),
+                            upstream_crossings_m(study, line))
     return line.route if len(found) == 0 else line.route.with_nodes(found, tolerance_m=0.0)

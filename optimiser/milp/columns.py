@@ -17,6 +17,7 @@ import numpy as np
 
 from optimiser.milp.built_model import Formulation
 from optimiser.milp.matrix import Affine, Term, var
+from optimiser.milp.wave_classes import window_sections
 
 
 @dataclass
@@ -44,6 +45,9 @@ def add_section_columns(form: Formulation, tiebreak: float) -> SectionColumns:
     columns = SectionColumns(orders, [{} for _ in range(n)], [{} for _ in range(n)],
                              [[] for _ in range(n)], need_interior)
     free = np.zeros(n, dtype=bool) if data.free_order is None else data.free_order
+    # A merged reach inside a conflict window picks its first and last piece even with
+    # the rules relaxed: the rows of the window read them (milp/wave_rows.py).
+    window = window_sections(data.wave_conflicts, n)
     for s in range(n):
         order = orders[s]
         if not order:
@@ -52,7 +56,7 @@ def add_section_columns(form: Formulation, tiebreak: float) -> SectionColumns:
         if not (need_first[s] or need_last[s]):
             continue
         ys = _uses(form, s, order, xs)
-        if form.any_order or (form.with_rules and free[s]):
+        if form.any_order or (free[s] and (form.with_rules or window[s])):
             _free_order_picks(form, columns, s, ys)
             continue
         if need_first[s]:
@@ -91,6 +95,12 @@ def _needs(form: Formulation, orders: list[list[int]]
     elif data.surge_m is not None:  # down-surge rows take the first piece's surge
         need_first |= need_last | need_interior
     need_last |= need_interior
+    # Conflict windows of surge by wave speed read both ends of every section in them.
+    window = window_sections(data.wave_conflicts, n)
+    if data.surge_carry is not None and not form.any_order:  # carried surge (down-surge)
+        window |= data.surge_carry.any(axis=1)
+    need_first |= window
+    need_last |= window
     return need_first, need_last, need_interior
 
 

@@ -27,17 +27,14 @@ from optimiser.analysis.flows import (
     line_flows_m3_s,
     node_point_k,
 )
-from optimiser.analysis.limits import (
-    CHECK_TOLERANCE,
-    class_holds,
-    node_min_pressure_m,
-    within_velocity_window,
-)
+from optimiser.analysis.limits import node_min_pressure_m, within_velocity_window
 from optimiser.analysis.surge import surge_head_m, wave_speeds_m_s
 from optimiser.hydraulics.gradeline import section_loss_m, static_head_m
 from optimiser.hydraulics.local_losses import velocity_head_m, velocity_m_s
 from optimiser.milp.tank_data import TankData, has_tanks, tank_data
 from optimiser.milp.tree.line_study import line_study
+from optimiser.milp.wave_classes import carry_mask, wave_conflicts
+from optimiser.milp.wave_classes import class_ok as wave_class_ok
 from optimiser.model import Study, SurgeMethod
 from optimiser.model.lines import Line
 
@@ -95,6 +92,14 @@ class ProblemData:
     tanks: TankData | None = None
     """Break-pressure tanks that stand or may stand on the route (None: none); the
     static line and class admissibility below them (:mod:`optimiser.milp.tank_data`)."""
+    wave_conflicts: np.ndarray | None = None
+    """(C, 3) rows (f, c, j): no piece of option j may run from section f into section c
+    (surge by wave speed, :mod:`optimiser.milp.wave_classes`); None or empty: none."""
+    surge_carry: np.ndarray | None = None
+    """(n, m) a piece of j may bring into s a velocity above j's own there (down-surge
+    rows by wave speed, :mod:`optimiser.milp.carried_surge`); None: no such rows."""
+    surge_slope: np.ndarray | None = None
+    """(n, m) surge head per m/s of velocity of option j in section s [m s/m]."""
 
     @property
     def n_scenarios(self) -> int:
@@ -154,12 +159,14 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
             velocity_ok &= within_velocity_window(v, rules)
     lowest = np.minimum(pipe[:-1], pipe[1:])
     static_head = static_head_m(study.source.top_water_level_m, lowest, 0.0)
-    tanks = _tank_data_of(study, lowest, np.array(velocities), velocity_ok)
+    tanks = _tank_data_of(study, lowest, np.array(velocities))
     reflection = None if tanks is None else tanks.reflection_min_m  # L restarts at tanks
     if tanks is not None:  # the lowest static line any choice of tanks gives (section 8)
         static_head = tanks.static_min_m - lowest
     static_demand = static_head + study.surge_allowance_m
-    class_ok = _class_ok(study, static_head, np.array(velocities), velocity_ok, reflection)
+    # Own velocity: a relaxation of the check's piece rule; the pairs of sections a piece
+    # may not span make it exact in the models (milp/wave_classes.py).
+    class_ok = wave_class_ok(study, static_head, np.array(velocities), reflection)
     admissible = class_ok & velocity_ok
 
     # Descending internal diameter; ties by ascending cost then catalogue position, so
@@ -170,7 +177,6 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
     rank[order] = np.arange(m)
 
     head = np.array(heads)
-    surge, surge_own = _transient_surges(study, np.array(velocities), admissible, reflection)
     data = ProblemData(
         study=study, n_sections=n, n_options=m, node_chainage_m=chainage.copy(),
         node_pipe_level_m=pipe, node_min_pressure_m=node_min, node_point_k=node_k,
@@ -182,29 +188,51 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
         class_ok=class_ok, velocity_ok=velocity_ok, admissible=admissible, order=order,
         rank=rank, screened_up=np.zeros(n + 1, dtype=bool),
         screened_down=np.zeros(n + 1, dtype=bool),
-        screened_interior=np.zeros(n, dtype=bool), surge_m=surge, surge_own_m=surge_own,
-        tanks=tanks)
+        screened_interior=np.zeros(n, dtype=bool), tanks=tanks,
+        **_surge_data(study, static_head, np.array(velocities), admissible, reflection))
     return screened(data)
 
 
-def _tank_data_of(study: Study, lowest_m: np.ndarray, velocity_m_s: np.ndarray,
-                  velocity_ok: np.ndarray) -> TankData | None:
+def _surge_data(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
+                admissible: np.ndarray, length_m: np.ndarray | None) -> dict:
+    """The surge fields of :class:`ProblemData`: the down-surge heads, the pairs a piece
+    may not span and the surge a piece may carry (surge by wave speed)."""
+    surge, surge_own = _transient_surges(study, velocity_m_s, admissible, length_m)
+    fastest = velocity_m_s.max(axis=0)
+    return {"surge_m": surge, "surge_own_m": surge_own,
+            "wave_conflicts": wave_conflicts(study, static_head_m, fastest, admissible,
+                                             length_m),
+            **_carried(study, fastest, admissible, length_m)}
+
+
+def _tank_data_of(study: Study, lowest_m: np.ndarray, velocity_m_s: np.ndarray
+                  ) -> TankData | None:
     """The tanks of ``study`` on its route with the data's own class rule (None: the
     study has no tank and lets ``design`` add none)."""
     if not has_tanks(study):
         return None
-    return tank_data(study, lowest_m, lambda head, length=None: _class_ok(
-        study, head, velocity_m_s, velocity_ok, length), velocity_m_s.max(axis=0))
+    tanks = tank_data(study, lowest_m, lambda head, length=None: wave_class_ok(
+        study, head, velocity_m_s, length), velocity_m_s.max(axis=0))
+    fastest = velocity_m_s.max(axis=0)
+    if tanks.any_candidate and study.surge.method is SurgeMethod.JOUKOWSKY \
+            and (fastest != fastest[:1]).any():
+        # The pairs a piece may not span and the surge it carries are judged under the
+        # lowest static line and the least L any choice of new tanks gives: a
+        # relaxation, so the designs of the model with new tanks must pass the check.
+        tanks = dataclasses.replace(tanks, exact_classes=False)
+    return tanks
 
 
 def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.ndarray,
                       length_m: np.ndarray | None = None
                       ) -> tuple[np.ndarray | None, np.ndarray | None]:
     """Surge heads of the down-surge rows (contract section 10), or (None, None) when
-    the study sets no ``min_transient_pressure_m``: (n, m) conservative (the largest
-    velocity of each option over its run of admissible sections, as the check takes a
-    piece's largest velocity) and (n, m) the section's own. ``length_m``: (n,) L per
-    section where break-pressure tanks restart it (the least any choice gives)."""
+    the study sets no ``min_transient_pressure_m``: (n, m) at least the check's for any
+    piece of j in s (the largest velocity of j over its run of admissible sections; for
+    screening and dominance only) and (n, m) the section's own (the models' rows, with
+    the surge a piece carries from above added, :mod:`optimiser.milp.carried_surge`).
+    ``length_m``: (n,) L per section where break-pressure tanks restart it (the least
+    any choice gives)."""
     if study.surge.min_transient_pressure_m is None:
         return None, None
     fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
@@ -216,57 +244,17 @@ def _transient_surges(study: Study, velocity_m_s: np.ndarray, admissible: np.nda
             surge_head_m(study, wave_speed[None, :], fastest, length_m=length))
 
 
-def _surge_limit_m(study: Study) -> np.ndarray:
-    """(m,) limit of static + surge head: the working limit with the allowance method
-    (contract section 5), else each option's allowable_surge_head_m (section 10)."""
-    if study.surge.method is SurgeMethod.ALLOWANCE:
-        return study.catalogue.allowable_head_m
-    return study.catalogue.surge_limit_head_m
-
-
-def _class_ok(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
-              velocity_ok: np.ndarray, length_m: np.ndarray | None = None) -> np.ndarray:
-    """(n, m) option j's class takes section s's static head (and its surge).
-
-    Allowance (contract section 5): static + allowance <= allowable_head_m. By wave speed
-    (section 10): static <= allowable_head_m and static + surge <= the surge limit, where
-    the check takes a piece's surge from the largest velocity anywhere in the piece in
-    any scenario. A piece of j only covers consecutive sections where j is admissible, so
-    j is kept in s only if s passes with the largest velocity of j over its run of such
-    sections; sections that fail leave, runs split, the largest velocities fall, until
-    nothing changes (the largest set with this property). Conservative, like the class
-    decided at the section's lowest pipe level: every piece of a design built from these
-    sections passes the check's class test. ``length_m``: (n,) or (n, 1) slow-closure
-    length L per section where break-pressure tanks restart it (else the study's).
-    """
-    catalogue = study.catalogue
-    # The check's tolerance: a part of the route split exactly at a class limit has its
-    # lowest point on the limit, up to the rounding of the interpolated level.
-    tol = CHECK_TOLERANCE
-    operating = class_holds(static_head_m[:, None], catalogue.allowable_head_m[None, :], tol)
-    limit = _surge_limit_m(study) + tol
-    if study.surge.method is SurgeMethod.ALLOWANCE:
-        return operating & class_holds(static_head_m[:, None] + study.surge_allowance_m,
-                                       limit[None, :])
-    fastest = velocity_m_s.max(axis=0)  # (n, m) over scenarios
-    wave_speed = wave_speeds_m_s(study, catalogue)
-    length = None if length_m is None else np.reshape(length_m, (-1, 1))
-    own = operating & (static_head_m[:, None] + surge_head_m(
-        study, wave_speed[None, :], fastest, length_m=length) <= limit[None, :])
-    ok = own.copy()
-    for j in range(len(catalogue)):
-        keep = own[:, j] & velocity_ok[:, j]
-        while True:
-            bound = _run_max(fastest[:, j], keep)
-            still = keep & (static_head_m + surge_head_m(
-                study, wave_speed[j], bound, length_m=None if length is None else length[:, 0])
-                <= limit[j])
-            if (still == keep).all():
-                break
-            keep = still
-        # Where the velocity rules out j anyway, leave its class judged on its own.
-        ok[:, j] = np.where(velocity_ok[:, j], keep, own[:, j])
-    return ok
+def _carried(study: Study, fastest_m_s: np.ndarray, admissible: np.ndarray,
+             length_m: np.ndarray | None) -> dict[str, np.ndarray | None]:
+    """``surge_carry`` and ``surge_slope`` of the down-surge rows by wave speed (both
+    None without such rows or with the allowance method, whose surge is one number)."""
+    if study.surge.min_transient_pressure_m is None \
+            or study.surge.method is not SurgeMethod.JOUKOWSKY:
+        return {"surge_carry": None, "surge_slope": None}
+    wave = wave_speeds_m_s(study, study.catalogue)
+    slope = surge_head_m(study, wave[None, :], np.ones_like(fastest_m_s),
+                         length_m=None if length_m is None else length_m[:, None])
+    return {"surge_carry": carry_mask(fastest_m_s, admissible), "surge_slope": slope}
 
 
 def _run_max(values: np.ndarray, mask: np.ndarray) -> np.ndarray:

@@ -41,6 +41,11 @@ Exact, in every scenario:
   and the downstream-side velocity head is ``h[t] * CL[s, t]``, which is the tighter
   side because velocity head grows along the section order;
 - the outlet head after the exit loss;
+- pressure classes by wave speed: an option is admissible at its own largest velocity
+  in the section (a relaxation: any piece there is at least as fast), and the rows of
+  :mod:`optimiser.milp.wave_rows` keep a piece from spanning a window where the
+  velocity of its first section would break its class downstream
+  (:mod:`optimiser.milp.wave_classes`);
 - the rules on the merged design (adjacent identical options joined): ``max_changes``,
   ``change_cost`` per change, ``min_piece_length_m`` (chainage, carried across sections
   by an accumulator capped at the minimum) and ``sizes_downstream = "non-increasing"``.
@@ -69,9 +74,12 @@ Conservative (may exclude a design the check would pass, never the reverse):
   where a boundary falls on a survey node whose offtake has a lower minimum of its own;
 - with ``[surge] min_transient_pressure_m``, every pressure row has a down-surge twin
   (:mod:`optimiser.milp.pressure_rows`: velocity head plus the pipe's surge head, the
-  transient limit instead of the minimum); by wave speed the surge of an option is taken
-  at its largest velocity over its run of admissible sections, at a section's start
-  from the first piece, inside a section the largest of the pieces up to the boundary;
+  transient limit instead of the minimum); by wave speed the surge of an option is its
+  own in the section plus what a piece carries from a larger flow above
+  (:mod:`optimiser.milp.carried_surge`; exact at section ends), inside a section the
+  largest of the pieces up to the boundary and the first piece's carried surge;
+- by wave speed, inside a conflict window or where a piece may carry surge, every piece
+  is at least 1 mm long (:mod:`optimiser.milp.wave_rows`);
 - every pressure, the outlet head and the minimum piece length carry a small safety
   margin (``MARGIN_M``, ``LENGTH_MARGIN_M``) so that solver tolerances and rounding of
   the returned chainages never make the verified design fail the check.
@@ -125,6 +133,7 @@ from optimiser.milp.pump_columns import add_pump_columns
 from optimiser.milp.pumps.class_rows import add_pumping_class_rows
 from optimiser.milp.rule_rows import add_rule_rows
 from optimiser.milp.tank_rows import add_static_rows
+from optimiser.milp.wave_rows import add_break_rows, add_wave_rows
 
 __all__ = ["LENGTH_MARGIN_M", "MARGIN_M", "Formulation", "WarmStart", "build",
            "rules_active"]
@@ -168,6 +177,8 @@ def build(data: ProblemData, *, allowed: np.ndarray | None = None, with_rules: b
     add_static_rows(form)
     add_pumping_class_rows(form)
     change_terms: list[Term] = add_rule_rows(form, columns) if with_rules else []
+    add_wave_rows(form, columns)
+    add_break_rows(form, columns)
     # changes = uses - continuations - 1: the constant stays outside the solver's
     # objective and is added back on reading.
     change_cost = data.study.costs.change_cost

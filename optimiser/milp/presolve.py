@@ -21,6 +21,7 @@ import dataclasses
 import numpy as np
 
 from optimiser.milp.data import ProblemData, screened
+from optimiser.milp.wave_classes import options_in_conflict
 
 
 def without_options(data: ProblemData, gone: np.ndarray) -> ProblemData:
@@ -56,13 +57,17 @@ def dominated_options(data: ProblemData) -> np.ndarray:
     admissible = data.admissible
     diameter = data.study.catalogue.internal_diameter_mm
     tolerance = 1e-12
+    # A replacement with conflict windows (surge by wave speed) could join pieces into
+    # one that spans a window: such an option never stands in for another.
+    spans = options_in_conflict(data.wave_conflicts, m)
     pairs: list[tuple[int, int]] = []
     for a in range(m):
         where = admissible[:, a]
         if not where.any():
             continue
         for b in range(m):
-            if b == a or diameter[b] < diameter[a] or not admissible[where, b].all():
+            if b == a or diameter[b] < diameter[a] or spans[b] \
+                    or not admissible[where, b].all():
                 continue
             if (data.section_cost[where, b] <= data.section_cost[where, a] + tolerance).all() \
                     and (data.section_loss_m[:, where, b]

@@ -13,6 +13,7 @@ from __future__ import annotations
 import numpy as np
 
 from optimiser.milp.built_model import MARGIN_M, Formulation
+from optimiser.milp.carried_surge import add_carried_surge
 from optimiser.milp.columns import SectionColumns
 from optimiser.milp.matrix import Affine, Term, var
 from optimiser.milp.tank_rows import restart_at_tank
@@ -41,6 +42,7 @@ def add_pressure_rows(form: Formulation, columns: SectionColumns,
     tanks = data.tanks
     if tanks is not None:  # the energy arriving at a tank is a column of its own
         need_end[:-1] |= tanks.at_node[1:-1]
+    form.carried = add_carried_surge(form, columns)
     for k in range(data.n_scenarios):
         # With a pump the energy starts at the source level + the station head; a branch
         # of a scheme starts from its parent's energy at the junction.
@@ -69,10 +71,20 @@ def _head_of(form: Formulation, k: int, s: int, fractions: dict[int, Affine],
 
 
 def _surges(form: Formulation) -> np.ndarray | None:
-    """(n, m) surge heads of the down-surge rows (None: the study has no such limit): a
-    lower bound of the check's in the any-order relaxation, else an upper bound."""
-    data = form.data
-    return data.surge_own_m if form.any_order else data.surge_m
+    """(n, m) surge heads of the down-surge rows (None: the study has no such limit):
+    each option's own in each section; by wave speed a piece that runs on from a larger
+    flow adds the surge it carries (:mod:`optimiser.milp.carried_surge`, exact at a
+    section's ends), except in the any-order relaxation (a lower bound of the check's)."""
+    return form.data.surge_own_m
+
+
+def _carried(form: Formulation, s: int, at_end: bool) -> Affine:
+    """Extra surge head the first (or, ``at_end``, the last) piece of s carries."""
+    carried = form.carried
+    if carried is None:
+        return Affine()
+    found = carried.end[s] if at_end else carried.start[s]
+    return Affine(list(found.terms), found.constant)
 
 
 def _transient_row(form: Formulation, energy: Affine, deduct: Affine, level_m: float,
@@ -125,8 +137,8 @@ def _section_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
         form.pressure_rows.append((row, "up", k, s + 1))
         surge = _surges(form)
         if surge is not None:
-            _transient_row(form, running, _head_of(form, k, s, last_frac, surge),
-                           pipe[s + 1], "up", k, s + 1)
+            _transient_row(form, running, _head_of(form, k, s, last_frac, surge)
+                           + _carried(form, s, at_end=True), pipe[s + 1], "up", k, s + 1)
     return running
 
 
@@ -144,6 +156,7 @@ def _start_transient_row(form: Formulation, columns: SectionColumns, k: int, s: 
         deduct = Affine(list(head_first.terms), head_first.constant)
         for j, frac in columns.first_frac[s].items():
             deduct.add_in_place(frac, float(surge[s, j]))
+        deduct.add_in_place(_carried(form, s, at_end=False))
     _transient_row(form, start, deduct, form.data.node_pipe_level_m[s], "down", k, s)
 
 
@@ -167,7 +180,8 @@ def _boundary_rows(form: Formulation, columns: SectionColumns, k: int, s: int,
         if surge is not None:
             deduct = max(deduct, float(data.velocity_head_m[k, s, j] + surge[s, j]))
             _transient_row(form, start + Affine(list(cumulative)),
-                           Affine([(cl[t], deduct)]), pipe[s], "inside", k, s)
+                           Affine([(cl[t], deduct)]) + _carried(form, s, at_end=False),
+                           pipe[s], "inside", k, s)
         cumulative.append((form.x[s, j], -float(data.section_loss_m[k, s, j] + drop)))
 
 
@@ -197,6 +211,7 @@ def _outlet_rows(form: Formulation, columns: SectionColumns, k: int,
         if surge is not None:
             deduct = head_last.scaled(float(k_last))
             deduct.add_in_place(_head_of(form, k, last, columns.last_frac[last], surge), 1.0)
+            deduct.add_in_place(_carried(form, last, at_end=True))
             _transient_row(form, running, deduct, data.node_pipe_level_m[n], "down", k, n)
 
 

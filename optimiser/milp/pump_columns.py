@@ -75,6 +75,21 @@ def option_limits_m(data: ProblemData) -> np.ndarray:
     return np.minimum(catalogue.allowable_head_m, catalogue.surge_limit_head_m - surge)
 
 
+def pumping_limits_exact(data: ProblemData) -> bool:
+    """The limits of :func:`option_limits_m` are the check's for every piece: True with
+    the allowance method, or by wave speed where every option has one largest velocity
+    wherever it is admissible. Where the flow falls along the line, a piece laid only
+    below the fall is slower than the option's largest velocity, and the limit is a
+    restriction (not a relaxation) of the check's."""
+    if data.study.surge.method is SurgeMethod.ALLOWANCE:
+        return True
+    fastest = data.velocity_m_s.max(axis=0)
+    top = np.where(data.admissible, fastest, -np.inf).max(axis=0)
+    low = np.where(data.admissible, fastest, np.inf).min(axis=0)
+    used = data.admissible.any(axis=0)
+    return bool(np.all(~used | (low >= top * (1 - 1e-12))))
+
+
 def head_bounds_m(form: Formulation) -> np.ndarray:
     """(K,) upper bound of each station head in ``form`` (see :func:`head_upper_m`)."""
     return head_upper_m(form.data, form.pump_head_cap_m)

@@ -52,6 +52,7 @@ from optimiser.milp.data import prepare
 from optimiser.milp.diagnose import admissibility_findings
 from optimiser.milp.formulation import rules_active
 from optimiser.milp.outcome import DesignOutcome, Stage
+from optimiser.milp.pump_columns import pumping_limits_exact
 from optimiser.milp.pumps.designs import uniform_designs
 from optimiser.milp.pumps.fine_models import run_fine_models
 from optimiser.milp.pumps.piece_stage import run_piece_programme
@@ -83,6 +84,7 @@ def optimise_pumped(study: Study, settings: Settings, started: float) -> DesignO
     data = prepare(split_at_class_limits(static_study(study)))
     state = SearchState(study, data, settings, Clock(started, started + settings.time_limit_s),
                         with_rules=rules_active(data))
+    state.proofs = pumping_limits_exact(data)
     state.stages.append(Stage(StageKind.ANY_ORDER, SKIPPED_STAGES, Status.SKIPPED, None,
                               None, 0.0, 0, 0, 0, "pumped main"))
     findings = admissibility_findings(data)  # the station's head cannot mend these

@@ -113,6 +113,15 @@ def merge(data: ProblemData) -> Reaches:
     joinable &= np.all(data.flow_m3_s[:, 1:] == data.flow_m3_s[:, :-1], axis=0)
     joinable &= np.all(data.admissible[1:] == data.admissible[:-1], axis=1)
     joinable &= data.zone_factor[1:] == data.zone_factor[:-1]
+    # Surge by wave speed: a reach ends at the first section of every conflict window and
+    # starts at its last (its rows need a piece of the reach to touch those sections);
+    # sections where a piece may carry surge into the down-surge rows stay whole.
+    if data.wave_conflicts is not None and len(data.wave_conflicts):
+        joinable[data.wave_conflicts[:, 0]] = False
+        joinable[data.wave_conflicts[:, 1] - 1] = False
+    if data.surge_carry is not None:
+        carry = data.surge_carry.any(axis=1)
+        joinable &= ~carry[1:] & ~carry[:-1]
     starts = np.concatenate([[0], np.flatnonzero(~joinable) + 1])
     ends = np.concatenate([starts[1:] - 1, [n - 1]])
     if len(starts) == n:
@@ -149,8 +158,22 @@ def merge(data: ProblemData) -> Reaches:
             data.chainage_length_m / data.length_m, starts),
         surge_m=None if data.surge_m is None else np.maximum.reduceat(data.surge_m, starts),
         surge_own_m=None if data.surge_own_m is None
-        else np.minimum.reduceat(data.surge_own_m, starts))
+        else np.minimum.reduceat(data.surge_own_m, starts),
+        wave_conflicts=_reach_conflicts(data.wave_conflicts, starts),
+        surge_carry=None if data.surge_carry is None else data.surge_carry[starts],
+        surge_slope=None if data.surge_slope is None else data.surge_slope[starts])
     return Reaches(merged, starts, ends)
+
+
+def _reach_conflicts(conflicts: np.ndarray | None, starts: np.ndarray
+                     ) -> np.ndarray | None:
+    """Conflict windows by reach (the first and last section of every window end and
+    start a reach)."""
+    if conflicts is None or not len(conflicts):
+        return conflicts
+    moved = conflicts.copy()
+    moved[:, :2] = np.searchsorted(starts, conflicts[:, :2], side="right") - 1
+    return moved
 
 
 def design_from_reaches(fine: ProblemData, reaches: Reaches, form: Formulation) -> Design:

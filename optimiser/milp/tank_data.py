@@ -218,7 +218,8 @@ def _wave_crossings(study: Study, fixed: np.ndarray, starts: np.ndarray, level: 
         reach = slice(a, a + int(deep[0]) + 1 if len(deep) else stop)
         surge = surge_head_m(study, wave[None, :], fastest[reach], length_m=below[a])
         levels = np.hstack([np.broadcast_to(static - catalogue.allowable_head_m, surge.shape),
-                            static + surge - catalogue.surge_limit_head_m[None, :]])
+                            static + surge - catalogue.surge_limit_head_m[None, :],
+                            _upstream_levels_m(study, static, flows, reach, below[a])])
         inside = (levels > low[reach, None]) & (levels < high[reach, None])
         section, _ = np.nonzero(inside)
         fraction = (levels[inside] - pipe[a + section]) / (pipe[a + section + 1]
@@ -229,6 +230,25 @@ def _wave_crossings(study: Study, fixed: np.ndarray, starts: np.ndarray, level: 
         if count > 2 * most:  # the filter below may merge a few; well past the cap
             break
     return crossing_filter(route, np.concatenate(found))
+
+
+def _upstream_levels_m(study: Study, static_m: float, flows: np.ndarray, reach: slice,
+                       length_m: float) -> np.ndarray:
+    """(sections of ``reach``, options x flows) the surge limit levels of every option at
+    each larger flow a piece can bring from upstream (through a tank the flow is
+    unchanged), NaN where the flow is not larger (:mod:`optimiser.milp.wave_classes`)."""
+    catalogue = study.catalogue
+    area = np.pi * catalogue.internal_diameter_m ** 2 / 4.0
+    wave = wave_speeds_m_s(study, catalogue)
+    own = flows[reach][:, None]
+    found = [np.zeros((len(own), 0))]
+    for q in np.unique(flows).tolist():
+        if not (own < q).any():
+            continue
+        surge = surge_head_m(study, wave, q / area, length_m=length_m)
+        found.append(np.where(own < q, (static_m + surge - catalogue.surge_limit_head_m)[None, :],
+                              np.nan))
+    return np.hstack(found)
 
 
 def _site_crossings(route, fixed: np.ndarray, candidate: np.ndarray, level: np.ndarray,

@@ -162,8 +162,8 @@ def print_design(console: Console, outcome: DesignOutcome, study: Study) -> None
         print_scheme_summary(console, outcome.check)
     print_class_table(console, outcome.check)
     status = {Status.OPTIMAL: "[bold green]optimal[/bold green] (proven within the gap)",
-              Status.FEASIBLE: "[bold yellow]feasible[/bold yellow] (stopped by the time limit; "
-                          "not proven cheapest)"}[outcome.status]
+              Status.FEASIBLE: "[bold yellow]feasible[/bold yellow] (not proven cheapest "
+                          "within the gap)"}[outcome.status]
     gap = "n/a" if outcome.gap is None else gap_text(outcome.gap)
     console.print(f"Status: {status}; solver {outcome.solver_name}, "
                   f"{outcome.solve_time_s:.1f} s, gap {gap} (target {gap_text(outcome.mip_gap)})")

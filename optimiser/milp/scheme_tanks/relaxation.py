@@ -145,9 +145,12 @@ def _relaxed_classes(data: ProblemData, static_level_m: np.ndarray, study: Study
             static[:, None] + allowance, allowable + CHECK_TOLERANCE)
     # never fewer options than the no-tank data (a lower static line admits more)
     class_ok |= data.class_ok
+    # Under a lower static line and a shorter L the pairs a piece may not span and the
+    # surge it carries are those of no tank: left out, the model stays a relaxation.
     relaxed = dataclasses.replace(data, class_ok=class_ok,
                                   admissible=class_ok & data.velocity_ok,
-                                  static_demand_m=static + allowance)
+                                  static_demand_m=static + allowance, wave_conflicts=None,
+                                  surge_carry=None, surge_slope=None)
     if surge is not None and data.surge_m is not None:  # the down-surge rows
         relaxed = dataclasses.replace(relaxed, surge_m=surge, surge_own_m=surge)
     return relaxed

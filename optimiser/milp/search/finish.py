@@ -40,16 +40,18 @@ def finish(state: SearchState, *, capital_from_check: bool = False,
     if not final.ok:
         raise VerificationError("the returned design fails the final check (a bug)")
     bound = min(state.bound, best.cost)
-    lp_bound = None if state.lp_bound is None else min(state.lp_bound, best.cost)
+    lp_bound = None if state.lp_bound is None or not state.proofs \
+        else min(state.lp_bound, best.cost)
     gap = relative_gap(best.cost, bound)
     status = Status.OPTIMAL if gap is not None and gap <= state.settings.gap_target \
         else Status.FEASIBLE
     full = state.full_report
-    if full is not None and full.status == Status.OPTIMAL and \
+    if state.proofs and full is not None and full.status == Status.OPTIMAL and \
             best.cost <= (full.objective or math.inf) + 1e-9 * abs(best.cost):
         status = Status.OPTIMAL  # the solver's own proof (its gap is measured as it defines it)
     fields.setdefault("uniform", None)
     return state.outcome(status, design=best.design, check=final,
                          total_cost=final.total_cost if capital_from_check else best.cost,
-                         lower_bound=bound, gap=gap, lp_bound=lp_bound,
+                         lower_bound=bound if math.isfinite(bound) else None, gap=gap,
+                         lp_bound=lp_bound,
                          binding=binding_points(final), **fields)

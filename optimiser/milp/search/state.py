@@ -27,7 +27,7 @@ from optimiser.analysis import CheckResult, check_design
 from optimiser.milp.data import ProblemData
 from optimiser.milp.extract import rule_problems
 from optimiser.milp.formulation import Formulation, WarmStart, build
-from optimiser.milp.outcome import DesignOutcome, Stage, VerificationError
+from optimiser.milp.outcome import DesignOutcome, SolverError, Stage, VerificationError
 from optimiser.milp.reaches import ActivePoints
 from optimiser.milp.search.kinds import StageKind
 from optimiser.milp.solvers import SolveReport, relative_gap, solve
@@ -134,6 +134,11 @@ class SearchState:
     best: Candidate | None = None
     bound: float = -math.inf
     lp_bound: float | None = None
+    proofs: bool = True
+    """False where the models restrict the designs the check accepts (classes under
+    pumping by wave speed on a line whose flow falls, :func:`optimiser.milp.pump_columns.
+    pumping_limits_exact`): their bounds and "infeasible" prove nothing, so none is
+    taken and the run can only end ``feasible`` or without a design."""
     lp: LpRelaxation | None = None
     active: ActivePoints | None = None
     """Check points in the reach models (grown by row generation)."""
@@ -180,11 +185,12 @@ class SearchState:
 
     def proven(self) -> bool:
         """The best design is within the gap target of the bound."""
-        return self.best is not None and self.best_gap() <= self.settings.gap_target
+        return self.proofs and self.best is not None \
+            and self.best_gap() <= self.settings.gap_target
 
     def raise_bound(self, value: float | None) -> None:
         """Take a relaxation's bound (only relaxations may call this)."""
-        if value is not None and math.isfinite(value):
+        if value is not None and math.isfinite(value) and self.proofs:
             self.bound = max(self.bound, value)
 
     def note_build_rate(self, with_rules: bool, seconds: float, pairs: int) -> None:
@@ -235,7 +241,13 @@ class SearchState:
                              stages=list(self.stages), **values)
 
     def infeasible(self, diagnosis: list[str]) -> DesignOutcome:
-        """The result of a run that proved no design exists."""
+        """The result of a run that proved no design exists (a model that restricts the
+        designs proves nothing: :class:`SolverError`)."""
+        if not self.proofs:
+            raise SolverError("no design found; the pumped main's classes under pumping "
+                              "take each option's surge at its largest velocity on the "
+                              "line, which may leave out designs the check accepts, so "
+                              "this is not a proof that none exists")
         return self.outcome(Status.INFEASIBLE, design=None, check=None, total_cost=None,
                             lower_bound=None, gap=None, lp_bound=self.lp_bound,
                             diagnosis=diagnosis)

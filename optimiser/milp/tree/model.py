@@ -39,6 +39,7 @@ from optimiser.milp.pressure_rows import add_pressure_rows
 from optimiser.milp.pumps.class_rows import ReachLevels
 from optimiser.milp.rule_rows import add_rule_rows
 from optimiser.milp.tree.pump_rows import add_line_class_rows, add_station_columns
+from optimiser.milp.wave_rows import add_break_rows, add_wave_rows
 from optimiser.model import Study
 from optimiser.model.lines import Line
 
@@ -130,6 +131,8 @@ def build_tree(lines: list[Line], datas: list[ProblemData], *,
             starts[child] = [tapped[k, node] for k in range(data.n_scenarios)]
             root.junctions[child] = starts[child]
         change_terms = add_rule_rows(form, columns) if with_rules else []
+        add_wave_rows(form, columns)
+        add_break_rows(form, columns)
         change_cost = data.study.costs.change_cost
         if change_cost and change_terms:
             model.add_cost((c, v * change_cost) for c, v in change_terms)

@@ -49,6 +49,7 @@ from optimiser.analysis.static_line import pump_reaches_branches
 from optimiser.io.errors import InputError
 from optimiser.milp.formulation import rules_active
 from optimiser.milp.outcome import DesignOutcome, SolverError, VerificationError
+from optimiser.milp.pump_columns import pumping_limits_exact
 from optimiser.milp.pump_search import static_study
 from optimiser.milp.search.finish import finish, no_design_error
 from optimiser.milp.search.kinds import StageKind
@@ -94,6 +95,7 @@ def optimise_pumped_scheme(study: Study, settings: Settings, started: float
     state = SearchState(study, problem.datas[0], settings,
                         Clock(started, started + settings.time_limit_s),
                         with_rules=rules_active(problem.datas[0]))
+    state.proofs = all(pumping_limits_exact(data) for data in problem.datas)
     lp = run_pumped_model(state, problem, StageKind.LP_RELAXATION, LP_SHARE, relaxed=True)
     if lp.report.status == Status.INFEASIBLE:
         return state.infeasible(_why_infeasible(study, rules=False))
