@@ -486,3 +486,22 @@ def test_pumped_main_with_falling_flow_claims_no_bound(tmp_path):
     assert check_design(loaded, outcome.design).ok
     assert outcome.status.value == "feasible"
     assert outcome.lower_bound is None and outcome.lp_bound is None
+
+
+@pytest.mark.parametrize("closure_s", [0.0, SLOW_S])
+def test_merged_reaches_inside_a_window_against_the_enumeration(tmp_path, closure_s):
+    # The small main surveyed every 100 m (the same straight grades): quiet sections of a
+    # conflict window are merged into reaches by the LP relaxation (a reach counts as
+    # run through only with its option alone in it); two options, DN160 and DN200 PN16.
+    corners = [point[0] for point in SMALL.points], [point[1] for point in SMALL.points]
+    chainage = np.arange(0.0, 1501.0, 100.0)
+    ground = np.interp(chainage, *corners)
+    main = Line(tuple(zip(chainage.tolist(), ground.tolist(), strict=True)), 10.0,
+                ((500.0, 10.0),))
+    options = (OPTIONS[1], OPTIONS[3])
+    path = _write(tmp_path / "s", main, closure_s=closure_s, options=options)
+    best = cheapest_by_enumeration(path, main, closure_s, options=options)
+    outcome = optimise_design(load_study(path), mip_gap=1e-9)
+    assert outcome.lower_bound <= best * (1 + 1e-9)
+    assert outcome.lp_bound <= best * (1 + 1e-9)
+    assert outcome.total_cost == pytest.approx(best, rel=1e-6)
