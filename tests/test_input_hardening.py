@@ -1,0 +1,84 @@
+"""Bad input found by mutating the demo studies: each class of defect the mutations found
+now exits 2 with a message naming the file and the row, point or key, with no traceback
+and nothing written (docs/file-formats.md section 8, exit code 2; section 9, input
+rules). Every study here is invented test data; the check values are the contract's
+rules and ranges, cited beside each case.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+from geo_builders import gpx_text, invented_line, to_lon_lat
+
+from optimiser.cli import app
+
+
+def squash(text: str) -> str:
+    """Text without whitespace: the terminal may wrap a message anywhere."""
+    return "".join(text.split())
+
+
+def assert_refused(result, named: Path | str, *words: str, written: Path | None = None):
+    """Exit 2, no traceback, the file and every word in the output, and (contract
+    section 8: "nothing written") no output left at ``written``."""
+    output = squash(result.output)
+    assert result.exit_code == 2, result.output
+    assert result.exception is None or isinstance(result.exception, SystemExit)
+    assert "Traceback" not in result.output
+    assert squash(str(named)) in output, result.output
+    for word in words:
+        assert squash(word) in output, (word, result.output)
+    if written is not None:
+        assert not written.exists()
+
+
+def _check(runner, files, tmp_path: Path):
+    out = tmp_path / "out" / "check.json"
+    return runner.invoke(app, ["check", str(files.study), "--design", str(files.design),
+                               "--json", str(out)]), out
+
+
+# --------------------------------------------------------------------------- coordinates
+
+
+def test_geojson_integer_too_long_for_a_float_is_a_located_error(make_study, runner,
+                                                                 tmp_path):
+    """RFC 8259 section 6: JSON numbers may have any number of digits, so a position may
+    hold an integer no float can carry; section 9: a number must be finite."""
+    east, north, ground = invented_line(11, 3000.0)
+    positions = [[float(x), float(y), float(z)] for x, y, z in zip(east, north, ground,
+                                                                   strict=True)]
+    positions[1][0] = 10 ** 400
+    text = json.dumps({"type": "LineString", "coordinates": positions})
+    files = make_study(study={"route": {"profile": "line.geojson", "crs": "EPSG:32709",
+                                        "fitting": []}, "offtake": []}, profile=text)
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.profile, "position 2", "numbers", written=out)
+
+
+def test_gpx_elevation_outside_the_range_of_levels_names_the_point(make_study, runner,
+                                                                   tmp_path):
+    """Section 9: ground levels lie in -500 to 9,000 m, whatever file they come from."""
+    east, north, ground = invented_line(11, 3000.0)
+    lon, lat = to_lon_lat(east, north)
+    ground = ground.copy()
+    ground[3] = 1e300
+    files = make_study(study={"route": {"profile": "track.gpx", "fitting": []},
+                              "offtake": []}, profile=gpx_text(lon, lat, ground))
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.profile, "point 4", "ground", "-500 to 9000 m",
+                   written=out)
+
+
+def test_coordinates_giving_an_absurd_length_are_refused(make_study, runner, tmp_path):
+    """Section 9: chainage 0 to 2,000,000 m; a route measured from coordinates of 1e300
+    m (a slip of unit or of CRS) is refused like a profile's chainage."""
+    x = np.linspace(0.0, 1e300, 5)
+    text = "x_m,y_m,ground_m\n" + "".join(f"{float(a)!r},0,{150 - i}\n" for i, a in enumerate(x))
+    files = make_study(study={"route": {"profile": "xy.csv", "fitting": []},
+                              "offtake": []}, profile=text)
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.profile, "m long", "0 to 2e+06 m", written=out)
