@@ -11,6 +11,7 @@ import json
 from pathlib import Path
 
 import numpy as np
+import pytest
 from geo_builders import gpx_text, invented_line, to_lon_lat
 
 from optimiser.cli import app
@@ -82,3 +83,30 @@ def test_coordinates_giving_an_absurd_length_are_refused(make_study, runner, tmp
                               "offtake": []}, profile=text)
     result, out = _check(runner, files, tmp_path)
     assert_refused(result, files.profile, "m long", "0 to 2e+06 m", written=out)
+
+
+# --------------------------------------------------------------------------- report --result
+
+
+@pytest.mark.parametrize(("text", "key"), [
+    ('{"status": "optimal", "gap": [1]}', "gap"),
+    ('{"status": "optimal", "lower_bound": {}}', "lower_bound"),
+    ('{"status": "feasible", "lp_bound": "12"}', "lp_bound"),
+    ('{"status": "optimal", "gap": NaN}', "gap"),
+    ('{"status": 5}', "status"),
+    ('{"status": "optimal", "uniform": "PE DN200"}', "uniform"),
+    ('{"status": "optimal", "uniform": {"cost": true}}', "cost"),
+    ('{"status": "optimal", "solver": 3}', "solver"),
+])
+def test_report_result_with_values_design_never_writes_is_refused(study_files, runner,
+                                                                  tmp_path, text, key):
+    """Section 5: design's result.json holds a status of the contract and numbers or
+    null (never nan or inf); anything else is a file design did not write (section 8:
+    exit 2 naming the file and the key, nothing written)."""
+    result_file = tmp_path / "r.json"
+    result_file.write_text(text, encoding="utf-8")
+    out = tmp_path / "out"
+    result = runner.invoke(app, ["report", str(study_files.study), "--design",
+                                 str(study_files.design), "--result", str(result_file),
+                                 "--out", str(out)])
+    assert_refused(result, result_file, f"key {key}", written=out)

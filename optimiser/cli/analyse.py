@@ -114,4 +114,8 @@ def read_run_summary(path: Path) -> RunSummary:
         raise InputError(f"{path}: not a readable JSON result ({error})") from None
     if not isinstance(data, dict) or "status" not in data:
         raise InputError(f"{path}: not a result written by `optimiser design` (no status)")
-    return RunSummary.from_result_dict(data)
+    try:
+        return RunSummary.from_result_dict(data)
+    except ValueError as error:
+        raise InputError(f"{path}: not a result written by `optimiser design` ({error})") \
+            from None
