@@ -110,3 +110,40 @@ def test_report_result_with_values_design_never_writes_is_refused(study_files, r
                                  str(study_files.design), "--result", str(result_file),
                                  "--out", str(out)])
     assert_refused(result, result_file, f"key {key}", written=out)
+
+
+# --------------------------------------------------------------------------- sweep options
+
+
+@pytest.mark.parametrize(("args", "option", "words"), [
+    # section 9: levels -500 to 9,000 m (a sweep's levels are the study's levels)
+    (["tradeoff", "--vary", "source-level", "--from", "-1e308", "--to", "200"], "--from",
+     ["-500 to 9000 m"]),
+    (["tradeoff", "--vary", "required-head", "--from", "170", "--to", "1e9"], "--to",
+     ["-500 to 9000 m"]),
+    # a count no machine holds (numpy's linspace allocated it: 7 TiB); the cap of 10,000
+    # values is ours (common practice, no source)
+    (["tradeoff", "--vary", "source-level", "--from", "200", "--to", "201", "--steps",
+      str(10 ** 12)], "--steps", ["2 to 10,000"]),
+    # section 9: roughness 0 to 100 mm, in the study and the catalogue alike
+    (["sensitivity", "--roughness-from", "0", "--roughness-to", "1e300"], "--roughness-to",
+     ["0 to 100 mm"]),
+    (["sensitivity", "--roughness-from", "0.01", "--roughness-to", "0.1", "--steps",
+      str(10 ** 9)], "--steps", ["2 to 10,000"]),
+    (["sensitivity", "--roughness-from", "0.01", "--roughness-to", "0.1", "--samples",
+      str(10 ** 12)], "--samples", ["1 to 1,000,000"]),
+    # section 9: a life of 1 to 200 years; the aged roughness stays within 100 mm (it
+    # became infinite and the capacity search never ended)
+    (["sensitivity", "--roughness-from", "0.01", "--roughness-to", "0.1", "--samples", "3",
+      "--years", "1e308"], "--years", ["0 to 200"]),
+    (["sensitivity", "--roughness-from", "0.01", "--roughness-to", "0.1", "--samples", "3",
+      "--ageing", "PE=10", "--years", "50"], "--ageing", ["500.1 mm", "0 to 100 mm"]),
+])
+def test_sweep_options_outside_the_input_ranges_are_refused(study_files, runner, tmp_path,
+                                                            args, option, words):
+    out = tmp_path / "sweep"
+    command = [args[0], str(study_files.study), *args[1:], "--out", str(out)]
+    if args[0] == "sensitivity":
+        command += ["--design", str(study_files.design), "--no-reoptimise"]
+    result = runner.invoke(app, command)
+    assert_refused(result, option, *words, written=out)

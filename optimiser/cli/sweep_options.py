@@ -14,12 +14,33 @@ if TYPE_CHECKING:
 _LEVEL = re.compile(r"^\s*([-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?)\s*(m)?\s*$")
 
 
+MAX_STEPS = 10_000
+"""Most values of a sweep's ``--steps`` (each may be a whole design run)."""
+MAX_YEARS = 200.0
+"""Most ``--years`` in service: the longest life the study file accepts (section 9)."""
+MAX_SAMPLES = 1_000_000
+"""Most Monte Carlo ``--samples`` (the range of counts of section 9)."""
+
+
 def parse_level_m(option: str, text: str) -> float:
-    """A level or head in metres: ``842.5`` or ``842.5 m``."""
+    """A level or head in metres: ``842.5`` or ``842.5 m``, in the range of levels of
+    the study file (contract section 9)."""
+    from optimiser.io.limits import LEVEL
+
     match = _LEVEL.match(text)
     if not match or not math.isfinite(float(match.group(1))):
         raise ValueError(f"{option}: expected a level in metres such as 842.5, got {text!r}")
+    complaint = LEVEL.message(float(match.group(1)))
+    if complaint:
+        raise ValueError(f"{option}: {complaint}")
     return float(match.group(1))
+
+
+def steps_problems(steps: int) -> list[str]:
+    """``--steps`` of a sweep: 2 to :data:`MAX_STEPS` values."""
+    if not 2 <= steps <= MAX_STEPS:
+        return [f"--steps: must be 2 to {MAX_STEPS:,}, not {steps}"]
+    return []
 
 
 def parse_sweep_value(option: str, variable: str, text: str) -> float:
@@ -125,15 +146,37 @@ def out_problems(out_dir: Path) -> list[str]:
 
 
 def roughness_problems(low_mm: float, high_mm: float, steps: int) -> list[str]:
+    """The roughness range (in the study file's range of roughness, section 9) and its
+    steps."""
+    from optimiser.io.limits import ROUGHNESS
+
     problems = []
     for option, value in (("--roughness-from", low_mm), ("--roughness-to", high_mm)):
         if not math.isfinite(value) or value < 0:
             problems.append(f"{option}: roughness must be 0 mm or more, not {value:g}")
+        elif ROUGHNESS.message(value):
+            problems.append(f"{option}: {ROUGHNESS.message(value)}")
     if low_mm >= high_mm:
         problems.append(f"--roughness-from ({low_mm:g}) must be less than "
                         f"--roughness-to ({high_mm:g})")
-    if steps < 2:
-        problems.append(f"--steps: must be 2 or more, not {steps}")
+    return problems + steps_problems(steps)
+
+
+def ageing_problems(rates: dict[str, float], years: float | None,
+                    high_mm: float) -> list[str]:
+    """Aged roughness (the range's top + rate x years) within the range of roughness of
+    section 9: a rate or a number of years far beyond any pipe's is a slip."""
+    from optimiser.io.limits import ROUGHNESS
+
+    if years is None or not math.isfinite(years) or not math.isfinite(high_mm):
+        return []
+    problems = []
+    for material, rate in rates.items():
+        aged_mm = high_mm + rate * years
+        if ROUGHNESS.message(aged_mm):
+            problems.append(f"--ageing '{material}={rate:g}' with --years {years:g}: the "
+                            f"roughness would reach {aged_mm:g} mm; "
+                            f"{ROUGHNESS.message(aged_mm)}")
     return problems
 
 
@@ -152,8 +195,8 @@ def monte_carlo_problems(samples: int | None, seed: int | None, distribution: st
             if given:
                 problems.append(f"{option}: applies to Monte Carlo only; give --samples N")
         return problems
-    if samples < 1:
-        problems.append(f"--samples: must be 1 or more, not {samples}")
+    if not 1 <= samples <= MAX_SAMPLES:
+        problems.append(f"--samples: must be 1 to {MAX_SAMPLES:,}, not {samples}")
     if seed is not None and seed < 0:
         problems.append(f"--seed: must be 0 or more, not {seed}")
     kind = (distribution or "uniform").lower()
@@ -168,8 +211,8 @@ def monte_carlo_problems(samples: int | None, seed: int | None, distribution: st
         elif not (low_mm <= mode_mm <= high_mm):
             problems.append(f"--mode: {mode_mm:g} mm is outside the roughness range "
                             f"{low_mm:g}-{high_mm:g} mm")
-    if years is not None and not (math.isfinite(years) and years >= 0):
-        problems.append(f"--years: must be 0 or more, not {years:g}")
+    if years is not None and not (math.isfinite(years) and 0 <= years <= MAX_YEARS):
+        problems.append(f"--years: must be 0 to {MAX_YEARS:g}, not {years:g}")
     return problems
 
 

@@ -26,12 +26,14 @@ from optimiser.cli.common import (
 )
 from optimiser.cli.interrupt import staged_outputs
 from optimiser.cli.sweep_options import (
+    ageing_problems,
     monte_carlo_problems,
     out_problems,
     parse_ageing,
     parse_range,
     roughness_problems,
     solver_problems,
+    steps_problems,
     study_problems,
 )
 
@@ -146,8 +148,7 @@ def tradeoff(
     from optimiser.sweeps.pump_variants import PUMP_VARIABLES
 
     variable, low, high, problems = parse_range(vary, from_text, to_text)
-    if steps < 2:
-        problems.append(f"--steps: must be 2 or more, not {steps}")
+    problems += steps_problems(steps)
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
@@ -295,8 +296,8 @@ def sensitivity(
     problems = roughness_problems(roughness_from_mm, roughness_to_mm, steps)
     problems += monte_carlo_problems(samples, seed, distribution, mode_mm, years, ageing,
                                      roughness_from_mm, roughness_to_mm)
-    rates, ageing_problems = parse_ageing(ageing)
-    problems += ageing_problems
+    rates, unreadable = parse_ageing(ageing)
+    problems += unreadable + ageing_problems(rates, years, roughness_to_mm)
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
