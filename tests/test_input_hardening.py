@@ -147,3 +147,21 @@ def test_sweep_options_outside_the_input_ranges_are_refused(study_files, runner,
         command += ["--design", str(study_files.design), "--no-reoptimise"]
     result = runner.invoke(app, command)
     assert_refused(result, option, *words, written=out)
+
+
+# --------------------------------------------------------------------------- tank sites
+
+
+def test_marked_tank_sites_on_a_route_from_coordinates_are_refused(make_study, runner,
+                                                                   tmp_path):
+    """Section 1, [break_pressure_tanks] sites = "marked": only profile rows marked in
+    column tank_site may hold a new tank; a GPX track has no such column, so the marks
+    would silently be none (the CSV reader gave up on the GPX file without a word)."""
+    east, north, ground = invented_line(11, 3000.0)
+    lon, lat = to_lon_lat(east, north)
+    files = make_study(study={"route": {"profile": "track.gpx", "fitting": []},
+                              "offtake": [],
+                              "break_pressure_tanks": {"cost": 1000.0, "sites": "marked"}},
+                       profile=gpx_text(lon, lat, ground))
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.study, 'sites = "marked"', "track.gpx", written=out)
