@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from geo_builders import gpx_text, invented_line, to_lon_lat
+from scheme_builders import NODES, write_network_scheme, write_scheme_design
 
 from optimiser.cli import app
 
@@ -165,3 +166,21 @@ def test_marked_tank_sites_on_a_route_from_coordinates_are_refused(make_study, r
                        profile=gpx_text(lon, lat, ground))
     result, out = _check(runner, files, tmp_path)
     assert_refused(result, files.study, 'sites = "marked"', "track.gpx", written=out)
+
+
+# --------------------------------------------------------------------------- plan positions
+
+
+def test_nodes_file_plan_position_of_absurd_magnitude_is_refused(tmp_path, runner):
+    """Section 9 (absurd magnitudes are refused): a plan position of 1e308 m is a slip;
+    the bound of 1e8 m is ours (map grids keep the earth within it; common practice, no
+    source). It used to be drawn in the report's plan without a word."""
+    nodes = [dict(node, x_m=100.0 * i, y_m=0.0) for i, node in enumerate(NODES)]
+    nodes[2]["x_m"] = 1e308
+    files = write_network_scheme(tmp_path, nodes=nodes)
+    design = write_scheme_design(files.folder)
+    out = tmp_path / "out.json"
+    result = runner.invoke(app, ["check", str(files.study), "--design", str(design),
+                                 "--json", str(out)])
+    assert_refused(result, files.folder / "nodes.csv", "line 4", "x_m",
+                   "outside the accepted range", written=out)
