@@ -184,3 +184,20 @@ def test_nodes_file_plan_position_of_absurd_magnitude_is_refused(tmp_path, runne
                                  "--json", str(out)])
     assert_refused(result, files.folder / "nodes.csv", "line 4", "x_m",
                    "outside the accepted range", written=out)
+
+
+# --------------------------------------------------------------------------- names
+
+
+def test_bill_length_for_a_material_the_catalogue_lacks_is_refused(make_study, runner,
+                                                                   tmp_path):
+    """Section 1 conventions: unknown keys are errors, so a misspelt key is never silently
+    ignored; like [costs.zone_factor] (each name must occur in the profile), the
+    materials of [quantities.pipe_length_by_material_m] must be the catalogue's (a
+    misspelt one silently took the default pipe length)."""
+    files = make_study(study={"quantities": {"pipe_length_by_material_m": {
+        "PE": 12.0, "P E": 6.0}}})
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.study, "[quantities.pipe_length_by_material_m] P E",
+                   "catalogue.csv", written=out)
+    assert "] PE:" not in result.output  # the catalogue's own material is accepted
