@@ -201,3 +201,21 @@ def test_bill_length_for_a_material_the_catalogue_lacks_is_refused(make_study, r
     assert_refused(result, files.study, "[quantities.pipe_length_by_material_m] P E",
                    "catalogue.csv", written=out)
     assert "] PE:" not in result.output  # the catalogue's own material is accepted
+
+
+# --------------------------------------------------------------------------- outputs
+
+
+@pytest.mark.parametrize("which", ["study", "design", "profile"])
+def test_an_output_over_an_input_file_is_refused_and_the_input_kept(study_files, runner,
+                                                                    which):
+    """Section 8: on bad input nothing is written and nothing is lost; `--json` naming
+    one of the run's own input files replaced it with the result (common practice, no
+    source: a tool never writes over what it reads)."""
+    target = getattr(study_files, which)
+    before = target.read_bytes()
+    result = runner.invoke(app, ["check", str(study_files.study), "--design",
+                                 str(study_files.design), "--json", str(target)])
+    assert_refused(result, target, "input file")
+    assert target.read_bytes() == before
+    assert not [p for p in study_files.folder.iterdir() if p.name.startswith(".")]

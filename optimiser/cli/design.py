@@ -67,7 +67,7 @@ def design(
 ) -> None:
     """Cheapest verified telescoping design (MILP): schedule, cost, bound and gap."""
     from optimiser.io import InputError, load_study
-    from optimiser.io.writers import write_json
+    from optimiser.io.writers import input_paths, write_json
     from optimiser.milp import SolverError, VerificationError, optimise_design
     from optimiser.reports.design_report import design_dict, print_design
     from optimiser.reports.files import DESIGN_FILES, write_design_files
@@ -94,7 +94,7 @@ def design(
                 write_design_files(output.folder(out_dir, DESIGN_FILES), outcome, study,
                                    paper=paper.value, notes=notes)
 
-        written = staged_outputs(write)
+        written = staged_outputs(write, input_paths(study))
     except InputError as error:
         fail_input(error)
     print_design(console, outcome, study)
@@ -135,6 +135,7 @@ def compare(
 ) -> None:
     """Design every option and compare them side by side, ranked by capital cost."""
     from optimiser.io import InputError, load_study
+    from optimiser.io.writers import input_paths
     from optimiser.reports.compare import comparison_table, print_comparison
     from optimiser.reports.terminal import print_cautions
     from optimiser.sweeps.options import design_options
@@ -157,7 +158,8 @@ def compare(
     if out_dir is not None:
         try:
             written = staged_outputs(lambda output: _write_comparison(
-                output, out_dir, table, options, paper.value, notes))
+                output, out_dir, table, options, paper.value, notes),
+                input_paths(None, *study_paths))
         except InputError as error:
             fail_input(error)
     print_written(written)

@@ -99,12 +99,14 @@ def _solver_options(solver: str | None, time_limit_s: float | None,
             "mip_gap": mip_gap}
 
 
-def _write(out_dir: Path, names: frozenset[str], write: Callable[[Path], Any]) -> list[Path]:
-    """Stage the files ``write(folder)`` writes, then move them into ``out_dir``."""
+def _write(out_dir: Path, names: frozenset[str], write: Callable[[Path], Any],
+           inputs: frozenset[Path]) -> list[Path]:
+    """Stage the files ``write(folder)`` writes, then move them into ``out_dir`` (never
+    over one of the run's ``inputs``)."""
     from optimiser.io import InputError
 
     try:
-        return staged_outputs(lambda output: write(output.folder(out_dir, names)))
+        return staged_outputs(lambda output: write(output.folder(out_dir, names)), inputs)
     except InputError as error:
         fail_input(error)
 
@@ -164,6 +166,7 @@ def tradeoff(
 
     import numpy as np
 
+    from optimiser.io.writers import input_paths
     from optimiser.model import Status
     from optimiser.reports.terminal import print_cautions
     from optimiser.reports.tradeoff_report import (
@@ -179,7 +182,8 @@ def tradeoff(
         console=_progress_console(), **_solver_options(solver, time_limit_s, mip_gap)))
     print_tradeoff(console, result, study)
     print_written(_write(out_dir, TRADEOFF_FILES,
-                         lambda folder: write_tradeoff_files(folder, result, study)))
+                         lambda folder: write_tradeoff_files(folder, result, study),
+                         input_paths(study)))
     print_cautions(console)
     failures = [f"step {row.value:g}: {row.note}" for row in result.failed.itertuples()]
     if result.own_row["status"] == Status.FAILED:
@@ -308,6 +312,7 @@ def sensitivity(
 
     import numpy as np
 
+    from optimiser.io.writers import input_paths
     from optimiser.reports.sensitivity_report import (
         SENSITIVITY_FILES,
         print_sensitivity,
@@ -325,6 +330,7 @@ def sensitivity(
         console=_progress_console(), **_solver_options(solver, time_limit_s, mip_gap)))
     print_sensitivity(console, result)
     print_written(_write(out_dir, SENSITIVITY_FILES,
-                         lambda folder: write_sensitivity_files(folder, result)))
+                         lambda folder: write_sensitivity_files(folder, result),
+                         input_paths(study, design_path)))
     print_cautions(console)
     _finish(result.runs.failures)
