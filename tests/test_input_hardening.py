@@ -219,3 +219,34 @@ def test_an_output_over_an_input_file_is_refused_and_the_input_kept(study_files,
     assert_refused(result, target, "input file")
     assert target.read_bytes() == before
     assert not [p for p in study_files.folder.iterdir() if p.name.startswith(".")]
+
+
+# --------------------------------------------------------------------------- CSV text
+
+
+def test_an_unclosed_quote_merging_catalogue_rows_is_refused(make_study, runner, tmp_path):
+    """RFC 4180 section 2 (rules 6 and 7): a quoted field may hold line breaks, so a
+    stray opening quote swallows the rows after it into one cell; the catalogue then
+    silently lost a row and gained a material with a line break in its name. No input
+    file of the contract has a line break inside a cell (section 3: one row per option)."""
+    text = ("material,dn_mm,internal_diameter_mm,pressure_class,allowable_head_m,"
+            "roughness_mm,hazen_williams_c,cost_per_m,note\n"
+            '"PE,200,176.2,PN10,102,0.02,150,45,x\n'
+            'PE,250,220.4,PN10,102,0.02,150,65,x"\n'
+            "PE,160,141,PN10,102,0.02,150,30,x\n")
+    files = make_study(catalogue=text)
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.catalogue, "lines 2-3", "quote", written=out)
+
+
+def test_a_nul_byte_in_a_profile_is_refused(make_study, runner, tmp_path):
+    """Section 9: every input file is UTF-8 text; UTF-8 text never holds a NUL byte
+    (RFC 3629: it is the encoding of U+0000 only, a control character no text editor
+    writes), which made a label or a material name with an invisible character."""
+    files = make_study()
+    lines = files.profile.read_bytes().split(b"\n")
+    assert lines[2].startswith(b"800")
+    lines[2] = lines[2] + b"\x00"  # into the last cell, a zone: it read as zone "\x00"
+    files.profile.write_bytes(b"\n".join(lines))
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.profile, "line 3", "NUL", written=out)
