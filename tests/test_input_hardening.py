@@ -250,3 +250,17 @@ def test_a_nul_byte_in_a_profile_is_refused(make_study, runner, tmp_path):
     files.profile.write_bytes(b"\n".join(lines))
     result, out = _check(runner, files, tmp_path)
     assert_refused(result, files.profile, "line 3", "NUL", written=out)
+
+
+def test_required_head_at_a_node_where_no_path_ends_is_refused(tmp_path, runner):
+    """Section 10, nodes CSV: required_head_m applies "at a node where a path ends"
+    (rule 7 of the conversion); given at an inner node it was silently ignored."""
+    nodes = [dict(node) for node in NODES]
+    nodes[1]["required_head_m"] = 195.0  # "n800", inside the trunk
+    files = write_network_scheme(tmp_path, nodes=nodes)
+    design = write_scheme_design(files.folder)
+    out = tmp_path / "out.json"
+    result = runner.invoke(app, ["check", str(files.study), "--design", str(design),
+                                 "--json", str(out)])
+    assert_refused(result, files.folder / "nodes.csv", "line 3", "required_head_m", "n800",
+                   written=out)
