@@ -133,10 +133,27 @@ def solver_problems(solver: str | None, time_limit_s: float | None, mip_gap: flo
     if dask_address is not None:
         if not dask_address.strip():
             problems.append("--dask: the scheduler address is empty")
+        else:
+            problems += _dask_address_problems(dask_address)
         if workers > 1:
             problems.append("--dask and --workers: give one of them (the Dask cluster has "
                             "its own workers)")
     return problems
+
+
+def _dask_address_problems(address: str) -> list[str]:
+    """An address Dask cannot parse (such as a TCP address without its port) is bad
+    usage, found before any work (it used to fail on connecting, as a solver failure)."""
+    from distributed.comm.addressing import parse_address, parse_host_port
+
+    try:
+        scheme, location = parse_address(address)
+        if scheme in ("tcp", "tls"):
+            parse_host_port(location)
+    except ValueError as error:
+        return [f"--dask {address!r}: not a scheduler address ({error}); give e.g. "
+                "tcp://127.0.0.1:8786"]
+    return []
 
 
 def out_problems(out_dir: Path) -> list[str]:
