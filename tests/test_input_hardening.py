@@ -264,3 +264,19 @@ def test_required_head_at_a_node_where_no_path_ends_is_refused(tmp_path, runner)
                                  "--json", str(out)])
     assert_refused(result, files.folder / "nodes.csv", "line 3", "required_head_m", "n800",
                    written=out)
+
+
+# --------------------------------------------------------------------------- tank places
+
+
+@pytest.mark.parametrize("chainage_m", [1e-300, 1e-9, 3000.0 - 1e-9])
+def test_a_tank_within_a_micrometre_of_a_route_end_is_at_that_end(make_study, runner,
+                                                                  tmp_path, chainage_m):
+    """Section 1, [[break_pressure_tank]] chainage_m: strictly inside the route, not at
+    chainage 0 or the last point. Points closer than 1e-6 m are one node of the route
+    (Route.with_nodes), so such a tank stood at the source and the check raised an
+    IndexError (found by fuzzing the tank file of check --tanks)."""
+    files = make_study(study={"break_pressure_tank": [{"chainage_m": chainage_m}]})
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.study, "[[break_pressure_tank]]", "strictly inside",
+                   written=out)

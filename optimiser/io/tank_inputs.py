@@ -142,7 +142,8 @@ def placement_problems(where: str, branch: str, chainage_m: float,
                 f"{known})"]
     route, offtakes = lines[branch]
     end = route.total_chainage_m
-    if not 0.0 < chainage_m < end:
+    # Within SAME_POINT_M of an end is at that end (the route has one node there).
+    if not SAME_POINT_M < chainage_m < end - SAME_POINT_M:
         return [f"{where}: chainage_m {chainage_m:g} must lie strictly inside the route "
                 f"(between 0 and {end:g} m; not at the source or the outlet)"]
     for offtake in offtakes:
