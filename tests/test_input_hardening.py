@@ -13,7 +13,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from geo_builders import gpx_text, invented_line, to_lon_lat
-from scheme_builders import NODES, write_network_scheme, write_scheme_design
+from scheme_builders import LINKS, NODES, write_network_scheme, write_scheme_design
 
 from optimiser.cli import app
 
@@ -279,4 +279,36 @@ def test_a_tank_within_a_micrometre_of_a_route_end_is_at_that_end(make_study, ru
     files = make_study(study={"break_pressure_tank": [{"chainage_m": chainage_m}]})
     result, out = _check(runner, files, tmp_path)
     assert_refused(result, files.study, "[[break_pressure_tank]]", "strictly inside",
+                   written=out)
+
+
+# --------------------------------------------------------------------------- tiny sections
+
+
+@pytest.mark.parametrize("step_m", [1e-300, 1e-9, 5e-4])
+def test_profile_points_less_than_a_millimetre_apart_are_refused(make_study, runner,
+                                                                 tmp_path, step_m):
+    """Section 2: chainage_m strictly increases; section 4: piece ends are matched within
+    1 mm, so points closer than that are one point. A section of 1e-9 m passed the
+    loader and broke design (argmin of an empty sequence in the check)."""
+    profile = [(0.0, 199.0, "intake", ""), (step_m, 199.0, "", ""), (800.0, 190.0, "", ""),
+               (1600.0, 160.0, "", "rock"), (2400.0, 128.0, "low point", ""),
+               (3000.0, 145.0, "tank", "")]
+    files = make_study(profile=profile)
+    result, out = _check(runner, files, tmp_path)
+    assert_refused(result, files.profile, "line 3", "1 mm", written=out)
+
+
+def test_a_link_shorter_than_a_millimetre_is_refused(tmp_path, runner):
+    """Section 10, links CSV: length_m > 0; a link of 1e-300 m vanished in the sum of
+    chainages (129.7 + 1e-300 = 129.7) and the model's own check of the route raised a
+    ValueError. 1 mm is the tolerance of section 4 (common practice, no source)."""
+    links = [dict(link) for link in LINKS]
+    links[1]["length_m"] = 1e-300
+    files = write_network_scheme(tmp_path, links=links)
+    design = write_scheme_design(files.folder)
+    out = tmp_path / "out.json"
+    result = runner.invoke(app, ["check", str(files.study), "--design", str(design),
+                                 "--json", str(out)])
+    assert_refused(result, files.folder / "links.csv", "line 3", "length_m", "1 mm",
                    written=out)

@@ -58,6 +58,11 @@ HOURS = Limit(0.0, 8784.0, "h", "hours a year: at most a leap year")
 PLAN = Limit(-1.0e8, 1.0e8, "m", "plan coordinates: every map grid places the earth "
              "within 1e8 m of its origin")
 
+MIN_SECTION_M = 1e-3
+"""Shortest section between two profile points, and shortest link [m]: 1 mm, the
+tolerance of a design's piece ends (contract section 4) and of a junction from its
+line's ends; closer points are one point (sections of 1e-9 m broke the check)."""
+
 STUDY_KEYS: dict[str, Limit] = {
     "level_m": LEVEL, "top_water_level_m": LEVEL, "source_level_m": LEVEL,
     "required_head_m": LEVEL, "water_level_m": LEVEL,
