@@ -40,8 +40,14 @@ def _design_problems(solver: str | None, time_limit_s: float | None, gap: float 
     problems = []
     if solver is not None and solver.lower() not in ("highs", "cbc"):
         problems.append(f"--solver: {solver!r} is not a solver; use highs or cbc")
-    if time_limit_s is not None and not time_limit_s > 0:
-        problems.append(f"--time-limit: must be > 0 seconds, got {time_limit_s:g}")
+    if time_limit_s is not None:
+        from optimiser.io.limits import TIME
+
+        # the range of [solver] time_limit_s (section 9): inf or 1e300 s is a slip
+        if not time_limit_s > 0:
+            problems.append(f"--time-limit: must be > 0 seconds, got {time_limit_s:g}")
+        elif TIME.message(time_limit_s):
+            problems.append(f"--time-limit: {TIME.message(time_limit_s)}")
     if gap is not None and not 0 <= gap < 1:
         problems.append(f"--gap: must be at least 0 and below 1, got {gap:g}")
     if out_dir is not None and out_dir.exists() and not out_dir.is_dir():

@@ -117,6 +117,7 @@ def parse_ageing(items: list[str]) -> tuple[dict[str, float], list[str]]:
 def solver_problems(solver: str | None, time_limit_s: float | None, mip_gap: float | None,
                     workers: int, dask_address: str | None) -> list[str]:
     """Problems with the solver, time limit, gap, workers and Dask options."""
+    from optimiser.io.limits import TIME
     from optimiser.milp import SOLVERS
 
     problems = []
@@ -125,6 +126,8 @@ def solver_problems(solver: str | None, time_limit_s: float | None, mip_gap: flo
     if time_limit_s is not None and not (math.isfinite(time_limit_s) and time_limit_s > 0):
         problems.append(f"--time-limit: must be a positive number of seconds, not "
                         f"{time_limit_s:g}")
+    elif time_limit_s is not None and TIME.message(time_limit_s):
+        problems.append(f"--time-limit: {TIME.message(time_limit_s)}")
     if mip_gap is not None and not (0.0 <= mip_gap < 1.0):
         problems.append(f"--gap: must be a relative gap from 0 up to (not including) 1, not "
                         f"{mip_gap:g}")
