@@ -83,6 +83,10 @@ def test_infeasible_study_exits_1_with_diagnosis(tmp_path):
     (["--solver", "gurobi"], "--solver"),
     (["--gap", "2"], "--gap"),
     (["--time-limit", "0"], "--time-limit"),
+    # section 9: [solver] time_limit_s 0 to 1e6 s; the option keeps the range (inf ran
+    # with no limit at all, found by fuzzing the options)
+    (["--time-limit", "inf"], "--time-limit"),
+    (["--time-limit", "1e300"], "--time-limit"),
 ])
 def test_bad_options_exit_2_and_write_nothing(tmp_path, feasible_study, extra, word):
     out = tmp_path / "out"

@@ -76,6 +76,10 @@ def test_bad_surge_cells_exit_2(make_study, runner, cells, needle):
     ({"min_transient_pressure_m": -20.0}, {}, "below the vapour pressure"),
     ({"method": "joukowsky"}, {"surge_allowance_m": 20.0},
      "[catalogue] surge_allowance_m applies to [surge] method \"allowance\" only"),
+    # contract section 10: the slow closure 2LV/(gT) is the wave-speed method's; found
+    # by mutating the demos (a closure time beside an allowance was silently ignored)
+    ({"closure_time_s": 30.0}, {"surge_allowance_m": 20.0},
+     "[surge] closure_time_s applies to [surge] method \"joukowsky\" only"),
     ({}, {"hazen_williams_coefficient": 0.0}, "[catalogue] hazen_williams_coefficient"),
 ])
 def test_bad_surge_keys_exit_2(make_study, runner, surge, catalogue, needle):

@@ -116,6 +116,10 @@ def test_tradeoff_flow_takes_units(app, study_files, tmp_path):
      "--time-limit"),
     (["--vary", "source-level", "--from", "200", "--to", "210", "--workers", "2",
       "--dask", "tcp://127.0.0.1:1"], "--dask"),
+    # a TCP address needs its port (Dask's address form scheme://host:port, as in the
+    # option's help); found by fuzzing: it failed on connecting, exit 3
+    (["--vary", "source-level", "--from", "200", "--to", "210", "--dask", "nonsense"],
+     "--dask 'nonsense': not a scheduler address"),
 ])
 def test_tradeoff_bad_options_exit_2_and_write_nothing(app, study_files, tmp_path, extra,
                                                        word):

@@ -38,7 +38,7 @@ def check(study_path: StudyArgument, design_path: DesignFileOption,
     """Analyse a given design in every scenario: pressures, classes, velocities, outlet."""
     from optimiser.analysis import check_design
     from optimiser.io import InputError, load_design, load_study
-    from optimiser.io.writers import StagedOutput, write_json
+    from optimiser.io.writers import StagedOutput, input_paths, write_json
     from optimiser.reports.results import check_dict
     from optimiser.reports.terminal import print_cautions, print_check
 
@@ -55,7 +55,7 @@ def check(study_path: StudyArgument, design_path: DesignFileOption,
             if json_path is not None:
                 write_json(output.file(json_path), check_dict(result))
 
-        written = staged_outputs(write)
+        written = staged_outputs(write, input_paths(study, design_path, tanks_path))
     except InputError as error:
         fail_input(error)
     print_check(console, result)
@@ -80,6 +80,7 @@ def report(
     """Write the report (HTML, PDF), workbook and appurtenance schedule of a design."""
     from optimiser.analysis import check_design
     from optimiser.io import InputError, load_design, load_study
+    from optimiser.io.writers import input_paths
     from optimiser.reports.files import REPORT_FILES, write_report_files
     from optimiser.reports.terminal import print_cautions, print_check
 
@@ -91,7 +92,7 @@ def report(
         notes: list[str] = []
         written = staged_outputs(lambda output: write_report_files(
             output.folder(out_dir, REPORT_FILES), result, summary, paper=paper.value,
-            notes=notes))
+            notes=notes), input_paths(study, design_path, result_path))
     except InputError as error:
         fail_input(error)
     print_check(console, result)
@@ -114,4 +115,8 @@ def read_run_summary(path: Path) -> RunSummary:
         raise InputError(f"{path}: not a readable JSON result ({error})") from None
     if not isinstance(data, dict) or "status" not in data:
         raise InputError(f"{path}: not a result written by `optimiser design` (no status)")
-    return RunSummary.from_result_dict(data)
+    try:
+        return RunSummary.from_result_dict(data)
+    except ValueError as error:
+        raise InputError(f"{path}: not a result written by `optimiser design` ({error})") \
+            from None

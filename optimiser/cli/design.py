@@ -40,8 +40,14 @@ def _design_problems(solver: str | None, time_limit_s: float | None, gap: float 
     problems = []
     if solver is not None and solver.lower() not in ("highs", "cbc"):
         problems.append(f"--solver: {solver!r} is not a solver; use highs or cbc")
-    if time_limit_s is not None and not time_limit_s > 0:
-        problems.append(f"--time-limit: must be > 0 seconds, got {time_limit_s:g}")
+    if time_limit_s is not None:
+        from optimiser.io.limits import TIME
+
+        # the range of [solver] time_limit_s (section 9): inf or 1e300 s is a slip
+        if not time_limit_s > 0:
+            problems.append(f"--time-limit: must be > 0 seconds, got {time_limit_s:g}")
+        elif TIME.message(time_limit_s):
+            problems.append(f"--time-limit: {TIME.message(time_limit_s)}")
     if gap is not None and not 0 <= gap < 1:
         problems.append(f"--gap: must be at least 0 and below 1, got {gap:g}")
     if out_dir is not None and out_dir.exists() and not out_dir.is_dir():
@@ -67,7 +73,7 @@ def design(
 ) -> None:
     """Cheapest verified telescoping design (MILP): schedule, cost, bound and gap."""
     from optimiser.io import InputError, load_study
-    from optimiser.io.writers import write_json
+    from optimiser.io.writers import input_paths, write_json
     from optimiser.milp import SolverError, VerificationError, optimise_design
     from optimiser.reports.design_report import design_dict, print_design
     from optimiser.reports.files import DESIGN_FILES, write_design_files
@@ -94,7 +100,7 @@ def design(
                 write_design_files(output.folder(out_dir, DESIGN_FILES), outcome, study,
                                    paper=paper.value, notes=notes)
 
-        written = staged_outputs(write)
+        written = staged_outputs(write, input_paths(study))
     except InputError as error:
         fail_input(error)
     print_design(console, outcome, study)
@@ -135,6 +141,7 @@ def compare(
 ) -> None:
     """Design every option and compare them side by side, ranked by capital cost."""
     from optimiser.io import InputError, load_study
+    from optimiser.io.writers import input_paths
     from optimiser.reports.compare import comparison_table, print_comparison
     from optimiser.reports.terminal import print_cautions
     from optimiser.sweeps.options import design_options
@@ -157,7 +164,8 @@ def compare(
     if out_dir is not None:
         try:
             written = staged_outputs(lambda output: _write_comparison(
-                output, out_dir, table, options, paper.value, notes))
+                output, out_dir, table, options, paper.value, notes),
+                input_paths(None, *study_paths))
         except InputError as error:
             fail_input(error)
     print_written(written)

@@ -24,7 +24,7 @@ import multiprocessing
 import os
 import signal
 import threading
-from collections.abc import Callable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
 from types import FrameType
@@ -131,12 +131,14 @@ def committing() -> Iterator[None]:
         raise Interrupted
 
 
-def staged_outputs(write: Callable[[StagedOutput], None]) -> list[Path]:
+def staged_outputs(write: Callable[[StagedOutput], None],
+                   protect: Iterable[Path] = ()) -> list[Path]:
     """Run ``write(output)`` on a staged output set, then move it into place whole (an
-    interrupt while writing leaves nothing; one while moving waits for the move)."""
+    interrupt while writing leaves nothing; one while moving waits for the move). An
+    output that would replace one of the input files ``protect`` is bad input."""
     from optimiser.io.writers import StagedOutput
 
-    with writing(), StagedOutput() as output:
+    with writing(), StagedOutput(protect) as output:
         write(output)
         with committing():
             return output.commit()

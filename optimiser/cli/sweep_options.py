@@ -14,12 +14,33 @@ if TYPE_CHECKING:
 _LEVEL = re.compile(r"^\s*([-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?)\s*(m)?\s*$")
 
 
+MAX_STEPS = 10_000
+"""Most values of a sweep's ``--steps`` (each may be a whole design run)."""
+MAX_YEARS = 200.0
+"""Most ``--years`` in service: the longest life the study file accepts (section 9)."""
+MAX_SAMPLES = 1_000_000
+"""Most Monte Carlo ``--samples`` (the range of counts of section 9)."""
+
+
 def parse_level_m(option: str, text: str) -> float:
-    """A level or head in metres: ``842.5`` or ``842.5 m``."""
+    """A level or head in metres: ``842.5`` or ``842.5 m``, in the range of levels of
+    the study file (contract section 9)."""
+    from optimiser.io.limits import LEVEL
+
     match = _LEVEL.match(text)
     if not match or not math.isfinite(float(match.group(1))):
         raise ValueError(f"{option}: expected a level in metres such as 842.5, got {text!r}")
+    complaint = LEVEL.message(float(match.group(1)))
+    if complaint:
+        raise ValueError(f"{option}: {complaint}")
     return float(match.group(1))
+
+
+def steps_problems(steps: int) -> list[str]:
+    """``--steps`` of a sweep: 2 to :data:`MAX_STEPS` values."""
+    if not 2 <= steps <= MAX_STEPS:
+        return [f"--steps: must be 2 to {MAX_STEPS:,}, not {steps}"]
+    return []
 
 
 def parse_sweep_value(option: str, variable: str, text: str) -> float:
@@ -96,6 +117,7 @@ def parse_ageing(items: list[str]) -> tuple[dict[str, float], list[str]]:
 def solver_problems(solver: str | None, time_limit_s: float | None, mip_gap: float | None,
                     workers: int, dask_address: str | None) -> list[str]:
     """Problems with the solver, time limit, gap, workers and Dask options."""
+    from optimiser.io.limits import TIME
     from optimiser.milp import SOLVERS
 
     problems = []
@@ -104,6 +126,8 @@ def solver_problems(solver: str | None, time_limit_s: float | None, mip_gap: flo
     if time_limit_s is not None and not (math.isfinite(time_limit_s) and time_limit_s > 0):
         problems.append(f"--time-limit: must be a positive number of seconds, not "
                         f"{time_limit_s:g}")
+    elif time_limit_s is not None and TIME.message(time_limit_s):
+        problems.append(f"--time-limit: {TIME.message(time_limit_s)}")
     if mip_gap is not None and not (0.0 <= mip_gap < 1.0):
         problems.append(f"--gap: must be a relative gap from 0 up to (not including) 1, not "
                         f"{mip_gap:g}")
@@ -112,10 +136,27 @@ def solver_problems(solver: str | None, time_limit_s: float | None, mip_gap: flo
     if dask_address is not None:
         if not dask_address.strip():
             problems.append("--dask: the scheduler address is empty")
+        else:
+            problems += _dask_address_problems(dask_address)
         if workers > 1:
             problems.append("--dask and --workers: give one of them (the Dask cluster has "
                             "its own workers)")
     return problems
+
+
+def _dask_address_problems(address: str) -> list[str]:
+    """An address Dask cannot parse (such as a TCP address without its port) is bad
+    usage, found before any work (it used to fail on connecting, as a solver failure)."""
+    from distributed.comm.addressing import parse_address, parse_host_port
+
+    try:
+        scheme, location = parse_address(address)
+        if scheme in ("tcp", "tls"):
+            parse_host_port(location)
+    except ValueError as error:
+        return [f"--dask {address!r}: not a scheduler address ({error}); give e.g. "
+                "tcp://127.0.0.1:8786"]
+    return []
 
 
 def out_problems(out_dir: Path) -> list[str]:
@@ -125,15 +166,37 @@ def out_problems(out_dir: Path) -> list[str]:
 
 
 def roughness_problems(low_mm: float, high_mm: float, steps: int) -> list[str]:
+    """The roughness range (in the study file's range of roughness, section 9) and its
+    steps."""
+    from optimiser.io.limits import ROUGHNESS
+
     problems = []
     for option, value in (("--roughness-from", low_mm), ("--roughness-to", high_mm)):
         if not math.isfinite(value) or value < 0:
             problems.append(f"{option}: roughness must be 0 mm or more, not {value:g}")
+        elif ROUGHNESS.message(value):
+            problems.append(f"{option}: {ROUGHNESS.message(value)}")
     if low_mm >= high_mm:
         problems.append(f"--roughness-from ({low_mm:g}) must be less than "
                         f"--roughness-to ({high_mm:g})")
-    if steps < 2:
-        problems.append(f"--steps: must be 2 or more, not {steps}")
+    return problems + steps_problems(steps)
+
+
+def ageing_problems(rates: dict[str, float], years: float | None,
+                    high_mm: float) -> list[str]:
+    """Aged roughness (the range's top + rate x years) within the range of roughness of
+    section 9: a rate or a number of years far beyond any pipe's is a slip."""
+    from optimiser.io.limits import ROUGHNESS
+
+    if years is None or not math.isfinite(years) or not math.isfinite(high_mm):
+        return []
+    problems = []
+    for material, rate in rates.items():
+        aged_mm = high_mm + rate * years
+        if ROUGHNESS.message(aged_mm):
+            problems.append(f"--ageing '{material}={rate:g}' with --years {years:g}: the "
+                            f"roughness would reach {aged_mm:g} mm; "
+                            f"{ROUGHNESS.message(aged_mm)}")
     return problems
 
 
@@ -152,8 +215,8 @@ def monte_carlo_problems(samples: int | None, seed: int | None, distribution: st
             if given:
                 problems.append(f"{option}: applies to Monte Carlo only; give --samples N")
         return problems
-    if samples < 1:
-        problems.append(f"--samples: must be 1 or more, not {samples}")
+    if not 1 <= samples <= MAX_SAMPLES:
+        problems.append(f"--samples: must be 1 to {MAX_SAMPLES:,}, not {samples}")
     if seed is not None and seed < 0:
         problems.append(f"--seed: must be 0 or more, not {seed}")
     kind = (distribution or "uniform").lower()
@@ -168,8 +231,8 @@ def monte_carlo_problems(samples: int | None, seed: int | None, distribution: st
         elif not (low_mm <= mode_mm <= high_mm):
             problems.append(f"--mode: {mode_mm:g} mm is outside the roughness range "
                             f"{low_mm:g}-{high_mm:g} mm")
-    if years is not None and not (math.isfinite(years) and years >= 0):
-        problems.append(f"--years: must be 0 or more, not {years:g}")
+    if years is not None and not (math.isfinite(years) and 0 <= years <= MAX_YEARS):
+        problems.append(f"--years: must be 0 to {MAX_YEARS:g}, not {years:g}")
     return problems
 
 

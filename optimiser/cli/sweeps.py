@@ -26,12 +26,14 @@ from optimiser.cli.common import (
 )
 from optimiser.cli.interrupt import staged_outputs
 from optimiser.cli.sweep_options import (
+    ageing_problems,
     monte_carlo_problems,
     out_problems,
     parse_ageing,
     parse_range,
     roughness_problems,
     solver_problems,
+    steps_problems,
     study_problems,
 )
 
@@ -97,12 +99,14 @@ def _solver_options(solver: str | None, time_limit_s: float | None,
             "mip_gap": mip_gap}
 
 
-def _write(out_dir: Path, names: frozenset[str], write: Callable[[Path], Any]) -> list[Path]:
-    """Stage the files ``write(folder)`` writes, then move them into ``out_dir``."""
+def _write(out_dir: Path, names: frozenset[str], write: Callable[[Path], Any],
+           inputs: frozenset[Path]) -> list[Path]:
+    """Stage the files ``write(folder)`` writes, then move them into ``out_dir`` (never
+    over one of the run's ``inputs``)."""
     from optimiser.io import InputError
 
     try:
-        return staged_outputs(lambda output: write(output.folder(out_dir, names)))
+        return staged_outputs(lambda output: write(output.folder(out_dir, names)), inputs)
     except InputError as error:
         fail_input(error)
 
@@ -146,8 +150,7 @@ def tradeoff(
     from optimiser.sweeps.pump_variants import PUMP_VARIABLES
 
     variable, low, high, problems = parse_range(vary, from_text, to_text)
-    if steps < 2:
-        problems.append(f"--steps: must be 2 or more, not {steps}")
+    problems += steps_problems(steps)
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
@@ -163,6 +166,7 @@ def tradeoff(
 
     import numpy as np
 
+    from optimiser.io.writers import input_paths
     from optimiser.model import Status
     from optimiser.reports.terminal import print_cautions
     from optimiser.reports.tradeoff_report import (
@@ -178,7 +182,8 @@ def tradeoff(
         console=_progress_console(), **_solver_options(solver, time_limit_s, mip_gap)))
     print_tradeoff(console, result, study)
     print_written(_write(out_dir, TRADEOFF_FILES,
-                         lambda folder: write_tradeoff_files(folder, result, study)))
+                         lambda folder: write_tradeoff_files(folder, result, study),
+                         input_paths(study)))
     print_cautions(console)
     failures = [f"step {row.value:g}: {row.note}" for row in result.failed.itertuples()]
     if result.own_row["status"] == Status.FAILED:
@@ -295,8 +300,8 @@ def sensitivity(
     problems = roughness_problems(roughness_from_mm, roughness_to_mm, steps)
     problems += monte_carlo_problems(samples, seed, distribution, mode_mm, years, ageing,
                                      roughness_from_mm, roughness_to_mm)
-    rates, ageing_problems = parse_ageing(ageing)
-    problems += ageing_problems
+    rates, unreadable = parse_ageing(ageing)
+    problems += unreadable + ageing_problems(rates, years, roughness_to_mm)
     problems += solver_problems(solver, time_limit_s, mip_gap, workers, dask_address)
     problems += out_problems(out_dir)
     study = _load(study_path, problems)
@@ -307,6 +312,7 @@ def sensitivity(
 
     import numpy as np
 
+    from optimiser.io.writers import input_paths
     from optimiser.reports.sensitivity_report import (
         SENSITIVITY_FILES,
         print_sensitivity,
@@ -324,6 +330,7 @@ def sensitivity(
         console=_progress_console(), **_solver_options(solver, time_limit_s, mip_gap)))
     print_sensitivity(console, result)
     print_written(_write(out_dir, SENSITIVITY_FILES,
-                         lambda folder: write_sensitivity_files(folder, result)))
+                         lambda folder: write_sensitivity_files(folder, result),
+                         input_paths(study, design_path)))
     print_cautions(console)
     _finish(result.runs.failures)

@@ -55,6 +55,13 @@ ENERGY_PRICE = Limit(0.0, 1000.0, "per kWh", "energy prices, in the study curren
 LIFE = Limit(1.0, 200.0, "years", "life of a pump station")
 RATE = Limit(0.0, 1.0, "per year", "discount rates: 0.05 is 5 %")
 HOURS = Limit(0.0, 8784.0, "h", "hours a year: at most a leap year")
+PLAN = Limit(-1.0e8, 1.0e8, "m", "plan coordinates: every map grid places the earth "
+             "within 1e8 m of its origin")
+
+MIN_SECTION_M = 1e-3
+"""Shortest section between two profile points, and shortest link [m]: 1 mm, the
+tolerance of a design's piece ends (contract section 4) and of a junction from its
+line's ends; closer points are one point (sections of 1e-9 m broke the check)."""
 
 STUDY_KEYS: dict[str, Limit] = {
     "level_m": LEVEL, "top_water_level_m": LEVEL, "source_level_m": LEVEL,
@@ -83,6 +90,8 @@ CSV_COLUMNS: dict[str, Limit] = {
     "hazen_williams_c": C_VALUE, "cost_per_m": COST,
     # the compact form's nodes and links (io/network_file.py)
     "min_pressure_m": PRESSURE, "required_head_m": LEVEL, "length_m": CHAINAGE,
+    # plan positions (nodes file; x/y profile of a route from coordinates)
+    "x_m": PLAN, "y_m": PLAN,
 }
 """CSV columns by name (profile, catalogue, design, nodes and links)."""
 

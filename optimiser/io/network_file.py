@@ -29,6 +29,7 @@ from pathlib import Path
 import numpy as np
 
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.limits import MIN_SECTION_M
 from optimiser.io.profile_file import load_profile
 from optimiser.io.schema import StudyFile
 from optimiser.io.tables import Row, number, read_rows
@@ -199,6 +200,10 @@ def _read_links(path: Path, spec: StudyFile, problems: ProblemList) -> list[Link
         profile = row.cells.get("profile", "")
         length = number(path, row, "length_m", problems, positive=True,
                         allow_empty=bool(profile))
+        if length is not None and length < MIN_SECTION_M:
+            problems.add(f"{path}: line {row.line}: column length_m must be at least "
+                         f"{MIN_SECTION_M:g} m (1 mm), got {length:g}")
+            length = None
         if profile:
             _link_profile(path, row, link, spec, length, problems)
         elif length is not None:

@@ -155,13 +155,22 @@ def end_head_m(node: Node, route_min_pressure_m: float) -> float:
 
 
 def end_problems(tree: NetworkTree, found: list[NetworkPath]) -> list[str]:
-    """A source with a demand, and a branch ending at a node named like the trunk."""
+    """A source with a demand, a required head where no path ends, and a branch ending
+    at a node named like the trunk."""
     problems = []
     source = tree.nodes[tree.source]
     if source.demand_m3_s > 0.0:
         problems.append(f"{tree.nodes_path}: line {source.line}: the source node "
                         f"{tree.source!r} has a demand; it is drawn before the pipe, so "
                         "give it at a node below the source")
+    ends = {path.end for path in found}
+    for node in tree.nodes.values():
+        # Only a path's end has a delivery head (module rule 7): elsewhere the column
+        # was silently ignored.
+        if node.required_head_m is not None and node.name not in ends:
+            problems.append(f"{tree.nodes_path}: line {node.line}: column required_head_m: "
+                            f"node {node.name!r} is not the end of a path (a delivery "
+                            "point), where alone a required head applies; leave it empty")
     for path in found[1:]:
         if path.end == TRUNK:
             problems.append(f"{tree.nodes_path}: line {tree.nodes[path.end].line}: node "

@@ -7,6 +7,7 @@ from pathlib import Path
 import numpy as np
 
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.limits import MIN_SECTION_M
 from optimiser.io.surge_inputs import SURGE_COLUMNS, surge_columns
 from optimiser.io.tables import number, read_rows
 from optimiser.model import Catalogue, Friction, PipeOption, Route
@@ -36,6 +37,11 @@ def load_profile(path: Path, cover_m: float, slope_length: bool) -> Route:
         if chainages and chainage <= chainages[-1]:
             problems.add(f"{path}: line {row.line}: chainage_m {chainage:g} does not "
                          f"increase (previous row has {chainages[-1]:g})")
+        elif chainages and chainage - chainages[-1] < MIN_SECTION_M:
+            problems.add(f"{path}: line {row.line}: chainage_m {chainage:g} is less than "
+                         f"{MIN_SECTION_M * 1000:g} mm beyond the previous row's "
+                         f"({chainages[-1]:g}); points that close are one point (merge "
+                         "the rows)")
         chainages.append(chainage)
         grounds.append(ground)
     problems.raise_if_any()

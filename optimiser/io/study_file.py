@@ -280,6 +280,13 @@ def _chosen_catalogue(path: Path, spec: StudyFile, catalogue: Catalogue,
     if len(chosen) == 0 and materials:
         problems.add(f"{path}: [catalogue] materials: no option of the catalogue is left")
     problems.items.extend(surge_problems(path, catalogue_path, spec, chosen))
+    # Like a zone factor's zone, a material of the bill must exist: a misspelt name
+    # would otherwise silently take the default pipe length.
+    for material in spec.quantities.pipe_length_by_material_m:
+        if material not in set(catalogue.materials):
+            problems.add(f"{path}: [quantities.pipe_length_by_material_m] {material}: no "
+                         f"material of {catalogue_path.name} has this name (it has "
+                         f"{', '.join(sorted(set(catalogue.materials)))})")
     return chosen
 
 

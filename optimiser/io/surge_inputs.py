@@ -86,6 +86,14 @@ def surge_problems(path: Path, catalogue_path: Path, spec: StudyFile,
         problems.append(f"{path}: [surge] min_transient_pressure_m ({limit:g} m) is below "
                         f"the vapour pressure of water (about {VAPOUR_HEAD_M:g} m)")
     if table.method != "joukowsky":
+        # The slow closure (Michaud) is a rule of the wave-speed method: with a fixed
+        # allowance a closure time was silently ignored (as an allowance is refused
+        # beside "joukowsky" below).
+        if table.closure_time_s > 0.0:
+            problems.append(f"{path}: [surge] closure_time_s applies to [surge] method "
+                            "\"joukowsky\" only; with \"allowance\" the surge is "
+                            "[catalogue] surge_allowance_m (remove the key or change the "
+                            "method)")
         return problems
     if spec.catalogue.surge_allowance_m != 0.0:
         problems.append(f"{path}: [catalogue] surge_allowance_m applies to [surge] method "

@@ -60,8 +60,18 @@ def read_rows(path: Path, required: list[str], optional: list[str] | None = None
     problems.raise_if_any()
     rows: list[Row] = []
     try:
+        ended = reader.line_num
         for values in reader:
             line_number = first + reader.line_num
+            started, ended = first + ended + 1, reader.line_num
+            if line_number > started:
+                # A quote left open swallows the lines that follow into one cell: rows
+                # silently lost or merged, so it is refused (no input has line breaks
+                # inside a cell).
+                problems.add(f"{path}: lines {started}-{line_number}: one quoted cell runs "
+                             "over several lines (a quote \" not closed?); put each row on "
+                             "its own line")
+                continue
             if not values or all(not v.strip() for v in values):
                 continue  # blank lines are harmless
             if len(values) > len(header):
@@ -86,6 +96,10 @@ def decode_text(path: Path, data: bytes, what: str, save_as: str) -> str:
     line of the first byte that cannot be read."""
     if data[:2] in (b"\xff\xfe", b"\xfe\xff"):
         raise InputError(f"{path}: the {what} is UTF-16 text; save it as {save_as}")
+    if b"\x00" in data:  # UTF-8 text never holds a NUL byte: a binary or damaged file
+        line = data[:data.index(b"\x00")].count(b"\n") + 1
+        raise InputError(f"{path}: line {line}: the {what} holds a NUL byte (0x00), so it "
+                         f"is not text; save it as {save_as}")
     try:
         return data.decode("utf-8-sig")
     except UnicodeDecodeError as error:

@@ -15,6 +15,7 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from optimiser.io.errors import InputError, ProblemList
+from optimiser.io.geometry.profile import profile_kind
 from optimiser.io.schema import StudyFile
 from optimiser.io.tables import number, read_rows
 from optimiser.model import (
@@ -44,8 +45,18 @@ def tank_rules(path: Path, spec: StudyFile, profile_path: Path,
     if sites is TankSites.MARKED:
         # In a scheme the branches' profiles may carry the marks instead (read by
         # :mod:`optimiser.io.scheme_tank_sites`, which wants one mark somewhere).
-        marked = marked_sites(path, profile_path, problems,
-                              required=not (spec.branch or spec.network))
+        required = not (spec.branch or spec.network)
+        kind = profile_kind(profile_path) if spec.network is None else "chainage"
+        if kind != "chainage":
+            # A route from coordinates has no tank_site column: without this the marks
+            # were silently none (the CSV reader cannot read a GPX or GeoJSON file).
+            if required:
+                problems.add(f"{path}: [break_pressure_tanks] sites = \"marked\" reads the "
+                             f"column {SITE_COLUMN} of a profile CSV with chainage_m, but "
+                             f"{profile_path.name} is a route from coordinates; give sites "
+                             "= \"every point\", or a chainage profile with the column")
+        else:
+            marked = marked_sites(path, profile_path, problems, required=required)
     return TankRules(table.cost, sites, table.height_m, table.inlet_k, table.outlet_k,
                      table.max_count, marked)
 
@@ -131,7 +142,8 @@ def placement_problems(where: str, branch: str, chainage_m: float,
                 f"{known})"]
     route, offtakes = lines[branch]
     end = route.total_chainage_m
-    if not 0.0 < chainage_m < end:
+    # Within SAME_POINT_M of an end is at that end (the route has one node there).
+    if not SAME_POINT_M < chainage_m < end - SAME_POINT_M:
         return [f"{where}: chainage_m {chainage_m:g} must lie strictly inside the route "
                 f"(between 0 and {end:g} m; not at the source or the outlet)"]
     for offtake in offtakes:

@@ -9,13 +9,17 @@ import math
 import os
 import shutil
 import tempfile
+from collections.abc import Iterable
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
 
 from optimiser.io.errors import InputError
+
+if TYPE_CHECKING:
+    from optimiser.model import Study
 
 
 def json_safe(value: Any) -> Any:
@@ -122,6 +126,13 @@ def write_workbook(path: Path, sheets: dict[str, pd.DataFrame]) -> None:
 # --------------------------------------------------------------------------- staged output
 
 
+def input_paths(study: Study | None, *paths: Path | None) -> frozenset[Path]:
+    """The files a run reads (the study file, its profile and catalogue, and ``paths``
+    such as a design or a tank file): outputs must never replace them."""
+    found = [] if study is None else [study.path, study.profile_path, study.catalogue_path]
+    return frozenset(Path(p).resolve() for p in (*found, *paths) if p is not None)
+
+
 def _missing_parents(folder: Path) -> list[Path]:
     """The folders that must be created for ``folder`` to exist, outermost first."""
     missing = []
@@ -146,10 +157,19 @@ class StagedOutput:
     Other files in the folder are left alone.
     """
 
-    def __init__(self) -> None:
+    def __init__(self, protect: Iterable[Path] = ()) -> None:
         self._created: list[Path] = []
         self._folders: list[tuple[Path, Path, frozenset[str]]] = []
         self._files: list[tuple[Path, Path]] = []
+        self._protect = frozenset(Path(p).resolve() for p in protect)
+        """The run's input files: an output there would replace an input (contract
+        section 8: bad input loses nothing)."""
+
+    def _refuse_inputs(self, targets: Iterable[Path], where: Path) -> None:
+        for target in targets:
+            if target.resolve() in self._protect:
+                raise InputError(f"{where}: writing {target.name} there would replace an "
+                                 "input file of this run; choose another name or folder")
 
     def __enter__(self) -> StagedOutput:
         return self
@@ -172,6 +192,7 @@ class StagedOutput:
         target = Path(target)
         if target.exists() and not target.is_dir():
             raise InputError(f"{target}: --out must be a folder, but a file has this name")
+        self._refuse_inputs([target / name for name in names], target)
         stage = Path(tempfile.mkdtemp(dir=self._parent(target), prefix=f".{target.name}.",
                                       suffix=".partial"))
         self._folders.append((target, stage, frozenset(names)))
@@ -182,6 +203,7 @@ class StagedOutput:
         target = Path(target)
         if target.is_dir():
             raise InputError(f"{target}: is a folder, not a file")
+        self._refuse_inputs([target], target)
         descriptor, stage = tempfile.mkstemp(dir=self._parent(target),
                                              prefix=f".{target.name}.", suffix=".partial")
         os.close(descriptor)

@@ -34,6 +34,7 @@ from optimiser.io.geometry.readers import (
     read_gpx,
     read_xy_csv,
 )
+from optimiser.io.limits import CHAINAGE, LEVEL
 from optimiser.model.route import Route, RouteCoordinates
 
 COORDINATE_KEYS = ("crs", "ground_raster")
@@ -171,6 +172,29 @@ def _ground(profile: _Profile, line: SurveyLine, spec: Any, crs: pyproj.CRS | No
     return profile
 
 
+def _check_length(line: SurveyLine, profile: _Profile) -> None:
+    """The route measured from coordinates within the accepted chainage (contract
+    section 9, as a chainage profile's): absurd coordinates (a slip of unit or CRS) are
+    refused before anything is sampled along them."""
+    complaint = CHAINAGE.message(float(profile.chainage_m[-1]))
+    if complaint:
+        raise InputError(f"{line.path}: the route measured from its coordinates is "
+                         f"{profile.chainage_m[-1]:g} m long: {complaint}")
+
+
+def _check_ground(profile: _Profile, source: Path) -> None:
+    """Ground levels from the file (or the raster) within the accepted range of levels
+    (contract section 9, as a chainage profile's ``ground_m``), each point named."""
+    bad = [i for i, level in enumerate(profile.ground_m) if LEVEL.message(float(level))]
+    if not bad:
+        return
+    problems = [f"{source}: {profile.refs[i]} (chainage {profile.chainage_m[i]:.1f} m): "
+                f"ground {LEVEL.message(float(profile.ground_m[i]))}" for i in bad[:10]]
+    if len(bad) > 10:
+        problems.append(f"{source}: {len(bad) - 10} more points with the ground out of range")
+    raise InputError(problems)
+
+
 def load_coordinate_profile(profile_path: Path, spec: Any, study_path: Path,
                             cover_m: float, slope_length: bool) -> Route | None:
     """The route of a coordinate profile, or None for a chainage profile (section 2).
@@ -191,7 +215,10 @@ def load_coordinate_profile(profile_path: Path, spec: Any, study_path: Path,
     if len(line) == 0:
         raise InputError(f"{profile_path}: the route has no points")
     profile, plan_crs = _measure(line, crs, spec)
+    _check_length(line, profile)
     profile = _ground(profile, line, spec, plan_crs, study_path)
+    _check_ground(profile, line.path if spec.ground_raster is None
+                  else (study_path.parent / spec.ground_raster).resolve())
     if spec.smoothing_window_m > 0:
         profile.ground_m, note = cleanup.smooth_ground(profile.chainage_m, profile.ground_m,
                                                        spec.smoothing_window_m)

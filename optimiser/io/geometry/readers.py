@@ -10,6 +10,7 @@ table of profile points written back.
 from __future__ import annotations
 
 import json
+import math
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -153,6 +154,23 @@ def _line_coordinates(path: Path, data: object) -> list:
     return coordinates
 
 
+def _finite_number(value: object) -> bool:
+    """A JSON number that is finite as a float: an integer too long for a float (JSON
+    allows any number of digits) is not."""
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        return False
+    try:
+        return math.isfinite(float(value))
+    except OverflowError:
+        return False
+
+
+def _shown(value: object, width: int = 80) -> str:
+    """``repr(value)``, cut to ``width`` characters for a message."""
+    text = repr(value)
+    return text if len(text) <= width else text[:width - 1] + "…"
+
+
 def read_geojson(path: Path) -> SurveyLine:
     """One LineString of a GeoJSON file: [x, y] or [x, y, elevation] positions (RFC 7946:
     longitude, latitude in WGS 84 unless ``[route] crs`` names another CRS)."""
@@ -167,11 +185,10 @@ def read_geojson(path: Path) -> SurveyLine:
     a, b, ground = [], [], []
     for index, position in enumerate(coordinates, start=1):
         ok = (isinstance(position, list) and len(position) in (2, 3)
-              and all(isinstance(v, int | float) and not isinstance(v, bool)
-                      and np.isfinite(v) for v in position))
+              and all(_finite_number(v) for v in position))
         if not ok:
             problems.add(f"{path}: position {index} of the LineString: expected [x, y] or "
-                         f"[x, y, elevation] numbers, got {position!r}")
+                         f"[x, y, elevation] numbers, got {_shown(position)}")
             continue
         a.append(float(position[0]))
         b.append(float(position[1]))
