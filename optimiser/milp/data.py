@@ -123,9 +123,6 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
     m = len(catalogue)
     chainage = route.chainage_m
     pipe = route.pipe_level_m
-    diameter = catalogue.internal_diameter_m
-    roughness = catalogue.roughness_mm
-    c_value = catalogue.hazen_williams_c
 
     node_k = node_point_k(study, chainage)
     node_min = node_min_pressure_m(study, chainage)
@@ -134,29 +131,9 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
     factor = np.array([study.costs.factor(z) for z in route.zones])
     section_cost = catalogue.cost_per_m[None, :] * (factor * length)[:, None]
 
-    flows, velocities, heads, gradients, losses, levels = [], [], [], [], [], []
-    for scenario in study.scenarios:
-        q = flow_below_m3_s(study, scenario, chainage[:-1]) if line is None \
-            else line_flows_m3_s(scheme, scenario, line, chainage[:-1])
-        v = velocity_m_s(q[:, None], diameter[None, :])
-        h = velocity_head_m(v)
-        # A chain carries few distinct flows (the outlet's plus the offtakes downstream):
-        # friction once per distinct flow and option, then spread over the sections.
-        distinct, which = np.unique(q, return_inverse=True)
-        j = friction_gradient(study, scenario, distinct[:, None], diameter[None, :],
-                              roughness[None, :], c_value[None, :])[which]
-        flows.append(q)
-        velocities.append(v)
-        heads.append(h)
-        gradients.append(j)
-        losses.append(section_loss_m(length[:, None], j, study.local_k_per_km, h))
-        levels.append(scenario.source_level_m)
-
-    velocity_ok = np.ones((n, m), dtype=bool)
-    rules = study.rules
-    for scenario, v in zip(study.scenarios, velocities, strict=True):
-        if scenario.velocity_limits:
-            velocity_ok &= within_velocity_window(v, rules)
+    flows, velocities, heads, gradients, losses, levels = _scenario_arrays(
+        scheme, study, line, chainage, length)
+    velocity_ok = _velocity_ok(study, velocities)
     lowest = np.minimum(pipe[:-1], pipe[1:])
     static_head = static_head_m(study.source.top_water_level_m, lowest, 0.0)
     tanks = _tank_data_of(study, lowest, np.array(velocities))
@@ -169,13 +146,7 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
     class_ok = wave_class_ok(study, static_head, np.array(velocities), reflection)
     admissible = class_ok & velocity_ok
 
-    # Descending internal diameter; ties by ascending cost then catalogue position, so
-    # the order is total and the same in every section and scenario.
-    order = np.array(sorted(range(m), key=lambda j: (-diameter[j], catalogue[j].cost_per_m, j)),
-                     dtype=int)
-    rank = np.empty(m, dtype=int)
-    rank[order] = np.arange(m)
-
+    order, rank = _option_order(study)
     head = np.array(heads)
     data = ProblemData(
         study=study, n_sections=n, n_options=m, node_chainage_m=chainage.copy(),
@@ -191,6 +162,56 @@ def prepare(study: Study, line: Line | None = None) -> ProblemData:
         screened_interior=np.zeros(n, dtype=bool), tanks=tanks,
         **_surge_data(study, static_head, np.array(velocities), admissible, reflection))
     return screened(data)
+
+
+def _scenario_arrays(scheme: Study, study: Study, line: Line | None, chainage_m: np.ndarray,
+                     length_m: np.ndarray) -> tuple[list[np.ndarray], ...]:
+    """Per scenario: section flows (n,), velocities, velocity heads, friction gradients
+    and section losses (n, m), and the source level; ``scheme`` gives a line's flows."""
+    catalogue = study.catalogue
+    diameter = catalogue.internal_diameter_m
+    flows, velocities, heads, gradients, losses, levels = [], [], [], [], [], []
+    for scenario in study.scenarios:
+        q = flow_below_m3_s(study, scenario, chainage_m[:-1]) if line is None \
+            else line_flows_m3_s(scheme, scenario, line, chainage_m[:-1])
+        v = velocity_m_s(q[:, None], diameter[None, :])
+        h = velocity_head_m(v)
+        # A chain carries few distinct flows (the outlet's plus the offtakes downstream):
+        # friction once per distinct flow and option, then spread over the sections.
+        distinct, which = np.unique(q, return_inverse=True)
+        j = friction_gradient(study, scenario, distinct[:, None], diameter[None, :],
+                              catalogue.roughness_mm[None, :],
+                              catalogue.hazen_williams_c[None, :])[which]
+        flows.append(q)
+        velocities.append(v)
+        heads.append(h)
+        gradients.append(j)
+        losses.append(section_loss_m(length_m[:, None], j, study.local_k_per_km, h))
+        levels.append(scenario.source_level_m)
+    return flows, velocities, heads, gradients, losses, levels
+
+
+def _velocity_ok(study: Study, velocities: list[np.ndarray]) -> np.ndarray:
+    """(n, m) the velocity window met in every scenario that limits velocities."""
+    velocity_ok = np.ones(velocities[0].shape, dtype=bool)
+    for scenario, v in zip(study.scenarios, velocities, strict=True):
+        if scenario.velocity_limits:
+            velocity_ok &= within_velocity_window(v, study.rules)
+    return velocity_ok
+
+
+def _option_order(study: Study) -> tuple[np.ndarray, np.ndarray]:
+    """Options by descending internal diameter, ties by ascending cost then catalogue
+    position (a total order, the same in every section and scenario), and each option's
+    rank in it."""
+    catalogue = study.catalogue
+    diameter = catalogue.internal_diameter_m
+    m = len(catalogue)
+    order = np.array(sorted(range(m), key=lambda j: (-diameter[j], catalogue[j].cost_per_m, j)),
+                     dtype=int)
+    rank = np.empty(m, dtype=int)
+    rank[order] = np.arange(m)
+    return order, rank
 
 
 def _surge_data(study: Study, static_head_m: np.ndarray, velocity_m_s: np.ndarray,
