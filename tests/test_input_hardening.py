@@ -76,14 +76,15 @@ def test_gpx_elevation_outside_the_range_of_levels_names_the_point(make_study, r
 
 
 def test_coordinates_giving_an_absurd_length_are_refused(make_study, runner, tmp_path):
-    """Section 9: chainage 0 to 2,000,000 m; a route measured from coordinates of 1e300
-    m (a slip of unit or of CRS) is refused like a profile's chainage."""
-    x = np.linspace(0.0, 1e300, 5)
+    """Section 9: chainage 0 to 2,000,000 m; a route measured from coordinates of 5e7 m
+    (a slip of unit or of CRS; each coordinate within the plan range) is refused like a
+    profile's chainage (coordinates of 1e300 m made a route of 2.9e301 m)."""
+    x = np.linspace(0.0, 5e7, 5)
     text = "x_m,y_m,ground_m\n" + "".join(f"{float(a)!r},0,{150 - i}\n" for i, a in enumerate(x))
     files = make_study(study={"route": {"profile": "xy.csv", "fitting": []},
                               "offtake": []}, profile=text)
     result, out = _check(runner, files, tmp_path)
-    assert_refused(result, files.profile, "m long", "0 to 2e+06 m", written=out)
+    assert_refused(result, files.profile, "5e+07 m long", "0 to 2e+06 m", written=out)
 
 
 # --------------------------------------------------------------------------- report --result
