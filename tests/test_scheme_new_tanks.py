@@ -19,6 +19,7 @@ import itertools
 import json
 import math
 import random
+import tomllib
 
 import pytest
 from builders import toml_text
@@ -379,3 +380,18 @@ def test_marks_on_a_branch_alone_and_marks_nowhere(tmp_path):
     text = " ".join(result.output.split())
     assert result.exit_code == 2 and "tank_site" in text and "Traceback" not in text
     assert not (tmp_path / "o").exists()
+
+
+def test_two_branches_leaving_one_node_both_get_the_static_line(tmp_path):
+    # Before: the count of tanks kept one branch per junction node and raised KeyError
+    # for the other. Judge: the independent check (contract sections 7 and 8).
+    path = _write(tmp_path / "study")
+    table = tomllib.loads(path.read_text(encoding="utf-8"))
+    table["branch"].append({"name": "c", "at_chainage_m": 1000.0, "profile": "b.csv",
+                            "flow": "2 L/s", "required_head_m": 300.0})
+    path.write_text(toml_text(table), encoding="utf-8")
+    study = load_study(path)
+    outcome = optimise_design(study, mip_gap=1e-4)
+    assert outcome.verified and outcome.design is not None
+    assert outcome.lower_bound <= outcome.total_cost * (1 + 1e-9)
+    assert check_design(study, outcome.design).ok

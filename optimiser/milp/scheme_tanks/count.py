@@ -100,12 +100,14 @@ def _covered(study: Study, line: Line, chosen: list[Site],
     level = study.source.top_water_level_m if line.parent is None else arriving[line.name]
     levels = {_node(line, s.chainage_m): s.water_level_m for s in chosen
               if s.line == line.name}
-    junctions = {_node(line, b.at_chainage_m): b.name for b in study_lines(study)
-                 if b.parent == line.name}
+    leaving: dict[int, list[str]] = {}  # several branches may leave one node
+    for branch in study_lines(study):
+        if branch.parent == line.name:
+            leaving.setdefault(_node(line, branch.at_chainage_m), []).append(branch.name)
     pipe = line.route.pipe_level_m
     for i in range(line.route.n_sections):
-        if i in junctions:
-            arriving[junctions[i]] = level
+        for name in leaving.get(i, ()):
+            arriving[name] = level
         level = levels.get(i, level)
         if not admitted(level - min(pipe[i], pipe[i + 1]), heads[i]):
             return False
