@@ -32,6 +32,7 @@ from __future__ import annotations
 import copy
 import csv
 import io
+import json
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -281,3 +282,35 @@ def write_pvc_catalogue(folder: Path, sizes: list[tuple] | tuple[tuple, ...],
     path = folder / "catalogue.csv"
     path.write_text(csv_text(rows, CATALOGUE_COLUMNS), encoding="utf-8")
     return path
+
+
+# ----------------------------------------------------------------- scheme tanks by CLI
+
+TANK_FILE_COLUMNS = ["branch", "chainage_m", "water_level_m", "new", "cost", "label"]
+
+
+def design_tanks_then_check(study_path: Path, out: Path, tank_cost: float
+                            ) -> tuple[list[dict[str, str]], dict[str, Any]]:
+    """Run ``design`` of a scheme that gets new tanks on the trunk and on branch "b",
+    assert the tank file (contract section 8: its columns, every tank new at
+    ``tank_cost``, as many as in ``result.json``) and that ``check`` with that file
+    passes; return the file's rows and ``result.json``."""
+    # The CLI is imported here only: most users of this module build files, no runs.
+    from typer.testing import CliRunner
+
+    from optimiser.cli import app
+
+    result = CliRunner().invoke(app, ["design", str(study_path), "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    with (out / "break_pressure_tanks.csv").open(encoding="utf-8") as handle:
+        rows = list(csv.DictReader(handle))
+    assert list(rows[0]) == TANK_FILE_COLUMNS
+    assert {r["branch"] for r in rows} == {"main", "b"}
+    assert all(r["new"] == "True" and float(r["cost"]) == tank_cost for r in rows)
+    data = json.loads((out / "result.json").read_text(encoding="utf-8"))
+    assert len(data["break_pressure_tanks"]) == len(rows)
+    checked = CliRunner().invoke(app, ["check", str(study_path), "--design",
+                                       str(out / "design.csv"), "--tanks",
+                                       str(out / "break_pressure_tanks.csv")])
+    assert checked.exit_code == 0, checked.output
+    return rows, data

@@ -13,16 +13,14 @@ catalogue takes (tests/random_trees.py), so it has no design without tanks.
 
 from __future__ import annotations
 
-import csv
 import dataclasses
 import itertools
-import json
 import math
 import random
 import tomllib
 
 import pytest
-from builders import toml_text
+from builders import design_tanks_then_check, toml_text
 from random_trees import catalogue_text
 from typer.testing import CliRunner
 
@@ -187,20 +185,8 @@ def test_with_a_tank_of_the_study_and_at_most_one_new(tmp_path, own_m, marked):
 def test_cli_writes_the_tanks_with_their_branch_and_check_takes_them(tmp_path):
     study_path = _write(tmp_path / "study")
     out = tmp_path / "out"
-    result = CliRunner().invoke(app, ["design", str(study_path), "--out", str(out)])
-    assert result.exit_code == 0, result.output
-    with (out / "break_pressure_tanks.csv").open(encoding="utf-8") as handle:
-        rows = list(csv.DictReader(handle))
-    assert list(rows[0]) == ["branch", "chainage_m", "water_level_m", "new", "cost", "label"]
-    assert {r["branch"] for r in rows} == {"main", "b"}
-    assert all(r["new"] == "True" and float(r["cost"]) == TANK_COST for r in rows)
-    data = json.loads((out / "result.json").read_text(encoding="utf-8"))
-    assert len(data["break_pressure_tanks"]) == len(rows)
+    _, data = design_tanks_then_check(study_path, out, TANK_COST)
     assert all(t["new"] for t in data["break_pressure_tanks"])
-    checked = CliRunner().invoke(app, ["check", str(study_path), "--design",
-                                       str(out / "design.csv"), "--tanks",
-                                       str(out / "break_pressure_tanks.csv")])
-    assert checked.exit_code == 0, checked.output
     # without the tanks the same pipes fail (the static head passes every class)
     bare = CliRunner().invoke(app, ["check", str(study_path), "--design",
                                     str(out / "design.csv")])

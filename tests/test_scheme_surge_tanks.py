@@ -22,13 +22,11 @@ tanks; pipes of three invented plastic classes with invented wave speeds.
 
 from __future__ import annotations
 
-import csv
 import itertools
-import json
 import math
 
 import pytest
-from builders import toml_text
+from builders import design_tanks_then_check, toml_text
 from typer.testing import CliRunner
 
 from optimiser import load_study
@@ -310,20 +308,8 @@ def test_cli_design_writes_the_tanks_and_check_takes_them(tmp_path):
     marked = {"main": (500.0, 2000.0), "b": (500.0,)}
     study_path = _write(tmp_path / "study", SLOW_S, marked=marked)
     out = tmp_path / "out"
-    result = CliRunner().invoke(app, ["design", str(study_path), "--out", str(out)])
-    assert result.exit_code == 0, result.output
-    with (out / "break_pressure_tanks.csv").open(encoding="utf-8") as handle:
-        rows = list(csv.DictReader(handle))
-    assert list(rows[0]) == ["branch", "chainage_m", "water_level_m", "new", "cost", "label"]
-    assert {r["branch"] for r in rows} == {"main", "b"}
-    assert all(r["new"] == "True" and float(r["cost"]) == TANK_COST for r in rows)
-    data = json.loads((out / "result.json").read_text(encoding="utf-8"))
-    assert len(data["break_pressure_tanks"]) == len(rows)
+    rows, data = design_tanks_then_check(study_path, out, TANK_COST)
     assert all(piece["surge_head_m"] > 0.0 for piece in data["pieces"])
-    checked = CliRunner().invoke(app, ["check", str(study_path), "--design",
-                                       str(out / "design.csv"), "--tanks",
-                                       str(out / "break_pressure_tanks.csv")])
-    assert checked.exit_code == 0, checked.output
     # a tank is identified by (line, chainage): the trunk's and the branch's at 500 m are
     # two tanks, one row repeated is refused (contract section 8)
     assert {(r["branch"], float(r["chainage_m"])) for r in rows} >= {("main", 500.0),
